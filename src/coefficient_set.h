@@ -1,0 +1,71 @@
+// A spherical-harmonic (Stokes) coefficient set with its conventions and provenance.
+// The plain struct that compute produces, coefficient_file reads and writes, and every other command consumes.
+#pragma once
+
+#include <Eigen/Core>
+#include <string>
+#include <vector>
+
+namespace polystokes {
+
+/// Normalization of the associated Legendre functions the coefficients refer to.
+///  - fully:        4pi geodesy normalization, mean square of Pnm cos(m lon) over the sphere = 1
+///                  (IERS Conventions 2010, ch. 6)
+///  - unnormalized: plain Ferrers functions Pnm
+///  - schmidt:      Schmidt semi-normalized, mean square = 1/(2n+1)
+///  - orthonormal:  integral of Ynm^2 over the sphere = 1 (4pi fully normalized / sqrt(4pi))
+enum class Normalization { fully, unnormalized, schmidt, orthonormal };
+
+/// Option word of a normalization: "fully", "unnormalized", "schmidt", "orthonormal".
+std::string to_string(Normalization normalization);
+/// Parses the option word; throws ConventionError on anything else.
+Normalization parse_normalization(const std::string& text);
+
+/// Everything needed to interpret C and S numerically.
+struct Convention {
+  Normalization normalization = Normalization::fully;
+  bool condon_shortley = false;  ///< true: Legendre functions carry the (-1)^m phase
+  bool zonal_as_j = false;       ///< true: column m = 0 of C holds J_n = -C_n0
+};
+
+/// One constant-density piece of a body.
+struct Region {
+  std::string mesh;      ///< source mesh file name
+  std::string checksum;  ///< SHA-256 of the mesh file, hex
+  std::string unit;      ///< length unit of the mesh file ("m" or "km")
+  double density = 0;    ///< kg/m^3; negative for a void or a density deficit
+  double volume = 0;     ///< m^3
+  long faces = 0;        ///< facet count
+};
+
+/// A coefficient set. C, S, sigma_C, sigma_S are (degree+1) x (degree+1); entry (n, m) for m <= n,
+/// the upper triangle is zero. The potential outside the Brillouin sphere is
+///   U(r, lat, lon) = GM/r * sum_n (R/r)^n sum_m Pnm(sin lat) (Cnm cos(m lon) + Snm sin(m lon))
+/// in the set's frame, about the set's origin, with Pnm normalized as `convention` says.
+struct CoefficientSet {
+  std::string body;                 ///< body label
+  int degree = 0;                   ///< maximum degree
+  double gm = 0;                    ///< m^3 s^-2
+  double reference_radius = 0;      ///< m
+  Convention convention;
+  Eigen::MatrixXd C, S, sigma_C, sigma_S;
+
+  std::string origin = "com";       ///< "com", "mesh" or "shifted": what the expansion origin is
+  std::string frame = "mesh";       ///< "mesh", "principal" or "rotated": what the axes are
+  Eigen::Vector3d origin_in_mesh = Eigen::Vector3d::Zero();  ///< expansion origin, mesh frame, m
+  Eigen::Matrix3d axes_in_mesh = Eigen::Matrix3d::Identity();  ///< rows: set axes in mesh frame
+  Eigen::Vector3d center_of_mass = Eigen::Vector3d::Zero();    ///< mesh frame, m
+  double mass = 0;                  ///< kg (0 when unknown)
+  double volume = 0;                ///< m^3 (0 when unknown)
+  double brillouin_radius = 0;      ///< m, about the expansion origin (0 when unknown)
+  std::vector<Region> regions;      ///< density regions the set was computed from (empty if foreign)
+  std::string length_unit = "m";    ///< unit of the source mesh, echoed
+  std::string created;              ///< creation details: program version and UTC time
+  std::vector<std::string> history; ///< one line per operation applied, oldest first
+  std::vector<std::string> notes;   ///< free text: cautions, uncertainty notes
+};
+
+/// Zero-filled set of the given degree (all four matrices sized).
+CoefficientSet make_empty_set(int degree);
+
+}  // namespace polystokes

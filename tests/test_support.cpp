@@ -1,0 +1,73 @@
+#include "test_support.h"
+
+#include <array>
+#include <atomic>
+#include <cmath>
+#include <cstdio>
+#include <filesystem>
+#include <fstream>
+#include <sstream>
+#include <sys/wait.h>
+#include <unistd.h>
+
+namespace polystokes::test {
+
+double max_coefficient_difference(const CoefficientSet& a, const CoefficientSet& b, int max_degree) {
+  double worst = 0;
+  for (int n = 0; n <= max_degree; ++n)
+    for (int m = 0; m <= n; ++m)
+      worst = std::max({worst, std::abs(a.C(n, m) - b.C(n, m)), std::abs(a.S(n, m) - b.S(n, m))});
+  return worst;
+}
+
+void require_sets_close(const CoefficientSet& a, const CoefficientSet& b, int max_degree, double tolerance) {
+  REQUIRE(a.degree >= max_degree);
+  REQUIRE(b.degree >= max_degree);
+  for (int n = 0; n <= max_degree; ++n) {
+    for (int m = 0; m <= n; ++m) {
+      CAPTURE(n, m, a.C(n, m), b.C(n, m), a.S(n, m), b.S(n, m));
+      REQUIRE(std::abs(a.C(n, m) - b.C(n, m)) <= tolerance);
+      REQUIRE(std::abs(a.S(n, m) - b.S(n, m)) <= tolerance);
+    }
+  }
+}
+
+std::string temp_directory() {
+  static std::atomic<int> counter{0};
+  auto dir = std::filesystem::temp_directory_path() /
+             ("polystokes_test_" + std::to_string(::getpid()) + "_" + std::to_string(counter++));
+  std::filesystem::remove_all(dir);
+  std::filesystem::create_directories(dir);
+  return dir.string();
+}
+
+std::string source_path(const std::string& relative) { return std::string(POLYSTOKES_SOURCE_DIR) + "/" + relative; }
+
+CommandResult run_cli(const std::string& arguments) {
+  const std::string command = std::string("'") + POLYSTOKES_CLI + "' " + arguments + " 2>&1";
+  FILE* pipe = ::popen(command.c_str(), "r");
+  if (!pipe) return {-1, "popen failed"};
+  std::string output;
+  std::array<char, 4096> buffer{};
+  size_t got;
+  while ((got = std::fread(buffer.data(), 1, buffer.size(), pipe)) > 0) output.append(buffer.data(), got);
+  const int status = ::pclose(pipe);
+  return {WIFEXITED(status) ? WEXITSTATUS(status) : -1, output};
+}
+
+std::string read_bytes(const std::string& path) {
+  std::ifstream in(path, std::ios::binary);
+  if (!in) return {};
+  std::ostringstream s;
+  s << in.rdbuf();
+  return s.str();
+}
+
+void write_text(const std::string& path, const std::string& text) {
+  std::ofstream out(path, std::ios::binary);
+  out << text;
+}
+
+bool file_exists(const std::string& path) { return std::filesystem::exists(path); }
+
+}  // namespace polystokes::test

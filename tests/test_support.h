@@ -1,0 +1,37 @@
+// Shared helpers for the module tests: coefficient-set comparison, temporary files, running the CLI.
+// Test-only; never linked into the library.
+#pragma once
+
+#include <catch2/catch.hpp>
+#include <string>
+
+#include "coefficient_set.h"
+
+namespace polystokes::test {
+
+/// Checks |a(n,m) - b(n,m)| <= tolerance for C and S at every n <= max_degree, CAPTUREs n, m on failure.
+void require_sets_close(const CoefficientSet& a, const CoefficientSet& b, int max_degree, double tolerance);
+
+/// Largest |a - b| over C and S up to max_degree.
+double max_coefficient_difference(const CoefficientSet& a, const CoefficientSet& b, int max_degree);
+
+/// A fresh empty directory under the system temp directory, unique per call.
+std::string temp_directory();
+
+/// Path of a file in the source tree (e.g. "shapes-demo/unit_cube.obj").
+std::string source_path(const std::string& relative);
+
+struct CommandResult {
+  int exit_code;
+  std::string output;  ///< stdout and stderr together
+};
+/// Runs the built polystokes executable with the given argument string (shell-quoted by the caller).
+CommandResult run_cli(const std::string& arguments);
+
+/// Whole file as bytes; empty string if missing.
+std::string read_bytes(const std::string& path);
+/// Writes text to a file (overwrites).
+void write_text(const std::string& path, const std::string& text);
+bool file_exists(const std::string& path);
+
+}  // namespace polystokes::test
