@@ -1,0 +1,72 @@
+#include "conventions.h"
+
+#include <cmath>
+#include <fmt/format.h>
+
+#include "errors.h"
+
+namespace polystokes {
+
+double legendre_normalization(Normalization normalization, int n, int m) {
+  if (m < 0 || m > n) throw ConventionError(fmt::format("invalid degree/order n = {}, m = {}", n, m));
+  if (normalization == Normalization::unnormalized) return 1.0;
+  // (n-m)!/(n+m)! = prod_{k=n-m+1}^{n+m} 1/k, taken under the square root term by term.
+  double ratio = 1.0;
+  for (int k = n - m + 1; k <= n + m; ++k) ratio /= std::sqrt(double(k));
+  const double delta = m == 0 ? 1.0 : 2.0;
+  switch (normalization) {
+    case Normalization::schmidt: return std::sqrt(delta) * ratio;
+    case Normalization::fully: return std::sqrt(delta * (2.0 * n + 1.0)) * ratio;
+    case Normalization::orthonormal: return std::sqrt(delta * (2.0 * n + 1.0) / (4.0 * M_PI)) * ratio;
+    case Normalization::unnormalized: break;
+  }
+  return 1.0;
+}
+
+double coefficient_factor(const Convention& from, const Convention& to, int n, int m) {
+  // C_X P_X is invariant, so C_to = C_from * N_from / N_to; the phase (-1)^m moves with the functions.
+  double factor = 1.0;
+  if (from.normalization != to.normalization) {
+    // Divide in the direction that keeps intermediate values in range.
+    const double n_from = legendre_normalization(from.normalization, n, m);
+    const double n_to = legendre_normalization(to.normalization, n, m);
+    factor = n_from / n_to;
+  }
+  if (from.condon_shortley != to.condon_shortley && (m % 2) == 1) factor = -factor;
+  return factor;
+}
+
+CoefficientSet convert_convention(const CoefficientSet& set, const Convention& target) {
+  CoefficientSet out = set;
+  for (int n = 0; n <= set.degree; ++n) {
+    for (int m = 0; m <= n; ++m) {
+      const double factor = coefficient_factor(set.convention, target, n, m);
+      double c = set.C(n, m);
+      if (m == 0 && set.convention.zonal_as_j) c = -c;
+      c *= factor;
+      if (m == 0 && target.zonal_as_j) c = -c;
+      out.C(n, m) = c;
+      out.S(n, m) = set.S(n, m) * factor;
+      out.sigma_C(n, m) = set.sigma_C(n, m) * std::abs(factor);
+      out.sigma_S(n, m) = set.sigma_S(n, m) * std::abs(factor);
+    }
+  }
+  out.convention = target;
+  out.history.push_back("converted from " + describe(set.convention) + " to " + describe(target));
+  return out;
+}
+
+std::string describe(const Convention& convention) {
+  std::string text;
+  switch (convention.normalization) {
+    case Normalization::fully: text = "fully normalized (4pi)"; break;
+    case Normalization::unnormalized: text = "unnormalized"; break;
+    case Normalization::schmidt: text = "Schmidt semi-normalized"; break;
+    case Normalization::orthonormal: text = "orthonormal"; break;
+  }
+  text += convention.condon_shortley ? ", Condon-Shortley phase" : ", no Condon-Shortley phase";
+  text += convention.zonal_as_j ? ", zonal as J_n = -C_n0" : ", zonal as C_n0";
+  return text;
+}
+
+}  // namespace polystokes
