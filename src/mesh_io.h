@@ -1,0 +1,40 @@
+// Reading shape meshes (OBJ, OFF, PLY, STL) into a welded triangle Mesh in metres, and writing OBJ.
+// Import repairs only what is unambiguous (duplicate vertices, unused vertices, polygon faces); mesh_check judges the rest.
+#pragma once
+
+#include <string>
+
+#include "mesh.h"
+
+namespace polystokes {
+
+struct MeshReadOptions {
+  /// Unit of the file's coordinates; vertices are converted to metres.
+  LengthUnit unit = LengthUnit::meter;
+  /// In the file's unit. Each vertex is merged into the first earlier kept vertex within this distance
+  /// (|p - q| <= tolerance, no chaining). 0 merges exact duplicates only, which is always done.
+  double merge_tolerance = 0.0;
+};
+
+/// Reads a mesh, choosing the format by extension (.obj, .off, .ply, .stl, case-insensitive).
+/// OBJ: faces via tinyobjloader, coordinates re-read with correctly rounded std::from_chars so that they
+/// arrive exactly as written. OFF, PLY (ascii/binary), STL (ascii/binary): CGAL 5.5 polygon-soup readers.
+/// Polygons with more than three vertices are split by ear clipping in the plane of their Newell normal,
+/// keeping their orientation (any simple, roughly planar polygon, convex or not).
+/// Then: duplicate vertices are merged (notice), faces collapsed by a positive merge tolerance are
+/// dropped (notice), vertices used by no face are dropped (notice). Vertex numbers therefore refer to
+/// the welded mesh, not to the file. Sets source = path, unit, checksum = SHA-256 of the file bytes.
+/// Throws MeshError (missing/empty file, unknown extension, no faces) or FormatError (unparsable
+/// content, non-finite coordinate, face with < 3 vertices, vertex index out of range); the message is
+/// one line naming the file and, where the format allows, the line and face.
+Mesh read_mesh(const std::string& path, const MeshReadOptions& options = {});
+
+/// Writes `mesh` as OBJ ("v x y z" in `unit`, one-based "f i j k"), coordinates in the shortest form
+/// that reads back to the same double. Written to a temporary file in the same directory and renamed
+/// over `path`, so a failure leaves no partial file. Throws OutputError.
+void write_obj(const Mesh& mesh, const std::string& path, LengthUnit unit);
+
+/// SHA-256 of the file's bytes as 64 lower-case hex digits (OpenSSL EVP). Throws MeshError if unreadable.
+std::string sha256_file_hex(const std::string& path);
+
+}  // namespace polystokes
