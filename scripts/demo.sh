@@ -1,0 +1,11 @@
+#!/usr/bin/env bash
+# Sets up polystokes and runs the main job on the bundled demo body Varnek: checks the shape, computes the
+# exact constant-density Stokes coefficients to degree 16 and writes them to out/varnek.txt and out/varnek.json.
+set -euo pipefail
+cd "$(dirname "$0")/.."
+scripts/setup.sh build
+mkdir -p out
+build/polystokes inspect shapes-demo/varnek.obj --unit km --density 1900
+build/polystokes compute shapes-demo/varnek.obj --unit km --density 1900 --degree 16 --body Varnek \
+  -o out/varnek.txt --json out/varnek.json
+echo "demo: coefficient set written to out/varnek.txt (JSON: out/varnek.json)"
