@@ -9,6 +9,7 @@
 #include <CGAL/IO/OFF.h>
 #include <CGAL/IO/PLY.h>
 #include <CGAL/IO/STL.h>
+#include <Eigen/Geometry>
 #include <algorithm>
 #include <array>
 #include <cerrno>
@@ -449,11 +450,13 @@ Mesh build_mesh(const std::string& path, const Soup& soup, const MeshReadOptions
                                        plural(collapsed, "face", "faces"), options.merge_tolerance, unit));
   if (kept_faces.empty()) throw mesh_error(path, "no faces found");
 
+  // Kept vertices stay in file order, so a welded file reads back with its own numbering.
   std::vector<long> renumber(welded.size(), -1);
-  long used = 0;
   for (const Triangle& t : kept_faces)
-    for (long v : t)
-      if (renumber[static_cast<size_t>(v)] < 0) renumber[static_cast<size_t>(v)] = used++;
+    for (long v : t) renumber[static_cast<size_t>(v)] = 0;
+  long used = 0;
+  for (long& r : renumber)
+    if (r == 0) r = used++;
   const long unused = static_cast<long>(welded.size()) - used;
   if (unused > 0)
     mesh.notices.push_back(fmt::format("dropped {} not used by any face", plural(unused, "vertex", "vertices")));

@@ -22,8 +22,8 @@ struct MeshReadOptions {
 /// Polygons with more than three vertices are split by ear clipping in the plane of their Newell normal,
 /// keeping their orientation (any simple, roughly planar polygon, convex or not).
 /// Then: duplicate vertices are merged (notice), faces collapsed by a positive merge tolerance are
-/// dropped (notice), vertices used by no face are dropped (notice). Vertex numbers therefore refer to
-/// the welded mesh, not to the file. Sets source = path, unit, checksum = SHA-256 of the file bytes.
+/// dropped (notice), vertices used by no face are dropped (notice). Kept vertices stay in file order, but
+/// their numbers refer to the welded mesh, not to the file. Sets source = path, unit, checksum = SHA-256 of the file bytes.
 /// Throws MeshError (missing/empty file, unknown extension, no faces) or FormatError (unparsable
 /// content, non-finite coordinate, face with < 3 vertices, vertex index out of range); the message is
 /// one line naming the file and, where the format allows, the line and face.

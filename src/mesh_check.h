@@ -1,0 +1,54 @@
+// Checks that a triangle mesh bounds a solid (finite, non-degenerate, closed, manifold, consistently and
+// outward oriented, free of self-intersections), for `inspect` reports and as the gate before any computation.
+#pragma once
+
+#include <string>
+#include <vector>
+
+#include "mesh.h"
+
+namespace polystokes {
+
+/// Outcome of one check. Vertex, face and edge numbers are zero-based rows of Mesh::vertices / Mesh::faces
+/// (after import's welding, so they need not match the file's numbering).
+struct MeshCheck {
+  std::string name;            ///< e.g. "closed"
+  bool passed = false;
+  long count = 0;              ///< offending vertices, faces, edges, face pairs or components
+  std::string first_offender;  ///< e.g. "edge (4, 17) of face 9"; the offender with the lowest face/vertex number
+  bool ran = true;             ///< false if skipped because a check it needs failed (then passed is false)
+};
+
+struct MeshCheckReport {
+  std::vector<MeshCheck> checks;  ///< in the order listed below
+  bool flipped = false;           ///< validate_mesh reversed every face of an inside-out mesh
+  double signed_volume = 0;       ///< sum of the components' signed volumes, m^3 (after any flip)
+};
+
+/// Runs, in this order:
+///  "valid_indices"        every face index names an existing vertex, and there is at least one face;
+///  "finite"               all coordinates finite;
+///  "no_degenerate_faces"  no repeated index in a face and area > 1e-12 * (bounding-box diagonal)^2;
+///  "closed"               no border edge (an edge used by one face);
+///  "edge_manifold"        no edge used by more than two faces;
+///  "vertex_manifold"      the faces around each vertex form a single fan (no bodies touching at a point);
+///  "consistently_oriented" the two faces at each edge run it in opposite directions;
+///  "no_self_intersections" no two non-adjacent faces meet (CGAL PMP::self_intersections on a Surface_mesh,
+///                         EPICK kernel, exact predicates; O(F log F) box filter);
+///  "outward_oriented"     every connected component has nonzero volume and the faces point out of the
+///                         solid: each bounds a region of winding number 1 on its inner side and 0 on its
+///                         outer side. Several bodies, and cavities (inward-facing shells nested in a body),
+///                         are allowed; overlapping nested bodies and inside-out parts are not.
+/// Checks whose prerequisites failed are reported with ran = false. Never throws.
+MeshCheckReport inspect_mesh(const Mesh& mesh);
+
+/// Runs the same checks and throws MeshError at the first failure:
+/// "SOURCE: mesh check 'closed' failed: 6 border edges, first edge (12, 40) of face 17".
+/// If the only problem is that the whole mesh is inside-out, reverses every face instead, adds a notice
+/// to mesh.notices and sets flipped.
+MeshCheckReport validate_mesh(Mesh& mesh);
+
+/// "6 border edges, first edge (12, 40) of face 17" (or why the check was not run).
+std::string describe(const MeshCheck& check);
+
+}  // namespace polystokes

@@ -1,0 +1,279 @@
+#include "mesh_check.h"
+
+#include <chrono>
+#include <cmath>
+#include <Eigen/Geometry>
+#include <limits>
+#include <random>
+
+#include "errors.h"
+#include "mesh_io.h"
+#include "shapes.h"
+#include "test_support.h"
+
+using namespace polystokes;
+using polystokes::test::source_path;
+using polystokes::test::temp_directory;
+
+namespace {
+
+const MeshCheck& check_named(const MeshCheckReport& report, const std::string& name) {
+  for (const auto& check : report.checks)
+    if (check.name == name) return check;
+  FAIL("no check named " << name);
+  throw std::logic_error("unreachable");
+}
+
+void require_all_passed(const MeshCheckReport& report) {
+  REQUIRE(report.checks.size() == 9);
+  for (const auto& check : report.checks) {
+    CAPTURE(check.name, check.first_offender);
+    REQUIRE(check.ran);
+    REQUIRE(check.passed);
+    REQUIRE(check.count == 0);
+  }
+}
+
+/// Validates and returns the MeshError message; fails the test if validation passes.
+std::string validation_error(Mesh mesh) {
+  try {
+    validate_mesh(mesh);
+  } catch (const MeshError& e) {
+    return e.what();
+  }
+  FAIL("validate_mesh accepted the mesh");
+  return {};
+}
+
+Mesh without_face(const Mesh& mesh, Eigen::Index face) {
+  Mesh out = mesh;
+  out.faces.resize(mesh.faces.rows() - 1, 3);
+  out.faces << mesh.faces.topRows(face), mesh.faces.bottomRows(mesh.faces.rows() - face - 1);
+  return out;
+}
+
+Mesh shifted(const Mesh& mesh, double x, double y, double z) {
+  return transformed(mesh, Eigen::Matrix3d::Identity(), Eigen::Vector3d(x, y, z));
+}
+
+/// Writes and re-reads a mesh so that coincident vertices of separately generated parts are welded.
+Mesh welded(const Mesh& mesh) {
+  const std::string path = temp_directory() + "/welded.obj";
+  write_obj(mesh, path, LengthUnit::meter);
+  return read_mesh(path, {});
+}
+
+Mesh read_fixture(const std::string& name) { return read_mesh(source_path("tests/data/" + name), {}); }
+
+bool contains(const std::string& text, const std::string& part) { return text.find(part) != std::string::npos; }
+
+}  // namespace
+
+TEST_CASE("Generated closed shapes pass every check; box volume is a*b*c (elementary geometry)", "[mesh_check]") {
+  Mesh box = make_box(2, 3, 4);
+  const MeshCheckReport report = validate_mesh(box);
+  require_all_passed(report);
+  REQUIRE_FALSE(report.flipped);
+  REQUIRE(report.signed_volume == Approx(24.0).epsilon(1e-14));
+  REQUIRE(box.notices.empty());
+
+  Mesh ellipsoid = make_ellipsoid(3, 3.0, 2.0, 1.0);
+  require_all_passed(validate_mesh(ellipsoid));
+  require_all_passed(inspect_mesh(make_icosphere(2)));
+}
+
+TEST_CASE("Icosphere volume lies just below 4/3 pi (inscribed polyhedron of the unit sphere, elementary geometry)",
+          "[mesh_check]") {
+  Mesh sphere = make_icosphere(4);
+  const double volume = validate_mesh(sphere).signed_volume;
+  const double ball = 4.0 / 3.0 * M_PI;
+  REQUIRE(volume < ball);
+  REQUIRE(volume > 0.99 * ball);
+}
+
+TEST_CASE("An inside-out mesh is reversed with a notice and then has positive volume", "[mesh_check]") {
+  Mesh mesh = reversed(make_box(2, 3, 4));
+  const MeshCheckReport inspected = inspect_mesh(mesh);
+  const MeshCheck& outward = check_named(inspected, "outward_oriented");
+  REQUIRE_FALSE(outward.passed);
+  REQUIRE(contains(outward.first_offender, "the whole mesh is inside-out"));
+  REQUIRE(inspected.signed_volume == Approx(-24.0).epsilon(1e-14));
+  REQUIRE(mesh.faces == reversed(make_box(2, 3, 4)).faces);  // inspect leaves the mesh alone
+
+  const MeshCheckReport report = validate_mesh(mesh);
+  REQUIRE(report.flipped);
+  require_all_passed(report);
+  REQUIRE(report.signed_volume == Approx(24.0).epsilon(1e-14));
+  REQUIRE(mesh.faces == make_box(2, 3, 4).faces);
+  REQUIRE(mesh.notices.size() == 1);
+  REQUIRE(contains(mesh.notices[0], "reversed all 12 faces"));
+
+  // Two separate bodies, both inside-out, are also just reversed.
+  Mesh pair = reversed(merged(make_box(1, 1, 1), shifted(make_box(1, 1, 1), 3, 0, 0)));
+  const MeshCheckReport pair_report = validate_mesh(pair);
+  REQUIRE(pair_report.flipped);
+  REQUIRE(pair_report.signed_volume == Approx(2.0).epsilon(1e-14));
+}
+
+TEST_CASE("Open box fails 'closed' with the border edge count and first edge", "[mesh_check]") {
+  // Removing face 11 (3, 7, 5) of make_box leaves its three edges on the border; the lowest face still
+  // using one of them is face 3 (5, 7, 6), running 5 -> 7 (worked out from the face list by hand).
+  REQUIRE(validation_error(without_face(make_box(1, 1, 1), 11)) ==
+          "box: mesh check 'closed' failed: 3 border edges, first edge (5, 7) of face 3");
+  const std::string file = source_path("tests/data/open_box.obj");
+  const std::string message = validation_error(read_fixture("open_box.obj"));
+  CAPTURE(message);
+  REQUIRE(contains(message, file + ": mesh check 'closed' failed: 4 border edges, first edge"));
+}
+
+TEST_CASE("Two boxes sharing an edge fail 'edge_manifold' (four faces on one edge)", "[mesh_check]") {
+  // File vertices 4 and 8 (zero-based 3 and 7) span the shared edge; the first box's side y = 1 is the
+  // lowest face on it, as triangle 7 running 7 -> 3.
+  const std::string message = validation_error(read_fixture("nonmanifold_edge.obj"));
+  CAPTURE(message);
+  REQUIRE(contains(message, "nonmanifold_edge.obj: mesh check 'edge_manifold' failed: 1 edge shared by more than two "
+                            "faces, first edge (7, 3) shared by 4 faces"));
+}
+
+TEST_CASE("Two boxes touching at one corner fail 'vertex_manifold'", "[mesh_check]") {
+  const Mesh pair = welded(merged(shifted(make_box(1, 1, 1), 0.5, 0.5, 0.5), shifted(make_box(1, 1, 1), 1.5, 1.5, 1.5)));
+  REQUIRE(pair.vertices.rows() == 15);
+  const std::string message = validation_error(pair);
+  CAPTURE(message);
+  REQUIRE(contains(message, "mesh check 'vertex_manifold' failed: 1 non-manifold vertex, first vertex 7 (its faces "
+                            "form 2 separate fans)"));
+}
+
+TEST_CASE("A face run the wrong way fails 'consistently_oriented'", "[mesh_check]") {
+  const std::string message = validation_error(read_fixture("flipped_face.obj"));
+  CAPTURE(message);
+  // The reversed top quad splits into two triangles, so its four outer edges are each run twice the same way.
+  REQUIRE(contains(message, "flipped_face.obj: mesh check 'consistently_oriented' failed: 4 edges run in the same "
+                            "direction by both their faces, first edge"));
+  Mesh box = make_box(1, 1, 1);
+  std::swap(box.faces(0, 1), box.faces(0, 2));
+  REQUIRE(contains(validation_error(box), "mesh check 'consistently_oriented' failed: 3 edges"));
+}
+
+TEST_CASE("Self-intersecting meshes fail 'no_self_intersections' (CGAL exact predicates)", "[mesh_check]") {
+  SECTION("a vertex pushed through the opposite side") {
+    const std::string message = validation_error(read_fixture("self_intersecting.obj"));
+    CAPTURE(message);
+    REQUIRE(contains(message, "self_intersecting.obj: mesh check 'no_self_intersections' failed:"));
+    REQUIRE(contains(message, "intersecting face pair"));
+    REQUIRE(contains(message, "intersect"));
+  }
+  SECTION("two overlapping boxes") {
+    const Mesh overlap = merged(make_box(1, 1, 1), shifted(make_box(1, 1, 1), 0.5, 0.5, 0.5));
+    const MeshCheck check = check_named(inspect_mesh(overlap), "no_self_intersections");
+    REQUIRE_FALSE(check.passed);
+    REQUIRE(check.count > 0);
+    REQUIRE(contains(check.first_offender, " intersect"));
+  }
+}
+
+TEST_CASE("Zero-area faces fail 'no_degenerate_faces'", "[mesh_check]") {
+  // The fixture's sliver is its fifth face record; the two quads before it become two triangles each.
+  const std::string message = validation_error(read_fixture("degenerate_face.obj"));
+  CAPTURE(message);
+  REQUIRE(contains(message, "degenerate_face.obj: mesh check 'no_degenerate_faces' failed: 1 degenerate face, first "
+                            "face 7 (vertices 0, 8, 1, area 0 m^2)"));
+  Mesh box = make_box(1, 1, 1);
+  box.faces(5, 2) = box.faces(5, 0);
+  REQUIRE(contains(validation_error(box), "mesh check 'no_degenerate_faces' failed: 1 degenerate face, first face 5"));
+}
+
+TEST_CASE("Non-finite coordinates fail 'finite'; inspect skips the geometric checks", "[mesh_check]") {
+  Mesh box = make_box(1, 1, 1);
+  box.vertices(6, 1) = std::numeric_limits<double>::quiet_NaN();
+  REQUIRE(contains(validation_error(box), "box: mesh check 'finite' failed: 1 vertex with a non-finite coordinate, "
+                                          "first vertex 6 (-0.5, nan, 0.5)"));
+  const MeshCheckReport report = inspect_mesh(box);
+  REQUIRE_FALSE(check_named(report, "no_degenerate_faces").ran);
+  REQUIRE(check_named(report, "closed").passed);
+  REQUIRE(describe(check_named(report, "outward_oriented")) == "not run: needs 'finite'");
+}
+
+TEST_CASE("Out-of-range face indices fail 'valid_indices' and inspect still returns a report", "[mesh_check]") {
+  Mesh box = make_box(1, 1, 1);
+  box.faces(4, 1) = 99;
+  REQUIRE(contains(validation_error(box), "mesh check 'valid_indices' failed: 1 face with an index out of range, "
+                                          "first face 4 refers to vertex 99 of 8"));
+  MeshCheckReport report;
+  REQUIRE_NOTHROW(report = inspect_mesh(box));
+  REQUIRE(report.checks.size() == 9);
+  REQUIRE(check_named(report, "finite").passed);
+  REQUIRE_FALSE(check_named(report, "closed").ran);
+  Mesh empty;
+  REQUIRE(contains(validation_error(empty), "mesh: mesh check 'valid_indices' failed: the mesh has no faces"));
+}
+
+TEST_CASE("Several bodies and cavities: winding numbers decide orientation (elementary geometry volumes)",
+          "[mesh_check]") {
+  SECTION("two separate boxes") {
+    Mesh pair = merged(make_box(1, 1, 1), shifted(make_box(1, 2, 3), 5, 0, 0));
+    const MeshCheckReport report = validate_mesh(pair);
+    require_all_passed(report);
+    REQUIRE(report.signed_volume == Approx(1.0 + 6.0).epsilon(1e-14));
+  }
+  SECTION("a hollow box: inward-facing cavity inside a body") {
+    Mesh shell = merged(make_box(2, 2, 2), reversed(make_box(1, 1, 1)));
+    const MeshCheckReport report = validate_mesh(shell);
+    require_all_passed(report);
+    REQUIRE_FALSE(report.flipped);
+    REQUIRE(report.signed_volume == Approx(8.0 - 1.0).epsilon(1e-14));
+  }
+  SECTION("a body nested inside another, both outward: the solids overlap") {
+    const std::string message = validation_error(merged(make_box(2, 2, 2), make_box(1, 1, 1)));
+    CAPTURE(message);
+    REQUIRE(contains(message, "mesh check 'outward_oriented' failed: 1 wrongly oriented component, first component "
+                              "containing face 12 lies inside another body"));
+  }
+  SECTION("one of two separate bodies inside-out is not silently flipped") {
+    Mesh pair = merged(make_box(1, 1, 1), reversed(shifted(make_box(1, 1, 1), 3, 0, 0)));
+    const std::string message = validation_error(pair);
+    CAPTURE(message);
+    REQUIRE(contains(message, "first component containing face 12 is inside-out (signed volume -1 m^3)"));
+  }
+}
+
+TEST_CASE("Rigid motions of a valid body pass every check and keep its volume (volume is invariant, common practice)",
+          "[mesh_check]") {
+  const Mesh body = make_deformed_sphere(4, [](const Eigen::Vector3d& u) {
+    return Eigen::Vector3d(1000.0 * (1.0 + 0.25 * u.x() * u.y() + 0.1 * u.z() * u.z() * u.z()) * u);
+  });
+  Mesh reference = body;
+  const double volume = validate_mesh(reference).signed_volume;
+  std::mt19937_64 random(77);
+  std::normal_distribution<double> gauss;
+  std::uniform_real_distribution<double> offset(-1e6, 1e6);
+  for (int trial = 0; trial < 8; ++trial) {
+    // Normalised Gaussian quaternion: a uniformly random rotation (Shoemake 1992, Graphics Gems III).
+    const Eigen::Quaterniond q = Eigen::Quaterniond(gauss(random), gauss(random), gauss(random), gauss(random)).normalized();
+    Mesh moved = transformed(body, q.toRotationMatrix(), Eigen::Vector3d(offset(random), offset(random), offset(random)));
+    CAPTURE(trial);
+    const MeshCheckReport report = validate_mesh(moved);
+    require_all_passed(report);
+    REQUIRE_FALSE(report.flipped);
+    REQUIRE(report.signed_volume == Approx(volume).epsilon(1e-9));
+  }
+}
+
+TEST_CASE("describe() words a failed check as count, noun and first offender", "[mesh_check]") {
+  REQUIRE(describe({"closed", false, 1, "edge (1, 2) of face 3", true}) == "1 border edge, first edge (1, 2) of face 3");
+  REQUIRE(describe({"no_self_intersections", false, 2, "faces 0 and 9 intersect", true}) ==
+          "2 intersecting face pairs, first faces 0 and 9 intersect");
+  REQUIRE(describe({"closed", true, 0, "", true}).empty());
+}
+
+TEST_CASE("Check timings on a 204,800-face mesh of four bodies", "[mesh_check][.slow]") {
+  Mesh mesh = merged(merged(make_icosphere(6), shifted(make_icosphere(6), 3, 0, 0)),
+                     merged(shifted(make_icosphere(5), 0, 3, 0), shifted(make_icosphere(5), 0, 0, 3)));
+  REQUIRE(mesh.faces.rows() == 204800);
+  const auto start = std::chrono::steady_clock::now();
+  const MeshCheckReport report = validate_mesh(mesh);
+  const double seconds = std::chrono::duration<double>(std::chrono::steady_clock::now() - start).count();
+  require_all_passed(report);
+  WARN("validate_mesh on 204800 faces: " << seconds << " s");
+  REQUIRE(seconds < 10.0);
+}
