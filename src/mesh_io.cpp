@@ -1,9 +1,6 @@
 #include "mesh_io.h"
 
-#include <fcntl.h>
 #include <openssl/evp.h>
-#include <sys/stat.h>
-#include <unistd.h>
 
 #include <CGAL/Exact_predicates_inexact_constructions_kernel.h>
 #include <CGAL/IO/OFF.h>
@@ -12,7 +9,6 @@
 #include <Eigen/Geometry>
 #include <algorithm>
 #include <array>
-#include <cerrno>
 #include <charconv>
 #include <cmath>
 #include <cstdint>
@@ -28,6 +24,7 @@
 #include <unordered_map>
 
 #include "errors.h"
+#include "output_file.h"
 
 namespace polystokes {
 
@@ -46,18 +43,6 @@ struct Soup {
   std::vector<std::vector<long>> polygons;
   long raw_vertex_entries = 0;  ///< vertex records in the file (STL repeats them per facet)
 };
-
-std::string read_file_bytes(const std::string& path) {
-  std::error_code ec;
-  if (!std::filesystem::exists(path, ec)) throw mesh_error(path, "cannot open file: no such file");
-  if (!std::filesystem::is_regular_file(path, ec)) throw mesh_error(path, "cannot open file: not a regular file");
-  std::ifstream in(path, std::ios::binary);
-  if (!in) throw mesh_error(path, std::string("cannot open file: ") + std::strerror(errno));
-  std::ostringstream bytes;
-  bytes << in.rdbuf();
-  if (in.bad()) throw mesh_error(path, "cannot read file");
-  return bytes.str();
-}
 
 std::string sha256_hex(const std::string& bytes) {
   unsigned char digest[EVP_MAX_MD_SIZE];
@@ -477,7 +462,7 @@ Mesh build_mesh(const std::string& path, const Soup& soup, const MeshReadOptions
 Mesh read_mesh(const std::string& path, const MeshReadOptions& options) {
   if (!(options.merge_tolerance >= 0) || !std::isfinite(options.merge_tolerance))
     throw ConventionError(fmt::format("merge tolerance must be finite and >= 0, got {}", options.merge_tolerance));
-  const std::string bytes = read_file_bytes(path);
+  const std::string bytes = read_file(path);
   const std::string ext = lower_extension(path);
   if (ext != ".obj" && ext != ".off" && ext != ".ply" && ext != ".stl")
     throw mesh_error(path, "unknown mesh format '" + ext + "' (expected .obj, .off, .ply or .stl)");
@@ -508,39 +493,9 @@ void write_obj(const Mesh& mesh, const std::string& path, LengthUnit unit) {
     fmt::format_to(std::back_inserter(text), "f {} {} {}\n", mesh.faces(f, 0) + 1, mesh.faces(f, 1) + 1,
                    mesh.faces(f, 2) + 1);
 
-  const std::filesystem::path target(path);
-  const std::filesystem::path dir = target.has_parent_path() ? target.parent_path() : std::filesystem::path(".");
-  std::string temp = (dir / ("." + target.filename().string() + ".XXXXXX")).string();
-  const int fd = ::mkstemp(temp.data());
-  if (fd < 0) throw OutputError(path + ": cannot create file: " + std::strerror(errno));
-  auto fail = [&](const std::string& what) {
-    const int code = errno;
-    ::close(fd);
-    ::unlink(temp.c_str());
-    return OutputError(path + ": " + what + ": " + std::strerror(code));
-  };
-  size_t written = 0;
-  while (written < text.size()) {
-    const ssize_t n = ::write(fd, text.data() + written, text.size() - written);
-    if (n < 0) {
-      if (errno == EINTR) continue;
-      throw fail("cannot write file");
-    }
-    written += static_cast<size_t>(n);
-  }
-  if (::fchmod(fd, 0644) != 0 || ::fsync(fd) != 0) throw fail("cannot write file");
-  if (::close(fd) != 0) {
-    const int code = errno;
-    ::unlink(temp.c_str());
-    throw OutputError(path + ": cannot write file: " + std::strerror(code));
-  }
-  if (std::rename(temp.c_str(), path.c_str()) != 0) {
-    const int code = errno;
-    ::unlink(temp.c_str());
-    throw OutputError(path + ": cannot replace file: " + std::strerror(code));
-  }
+  write_file_atomically(path, fmt::to_string(text));
 }
 
-std::string sha256_file_hex(const std::string& path) { return sha256_hex(read_file_bytes(path)); }
+std::string sha256_file_hex(const std::string& path) { return sha256_hex(read_file(path)); }
 
 }  // namespace polystokes

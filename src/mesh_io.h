@@ -24,17 +24,18 @@ struct MeshReadOptions {
 /// Then: duplicate vertices are merged (notice), faces collapsed by a positive merge tolerance are
 /// dropped (notice), vertices used by no face are dropped (notice). Kept vertices stay in file order, but
 /// their numbers refer to the welded mesh, not to the file. Sets source = path, unit, checksum = SHA-256 of the file bytes.
-/// Throws MeshError (missing/empty file, unknown extension, no faces) or FormatError (unparsable
-/// content, non-finite coordinate, face with < 3 vertices, vertex index out of range); the message is
+/// Throws MeshError (empty file, unknown extension, no faces, polygon that cannot be split) or FormatError
+/// (missing or unreadable file, unparsable content, non-finite coordinate, face with < 3 vertices, vertex
+/// index out of range); the message is
 /// one line naming the file and, where the format allows, the line and face.
 Mesh read_mesh(const std::string& path, const MeshReadOptions& options = {});
 
 /// Writes `mesh` as OBJ ("v x y z" in `unit`, one-based "f i j k"), coordinates in the shortest form
-/// that reads back to the same double. Written to a temporary file in the same directory and renamed
-/// over `path`, so a failure leaves no partial file. Throws OutputError.
+/// that reads back to the same double. Written through write_file_atomically (temporary file in the same
+/// directory, renamed over `path`), so a failure leaves no partial file. Throws OutputError.
 void write_obj(const Mesh& mesh, const std::string& path, LengthUnit unit);
 
-/// SHA-256 of the file's bytes as 64 lower-case hex digits (OpenSSL EVP). Throws MeshError if unreadable.
+/// SHA-256 of the file's bytes as 64 lower-case hex digits (OpenSSL EVP). Throws FormatError if unreadable.
 std::string sha256_file_hex(const std::string& path);
 
 }  // namespace polystokes
