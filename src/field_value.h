@@ -13,4 +13,7 @@ struct FieldValue {
   Eigen::Matrix3d gradient = Eigen::Matrix3d::Zero();       ///< d2U / dx dx^T (symmetric), s^-2
 };
 
+/// A list of evaluation points, one per row, metres.
+using Points = Eigen::Matrix<double, Eigen::Dynamic, 3, Eigen::RowMajor>;
+
 }  // namespace polystokes
