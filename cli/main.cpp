@@ -10,9 +10,12 @@ int main(int argc, char** argv) {
   CLI::App app{"polystokes: gravity fields (Stokes coefficients) of small bodies from shape meshes.\n"
                "Exit codes: 0 ok, 1 usage error, 2 bad input, 3 internal error."};
   app.require_subcommand(1);
+  app.fallthrough();  // -q and -v may follow the subcommand name
   cli::GlobalOptions global;
   app.add_flag("-q,--quiet", global.quiet, "Print errors only");
   app.add_flag("-v,--verbose", global.verbose, "Print more detail (repeat for more)");
+  cli::setup_inspect(app, global);
+  cli::setup_compute(app, global);
   try {
     app.parse(argc, argv);
   } catch (const CLI::ParseError& e) {

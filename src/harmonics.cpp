@@ -406,7 +406,8 @@ CoefficientSet compute_coefficients(const std::vector<DensityRegion>& regions, c
   const HarmonicMoments moments = harmonic_moments(regions, frame, options.degree, options.execution);
 
   CoefficientSet set = make_empty_set(options.degree);
-  moments_to_coefficients(moments, props.mass, reference, set);
+  // Normalizing by the kernel's own degree-0 moment (the same mass to rounding) makes C00 exactly 1.
+  moments_to_coefficients(moments, moments.re(0, 0), reference, set);
   set.body = options.body;
   set.gm = gravitational_constant * props.mass;
   set.reference_radius = reference;

@@ -13,6 +13,11 @@ namespace {
 using polystokes::LengthUnit;
 using polystokes::Mesh;
 
+// The shape maps below are written in kilometres; meshes hold metres.
+Mesh in_meters_from_km(const Mesh& mesh) {
+  return polystokes::transformed(mesh, 1000.0 * Eigen::Matrix3d::Identity(), Eigen::Vector3d::Zero());
+}
+
 // Varnek: a contact-binary-like body, two lobes joined by a neck, bent so that it is not star-shaped.
 // Units: km. The map is smooth and injective (bend radius 2.6 > half thickness 0.9), so no self-intersections.
 Mesh varnek() {
@@ -24,7 +29,7 @@ Mesh varnek() {
     return Eigen::Vector3d((bend + y) * std::sin(x / bend), (bend + y) * std::cos(x / bend) - bend, z);
   });
   mesh.source = "varnek";
-  return mesh;
+  return in_meters_from_km(mesh);
 }
 
 // Quillop: a flattened spinning-top body with an equatorial ridge. Units: km.
@@ -35,7 +40,7 @@ Mesh quillop() {
     return Eigen::Vector3d(r * u.x(), r * u.y(), 0.92 * r * u.z());
   });
   mesh.source = "quillop";
-  return mesh;
+  return in_meters_from_km(mesh);
 }
 
 // Brennow: a lumpy triaxial ellipsoid, a few smooth fixed bumps on a 3.0 x 2.1 x 1.7 km body. Units: km.
@@ -47,7 +52,7 @@ Mesh brennow() {
     return Eigen::Vector3d(1.5 * lumps * u.x(), 1.05 * lumps * u.y(), 0.85 * lumps * u.z());
   });
   mesh.source = "brennow";
-  return mesh;
+  return in_meters_from_km(mesh);
 }
 
 }  // namespace
@@ -63,8 +68,7 @@ int main(int argc, char** argv) {
     polystokes::write_obj(quillop(), dir + "/quillop.obj", LengthUnit::kilometer);
     polystokes::write_obj(brennow(), dir + "/brennow.obj", LengthUnit::kilometer);
     polystokes::write_obj(polystokes::make_box(1, 1, 1), dir + "/unit_cube.obj", LengthUnit::meter);
-    Mesh sphere = polystokes::make_icosphere(4);
-    polystokes::write_obj(sphere, dir + "/sphere.obj", LengthUnit::kilometer);
+    polystokes::write_obj(in_meters_from_km(polystokes::make_icosphere(4)), dir + "/sphere.obj", LengthUnit::kilometer);
   } catch (const std::exception& e) {
     std::fprintf(stderr, "make_demo_shapes: %s\n", e.what());
     return 2;
