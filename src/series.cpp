@@ -4,10 +4,10 @@
 #include <algorithm>
 #include <cmath>
 #include <fmt/format.h>
-#include <thread>
 
 #include "conventions.h"
 #include "errors.h"
+#include "parallel_rows.h"
 
 namespace polystokes {
 
@@ -72,18 +72,6 @@ FieldValue assemble(const double (&q)[10], double scale) {
   value.gradient << q[4], q[5], q[6], q[5], q[7], q[8], q[6], q[8], q[9];
   value.gradient *= scale;
   return value;
-}
-
-template <class Work>
-void parallel_rows(Eigen::Index rows, int threads, Work&& work) {
-  int count = threads > 0 ? threads : int(std::max(1u, std::thread::hardware_concurrency()));
-  count = int(std::max<Eigen::Index>(1, std::min<Eigen::Index>(count, rows)));
-  std::vector<std::thread> pool;
-  const Eigen::Index block = (rows + count - 1) / count;
-  for (int t = 1; t < count; ++t)
-    pool.emplace_back([&, t] { for (Eigen::Index i = t * block; i < std::min(rows, (t + 1) * block); ++i) work(i); });
-  for (Eigen::Index i = 0; i < std::min(rows, block); ++i) work(i);
-  for (auto& thread : pool) thread.join();
 }
 
 }  // namespace
@@ -216,7 +204,7 @@ std::vector<FieldValue> SeriesModel::evaluate(const Points& points, int threads)
   std::vector<FieldValue> out(size_t(points.rows()));
   // Errors (a point at the origin) are captured per row and the first one rethrown after the join.
   std::vector<std::string> errors(size_t(points.rows()));
-  parallel_rows(points.rows(), threads, [&](Eigen::Index i) {
+  parallel_rows(long(points.rows()), threads, [&](long i) {
     try {
       out[size_t(i)] = evaluate(Eigen::Vector3d(points.row(i).transpose()));
     } catch (const Error& e) {
