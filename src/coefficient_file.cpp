@@ -8,8 +8,8 @@
 #include <cmath>
 #include <iterator>
 #include <map>
-#include <optional>
 #include <nlohmann/json.hpp>
+#include <optional>
 #include <string_view>
 #include <unordered_map>
 #include <unordered_set>
@@ -29,7 +29,8 @@ using Json = nlohmann::ordered_json;
 
 void check_shape(const CoefficientSet& set) {
   if (set.degree < 0 || set.degree >= INT_MAX)
-    throw ConventionError(fmt::format("coefficient set: degree must be in 0..{}, got {}", INT_MAX - 1, set.degree));
+    throw ConventionError(
+        fmt::format("coefficient set: degree must be in 0..{}, got {}", INT_MAX - 1, set.degree));
   const Eigen::Index size = set.degree + 1;
   const std::pair<const char*, const Eigen::MatrixXd*> matrices[] = {
       {"C", &set.C}, {"S", &set.S}, {"sigma_C", &set.sigma_C}, {"sigma_S", &set.sigma_S}};
@@ -43,9 +44,10 @@ void check_shape(const CoefficientSet& set) {
 
 void require_finite(double value, const std::string& what) {
   if (!std::isfinite(value)) {
-    throw OutputError(fmt::format("coefficient set not written: {} is {}; the coefficient formats hold finite "
-                                  "numbers only",
-                                  what, value));
+    throw OutputError(
+        fmt::format("coefficient set not written: {} is {}; the coefficient formats hold finite "
+                    "numbers only",
+                    what, value));
   }
 }
 
@@ -93,14 +95,22 @@ size_t utf8_sequence_length(std::string_view s, size_t i) {
   if (lead < 0x80) return 1;
   size_t length = 0;
   unsigned char low = 0x80, high = 0xBF;
-  if (lead >= 0xC2 && lead <= 0xDF) length = 2;
-  else if (lead == 0xE0) length = 3, low = 0xA0;
-  else if (lead == 0xED) length = 3, high = 0x9F;
-  else if (lead >= 0xE1 && lead <= 0xEF) length = 3;
-  else if (lead == 0xF0) length = 4, low = 0x90;
-  else if (lead >= 0xF1 && lead <= 0xF3) length = 4;
-  else if (lead == 0xF4) length = 4, high = 0x8F;
-  else return 0;
+  if (lead >= 0xC2 && lead <= 0xDF)
+    length = 2;
+  else if (lead == 0xE0)
+    length = 3, low = 0xA0;
+  else if (lead == 0xED)
+    length = 3, high = 0x9F;
+  else if (lead >= 0xE1 && lead <= 0xEF)
+    length = 3;
+  else if (lead == 0xF0)
+    length = 4, low = 0x90;
+  else if (lead >= 0xF1 && lead <= 0xF3)
+    length = 4;
+  else if (lead == 0xF4)
+    length = 4, high = 0x8F;
+  else
+    return 0;
   if (i + length > s.size() || byte(i + 1) < low || byte(i + 1) > high) return 0;
   for (size_t k = 2; k < length; ++k)
     if (byte(i + k) < 0x80 || byte(i + k) > 0xBF) return 0;
@@ -141,8 +151,9 @@ class TableBuilder {
       throw format_error(source_, row.line, "sigma_C and sigma_S must not be negative");
     const auto [first, inserted] = first_line_.emplace(key(row.n, row.m), row.line);
     if (!inserted) {
-      throw format_error(source_, row.line,
-                         fmt::format("duplicate row n={} m={} (first on line {})", row.n, row.m, first->second));
+      throw format_error(
+          source_, row.line,
+          fmt::format("duplicate row n={} m={} (first on line {})", row.n, row.m, first->second));
     }
     rows_.push_back(row);
   }
@@ -155,9 +166,10 @@ class TableBuilder {
       for (long long n = 0; n <= degree_; ++n) {
         for (long long m = 0; m <= n; ++m) {
           if (!first_line_.count(key(n, m))) {
-            throw format_error(source_, end_line,
-                               fmt::format("coefficient table lacks the row n={} m={} ({} of {} rows for degree {})",
-                                           n, m, rows_.size(), expected, degree_));
+            throw format_error(
+                source_, end_line,
+                fmt::format("coefficient table lacks the row n={} m={} ({} of {} rows for degree {})", n, m,
+                            rows_.size(), expected, degree_));
           }
         }
       }
@@ -203,12 +215,18 @@ std::string quote_text(std::string_view value) {
   for (size_t i = 0; i < value.size();) {
     const unsigned char c = static_cast<unsigned char>(value[i]);
     const size_t length = utf8_sequence_length(value, i);
-    if (c == '\\') out += "\\\\";
-    else if (c == '"') out += "\\\"";
-    else if (c == '\n') out += "\\n";
-    else if (c == '\r') out += "\\r";
-    else if (c == '\t') out += "\\t";
-    else if (c < 0x20 || c == 0x7F || length == 0) out += fmt::format("\\x{:02X}", c);
+    if (c == '\\')
+      out += "\\\\";
+    else if (c == '"')
+      out += "\\\"";
+    else if (c == '\n')
+      out += "\\n";
+    else if (c == '\r')
+      out += "\\r";
+    else if (c == '\t')
+      out += "\\t";
+    else if (c < 0x20 || c == 0x7F || length == 0)
+      out += fmt::format("\\x{:02X}", c);
     else {
       out.append(value.substr(i, length));
       i += length;
@@ -219,7 +237,9 @@ std::string quote_text(std::string_view value) {
   return out + "\"";
 }
 
-std::string vector_text(const Eigen::Vector3d& v) { return fmt::format("{} {} {}", number(v[0]), number(v[1]), number(v[2])); }
+std::string vector_text(const Eigen::Vector3d& v) {
+  return fmt::format("{} {} {}", number(v[0]), number(v[1]), number(v[2]));
+}
 
 // ---------------------------------------------------------------------------------------------------
 // Text format: reader.
@@ -272,8 +292,8 @@ struct Entry {
 
 // Sections in the order they must appear; [region] may repeat or be absent, the others appear once.
 enum Rank { kBody, kExpansion, kRegion, kProvenance, kCoefficients, kEnd, kRankCount };
-constexpr const char* kSectionNames[kRankCount] = {"body", "expansion", "region", "provenance", "coefficients",
-                                                   "end"};
+constexpr const char* kSectionNames[kRankCount] = {"body",       "expansion",    "region",
+                                                   "provenance", "coefficients", "end"};
 
 struct KeySpec {
   const char* name;
@@ -347,8 +367,10 @@ class TextReader {
     }
     if (rank != kEnd) {
       const long last = lines.back().number;
-      if (rank == kCoefficients) fail(last, "file ends inside the coefficient table without [end] (truncated?)");
-      fail(last, fmt::format("file ends before section [{}] (truncated?)", kSectionNames[next_required(rank)]));
+      if (rank == kCoefficients)
+        fail(last, "file ends inside the coefficient table without [end] (truncated?)");
+      fail(last,
+           fmt::format("file ends before section [{}] (truncated?)", kSectionNames[next_required(rank)]));
     }
     return set;
   }
@@ -360,13 +382,16 @@ class TextReader {
     std::map<std::string, std::vector<Entry>, std::less<>> entries;
   };
 
-  [[noreturn]] void fail(long line, const std::string& problem) const { throw format_error(source_, line, problem); }
+  [[noreturn]] void fail(long line, const std::string& problem) const {
+    throw format_error(source_, line, problem);
+  }
 
   void check_first_line(const Line& line) const {
     const std::string expected = fmt::format("{} {}", kCoefficientFormatName, kCoefficientFormatVersion);
     const auto words = tokens(line.text);
     if (words.empty() || words[0] != kCoefficientFormatName)
-      fail(line.number, fmt::format("not a polystokes coefficient file: the first line must be '{}'", expected));
+      fail(line.number,
+           fmt::format("not a polystokes coefficient file: the first line must be '{}'", expected));
     if (words.size() != 2)
       fail(line.number, fmt::format("first line must be '{}', found {}", expected, shown(line.text)));
     if (words[1] != std::to_string(kCoefficientFormatVersion)) {
@@ -405,9 +430,11 @@ class TextReader {
     const std::string_view key = trimmed(line.text.substr(0, equals));
     const std::string_view value = trimmed(line.text.substr(equals + 1));
     const auto& specs = keys_of(section.rank);
-    const auto spec = std::find_if(specs.begin(), specs.end(), [&](const KeySpec& s) { return key == s.name; });
+    const auto spec =
+        std::find_if(specs.begin(), specs.end(), [&](const KeySpec& s) { return key == s.name; });
     if (spec == specs.end())
-      fail(line.number, fmt::format("unknown key {} in section [{}]", shown(key), kSectionNames[section.rank]));
+      fail(line.number,
+           fmt::format("unknown key {} in section [{}]", shown(key), kSectionNames[section.rank]));
     auto& entries = section.entries[spec->name];
     if (!entries.empty() && !spec->repeatable)
       fail(line.number, fmt::format("duplicate key '{}' (first on line {})", key, entries.front().line));
@@ -441,11 +468,21 @@ class TextReader {
       }
       if (++i == v.size()) break;
       switch (v[i]) {
-        case '\\': out += '\\'; break;
-        case '"': out += '"'; break;
-        case 'n': out += '\n'; break;
-        case 'r': out += '\r'; break;
-        case 't': out += '\t'; break;
+        case '\\':
+          out += '\\';
+          break;
+        case '"':
+          out += '"';
+          break;
+        case 'n':
+          out += '\n';
+          break;
+        case 'r':
+          out += '\r';
+          break;
+        case 't':
+          out += '\t';
+          break;
         case 'x': {
           unsigned value = 0;
           const char* digits = v.data() + i + 1;
@@ -457,11 +494,13 @@ class TextReader {
           i += 2;
           break;
         }
-        default: fail(entry.line, fmt::format("unknown escape '\\{}' (known: \\\\ \\\" \\n \\r \\t \\xHH)", v[i]));
+        default:
+          fail(entry.line, fmt::format("unknown escape '\\{}' (known: \\\\ \\\" \\n \\r \\t \\xHH)", v[i]));
       }
     }
     if (i >= v.size()) fail(entry.line, "text value lacks its closing '\"'");
-    if (i + 1 != v.size()) fail(entry.line, fmt::format("unexpected {} after the closing '\"'", shown(v.substr(i + 1))));
+    if (i + 1 != v.size())
+      fail(entry.line, fmt::format("unexpected {} after the closing '\"'", shown(v.substr(i + 1))));
     return out;
   }
 
@@ -486,13 +525,17 @@ class TextReader {
     return real(entry.value, entry.line, key);
   }
 
-  std::string text_value(const Section& section, const char* key) const { return text_value(single(section, key)); }
+  std::string text_value(const Section& section, const char* key) const {
+    return text_value(single(section, key));
+  }
 
   Eigen::Vector3d vector_value(const Section& section, const char* key) const {
     const Entry& entry = single(section, key);
     const auto parts = tokens(entry.value);
-    if (parts.size() != 3) fail(entry.line, fmt::format("{}: expected 3 numbers x y z, found {}", key, parts.size()));
-    return {real(parts[0], entry.line, key), real(parts[1], entry.line, key), real(parts[2], entry.line, key)};
+    if (parts.size() != 3)
+      fail(entry.line, fmt::format("{}: expected 3 numbers x y z, found {}", key, parts.size()));
+    return {real(parts[0], entry.line, key), real(parts[1], entry.line, key),
+            real(parts[2], entry.line, key)};
   }
 
   bool choice(const Section& section, const char* key, std::string_view yes, std::string_view no) const {
@@ -579,9 +622,11 @@ class TextReader {
 // than misread.
 const std::vector<std::pair<const char*, const char*>>& json_units() {
   static const std::vector<std::pair<const char*, const char*>> units = {
-      {"gm", "m^3 s^-2"},       {"reference_radius", "m"}, {"brillouin_radius", "m"},
-      {"mass", "kg"},           {"volume", "m^3"},         {"center_of_mass", "m"},
-      {"origin.position", "m"}, {"regions.density", "kg m^-3"}, {"regions.volume", "m^3"}};
+      {"gm", "m^3 s^-2"},        {"reference_radius", "m"},
+      {"brillouin_radius", "m"}, {"mass", "kg"},
+      {"volume", "m^3"},         {"center_of_mass", "m"},
+      {"origin.position", "m"},  {"regions.density", "kg m^-3"},
+      {"regions.volume", "m^3"}};
   return units;
 }
 
@@ -624,10 +669,10 @@ class TrackingIterator {
 };
 
 struct JsonLines {
-  long top = 1;                            ///< line of the top-level '{'
+  long top = 1;                                ///< line of the top-level '{'
   std::unordered_map<std::string, long> keys;  ///< line of each top-level key
-  std::vector<long> coefficients;          ///< line of each "coefficients" entry's '{'
-  std::vector<long> regions;               ///< line of each "regions" entry's '{'
+  std::vector<long> coefficients;              ///< line of each "coefficients" entry's '{'
+  std::vector<long> regions;                   ///< line of each "regions" entry's '{'
 };
 
 class JsonReader {
@@ -638,10 +683,28 @@ class JsonReader {
   CoefficientSet read() {
     const Json root = parse();
     if (!root.is_object()) fail(1, "the top-level JSON value must be an object");
-    check_keys(root, {"format", "units", "body", "degree", "gm", "reference_radius", "brillouin_radius",
-                      "normalization", "condon_shortley", "zonal_as_j", "origin", "frame", "center_of_mass",
-                      "mass", "volume", "mesh_length_unit", "regions", "created", "history", "notes",
-                      "coefficients"},
+    check_keys(root,
+               {"format",
+                "units",
+                "body",
+                "degree",
+                "gm",
+                "reference_radius",
+                "brillouin_radius",
+                "normalization",
+                "condon_shortley",
+                "zonal_as_j",
+                "origin",
+                "frame",
+                "center_of_mass",
+                "mass",
+                "volume",
+                "mesh_length_unit",
+                "regions",
+                "created",
+                "history",
+                "notes",
+                "coefficients"},
                "top level", lines_.top);
 
     const Json& format = member(root, "format");
@@ -651,8 +714,8 @@ class JsonReader {
       fail(format_line, fmt::format("\"format\".\"name\" must be \"{}\"", kCoefficientFormatName));
     const long long version = integer(member(format, "version", format_line), "format.version", format_line);
     if (version != kCoefficientFormatVersion) {
-      fail(format_line, fmt::format("format version {} is not supported (this reader reads version {})", version,
-                                    kCoefficientFormatVersion));
+      fail(format_line, fmt::format("format version {} is not supported (this reader reads version {})",
+                                    version, kCoefficientFormatVersion));
     }
     check_units(member(root, "units"));
 
@@ -683,7 +746,8 @@ class JsonReader {
     check_keys(frame, {"label", "axes"}, "\"frame\"", frame_line);
     set.frame = text(member(frame, "label", frame_line), "frame.label", frame_line);
     const Json& axes = member(frame, "axes", frame_line);
-    if (!axes.is_array() || axes.size() != 3) fail(frame_line, "\"frame\".\"axes\" must be an array of 3 rows");
+    if (!axes.is_array() || axes.size() != 3)
+      fail(frame_line, "\"frame\".\"axes\" must be an array of 3 rows");
     for (int row = 0; row < 3; ++row)
       set.axes_in_mesh.row(row) = vector(axes[row], fmt::format("frame.axes[{}]", row), frame_line);
 
@@ -700,7 +764,9 @@ class JsonReader {
   }
 
  private:
-  [[noreturn]] void fail(long line, const std::string& problem) const { throw format_error(source_, line, problem); }
+  [[noreturn]] void fail(long line, const std::string& problem) const {
+    throw format_error(source_, line, problem);
+  }
 
   long line_before(const char* position) {
     for (; counted_ < position; ++counted_)
@@ -727,7 +793,8 @@ class JsonReader {
         const std::string& key = parsed.get_ref<const std::string&>();
         auto& keys = open_keys.back();
         // nlohmann keeps one of two equal keys silently; a repeated key is a typo or a merge gone wrong.
-        if (std::find(keys.begin(), keys.end(), key) != keys.end()) fail(line_now(), fmt::format("duplicate key \"{}\"", key));
+        if (std::find(keys.begin(), keys.end(), key) != keys.end())
+          fail(line_now(), fmt::format("duplicate key \"{}\"", key));
         keys.push_back(key);
         if (depth == 1) {
           top_key = key;
@@ -737,14 +804,21 @@ class JsonReader {
       return true;
     };
     try {
-      return Json::parse(TrackingIterator(begin, &reached), TrackingIterator(begin + text_.size(), &reached), track);
+      return Json::parse(TrackingIterator(begin, &reached), TrackingIterator(begin + text_.size(), &reached),
+                         track);
     } catch (const Json::parse_error& error) {
       const size_t byte = std::min<size_t>(error.byte > 0 ? error.byte - 1 : 0, text_.size());
-      const long line = 1 + static_cast<long>(std::count(text_.begin(), text_.begin() + static_cast<long>(byte), '\n'));
+      const long line =
+          1 + static_cast<long>(std::count(text_.begin(), text_.begin() + static_cast<long>(byte), '\n'));
       std::string detail = error.what();
       const size_t colon = detail.find(": ", detail.find("parse error"));
       if (colon != std::string::npos) detail = detail.substr(colon + 2);
       fail(line, "invalid JSON: " + detail);
+    } catch (const Json::out_of_range& error) {
+      // Raised for a number beyond the range of double while the lexer sits on it.
+      std::string detail = error.what();
+      detail = detail.substr(detail.find("] ") + 2);
+      fail(line_now(), "invalid JSON: " + detail);
     }
   }
 
@@ -793,7 +867,9 @@ class JsonReader {
     if (!value.is_string()) fail(line, fmt::format("\"{}\" must be a string", what));
     return value.get<std::string>();
   }
-  std::string text(const Json& root, const char* key) const { return text(member(root, key), key, key_line(key)); }
+  std::string text(const Json& root, const char* key) const {
+    return text(member(root, key), key, key_line(key));
+  }
 
   bool boolean(const Json& root, const char* key) const {
     const Json& value = member(root, key);
@@ -802,7 +878,8 @@ class JsonReader {
   }
 
   Eigen::Vector3d vector(const Json& value, const std::string& what, long line) const {
-    if (!value.is_array() || value.size() != 3) fail(line, fmt::format("\"{}\" must be an array of 3 numbers", what));
+    if (!value.is_array() || value.size() != 3)
+      fail(line, fmt::format("\"{}\" must be an array of 3 numbers", what));
     return {real(value[0], what, line), real(value[1], what, line), real(value[2], what, line)};
   }
 
@@ -821,7 +898,8 @@ class JsonReader {
     for (const auto& [key, unit] : expected) same = same && units.contains(key) && units.at(key) == unit;
     if (!same) {
       std::string listing;
-      for (const auto& [key, unit] : expected) listing += fmt::format("{}\"{}\": \"{}\"", listing.empty() ? "" : ", ", key, unit);
+      for (const auto& [key, unit] : expected)
+        listing += fmt::format("{}\"{}\": \"{}\"", listing.empty() ? "" : ", ", key, unit);
       fail(line, "\"units\" must be exactly {" + listing + "} (format version 1 is SI only)");
     }
   }
@@ -856,7 +934,8 @@ class JsonReader {
       check_keys(entry, {"n", "m", "C", "S", "sigma_C", "sigma_S"}, where, line);
       const auto field = [&](const char* key) { return where + "." + key; };
       table.add({line, integer(member(entry, "n", line), field("n"), line),
-                 integer(member(entry, "m", line), field("m"), line), real(member(entry, "C", line), field("C"), line),
+                 integer(member(entry, "m", line), field("m"), line),
+                 real(member(entry, "C", line), field("C"), line),
                  real(member(entry, "S", line), field("S"), line),
                  real(member(entry, "sigma_C", line), field("sigma_C"), line),
                  real(member(entry, "sigma_S", line), field("sigma_S"), line)});
@@ -890,11 +969,15 @@ std::string formatted_for(const std::string& path, Format format) {
 std::string format_coefficient_text(const CoefficientSet& set) {
   check_writable(set);
   fmt::memory_buffer out;
-  const auto put = [&](auto&&... args) { fmt::format_to(std::back_inserter(out), std::forward<decltype(args)>(args)...); };
+  const auto put = [&](auto&&... args) {
+    fmt::format_to(std::back_inserter(out), std::forward<decltype(args)>(args)...);
+  };
   put("{} {}\n", kCoefficientFormatName, kCoefficientFormatVersion);
   put("# Spherical-harmonic (Stokes) gravity coefficients of a body model, written by polystokes.\n"
-      "# Specification: docs/format.md. SI units; every key with a unit ends in it (_m, _kg, _m3, _m3_s2, _kg_m3).\n"
-      "# Text values are double-quoted with escapes \\\\ \\\" \\n \\r \\t \\xHH. Lines starting with # are comments.\n");
+      "# Specification: docs/format.md. SI units; every key with a unit ends in it (_m, _kg, _m3, _m3_s2, "
+      "_kg_m3).\n"
+      "# Text values are double-quoted with escapes \\\\ \\\" \\n \\r \\t \\xHH. Lines starting with # are "
+      "comments.\n");
 
   put("\n[body]\nlabel = {}\n", quote_text(set.body));
   put("# G times the mass (m^3 s^-2); mass (kg) and volume (m^3) are 0 when unknown\n");
@@ -904,17 +987,18 @@ std::string format_coefficient_text(const CoefficientSet& set) {
 
   put("\n[expansion]\n"
       "# U(r, lat, lon) = GM/r sum_n (R/r)^n sum_m P_nm(sin lat) (C_nm cos(m lon) + S_nm sin(m lon)), with\n"
-      "# R the reference radius; valid outside the Brillouin sphere (radius about the origin, m; 0 = unknown)\n");
-  put("degree = {}\nreference_radius_m = {}\nbrillouin_radius_m = {}\n", set.degree, number(set.reference_radius),
-      number(set.brillouin_radius));
+      "# R the reference radius; valid outside the Brillouin sphere (radius about the origin, m; 0 = "
+      "unknown)\n");
+  put("degree = {}\nreference_radius_m = {}\nbrillouin_radius_m = {}\n", set.degree,
+      number(set.reference_radius), number(set.brillouin_radius));
   put("# normalization of P_nm: fully | unnormalized | schmidt | orthonormal\nnormalization = {}\n",
       to_string(set.convention.normalization));
   put("# yes: P_nm carries the Condon-Shortley phase (-1)^m\ncondon_shortley_phase = {}\n",
       set.convention.condon_shortley ? "yes" : "no");
   put("# C: the m = 0 column holds C_n0; J: it holds J_n = -C_n0\nzonal_column = {}\n",
       set.convention.zonal_as_j ? "J" : "C");
-  put("# expansion origin: label and position in the mesh frame (m)\norigin = {}\norigin_m = {}\n", quote_text(set.origin),
-      vector_text(set.origin_in_mesh));
+  put("# expansion origin: label and position in the mesh frame (m)\norigin = {}\norigin_m = {}\n",
+      quote_text(set.origin), vector_text(set.origin_in_mesh));
   put("# expansion axes: label and each axis as a unit vector in mesh-frame components\nframe = {}\n",
       quote_text(set.frame));
   put("frame_x_axis = {}\nframe_y_axis = {}\nframe_z_axis = {}\n", vector_text(set.axes_in_mesh.row(0)),
@@ -922,8 +1006,8 @@ std::string format_coefficient_text(const CoefficientSet& set) {
 
   for (const Region& region : set.regions) {
     put("\n[region]\n# one constant-density piece: density kg m^-3 (negative for a void), volume m^3\n");
-    put("mesh_file = {}\nsha256 = {}\nlength_unit = {}\n", quote_text(region.mesh), quote_text(region.checksum),
-        quote_text(region.unit));
+    put("mesh_file = {}\nsha256 = {}\nlength_unit = {}\n", quote_text(region.mesh),
+        quote_text(region.checksum), quote_text(region.unit));
     put("density_kg_m3 = {}\nvolume_m3 = {}\nfaces = {}\n", number(region.density), number(region.volume),
         region.faces);
   }
@@ -954,7 +1038,8 @@ void write_coefficient_file(const CoefficientSet& set, const std::string& path) 
 CoefficientSet read_coefficient_file(const std::string& path) {
   const std::string text = read_file(path);
   const size_t first = text.find_first_not_of(" \t\r\n");
-  if (first != std::string::npos && text[first] == '{') return parse_coefficient_json(text, source_name_of(path));
+  if (first != std::string::npos && text[first] == '{')
+    return parse_coefficient_json(text, source_name_of(path));
   return parse_coefficient_text(text, source_name_of(path));
 }
 
@@ -973,7 +1058,8 @@ std::string format_coefficient_json(const CoefficientSet& set) {
   root["normalization"] = to_string(set.convention.normalization);
   root["condon_shortley"] = set.convention.condon_shortley;
   root["zonal_as_j"] = set.convention.zonal_as_j;
-  root["origin"] = {{"label", utf8_field(set.origin, "origin")}, {"position", json_vector(set.origin_in_mesh)}};
+  root["origin"] = {{"label", utf8_field(set.origin, "origin")},
+                    {"position", json_vector(set.origin_in_mesh)}};
   Json axes = Json::array();
   for (int row = 0; row < 3; ++row) axes.push_back(json_vector(set.axes_in_mesh.row(row)));
   root["frame"] = {{"label", utf8_field(set.frame, "frame")}, {"axes", axes}};
@@ -996,8 +1082,10 @@ std::string format_coefficient_json(const CoefficientSet& set) {
   root["regions"] = std::move(regions);
   root["created"] = utf8_field(set.created, "created");
   Json history = Json::array(), notes = Json::array();
-  for (size_t i = 0; i < set.history.size(); ++i) history.push_back(utf8_field(set.history[i], fmt::format("history[{}]", i)));
-  for (size_t i = 0; i < set.notes.size(); ++i) notes.push_back(utf8_field(set.notes[i], fmt::format("notes[{}]", i)));
+  for (size_t i = 0; i < set.history.size(); ++i)
+    history.push_back(utf8_field(set.history[i], fmt::format("history[{}]", i)));
+  for (size_t i = 0; i < set.notes.size(); ++i)
+    notes.push_back(utf8_field(set.notes[i], fmt::format("notes[{}]", i)));
   root["history"] = std::move(history);
   root["notes"] = std::move(notes);
   Json coefficients = Json::array();

@@ -91,8 +91,8 @@ void write_file_atomically(const std::string& path, const std::string& content) 
   std::string name = (directory / ("." + target.filename().string() + ".tmp-XXXXXX")).string();
   const int fd = ::mkstemp(name.data());
   if (fd < 0) {
-    throw OutputError(path + ": cannot create a file in directory '" + directory.string() + "': " +
-                      reason(errno));
+    throw OutputError(path + ": cannot create a file in directory '" + directory.string() +
+                      "': " + reason(errno));
   }
   TemporaryFile temporary(name, fd);
 
