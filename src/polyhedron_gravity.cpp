@@ -15,10 +15,12 @@ namespace polystokes {
 
 namespace {
 
-// Error budget per face integral, relative to the integral: the closed form loses about (distance / face
-// radius) * epsilon to cancellation between its terms, so faces closer than kNearRatio face radii use it
-// (error <= ~2e-15) and farther faces the quadrature, with its order chosen for the same budget.
-constexpr double kNearRatio = 16.0;
+// The closed form of a face integral carries a rounding error of about (distance / face radius) * epsilon
+// relative to the integral (cancellation between its edge and solid-angle terms), and the face integrals
+// themselves cancel in the sums by about distance / region radius more. Faces use the closed form while the
+// product of the two ratios is below kClosedFormLimit (error <~ 1e-14 relative to the field), and otherwise
+// the quadrature, with its order chosen for a per-face error of kBudget (scaled like the reduced integrals).
+constexpr double kClosedFormLimit = 32.0;
 constexpr double kBudget = 2e-15;
 constexpr int kMaxRule = 12;
 
@@ -153,7 +155,7 @@ FieldValue PolyhedronGravity::evaluate_region(const Region& region, const Eigen:
     double integral = 0;                          // I~_f
     Eigen::Vector3d vector = Eigen::Vector3d::Zero();  // v~_f = -grad of I~_f
     const double ratio = (face.centroid - x).norm() / face.radius;
-    if (ratio < kNearRatio) {
+    if (ratio * std::max(1.0, distance / region.radius) < kClosedFormLimit) {
       // Closed form (Werner & Scheeres 1997).
       Eigen::Vector3d r[3];
       double norm[3];

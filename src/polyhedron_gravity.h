@@ -27,13 +27,14 @@ namespace polystokes {
 ///    cancellation (from the signed projections of the endpoints on the edge line and the distance to it),
 ///    so points near faces, edges and vertices are fine. On an edge or vertex, U and grad U are finite and
 ///    the gradient tensor is infinite (it diverges logarithmically there); on a face it takes the outer side.
-///  - Far from a face (distance to its centroid >= 16 face radii) the closed form loses digits to
-///    cancellation between its terms; there the face integrals are taken by Gauss-Legendre product
-///    quadrature on the collapsed triangle with the order chosen to reach round-off (the integrands are
-///    analytic there), so the model is exact to rounding everywhere.
+///  - The closed form loses about (distance / face size) * (distance / body size) digits to cancellation.
+///    Where that product exceeds 32 the face integrals are taken by Gauss-Legendre product quadrature on the
+///    collapsed triangle instead, with the order chosen to reach round-off (the integrands are analytic
+///    there), so the model is exact to rounding (~1e-14 relative or better) everywhere.
 ///  - Beyond twice the region's radius every face integral is evaluated relative to its value seen from the
 ///    region's centroid (the subtracted terms sum to zero exactly on a closed surface), which removes the
-///    loss of (distance / size) digits: at 10^4 body radii the field agrees with the point mass to ~1e-15.
+///    loss of (distance / size) digits in the sums: at 10^4 body radii the field agrees with the point mass
+///    to ~1e-15.
 /// Cost O(faces) per point; see evaluate(Points) for parallel evaluation.
 class PolyhedronGravity {
  public:
