@@ -16,6 +16,7 @@ int main(int argc, char** argv) {
   app.add_flag("-v,--verbose", global.verbose, "Print more detail (repeat for more)");
   cli::setup_inspect(app, global);
   cli::setup_compute(app, global);
+  cli::setup_uncertainty(app, global);
   try {
     app.parse(argc, argv);
   } catch (const CLI::ParseError& e) {

@@ -648,11 +648,11 @@ UncertaintyResult summarize_uncertainty(const CoefficientSet& nominal, const Unc
       signal += set.C(n, m) * set.C(n, m) + set.S(n, m) * set.S(n, m);
     }
     summary.degree_ratio(n) = signal > 0 ? std::sqrt(noise / signal) : (noise > 0 ? std::numeric_limits<double>::infinity() : 0.0);
-    if (n >= 2) {
-      if (summary.dominated_from < 0 && summary.degree_ratio(n) > kDominanceRatio) summary.dominated_from = n;
-      if (worst_degree < 0 || summary.degree_ratio(n) > summary.degree_ratio(worst_degree)) worst_degree = n;
-    }
+    if (n >= 2 && (worst_degree < 0 || summary.degree_ratio(n) > summary.degree_ratio(worst_degree))) worst_degree = n;
   }
+  for (int n = N; n >= 2 && summary.degree_ratio(n) > kDominanceRatio; --n) summary.dominated_from = n;
+  for (int n = 2; n < (summary.dominated_from >= 0 ? summary.dominated_from : N + 1); ++n)
+    if (summary.degree_ratio(n) > kDominanceRatio) summary.isolated.push_back(n);
 
   const bool shape_only = settings.shape.sigma > 0 && settings.density_sigma == 0 && settings.inclusions.empty() &&
                           settings.lateral.sigma == 0;
@@ -674,16 +674,24 @@ UncertaintyResult summarize_uncertainty(const CoefficientSet& nominal, const Unc
         "Uncertainty: the samples keep this set's origin and axes, so the degree-1 terms carry the scatter of the "
         "centre of mass: RMS {:.6g} m, {:.6g} m, {:.6g} m along the set's x, y, z axes.",
         summary.com_sigma.x(), summary.com_sigma.y(), summary.com_sigma.z()));
+  std::string isolated;
+  for (const int n : summary.isolated) isolated += fmt::format("{}{}", isolated.empty() ? "" : ", ", n);
+  const int percent = int(kDominanceRatio * 100);
   if (summary.dominated_from >= 0)
     notes.push_back(fmt::format(
-        "Uncertainty: from degree {} on (ratio {:.3g}; {:.3g} at degree {}) the sampled uncertainty exceeds {}% of "
-        "the coefficients (RMS over the orders of a degree): those degrees are dominated by the {}, not fixed "
-        "by the shape.", summary.dominated_from, summary.degree_ratio(summary.dominated_from),
-        summary.degree_ratio(N), N, int(kDominanceRatio * 100), source));
+        "Uncertainty: from degree {} to {} every degree's sampled uncertainty exceeds {}% of its coefficients (RMS "
+        "over the orders; ratio {:.3g} at degree {}, {:.3g} at degree {}): that range is dominated by the {}, not "
+        "fixed by the shape.{}", summary.dominated_from, N, percent, summary.degree_ratio(summary.dominated_from),
+        summary.dominated_from, summary.degree_ratio(N), N, source,
+        isolated.empty() ? std::string()
+                         : fmt::format(" Below it, degree(s) {} exceed {}% too, where the coefficients are small.",
+                                       isolated, percent)));
   else if (N >= 2)
     notes.push_back(fmt::format(
-        "Uncertainty: no degree from 2 to {} has a sampled uncertainty above {}% of its coefficients (RMS over the "
-        "orders; largest ratio {:.3g} at degree {}).", N, int(kDominanceRatio * 100),
+        "Uncertainty: the sampled uncertainty stays below {}% of the coefficients (RMS over the orders) at degree {}{}; "
+        "largest ratio {:.3g} at degree {}.", percent, N,
+        isolated.empty() ? std::string(" and below")
+                         : fmt::format(" but exceeds it at degree(s) {}, where the coefficients are small", isolated),
         summary.degree_ratio(worst_degree), worst_degree));
   notes.push_back(fmt::format(
       "Uncertainty: assumptions: homogeneous interior within each region apart from the scenarios listed above. "

@@ -123,7 +123,9 @@ struct UncertaintySummary {
   Eigen::Vector3d com_sigma = Eigen::Vector3d::Zero();  ///< RMS centre-of-mass shift along the set's axes, m
   double max_brillouin_radius = 0;                      ///< m, over nominal and samples
   Eigen::VectorXd degree_ratio;  ///< per degree: RMS of sigma over m / RMS of the coefficients over m
-  int dominated_from = -1;       ///< lowest degree >= 2 with degree_ratio > 0.1; -1 if none
+  /// Lowest degree n >= 2 such that every degree n..N has degree_ratio > 0.1; -1 if degree N has not.
+  int dominated_from = -1;
+  std::vector<int> isolated;     ///< degrees >= 2 below dominated_from whose ratio exceeds 0.1 all the same
 };
 
 struct UncertaintyResult {

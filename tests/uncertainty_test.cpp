@@ -166,6 +166,8 @@ TEST_CASE("independent vertex noise on a sphere: sigma of degree 1-4 coefficient
   // mean of the squared ratios pins the overall scale much tighter.
   const double pooled = std::accumulate(squared.begin(), squared.end(), 0.0) / double(squared.size());
   CHECK(std::abs(pooled - 1) < 4.0 * std::sqrt(2.0 / (double(settings.samples) * double(squared.size()))));
+  // The nominal sphere has no signal at degrees 1-5, so noise dominates every degree from 2 up.
+  CHECK(result.summary.dominated_from == 2);
 }
 
 TEST_CASE("correlated vertex noise on a sphere: sigma matches the first-order formula with the Gaussian "
@@ -200,6 +202,8 @@ TEST_CASE("density scale: normalized coefficients of a homogeneous body do not c
       CHECK(result.set.sigma_S(n, m) <= 1e-14);
     }
   CHECK(result.set.C(2, 0) < -0.03);  // the coefficients themselves are far from zero
+  CHECK(result.summary.dominated_from == -1);
+  CHECK(result.summary.isolated.empty());
   // GM = G rho V scales with the density; the 4-sigma truncation lowers the variance by only ~0.1%.
   const double relative = result.summary.gm_sigma / result.set.gm;
   CHECK(std::abs(relative / settings.density_sigma - 1) < 5.0 / std::sqrt(2.0 * settings.samples));

@@ -1,0 +1,314 @@
+// polystokes uncertainty / uncertainty-merge: Monte Carlo sigmas and notes for a coefficient set, in one run
+// or in shards that a batch scheduler runs anywhere and a merge step combines bit-identically.
+#include <chrono>
+#include <cstdio>
+#include <fmt/format.h>
+#include <memory>
+#include <unistd.h>
+
+#include "cli_common.h"
+#include "coefficient_file.h"
+#include "conventions.h"
+#include "errors.h"
+#include "output_file.h"
+#include "uncertainty.h"
+
+namespace polystokes::cli {
+namespace {
+
+struct InclusionOptions {
+  double radius = 0;      // mesh unit
+  double contrast = 0;    // kg/m^3
+  std::string center;     // "x,y,z" in the mesh unit
+  double offset = 0;      // mesh unit
+};
+
+struct UncertaintyCommandOptions {
+  std::vector<std::string> meshes;
+  std::vector<double> densities;
+  int degree = 8;
+  std::string unit = "m";
+  double merge_tolerance = 0;
+  double reference_radius = 0;  // mesh unit
+  std::string origin = "com";
+  std::string frame = "mesh";
+  std::string normalization = "fully";
+  bool condon_shortley = false;
+  bool zonal_as_j = false;
+  std::string body;
+  long samples = 100;
+  std::uint64_t seed = 1;
+  double shape_sigma = 0;         // mesh unit
+  double correlation_length = 0;  // mesh unit
+  double density_sigma = 0;
+  InclusionOptions core, cavity;
+  double lateral_sigma = 0;
+  int lateral_sectors = 42;
+  bool preserve_mass = false;
+  std::string shard;
+  std::string output;
+  std::string json;
+  int threads = 0;
+};
+
+struct MergeCommandOptions {
+  std::vector<std::string> shards;
+  std::string output;
+  std::string json;
+};
+
+std::function<void(long, long)> progress_printer(const GlobalOptions& global) {
+  if (global.quiet || !::isatty(STDERR_FILENO)) return {};
+  return [](long done, long total) {
+    std::fprintf(stderr, "\rpolystokes: sample %ld of %ld", done, total);
+    if (done == total) std::fprintf(stderr, "\n");
+  };
+}
+
+std::optional<Inclusion> make_inclusion(const InclusionOptions& given, bool empty, double u) {
+  const char* name = empty ? "void" : "core";
+  if (given.radius == 0) {
+    if (!given.center.empty() || given.offset != 0 || given.contrast != 0)
+      throw ConventionError(fmt::format("--{0}-center/--{0}-offset{1} need --{0}-radius", name,
+                                        empty ? "" : "/--core-contrast"));
+    return std::nullopt;
+  }
+  Inclusion inclusion;
+  inclusion.empty = empty;
+  inclusion.radius = given.radius * u;
+  if (!empty) {
+    if (given.contrast == 0) throw ConventionError("--core-radius needs --core-contrast (kg/m^3, non-zero)");
+    inclusion.contrast = given.contrast;
+  }
+  if (!given.center.empty()) inclusion.center = parse_vector3(given.center, fmt::format("--{}-center", name)) * u;
+  inclusion.offset = given.offset * u;
+  return inclusion;
+}
+
+void print_settings(std::FILE* out, const UncertaintySettings& s, const std::string& body, int degree) {
+  fmt::print(out, "polystokes uncertainty: {}\n", body);
+  fmt::print(out, "  samples            {}, seed {} (sample i draws from (seed, i): reproducible, splittable)\n",
+             s.samples, s.seed);
+  fmt::print(out, "  degree             {}\n", degree);
+  if (s.shape.sigma > 0)
+    fmt::print(out, "  shape noise        sigma {} m along vertex normals, {}\n", s.shape.sigma,
+               s.shape.correlation_length > 0 ? fmt::format("correlation length {} m", s.shape.correlation_length)
+                                              : std::string("independent per vertex"));
+  if (s.density_sigma > 0) fmt::print(out, "  density scale      relative sigma {}\n", s.density_sigma);
+  for (const auto& inclusion : s.inclusions) {
+    const Eigen::Vector3d c = *inclusion.center;
+    fmt::print(out, "  {:<18} radius {} m, {}, centre ({:.9g}, {:.9g}, {:.9g}) m{}\n",
+               inclusion.empty ? "void" : "core", inclusion.radius,
+               inclusion.empty ? std::string("empty") : fmt::format("contrast {} kg/m^3", inclusion.contrast), c.x(),
+               c.y(), c.z(), inclusion.offset > 0 ? fmt::format(", anywhere within {} m", inclusion.offset) : "");
+  }
+  if (s.lateral.sigma > 0)
+    fmt::print(out, "  lateral density    {} cones, relative sigma {}\n", s.lateral.sectors, s.lateral.sigma);
+  if (s.preserve_mass) fmt::print(out, "  mass               preserved (density outside inclusions rescaled)\n");
+}
+
+void print_summary(std::FILE* out, const UncertaintyResult& result) {
+  const UncertaintySummary& s = result.summary;
+  fmt::print(out, "  GM                 {:.12g} m^3 s^-2, sigma {:.6g} ({:.3g} relative)\n", s.gm, s.gm_sigma,
+             s.gm_sigma / s.gm);
+  fmt::print(out, "  centre of mass     RMS scatter {:.6g}, {:.6g}, {:.6g} m along the set's axes\n", s.com_sigma.x(),
+             s.com_sigma.y(), s.com_sigma.z());
+  fmt::print(out, "  Brillouin radius   {:.9g} m nominal, sampled shapes reach {:.9g} m\n",
+             result.set.brillouin_radius, s.max_brillouin_radius);
+  std::string ratios;
+  for (Eigen::Index n = 2; n < s.degree_ratio.size(); ++n) ratios += fmt::format(" {}:{:.2g}", n, s.degree_ratio(n));
+  if (!ratios.empty()) fmt::print(out, "  sigma / signal     by degree (RMS over orders){}\n", ratios);
+  std::string isolated;
+  for (const int n : s.isolated) isolated += fmt::format(" {}", n);
+  fmt::print(out, "  dominated by noise {}{}\n",
+             s.dominated_from >= 0 ? fmt::format("degrees {} to {} (sigma > 10% of the coefficients at each)",
+                                                 s.dominated_from, s.degree_ratio.size() - 1)
+                                   : std::string("no range up to the maximum degree"),
+             isolated.empty() ? std::string() : "; also degree(s)" + isolated + " (small coefficients)");
+}
+
+void write_outputs(const UncertaintyResult& result, const std::string& output, const std::string& json) {
+  write_coefficient_file(result.set, output);
+  if (!json.empty()) write_coefficient_json(result.set, json);
+}
+
+void run_uncertainty_command(const UncertaintyCommandOptions& options, const GlobalOptions& global) {
+  const auto start = std::chrono::steady_clock::now();
+  const LengthUnit unit = parse_unit_option(options.unit);
+  const double u = meters_per(unit);
+  if (options.densities.size() != options.meshes.size())
+    throw ConventionError(fmt::format("{} meshes but {} densities: give one --density per mesh, in order",
+                                      options.meshes.size(), options.densities.size()));
+  std::vector<DensityRegion> regions;
+  for (size_t i = 0; i < options.meshes.size(); ++i) {
+    const double density = options.densities[i];
+    if (!std::isfinite(density) || density == 0 || (i == 0 && density < 0))
+      throw ConventionError(fmt::format("density {} for {} must be finite and non-zero (positive for the first mesh)",
+                                        density, options.meshes[i]));
+    regions.push_back({load_checked_mesh(options.meshes[i], unit, options.merge_tolerance, global), density});
+  }
+
+  ComputeOptions compute;
+  compute.degree = options.degree;
+  compute.reference_radius = options.reference_radius * u;
+  compute.origin = options.origin == "mesh" ? OriginChoice::mesh : OriginChoice::center_of_mass;
+  compute.frame = options.frame == "principal" ? FrameChoice::principal : FrameChoice::mesh;
+  compute.convention.normalization = parse_normalization(options.normalization);
+  compute.convention.condon_shortley = options.condon_shortley;
+  compute.convention.zonal_as_j = options.zonal_as_j;
+  compute.body = options.body.empty() ? regions.front().mesh.source : options.body;
+  compute.execution.threads = options.threads;
+
+  UncertaintySettings settings;
+  settings.samples = options.samples;
+  settings.seed = options.seed;
+  settings.shape.sigma = options.shape_sigma * u;
+  settings.shape.correlation_length = options.correlation_length * u;
+  settings.density_sigma = options.density_sigma;
+  if (auto core = make_inclusion(options.core, false, u)) settings.inclusions.push_back(*core);
+  if (auto cavity = make_inclusion(options.cavity, true, u)) settings.inclusions.push_back(*cavity);
+  settings.lateral.sigma = options.lateral_sigma;
+  settings.lateral.sectors = options.lateral_sectors;
+  settings.preserve_mass = options.preserve_mass;
+  std::optional<Shard> shard;
+  if (!options.shard.empty()) {
+    shard = parse_shard(options.shard);
+    if (!options.json.empty()) throw ConventionError("--json needs the merged set: give it to uncertainty-merge");
+  }
+
+  const UncertaintyPlan plan = plan_uncertainty(regions, compute, settings);
+  SampleOptions execution;
+  execution.threads = options.threads;
+  execution.progress = progress_printer(global);
+  std::FILE* out = options.output == "-" ? stderr : stdout;
+
+  if (shard) {
+    const UncertaintyShard part = run_shard(plan, *shard, execution);
+    write_file_atomically(options.output, format_shard_text(part));
+    if (global.quiet) return;
+    print_settings(out, plan.settings, plan.nominal.body, plan.nominal.degree);
+    fmt::print(out, "  shard              {}/{}: {} of the {} samples\n", shard->index, shard->count,
+               part.samples.size(), settings.samples);
+    fmt::print(out, "  written            {} (combine all {} shards with polystokes uncertainty-merge)\n",
+               options.output, shard->count);
+  } else {
+    const UncertaintyResult result = run_uncertainty(plan, execution);
+    write_outputs(result, options.output, options.json);
+    if (global.quiet) return;
+    print_settings(out, plan.settings, plan.nominal.body, plan.nominal.degree);
+    print_summary(out, result);
+    fmt::print(out, "  written            {}{}\n", options.output, options.json.empty() ? "" : " and " + options.json);
+  }
+  const double seconds = std::chrono::duration<double>(std::chrono::steady_clock::now() - start).count();
+  fmt::print(out, "  time               {:.3f} s\n", seconds);
+  fmt::print(out, "{}\n", operational_caution());
+}
+
+void run_merge_command(const MergeCommandOptions& options, const GlobalOptions& global) {
+  std::vector<UncertaintyShard> shards;
+  for (const auto& path : options.shards) shards.push_back(parse_shard_text(read_file(path), path));
+  const UncertaintyResult result = merge_shards(shards, options.shards);
+  write_outputs(result, options.output, options.json);
+  if (global.quiet) return;
+  std::FILE* out = options.output == "-" ? stderr : stdout;
+  print_settings(out, shards.front().settings, result.set.body, result.set.degree);
+  fmt::print(out, "  merged             {} shard file(s)\n", shards.size());
+  print_summary(out, result);
+  fmt::print(out, "  written            {}{}\n", options.output, options.json.empty() ? "" : " and " + options.json);
+  fmt::print(out, "{}\n", operational_caution());
+}
+
+void add_inclusion_options(CLI::App* cmd, InclusionOptions& inclusion, bool empty) {
+  const std::string name = empty ? "void" : "core";
+  cmd->add_option("--" + name + "-radius", inclusion.radius,
+                  "Radius of a " + std::string(empty ? "spherical void (empty)" : "spherical core") + " (mesh unit)")
+      ->check(CLI::PositiveNumber);
+  if (!empty)
+    cmd->add_option("--core-contrast", inclusion.contrast,
+                    "Density added inside the core, kg/m^3 (negative: a lighter core)");
+  cmd->add_option("--" + name + "-center", inclusion.center,
+                  "Centre x,y,z in the mesh frame and unit (default: the centre of mass)");
+  cmd->add_option("--" + name + "-offset", inclusion.offset,
+                  "Draw the centre anywhere within this distance of --" + name +
+                      "-center in each sample (mesh unit; always inside the body)")
+      ->check(CLI::NonNegativeNumber);
+}
+
+}  // namespace
+
+void setup_uncertainty(CLI::App& app, const GlobalOptions& global) {
+  auto options = std::make_shared<UncertaintyCommandOptions>();
+  auto* cmd = app.add_subcommand(
+      "uncertainty",
+      "Monte Carlo sigma_C, sigma_S and uncertainty notes for the coefficients of a shape mesh.\n"
+      "Varies the shape (vertex noise), the density scale, and interior scenarios (core, void, lateral).\n"
+      "Lengths are in the mesh unit (--unit). With --shard i/k only samples i-1, i-1+k, ... are run and a\n"
+      "shard file is written; uncertainty-merge combines all k into the same set as one run.\n"
+      "Example: polystokes uncertainty body.obj --unit km --density 1900 --degree 12 --samples 200 --seed 7\n"
+      "         --shape-sigma 0.02 --correlation-length 0.3 -o body_sigma.txt");
+  cmd->add_option("meshes", options->meshes, "Shape mesh(es): .obj, .off, .ply, .stl")->required()->check(CLI::ExistingFile);
+  cmd->add_option("--density", options->densities, "Density per mesh in kg/m^3 (repeat or list, in mesh order)")
+      ->required()->expected(1, -1);
+  cmd->add_option("--degree", options->degree, "Maximum degree")->check(CLI::NonNegativeNumber)->capture_default_str();
+  cmd->add_option("--unit", options->unit, "Length unit of the mesh files and of every length option: m or km")
+      ->check(CLI::IsMember({"m", "km"}))->capture_default_str();
+  cmd->add_option("--merge-tolerance", options->merge_tolerance,
+                  "Merge vertices closer than this (mesh unit); exact duplicates are always merged")
+      ->check(CLI::NonNegativeNumber);
+  cmd->add_option("--ref-radius", options->reference_radius,
+                  "Reference radius in the mesh unit (default: Brillouin radius about the origin)")
+      ->check(CLI::PositiveNumber);
+  cmd->add_option("--origin", options->origin, "Expansion origin: com (centre of mass) or mesh (mesh origin)")
+      ->check(CLI::IsMember({"com", "mesh"}))->capture_default_str();
+  cmd->add_option("--frame", options->frame, "Axes: mesh or principal (principal axes of inertia)")
+      ->check(CLI::IsMember({"mesh", "principal"}))->capture_default_str();
+  cmd->add_option("--normalization", options->normalization, "fully (4pi), unnormalized, schmidt or orthonormal")
+      ->check(CLI::IsMember({"fully", "unnormalized", "schmidt", "orthonormal"}))->capture_default_str();
+  cmd->add_flag("--condon-shortley", options->condon_shortley, "Include the (-1)^m Condon-Shortley phase");
+  cmd->add_flag("--zonal-j", options->zonal_as_j, "Write zonal terms as J_n = -C_n0");
+  cmd->add_option("--body", options->body, "Body label written into the set (default: first mesh file name)");
+  cmd->add_option("--samples", options->samples, "Number of Monte Carlo samples (>= 2)")
+      ->check(CLI::Range(2L, 100000000L))->capture_default_str();
+  cmd->add_option("--seed", options->seed, "Random seed (recorded in the set)")->capture_default_str();
+  cmd->add_option("--shape-sigma", options->shape_sigma,
+                  "Standard deviation of each vertex's displacement along its normal (mesh unit)")
+      ->check(CLI::NonNegativeNumber);
+  cmd->add_option("--correlation-length", options->correlation_length,
+                  "Correlation length L of the shape noise, covariance sigma^2 exp(-d^2/(2L^2)) (mesh unit; "
+                  "0 = independent vertices)")
+      ->check(CLI::NonNegativeNumber);
+  cmd->add_option("--density-sigma", options->density_sigma,
+                  "Relative standard deviation of the density scale, hence of GM (< 0.25)")
+      ->check(CLI::NonNegativeNumber);
+  add_inclusion_options(cmd, options->core, false);
+  add_inclusion_options(cmd, options->cavity, true);
+  cmd->add_option("--lateral-sigma", options->lateral_sigma,
+                  "Relative density sigma of each cone from the origin (random lateral variation, < 0.25)")
+      ->check(CLI::NonNegativeNumber);
+  cmd->add_option("--lateral-sectors", options->lateral_sectors, "Number of cones: 12, 42, 162, 642 or 2562")
+      ->check(CLI::IsMember({12, 42, 162, 642, 2562}))->capture_default_str();
+  cmd->add_flag("--preserve-mass", options->preserve_mass,
+                "Keep each sample's mass: the density outside cores and voids is rescaled (GM known)");
+  cmd->add_option("--shard", options->shard, "Run only shard i of k (i = 1..k) and write a shard file to -o");
+  cmd->add_option("-o,--output", options->output, "Coefficient file (or shard file with --shard) to write")
+      ->required();
+  cmd->add_option("--json", options->json, "Also write the set as JSON to this file");
+  cmd->add_option("--threads", options->threads, "Worker threads (0 = all cores); results do not depend on it")
+      ->check(CLI::NonNegativeNumber)->capture_default_str();
+  cmd->callback([options, &global]() { run_uncertainty_command(*options, global); });
+
+  auto merge_options = std::make_shared<MergeCommandOptions>();
+  auto* merge = app.add_subcommand(
+      "uncertainty-merge",
+      "Combine the shard files of one `uncertainty --shard i/k` run into the coefficient set with sigmas.\n"
+      "All shards must come from the same mesh and settings and together hold every sample exactly once;\n"
+      "the result is bit-identical to a single run with the same seed and sample count.\n"
+      "Example: polystokes uncertainty-merge part1.shard part2.shard part3.shard -o body_sigma.txt");
+  merge->add_option("shards", merge_options->shards, "Shard files, in any order")->required()->check(CLI::ExistingFile);
+  merge->add_option("-o,--output", merge_options->output, "Coefficient file to write (our text format; - for stdout)")
+      ->required();
+  merge->add_option("--json", merge_options->json, "Also write the set as JSON to this file");
+  merge->callback([merge_options, &global]() { run_merge_command(*merge_options, global); });
+}
+
+}  // namespace polystokes::cli
