@@ -3,12 +3,13 @@
 #include <CGAL/Exact_predicates_inexact_constructions_kernel.h>
 #include <CGAL/Polygon_mesh_processing/self_intersections.h>
 #include <CGAL/Surface_mesh.h>
+#include <fmt/format.h>
+
 #include <Eigen/Geometry>
 #include <algorithm>
 #include <climits>
 #include <cmath>
 #include <cstdint>
-#include <fmt/format.h>
 #include <numeric>
 
 #include "errors.h"
@@ -75,11 +76,13 @@ class Context {
       for (int f = 0; f < face_count(); ++f)
         for (int k = 0; k < 3; ++k) {
           const int a = corner(f, k), b = corner(f, (k + 1) % 3);
-          const auto lo = static_cast<std::uint64_t>(std::min(a, b)), hi = static_cast<std::uint64_t>(std::max(a, b));
+          const auto lo = static_cast<std::uint64_t>(std::min(a, b)),
+                     hi = static_cast<std::uint64_t>(std::max(a, b));
           edges_.push_back({lo << 32 | hi, f, a, b});
         }
-      std::sort(edges_.begin(), edges_.end(),
-                [](const EdgeUse& x, const EdgeUse& y) { return x.key != y.key ? x.key < y.key : x.face < y.face; });
+      std::sort(edges_.begin(), edges_.end(), [](const EdgeUse& x, const EdgeUse& y) {
+        return x.key != y.key ? x.key < y.key : x.face < y.face;
+      });
       for (size_t i = 0; i < edges_.size();) {
         size_t j = i + 1;
         while (j < edges_.size() && edges_[j].key == edges_[i].key) ++j;
@@ -99,7 +102,9 @@ class Context {
   std::vector<std::pair<size_t, size_t>> runs_;
 };
 
-std::string edge_text(const EdgeUse& e) { return fmt::format("edge ({}, {}) of face {}", e.from, e.to, e.face); }
+std::string edge_text(const EdgeUse& e) {
+  return fmt::format("edge ({}, {}) of face {}", e.from, e.to, e.face);
+}
 
 MeshCheck check_valid_indices(Context& c) {
   const long vertices = c.mesh.vertices.rows();
@@ -139,7 +144,8 @@ MeshCheck check_degenerate(Context& c) {
     const int a = c.corner(f, 0), b = c.corner(f, 1), d = c.corner(f, 2);
     const double area = 0.5 * (c.vertex(b) - c.vertex(a)).cross(c.vertex(d) - c.vertex(a)).norm();
     if (a == b || b == d || d == a || !(area > threshold))
-      tally.add(f, [&] { return fmt::format("face {} (vertices {}, {}, {}, area {:.3g} m^2)", f, a, b, d, area); });
+      tally.add(
+          f, [&] { return fmt::format("face {} (vertices {}, {}, {}, area {:.3g} m^2)", f, a, b, d, area); });
   }
   return tally.result("no_degenerate_faces");
 }
@@ -159,9 +165,11 @@ MeshCheck check_edge_manifold(Context& c) {
     if (end - begin <= 2) continue;
     tally.add(edges[begin].face, [&, begin = begin, end = end] {
       std::string faces;
-      for (size_t i = begin; i < end && i < begin + 4; ++i) faces += (i > begin ? ", " : "") + std::to_string(edges[i].face);
+      for (size_t i = begin; i < end && i < begin + 4; ++i)
+        faces += (i > begin ? ", " : "") + std::to_string(edges[i].face);
       if (end - begin > 4) faces += ", ...";
-      return fmt::format("edge ({}, {}) shared by {} faces ({})", edges[begin].from, edges[begin].to, end - begin, faces);
+      return fmt::format("edge ({}, {}) shared by {} faces ({})", edges[begin].from, edges[begin].to,
+                         end - begin, faces);
     });
   }
   return tally.result("edge_manifold");
@@ -175,8 +183,10 @@ MeshCheck check_vertex_manifold(Context& c) {
   std::vector<Corner> corners;
   corners.reserve(3 * static_cast<size_t>(c.face_count()));
   for (int f = 0; f < c.face_count(); ++f)
-    for (int k = 0; k < 3; ++k) corners.push_back({c.corner(f, k), c.corner(f, (k + 1) % 3), c.corner(f, (k + 2) % 3)});
-  std::sort(corners.begin(), corners.end(), [](const Corner& a, const Corner& b) { return a.vertex < b.vertex; });
+    for (int k = 0; k < 3; ++k)
+      corners.push_back({c.corner(f, k), c.corner(f, (k + 1) % 3), c.corner(f, (k + 2) % 3)});
+  std::sort(corners.begin(), corners.end(),
+            [](const Corner& a, const Corner& b) { return a.vertex < b.vertex; });
   Tally tally;
   std::vector<int> link;
   for (size_t i = 0; i < corners.size();) {
@@ -190,7 +200,9 @@ MeshCheck check_vertex_manifold(Context& c) {
     std::sort(link.begin(), link.end());
     link.erase(std::unique(link.begin(), link.end()), link.end());
     DisjointSets sets(link.size());
-    auto position = [&](int v) { return static_cast<int>(std::lower_bound(link.begin(), link.end(), v) - link.begin()); };
+    auto position = [&](int v) {
+      return static_cast<int>(std::lower_bound(link.begin(), link.end(), v) - link.begin());
+    };
     for (size_t k = i; k < j; ++k) sets.unite(position(corners[k].next), position(corners[k].prev));
     int fans = 0;
     for (size_t k = 0; k < link.size(); ++k) fans += sets.find(static_cast<int>(k)) == static_cast<int>(k);
@@ -212,7 +224,7 @@ MeshCheck check_consistently_oriented(Context& c) {
     const EdgeUse& b = edges[begin + 1];
     if (a.from == b.from)
       tally.add(a.face, [&] {
-        return fmt::format("edge ({}, {}) run in the same direction by faces {} and {}", a.from, a.to, a.face, b.face);
+        return fmt::format("edge ({}, {}) of faces {} and {}", a.from, a.to, a.face, b.face);
       });
   }
   return tally.result("consistently_oriented");
@@ -228,10 +240,12 @@ MeshCheck check_self_intersections(Context& c) {
   for (Eigen::Index v = 0; v < c.mesh.vertices.rows(); ++v)
     surface.add_vertex(Kernel::Point_3(c.mesh.vertices(v, 0), c.mesh.vertices(v, 1), c.mesh.vertices(v, 2)));
   for (int f = 0; f < c.face_count(); ++f) {
-    const auto added = surface.add_face(SurfaceMesh::Vertex_index(c.corner(f, 0)), SurfaceMesh::Vertex_index(c.corner(f, 1)),
-                                        SurfaceMesh::Vertex_index(c.corner(f, 2)));
+    const auto added =
+        surface.add_face(SurfaceMesh::Vertex_index(c.corner(f, 0)), SurfaceMesh::Vertex_index(c.corner(f, 1)),
+                         SurfaceMesh::Vertex_index(c.corner(f, 2)));
     if (added == SurfaceMesh::null_face())
-      return {"no_self_intersections", false, 0, fmt::format("not run: face {} cannot join a surface mesh", f), false};
+      return {"no_self_intersections", false, 0,
+              fmt::format("not run: face {} cannot join a surface mesh", f), false};
   }
   std::vector<std::pair<SurfaceMesh::Face_index, SurfaceMesh::Face_index>> pairs;
   CGAL::Polygon_mesh_processing::self_intersections(surface, std::back_inserter(pairs));
@@ -293,7 +307,8 @@ OrientationResult check_outward(Context& c) {
   for (Component& part : components) {
     const Point o = part.box.center();
     for (int f : part.faces) {
-      const Point a = c.vertex(c.corner(f, 0)) - o, b = c.vertex(c.corner(f, 1)) - o, d = c.vertex(c.corner(f, 2)) - o;
+      const Point a = c.vertex(c.corner(f, 0)) - o, b = c.vertex(c.corner(f, 1)) - o,
+                  d = c.vertex(c.corner(f, 2)) - o;
       part.volume += a.dot(b.cross(d)) / 6.0;
     }
     out.volume += part.volume;
@@ -307,7 +322,8 @@ OrientationResult check_outward(Context& c) {
     const double diagonal = part.box.diagonal().norm();
     if (!(std::abs(part.volume) > kZeroVolumeTolerance * diagonal * diagonal * diagonal)) {
       tally.add(first, [&] {
-        return fmt::format("component containing face {} encloses no volume ({:.6g} m^3)", first, part.volume);
+        return fmt::format("component containing face {} encloses no volume ({:.6g} m^3)", first,
+                           part.volume);
       });
       continue;
     }
@@ -325,17 +341,21 @@ OrientationResult check_outward(Context& c) {
     if (std::min(outer, inner) == -1 && std::max(outer, inner) == 0) ++inverted;
     tally.add(first, [&] {
       if (outer == 0 && inner == -1)
-        return fmt::format("component containing face {} is inside-out (signed volume {:.6g} m^3)", first, part.volume);
+        return fmt::format("component containing face {} is inside-out (signed volume {:.6g} m^3)", first,
+                           part.volume);
       if (inner == 2)
-        return fmt::format("component containing face {} lies inside another body, so the solids overlap", first);
-      return fmt::format("component containing face {} bounds a region covered {} times (expected 0 or 1)", first,
-                         inner);
+        return fmt::format("component containing face {} lies inside another body, so the solids overlap",
+                           first);
+      return fmt::format("component containing face {} bounds a region covered {} times (expected 0 or 1)",
+                         first, inner);
     });
   }
-  out.whole_mesh_inverted = tally.count > 0 && inverted == tally.count && inverted == static_cast<long>(components.size());
+  out.whole_mesh_inverted =
+      tally.count > 0 && inverted == tally.count && inverted == static_cast<long>(components.size());
   out.check = tally.result("outward_oriented");
   if (out.whole_mesh_inverted)
-    out.check.first_offender = fmt::format("the whole mesh is inside-out (signed volume {:.6g} m^3)", out.volume);
+    out.check.first_offender =
+        fmt::format("the whole mesh is inside-out (signed volume {:.6g} m^3)", out.volume);
   return out;
 }
 
@@ -371,15 +391,17 @@ MeshCheckReport run_checks(const Mesh& mesh, Mesh* fix) {
   run("consistently_oriented", {"valid_indices"}, [&] { return check_consistently_oriented(context); });
   run("no_self_intersections", {"finite", "edge_manifold", "vertex_manifold", "consistently_oriented"},
       [&] { return check_self_intersections(context); });
-  run("outward_oriented", {"finite", "closed", "edge_manifold", "vertex_manifold", "consistently_oriented",
-                           "no_self_intersections"},
+  run("outward_oriented",
+      {"finite", "closed", "edge_manifold", "vertex_manifold", "consistently_oriented",
+       "no_self_intersections"},
       [&] {
         OrientationResult orientation = check_outward(context);
         report.signed_volume = orientation.volume;
         if (validate && orientation.whole_mesh_inverted) {
           fix->faces.col(1).swap(fix->faces.col(2));
-          fix->notices.push_back(fmt::format("reversed all {} faces: the mesh was inside-out (signed volume {:.6g} m^3)",
-                                             fix->faces.rows(), orientation.volume));
+          fix->notices.push_back(
+              fmt::format("reversed all {} faces: the mesh was inside-out (signed volume {:.6g} m^3)",
+                          fix->faces.rows(), orientation.volume));
           report.flipped = true;
           report.signed_volume = -orientation.volume;
           return MeshCheck{"outward_oriented", true, 0, "", true};
@@ -412,7 +434,8 @@ std::string describe(const MeshCheck& check) {
   };
   for (const Noun& noun : nouns)
     if (check.name == noun.name)
-      return fmt::format("{} {}, first {}", check.count, check.count == 1 ? noun.one : noun.many, check.first_offender);
+      return fmt::format("{} {}, first {}", check.count, check.count == 1 ? noun.one : noun.many,
+                         check.first_offender);
   return fmt::format("{} offenders, first {}", check.count, check.first_offender);
 }
 

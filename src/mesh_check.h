@@ -1,5 +1,6 @@
 // Checks that a triangle mesh bounds a solid (finite, non-degenerate, closed, manifold, consistently and
-// outward oriented, free of self-intersections), for `inspect` reports and as the gate before any computation.
+// outward oriented, free of self-intersections), for `inspect` reports and as the gate before any
+// computation.
 #pragma once
 
 #include <string>
@@ -12,17 +13,19 @@ namespace polystokes {
 /// Outcome of one check. Vertex, face and edge numbers are zero-based rows of Mesh::vertices / Mesh::faces
 /// (after import's welding, so they need not match the file's numbering).
 struct MeshCheck {
-  std::string name;            ///< e.g. "closed"
+  std::string name;  ///< e.g. "closed"
   bool passed = false;
-  long count = 0;              ///< offending vertices, faces, edges, face pairs or components
-  std::string first_offender;  ///< e.g. "edge (4, 17) of face 9"; the offender with the lowest face/vertex number
-  bool ran = true;             ///< false if skipped because a check it needs failed (then passed is false)
+  long count = 0;  ///< offending vertices, faces, edges, face pairs or components
+  /// e.g. "edge (4, 17) of face 9": the offender with the lowest face or vertex number
+  std::string first_offender;
+  bool ran = true;  ///< false if skipped because a check it needs failed (then passed is false)
 };
 
 struct MeshCheckReport {
   std::vector<MeshCheck> checks;  ///< in the order listed below
   bool flipped = false;           ///< validate_mesh reversed every face of an inside-out mesh
-  double signed_volume = 0;       ///< sum of the components' signed volumes, m^3 (after any flip)
+  /// Sum of the components' signed volumes, m^3, after any flip; 0 if outward_oriented did not run.
+  double signed_volume = 0;
 };
 
 /// Runs, in this order:

@@ -1,11 +1,13 @@
 #include "mesh_io.h"
 
-#include <openssl/evp.h>
-
 #include <CGAL/Exact_predicates_inexact_constructions_kernel.h>
 #include <CGAL/IO/OFF.h>
 #include <CGAL/IO/PLY.h>
 #include <CGAL/IO/STL.h>
+#include <fmt/format.h>
+#include <openssl/evp.h>
+#include <tiny_obj_loader.h>
+
 #include <Eigen/Geometry>
 #include <algorithm>
 #include <array>
@@ -14,12 +16,9 @@
 #include <cstdint>
 #include <cstring>
 #include <filesystem>
-#include <fmt/format.h>
-#include <fstream>
 #include <limits>
 #include <sstream>
 #include <string_view>
-#include <tiny_obj_loader.h>
 #include <type_traits>
 #include <unordered_map>
 
@@ -80,7 +79,8 @@ double parse_coordinate(const std::string& path, long line, std::string_view tok
   double value = 0;
   const auto [end, ec] = std::from_chars(digits.data(), digits.data() + digits.size(), value);
   if (ec == std::errc::result_out_of_range)
-    throw format_error(path, line, fmt::format("vertex coordinate '{}' is not representable as a double", token));
+    throw format_error(path, line,
+                       fmt::format("vertex coordinate '{}' is not representable as a double", token));
   if (ec != std::errc() || end != digits.data() + digits.size())
     throw format_error(path, line, fmt::format("cannot parse vertex coordinate '{}'", token));
   return value;
@@ -148,14 +148,14 @@ Soup parse_obj(const std::string& path, const std::string& bytes) {
       for (int k = 0; k < 3; ++k) p[k] = parse_coordinate(path, line_number, tokens[k + 1]);
       if (!p.allFinite())
         throw format_error(path, line_number,
-                           fmt::format("vertex {} has a non-finite coordinate ({} {} {})", soup.points.size() + 1,
-                                       tokens[1], tokens[2], tokens[3]));
+                           fmt::format("vertex {} has a non-finite coordinate ({} {} {})",
+                                       soup.points.size() + 1, tokens[1], tokens[2], tokens[3]));
       soup.points.push_back(p);
     } else if (tokens[0] == "f") {
       if (tokens.size() < 4)
         throw format_error(path, line_number,
-                           fmt::format("face {} has {} vertices, a face needs at least 3", face_lines.size() + 1,
-                                       tokens.size() - 1));
+                           fmt::format("face {} has {} vertices, a face needs at least 3",
+                                       face_lines.size() + 1, tokens.size() - 1));
       face_lines.push_back(line_number);
     }
   }
@@ -173,7 +173,8 @@ Soup parse_obj(const std::string& path, const std::string& bytes) {
     throw format_error(path, 0, "cannot parse OBJ: " + first);
   }
   if (!faces.first_error.empty()) throw FormatError(faces.first_error);
-  if (faces.vertex_count != static_cast<long>(soup.points.size()) || faces.polygons.size() != face_lines.size())
+  if (faces.vertex_count != static_cast<long>(soup.points.size()) ||
+      faces.polygons.size() != face_lines.size())
     throw format_error(path, 0,
                        "OBJ records could not be matched to lines (line continuations and lone carriage "
                        "returns as line ends are not supported)");
@@ -194,7 +195,8 @@ void check_binary_stl_finite(const std::string& path, const std::string& bytes) 
       float value;
       std::memcpy(&value, bytes.data() + 84 + 50 * static_cast<size_t>(f) + 12 + 4 * k, 4);
       if (!std::isfinite(value))
-        throw format_error(path, 0, fmt::format("facet {} of {} has a non-finite vertex coordinate", f + 1, facets));
+        throw format_error(path, 0,
+                           fmt::format("facet {} of {} has a non-finite vertex coordinate", f + 1, facets));
     }
   }
 }
@@ -212,7 +214,8 @@ Soup parse_with_cgal(const std::string& path, const std::string& bytes, const st
     ok = CGAL::IO::read_OFF(in, points, polygons, CGAL::parameters::verbose(false));
   } else if (ext == ".ply") {
     format = "PLY";
-    CGAL::IO::set_mode(in, CGAL::IO::BINARY);  // as CGAL's own file overload does; the header picks ascii/binary
+    CGAL::IO::set_mode(in,
+                       CGAL::IO::BINARY);  // as CGAL's own file overload does; the header picks ascii/binary
     ok = CGAL::IO::read_PLY(in, points, polygons, CGAL::parameters::verbose(false));
   } else {
     format = "STL";
@@ -220,9 +223,10 @@ Soup parse_with_cgal(const std::string& path, const std::string& bytes, const st
     ok = CGAL::IO::read_STL(in, points, polygons, CGAL::parameters::verbose(false));
   }
   if (!ok)
-    throw format_error(path, 0,
-                       "cannot parse " + format +
-                           " data (malformed header or counts, a non-numeric value, or a vertex index out of range)");
+    throw format_error(
+        path, 0,
+        "cannot parse " + format +
+            " data (malformed header or counts, a non-numeric value, or a vertex index out of range)");
   Soup soup;
   soup.points.reserve(points.size());
   for (const auto& p : points) soup.points.emplace_back(p.x(), p.y(), p.z());
@@ -240,8 +244,8 @@ void check_soup(const std::string& path, const Soup& soup) {
     const Point& p = soup.points[static_cast<size_t>(i)];
     if (!p.allFinite())
       throw format_error(path, 0,
-                         fmt::format("vertex {} of {} has a non-finite coordinate ({}, {}, {})", i + 1, n, p.x(),
-                                     p.y(), p.z()));
+                         fmt::format("vertex {} of {} has a non-finite coordinate ({}, {}, {})", i + 1, n,
+                                     p.x(), p.y(), p.z()));
   }
   const size_t faces = soup.polygons.size();
   for (size_t f = 0; f < faces; ++f) {
@@ -252,9 +256,10 @@ void check_soup(const std::string& path, const Soup& soup) {
                                      polygon.size()));
     for (long index : polygon)
       if (index < 0 || index >= n)
-        throw format_error(path, 0,
-                           fmt::format("face {} of {} refers to vertex index {}, but the file has {} vertices",
-                                       f + 1, faces, index, n));
+        throw format_error(
+            path, 0,
+            fmt::format("face {} of {} refers to vertex index {}, but the file has {} vertices", f + 1, faces,
+                        index, n));
   }
 }
 
@@ -263,7 +268,8 @@ void check_soup(const std::string& path, const Soup& soup) {
 /// contain no other polygon vertex (boundary included), so no zero-area triangles are made.
 /// Returns false if no such decomposition is found (self-overlapping or degenerate polygon).
 /// O(n^3) worst case in the polygon size, which is fine for the small polygons of shape files.
-bool ear_clip(const std::vector<Point>& points, const std::vector<long>& polygon, std::vector<Triangle>& out) {
+bool ear_clip(const std::vector<Point>& points, const std::vector<long>& polygon,
+              std::vector<Triangle>& out) {
   const size_t n = polygon.size();
   Point normal = Point::Zero();
   for (size_t i = 0; i < n; ++i) {
@@ -290,7 +296,8 @@ bool ear_clip(const std::vector<Point>& points, const std::vector<long>& polygon
   while (ring.size() > 3) {
     bool clipped = false;
     for (size_t k = 0; k < ring.size() && !clipped; ++k) {
-      const size_t a = ring[(k + ring.size() - 1) % ring.size()], b = ring[k], c = ring[(k + 1) % ring.size()];
+      const size_t a = ring[(k + ring.size() - 1) % ring.size()], b = ring[k],
+                   c = ring[(k + 1) % ring.size()];
       if (!(cross(a, b, c) > 0)) continue;
       bool empty = true;
       for (size_t other : ring) {
@@ -358,7 +365,8 @@ std::vector<long> weld(const std::vector<Point>& points, double tolerance, std::
           const auto it = grid.find({cell[0] + dx, cell[1] + dy, cell[2] + dz});
           if (it == grid.end()) continue;
           for (long candidate : it->second)
-            if ((best < 0 || candidate < best) && (kept[static_cast<size_t>(candidate)] - p).norm() <= tolerance)
+            if ((best < 0 || candidate < best) &&
+                (kept[static_cast<size_t>(candidate)] - p).norm() <= tolerance)
               best = candidate;
         }
     if (best < 0) {
@@ -389,9 +397,10 @@ Mesh build_mesh(const std::string& path, const Soup& soup, const MeshReadOptions
       continue;
     }
     if (!ear_clip(soup.points, polygon, triangles))
-      throw mesh_error(path, fmt::format("face {} ({} vertices) cannot be split into triangles: it is degenerate or "
-                                         "overlaps itself",
-                                         f + 1, polygon.size()));
+      throw mesh_error(
+          path, fmt::format("face {} ({} vertices) cannot be split into triangles: it is degenerate or "
+                            "overlaps itself",
+                            f + 1, polygon.size()));
     ++split;
   }
   if (split > 0)
@@ -444,7 +453,8 @@ Mesh build_mesh(const std::string& path, const Soup& soup, const MeshReadOptions
     if (r == 0) r = used++;
   const long unused = static_cast<long>(welded.size()) - used;
   if (unused > 0)
-    mesh.notices.push_back(fmt::format("dropped {} not used by any face", plural(unused, "vertex", "vertices")));
+    mesh.notices.push_back(
+        fmt::format("dropped {} not used by any face", plural(unused, "vertex", "vertices")));
 
   const double scale = meters_per(options.unit);
   mesh.vertices.resize(used, 3);
@@ -453,7 +463,8 @@ Mesh build_mesh(const std::string& path, const Soup& soup, const MeshReadOptions
   mesh.faces.resize(static_cast<Eigen::Index>(kept_faces.size()), 3);
   for (size_t f = 0; f < kept_faces.size(); ++f)
     for (int k = 0; k < 3; ++k)
-      mesh.faces(static_cast<Eigen::Index>(f), k) = static_cast<int>(renumber[static_cast<size_t>(kept_faces[f][k])]);
+      mesh.faces(static_cast<Eigen::Index>(f), k) =
+          static_cast<int>(renumber[static_cast<size_t>(kept_faces[f][k])]);
   return mesh;
 }
 
@@ -461,7 +472,8 @@ Mesh build_mesh(const std::string& path, const Soup& soup, const MeshReadOptions
 
 Mesh read_mesh(const std::string& path, const MeshReadOptions& options) {
   if (!(options.merge_tolerance >= 0) || !std::isfinite(options.merge_tolerance))
-    throw ConventionError(fmt::format("merge tolerance must be finite and >= 0, got {}", options.merge_tolerance));
+    throw ConventionError(
+        fmt::format("merge tolerance must be finite and >= 0, got {}", options.merge_tolerance));
   const std::string bytes = read_file(path);
   const std::string ext = lower_extension(path);
   if (ext != ".obj" && ext != ".off" && ext != ".ply" && ext != ".stl")
@@ -487,8 +499,8 @@ void write_obj(const Mesh& mesh, const std::string& path, LengthUnit unit) {
   fmt::format_to(std::back_inserter(text), "# {} vertices ({}), {} triangles\n", mesh.vertices.rows(),
                  to_string(unit), mesh.faces.rows());
   for (Eigen::Index i = 0; i < mesh.vertices.rows(); ++i)
-    fmt::format_to(std::back_inserter(text), "v {} {} {}\n", mesh.vertices(i, 0) * scale, mesh.vertices(i, 1) * scale,
-                   mesh.vertices(i, 2) * scale);
+    fmt::format_to(std::back_inserter(text), "v {} {} {}\n", mesh.vertices(i, 0) * scale,
+                   mesh.vertices(i, 1) * scale, mesh.vertices(i, 2) * scale);
   for (Eigen::Index f = 0; f < mesh.faces.rows(); ++f)
     fmt::format_to(std::back_inserter(text), "f {} {} {}\n", mesh.faces(f, 0) + 1, mesh.faces(f, 1) + 1,
                    mesh.faces(f, 2) + 1);

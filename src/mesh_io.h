@@ -1,5 +1,6 @@
 // Reading shape meshes (OBJ, OFF, PLY, STL) into a welded triangle Mesh in metres, and writing OBJ.
-// Import repairs only what is unambiguous (duplicate vertices, unused vertices, polygon faces); mesh_check judges the rest.
+// Import repairs only what is unambiguous (duplicate vertices, unused vertices, polygon faces); mesh_check
+// judges the rest.
 #pragma once
 
 #include <string>
@@ -23,11 +24,11 @@ struct MeshReadOptions {
 /// keeping their orientation (any simple, roughly planar polygon, convex or not).
 /// Then: duplicate vertices are merged (notice), faces collapsed by a positive merge tolerance are
 /// dropped (notice), vertices used by no face are dropped (notice). Kept vertices stay in file order, but
-/// their numbers refer to the welded mesh, not to the file. Sets source = path, unit, checksum = SHA-256 of the file bytes.
-/// Throws MeshError (empty file, unknown extension, no faces, polygon that cannot be split) or FormatError
-/// (missing or unreadable file, unparsable content, non-finite coordinate, face with < 3 vertices, vertex
-/// index out of range); the message is
-/// one line naming the file and, where the format allows, the line and face.
+/// their numbers refer to the welded mesh, not to the file. Sets source = path, unit, checksum = SHA-256 of
+/// the file bytes. Throws MeshError (empty file, unknown extension, no faces, polygon that cannot be split)
+/// or FormatError (missing or unreadable file, unparsable content, non-finite coordinate, face with < 3
+/// vertices, vertex index out of range); the message is one line naming the file and, where the format
+/// allows, the line and face.
 Mesh read_mesh(const std::string& path, const MeshReadOptions& options = {});
 
 /// Writes `mesh` as OBJ ("v x y z" in `unit`, one-based "f i j k"), coordinates in the shortest form

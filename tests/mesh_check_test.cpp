@@ -1,8 +1,8 @@
 #include "mesh_check.h"
 
+#include <Eigen/Geometry>
 #include <chrono>
 #include <cmath>
-#include <Eigen/Geometry>
 #include <limits>
 #include <random>
 
@@ -65,11 +65,14 @@ Mesh welded(const Mesh& mesh) {
 
 Mesh read_fixture(const std::string& name) { return read_mesh(source_path("tests/data/" + name), {}); }
 
-bool contains(const std::string& text, const std::string& part) { return text.find(part) != std::string::npos; }
+bool contains(const std::string& text, const std::string& part) {
+  return text.find(part) != std::string::npos;
+}
 
 }  // namespace
 
-TEST_CASE("Generated closed shapes pass every check; box volume is a*b*c (elementary geometry)", "[mesh_check]") {
+TEST_CASE("Generated closed shapes pass every check; box volume is a*b*c (elementary geometry)",
+          "[mesh_check]") {
   Mesh box = make_box(2, 3, 4);
   const MeshCheckReport report = validate_mesh(box);
   require_all_passed(report);
@@ -82,8 +85,9 @@ TEST_CASE("Generated closed shapes pass every check; box volume is a*b*c (elemen
   require_all_passed(inspect_mesh(make_icosphere(2)));
 }
 
-TEST_CASE("Icosphere volume lies just below 4/3 pi (inscribed polyhedron of the unit sphere, elementary geometry)",
-          "[mesh_check]") {
+TEST_CASE(
+    "Icosphere volume lies just below 4/3 pi (inscribed polyhedron of the unit sphere, elementary geometry)",
+    "[mesh_check]") {
   Mesh sphere = make_icosphere(4);
   const double volume = validate_mesh(sphere).signed_volume;
   const double ball = 4.0 / 3.0 * M_PI;
@@ -131,25 +135,29 @@ TEST_CASE("Two boxes sharing an edge fail 'edge_manifold' (four faces on one edg
   // lowest face on it, as triangle 7 running 7 -> 3.
   const std::string message = validation_error(read_fixture("nonmanifold_edge.obj"));
   CAPTURE(message);
-  REQUIRE(contains(message, "nonmanifold_edge.obj: mesh check 'edge_manifold' failed: 1 edge shared by more than two "
-                            "faces, first edge (7, 3) shared by 4 faces"));
+  REQUIRE(contains(message,
+                   "nonmanifold_edge.obj: mesh check 'edge_manifold' failed: 1 edge shared by more than two "
+                   "faces, first edge (7, 3) shared by 4 faces"));
 }
 
 TEST_CASE("Two boxes touching at one corner fail 'vertex_manifold'", "[mesh_check]") {
-  const Mesh pair = welded(merged(shifted(make_box(1, 1, 1), 0.5, 0.5, 0.5), shifted(make_box(1, 1, 1), 1.5, 1.5, 1.5)));
+  const Mesh pair =
+      welded(merged(shifted(make_box(1, 1, 1), 0.5, 0.5, 0.5), shifted(make_box(1, 1, 1), 1.5, 1.5, 1.5)));
   REQUIRE(pair.vertices.rows() == 15);
   const std::string message = validation_error(pair);
   CAPTURE(message);
-  REQUIRE(contains(message, "mesh check 'vertex_manifold' failed: 1 non-manifold vertex, first vertex 7 (its faces "
-                            "form 2 separate fans)"));
+  REQUIRE(contains(message,
+                   "mesh check 'vertex_manifold' failed: 1 non-manifold vertex, first vertex 7 (its faces "
+                   "form 2 separate fans)"));
 }
 
 TEST_CASE("A face run the wrong way fails 'consistently_oriented'", "[mesh_check]") {
   const std::string message = validation_error(read_fixture("flipped_face.obj"));
   CAPTURE(message);
   // The reversed top quad splits into two triangles, so its four outer edges are each run twice the same way.
-  REQUIRE(contains(message, "flipped_face.obj: mesh check 'consistently_oriented' failed: 4 edges run in the same "
-                            "direction by both their faces, first edge"));
+  REQUIRE(contains(message,
+                   "flipped_face.obj: mesh check 'consistently_oriented' failed: 4 edges run in the same "
+                   "direction by both their faces, first edge"));
   Mesh box = make_box(1, 1, 1);
   std::swap(box.faces(0, 1), box.faces(0, 2));
   REQUIRE(contains(validation_error(box), "mesh check 'consistently_oriented' failed: 3 edges"));
@@ -176,36 +184,61 @@ TEST_CASE("Zero-area faces fail 'no_degenerate_faces'", "[mesh_check]") {
   // The fixture's sliver is its fifth face record; the two quads before it become two triangles each.
   const std::string message = validation_error(read_fixture("degenerate_face.obj"));
   CAPTURE(message);
-  REQUIRE(contains(message, "degenerate_face.obj: mesh check 'no_degenerate_faces' failed: 1 degenerate face, first "
-                            "face 7 (vertices 0, 8, 1, area 0 m^2)"));
+  REQUIRE(contains(message,
+                   "degenerate_face.obj: mesh check 'no_degenerate_faces' failed: 1 degenerate face, first "
+                   "face 7 (vertices 0, 8, 1, area 0 m^2)"));
   Mesh box = make_box(1, 1, 1);
   box.faces(5, 2) = box.faces(5, 0);
-  REQUIRE(contains(validation_error(box), "mesh check 'no_degenerate_faces' failed: 1 degenerate face, first face 5"));
+  REQUIRE(contains(validation_error(box),
+                   "mesh check 'no_degenerate_faces' failed: 1 degenerate face, first face 5"));
 }
 
 TEST_CASE("Non-finite coordinates fail 'finite'; inspect skips the geometric checks", "[mesh_check]") {
   Mesh box = make_box(1, 1, 1);
   box.vertices(6, 1) = std::numeric_limits<double>::quiet_NaN();
-  REQUIRE(contains(validation_error(box), "box: mesh check 'finite' failed: 1 vertex with a non-finite coordinate, "
-                                          "first vertex 6 (-0.5, nan, 0.5)"));
+  REQUIRE(contains(validation_error(box),
+                   "box: mesh check 'finite' failed: 1 vertex with a non-finite coordinate, "
+                   "first vertex 6 (-0.5, nan, 0.5)"));
   const MeshCheckReport report = inspect_mesh(box);
   REQUIRE_FALSE(check_named(report, "no_degenerate_faces").ran);
   REQUIRE(check_named(report, "closed").passed);
   REQUIRE(describe(check_named(report, "outward_oriented")) == "not run: needs 'finite'");
 }
 
-TEST_CASE("Out-of-range face indices fail 'valid_indices' and inspect still returns a report", "[mesh_check]") {
+TEST_CASE("Out-of-range face indices fail 'valid_indices' and inspect still returns a report",
+          "[mesh_check]") {
   Mesh box = make_box(1, 1, 1);
   box.faces(4, 1) = 99;
-  REQUIRE(contains(validation_error(box), "mesh check 'valid_indices' failed: 1 face with an index out of range, "
-                                          "first face 4 refers to vertex 99 of 8"));
+  REQUIRE(contains(validation_error(box),
+                   "mesh check 'valid_indices' failed: 1 face with an index out of range, "
+                   "first face 4 refers to vertex 99 of 8"));
   MeshCheckReport report;
   REQUIRE_NOTHROW(report = inspect_mesh(box));
   REQUIRE(report.checks.size() == 9);
   REQUIRE(check_named(report, "finite").passed);
   REQUIRE_FALSE(check_named(report, "closed").ran);
   Mesh empty;
-  REQUIRE(contains(validation_error(empty), "mesh: mesh check 'valid_indices' failed: the mesh has no faces"));
+  REQUIRE(
+      contains(validation_error(empty), "mesh: mesh check 'valid_indices' failed: the mesh has no faces"));
+}
+
+TEST_CASE("inspect_mesh names each bad fixture's failing check without throwing", "[mesh_check]") {
+  const std::pair<const char*, const char*> expected[] = {{"open_box.obj", "closed"},
+                                                          {"nonmanifold_edge.obj", "edge_manifold"},
+                                                          {"flipped_face.obj", "consistently_oriented"},
+                                                          {"self_intersecting.obj", "no_self_intersections"},
+                                                          {"degenerate_face.obj", "no_degenerate_faces"}};
+  for (const auto& [file, failing] : expected) {
+    CAPTURE(file);
+    MeshCheckReport report;
+    REQUIRE_NOTHROW(report = inspect_mesh(read_fixture(file)));
+    REQUIRE(report.checks.size() == 9);
+    const MeshCheck& check = check_named(report, failing);
+    REQUIRE(check.ran);
+    REQUIRE_FALSE(check.passed);
+    REQUIRE(check.count > 0);
+    REQUIRE_FALSE(check_named(report, "outward_oriented").passed);
+  }
 }
 
 TEST_CASE("Several bodies and cavities: winding numbers decide orientation (elementary geometry volumes)",
@@ -226,8 +259,9 @@ TEST_CASE("Several bodies and cavities: winding numbers decide orientation (elem
   SECTION("a body nested inside another, both outward: the solids overlap") {
     const std::string message = validation_error(merged(make_box(2, 2, 2), make_box(1, 1, 1)));
     CAPTURE(message);
-    REQUIRE(contains(message, "mesh check 'outward_oriented' failed: 1 wrongly oriented component, first component "
-                              "containing face 12 lies inside another body"));
+    REQUIRE(contains(message,
+                     "mesh check 'outward_oriented' failed: 1 wrongly oriented component, first component "
+                     "containing face 12 lies inside another body"));
   }
   SECTION("one of two separate bodies inside-out is not silently flipped") {
     Mesh pair = merged(make_box(1, 1, 1), reversed(shifted(make_box(1, 1, 1), 3, 0, 0)));
@@ -237,8 +271,10 @@ TEST_CASE("Several bodies and cavities: winding numbers decide orientation (elem
   }
 }
 
-TEST_CASE("Rigid motions of a valid body pass every check and keep its volume (volume is invariant, common practice)",
-          "[mesh_check]") {
+TEST_CASE(
+    "Rigid motions of a valid body pass every check and keep its volume (volume is invariant, common "
+    "practice)",
+    "[mesh_check]") {
   const Mesh body = make_deformed_sphere(4, [](const Eigen::Vector3d& u) {
     return Eigen::Vector3d(1000.0 * (1.0 + 0.25 * u.x() * u.y() + 0.1 * u.z() * u.z() * u.z()) * u);
   });
@@ -249,8 +285,10 @@ TEST_CASE("Rigid motions of a valid body pass every check and keep its volume (v
   std::uniform_real_distribution<double> offset(-1e6, 1e6);
   for (int trial = 0; trial < 8; ++trial) {
     // Normalised Gaussian quaternion: a uniformly random rotation (Shoemake 1992, Graphics Gems III).
-    const Eigen::Quaterniond q = Eigen::Quaterniond(gauss(random), gauss(random), gauss(random), gauss(random)).normalized();
-    Mesh moved = transformed(body, q.toRotationMatrix(), Eigen::Vector3d(offset(random), offset(random), offset(random)));
+    const Eigen::Quaterniond q =
+        Eigen::Quaterniond(gauss(random), gauss(random), gauss(random), gauss(random)).normalized();
+    Mesh moved = transformed(body, q.toRotationMatrix(),
+                             Eigen::Vector3d(offset(random), offset(random), offset(random)));
     CAPTURE(trial);
     const MeshCheckReport report = validate_mesh(moved);
     require_all_passed(report);
@@ -260,7 +298,8 @@ TEST_CASE("Rigid motions of a valid body pass every check and keep its volume (v
 }
 
 TEST_CASE("describe() words a failed check as count, noun and first offender", "[mesh_check]") {
-  REQUIRE(describe({"closed", false, 1, "edge (1, 2) of face 3", true}) == "1 border edge, first edge (1, 2) of face 3");
+  REQUIRE(describe({"closed", false, 1, "edge (1, 2) of face 3", true}) ==
+          "1 border edge, first edge (1, 2) of face 3");
   REQUIRE(describe({"no_self_intersections", false, 2, "faces 0 and 9 intersect", true}) ==
           "2 intersecting face pairs, first faces 0 and 9 intersect");
   REQUIRE(describe({"closed", true, 0, "", true}).empty());

@@ -1,12 +1,13 @@
 #include "mesh_io.h"
 
+#include <fmt/format.h>
+
 #include <Eigen/Geometry>
 #include <cmath>
 #include <cstdint>
 #include <cstdlib>
 #include <cstring>
 #include <filesystem>
-#include <fmt/format.h>
 #include <random>
 
 #include "errors.h"
@@ -34,8 +35,10 @@ double volume_of(const Mesh& mesh) {
 }
 
 // Unit cube [0,1]^3, corner i at (i&1, i&2, i&4), six outward quads (zero-based).
-const double kCube[8][3] = {{0, 0, 0}, {1, 0, 0}, {0, 1, 0}, {1, 1, 0}, {0, 0, 1}, {1, 0, 1}, {0, 1, 1}, {1, 1, 1}};
-const int kCubeQuads[6][4] = {{0, 2, 3, 1}, {4, 5, 7, 6}, {0, 1, 5, 4}, {2, 6, 7, 3}, {0, 4, 6, 2}, {1, 3, 7, 5}};
+const double kCube[8][3] = {{0, 0, 0}, {1, 0, 0}, {0, 1, 0}, {1, 1, 0},
+                            {0, 0, 1}, {1, 0, 1}, {0, 1, 1}, {1, 1, 1}};
+const int kCubeQuads[6][4] = {{0, 2, 3, 1}, {4, 5, 7, 6}, {0, 1, 5, 4},
+                              {2, 6, 7, 3}, {0, 4, 6, 2}, {1, 3, 7, 5}};
 
 std::string cube_off() {
   std::string text = "OFF\n8 6 0\n";
@@ -109,7 +112,8 @@ std::string message_of(F&& action) {
   return {};
 }
 
-void require_one_line_naming(const std::string& message, const std::string& file, const std::string& problem) {
+void require_one_line_naming(const std::string& message, const std::string& file,
+                             const std::string& problem) {
   CAPTURE(message);
   REQUIRE(message.find('\n') == std::string::npos);
   REQUIRE(message.find(file) != std::string::npos);
@@ -124,7 +128,8 @@ bool has_notice(const Mesh& mesh, const std::string& text) {
 
 }  // namespace
 
-TEST_CASE("write_obj then read_mesh returns the identical doubles (shortest round-trip form, fmt docs)", "[mesh_io]") {
+TEST_CASE("write_obj then read_mesh returns the identical doubles (shortest round-trip form, fmt docs)",
+          "[mesh_io]") {
   const Mesh original = make_ellipsoid(3, 1234.5678, 901.2345, 678.9);
   const std::string path = temp_directory() + "/ellipsoid.obj";
   write_obj(original, path, LengthUnit::meter);
@@ -173,9 +178,11 @@ TEST_CASE("OBJ coordinates equal the C library's correctly rounded strtod (ISO C
   }
 }
 
-TEST_CASE("km unit: vertices are read as 1000 m per unit and written back divided by 1000 (SI)", "[mesh_io]") {
+TEST_CASE("km unit: vertices are read as 1000 m per unit and written back divided by 1000 (SI)",
+          "[mesh_io]") {
   const std::string dir = temp_directory();
-  write_text(dir + "/body.obj", "v 1.5 -2.25 0.125\nv 3 0 0\nv 0 3 0\nv 0 0 3\nf 1 3 2\nf 1 2 4\nf 1 4 3\nf 2 3 4\n");
+  write_text(dir + "/body.obj",
+             "v 1.5 -2.25 0.125\nv 3 0 0\nv 0 3 0\nv 0 0 3\nf 1 3 2\nf 1 2 4\nf 1 4 3\nf 2 3 4\n");
   MeshReadOptions km;
   km.unit = LengthUnit::kilometer;
   const Mesh mesh = read_mesh(dir + "/body.obj", km);
@@ -205,8 +212,9 @@ TEST_CASE("OFF cube of quads reads as 12 triangles enclosing volume 1 (elementar
   REQUIRE_FALSE(report.flipped);
 }
 
-TEST_CASE("OBJ cube of quads with v//vn and negative indices reads as 12 triangles, volume 1 (elementary geometry)",
-          "[mesh_io]") {
+TEST_CASE(
+    "OBJ cube of quads with v//vn and negative indices reads as 12 triangles, volume 1 (elementary geometry)",
+    "[mesh_io]") {
   std::string text = "# unit cube\nvn 0 0 1\n";
   for (const auto& p : kCube) text += fmt::format("v {} {} {}\n", p[0], p[1], p[2]);
   for (int q = 0; q < 6; ++q) {
@@ -214,7 +222,8 @@ TEST_CASE("OBJ cube of quads with v//vn and negative indices reads as 12 triangl
     if (q % 2 == 0)
       text += fmt::format("f {}//1 {}//1 {}//1 {}//1\n", f[0] + 1, f[1] + 1, f[2] + 1, f[3] + 1);
     else
-      text += fmt::format("f {} {} {} {}\n", f[0] - 8, f[1] - 8, f[2] - 8, f[3] - 8);  // relative to the 8 vertices
+      text += fmt::format("f {} {} {} {}\n", f[0] - 8, f[1] - 8, f[2] - 8,
+                          f[3] - 8);  // relative to the 8 vertices
   }
   const std::string path = temp_directory() + "/cube.OBJ";
   write_text(path, text);
@@ -225,9 +234,11 @@ TEST_CASE("OBJ cube of quads with v//vn and negative indices reads as 12 triangl
   REQUIRE_NOTHROW(validate_mesh(mesh));
 }
 
-TEST_CASE("Non-convex L-shaped prism faces are ear-clipped into a valid solid of volume 3 (elementary geometry)",
-          "[mesh_io]") {
-  // L outline counter-clockwise, started at a reflex-adjacent corner from which a fan would leave the polygon.
+TEST_CASE(
+    "Non-convex L-shaped prism faces are ear-clipped into a valid solid of volume 3 (elementary geometry)",
+    "[mesh_io]") {
+  // L outline counter-clockwise, started at a reflex-adjacent corner from which a fan would leave the
+  // polygon.
   const double outline[6][2] = {{2, 1}, {1, 1}, {1, 2}, {0, 2}, {0, 0}, {2, 0}};
   std::string text;
   for (int z = 0; z < 2; ++z)
@@ -245,8 +256,10 @@ TEST_CASE("Non-convex L-shaped prism faces are ear-clipped into a valid solid of
   REQUIRE_NOTHROW(validate_mesh(mesh));
 }
 
-TEST_CASE("PLY cube of quads, ascii and binary little-endian, reads as 12 triangles of volume 1 (elementary geometry)",
-          "[mesh_io]") {
+TEST_CASE(
+    "PLY cube of quads, ascii and binary little-endian, reads as 12 triangles of volume 1 (elementary "
+    "geometry)",
+    "[mesh_io]") {
   const std::string dir = temp_directory();
   std::string ascii = ply_header("ascii");
   for (const auto& p : kCube) ascii += fmt::format("{} {} {}\n", p[0], p[1], p[2]);
@@ -272,8 +285,10 @@ TEST_CASE("PLY cube of quads, ascii and binary little-endian, reads as 12 triang
   }
 }
 
-TEST_CASE("STL cube soups (ascii and binary): 36 vertex records weld into 8 vertices, volume 1 (elementary geometry)",
-          "[mesh_io]") {
+TEST_CASE(
+    "STL cube soups (ascii and binary): 36 vertex records weld into 8 vertices, volume 1 (elementary "
+    "geometry)",
+    "[mesh_io]") {
   const std::string dir = temp_directory();
   write_text(dir + "/ascii.stl", cube_ascii_stl());
   write_text(dir + "/binary.STL", cube_binary_stl());
@@ -315,7 +330,8 @@ TEST_CASE("Vertices used by no face are dropped with a notice, file order kept",
   REQUIRE(mesh.vertices.row(0) == Eigen::RowVector3d(0, 0, 0));
   REQUIRE(mesh.vertices.row(3) == Eigen::RowVector3d(0, 0, 1));
   REQUIRE(has_notice(mesh, "dropped 1 vertex not used by any face"));
-  REQUIRE(volume_of(mesh) == Approx(1.0 / 6.0).epsilon(1e-15));  // unit corner tetrahedron, elementary geometry
+  REQUIRE(volume_of(mesh) ==
+          Approx(1.0 / 6.0).epsilon(1e-15));  // unit corner tetrahedron, elementary geometry
 }
 
 TEST_CASE("sha256_file_hex matches the FIPS 180-2 test vector for \"abc\"", "[mesh_io]") {
@@ -337,28 +353,29 @@ TEST_CASE("Unreadable mesh files give one-line errors naming the file and the pr
   }
   SECTION("unknown format") {
     const std::string path = source_path("tests/data/unknown_format.xyz");
-    require_one_line_naming(message_of<MeshError>([&] { read_mesh(path, {}); }), path, "unknown mesh format '.xyz'");
+    require_one_line_naming(message_of<MeshError>([&] { read_mesh(path, {}); }), path,
+                            "unknown mesh format '.xyz'");
   }
   SECTION("NaN coordinate names the line and vertex") {
     const std::string path = source_path("tests/data/nan_vertex.obj");
-    require_one_line_naming(message_of<FormatError>([&] { read_mesh(path, {}); }), path + ":4:",
-                            "vertex 3 has a non-finite coordinate (0 nan 0)");
+    require_one_line_naming(message_of<FormatError>([&] { read_mesh(path, {}); }),
+                            path + ":4:", "vertex 3 has a non-finite coordinate (0 nan 0)");
   }
   SECTION("vertex index out of range names the line and face") {
     const std::string path = source_path("tests/data/index_out_of_range.obj");
-    require_one_line_naming(message_of<FormatError>([&] { read_mesh(path, {}); }), path + ":15:",
-                            "face 6 refers to vertex 9, but only 8 vertices are defined");
+    require_one_line_naming(message_of<FormatError>([&] { read_mesh(path, {}); }),
+                            path + ":15:", "face 6 refers to vertex 9, but only 8 vertices are defined");
   }
   SECTION("face with two vertices") {
     const std::string path = source_path("tests/data/two_vertex_face.obj");
-    require_one_line_naming(message_of<FormatError>([&] { read_mesh(path, {}); }), path + ":11:",
-                            "face 2 has 2 vertices, a face needs at least 3");
+    require_one_line_naming(message_of<FormatError>([&] { read_mesh(path, {}); }),
+                            path + ":11:", "face 2 has 2 vertices, a face needs at least 3");
   }
   SECTION("unparsable coordinate") {
     const std::string path = temp_directory() + "/words.obj";
     write_text(path, "v 0 0 0\nv 1 0 zero\n");
-    require_one_line_naming(message_of<FormatError>([&] { read_mesh(path, {}); }), path + ":2:",
-                            "cannot parse vertex coordinate 'zero'");
+    require_one_line_naming(message_of<FormatError>([&] { read_mesh(path, {}); }),
+                            path + ":2:", "cannot parse vertex coordinate 'zero'");
   }
   SECTION("no faces") {
     const std::string path = temp_directory() + "/points.obj";
@@ -368,13 +385,20 @@ TEST_CASE("Unreadable mesh files give one-line errors naming the file and the pr
   SECTION("OFF with an out-of-range index") {
     const std::string path = temp_directory() + "/bad.off";
     write_text(path, "OFF\n3 1 0\n0 0 0\n1 0 0\n0 1 0\n3 0 1 7\n");
-    require_one_line_naming(message_of<FormatError>([&] { read_mesh(path, {}); }), path, "cannot parse OFF data");
+    require_one_line_naming(message_of<FormatError>([&] { read_mesh(path, {}); }), path,
+                            "cannot parse OFF data");
   }
   SECTION("binary STL with a NaN names the facet") {
     const std::string path = temp_directory() + "/nan.stl";
     write_text(path, cube_binary_stl(std::nanf("")));
     require_one_line_naming(message_of<FormatError>([&] { read_mesh(path, {}); }), path,
                             "facet 1 of 12 has a non-finite vertex coordinate");
+  }
+  SECTION("polygon with all corners on one line") {
+    const std::string path = temp_directory() + "/flat.obj";
+    write_text(path, "v 0 0 0\nv 1 0 0\nv 2 0 0\nv 3 0 0\nf 1 2 3 4\n");
+    require_one_line_naming(message_of<MeshError>([&] { read_mesh(path, {}); }), path,
+                            "face 1 (4 vertices) cannot be split into triangles");
   }
   SECTION("negative merge tolerance") {
     MeshReadOptions options;
@@ -389,10 +413,11 @@ TEST_CASE("write_obj replaces files atomically and leaves nothing behind on fail
   write_text(dir + "/box.obj", "old content");
   write_obj(box, dir + "/box.obj", LengthUnit::meter);
   REQUIRE(read_mesh(dir + "/box.obj", {}).faces == box.faces);
-  REQUIRE(std::distance(std::filesystem::directory_iterator(dir), std::filesystem::directory_iterator()) == 1);
+  REQUIRE(std::distance(std::filesystem::directory_iterator(dir), std::filesystem::directory_iterator()) ==
+          1);
 
   const std::string missing = dir + "/no/such/dir/box.obj";
-  require_one_line_naming(message_of<OutputError>([&] { write_obj(box, missing, LengthUnit::meter); }), missing,
-                          "cannot create");
+  require_one_line_naming(message_of<OutputError>([&] { write_obj(box, missing, LengthUnit::meter); }),
+                          missing, "cannot create");
   REQUIRE_FALSE(std::filesystem::exists(missing));
 }
