@@ -17,6 +17,8 @@ int main(int argc, char** argv) {
   cli::setup_inspect(app, global);
   cli::setup_compute(app, global);
   cli::setup_uncertainty(app, global);
+  cli::setup_field(app, global);
+  cli::setup_validate(app, global);
   try {
     app.parse(argc, argv);
   } catch (const CLI::ParseError& e) {
