@@ -42,6 +42,7 @@ constexpr int kFieldFeatures = 256;
 constexpr double kTruncation = 4.0;
 constexpr int kPlacementTries = 1000;
 constexpr double kDominanceRatio = 0.1;
+constexpr double kRoundingLevel = 1e-13;
 
 // Independent random stream per (seed, sample, purpose): switching one variation on or off leaves the draws
 // of the others unchanged.
@@ -647,7 +648,11 @@ UncertaintyResult summarize_uncertainty(const CoefficientSet& nominal, const Unc
       noise += set.sigma_C(n, m) * set.sigma_C(n, m) + set.sigma_S(n, m) * set.sigma_S(n, m);
       signal += set.C(n, m) * set.C(n, m) + set.S(n, m) * set.S(n, m);
     }
-    summary.degree_ratio(n) = signal > 0 ? std::sqrt(noise / signal) : (noise > 0 ? std::numeric_limits<double>::infinity() : 0.0);
+    // Sigmas at rounding level (C00 = 1) say nothing, even against coefficients that vanish by symmetry.
+    if (std::sqrt(noise) < kRoundingLevel)
+      summary.degree_ratio(n) = 0;
+    else
+      summary.degree_ratio(n) = signal > 0 ? std::sqrt(noise / signal) : std::numeric_limits<double>::infinity();
     if (n >= 2 && (worst_degree < 0 || summary.degree_ratio(n) > summary.degree_ratio(worst_degree))) worst_degree = n;
   }
   for (int n = N; n >= 2 && summary.degree_ratio(n) > kDominanceRatio; --n) summary.dominated_from = n;

@@ -122,7 +122,9 @@ struct UncertaintySummary {
   double gm_sigma = 0;                                  ///< RMS of GM about the nominal, m^3 s^-2
   Eigen::Vector3d com_sigma = Eigen::Vector3d::Zero();  ///< RMS centre-of-mass shift along the set's axes, m
   double max_brillouin_radius = 0;                      ///< m, over nominal and samples
-  Eigen::VectorXd degree_ratio;  ///< per degree: RMS of sigma over m / RMS of the coefficients over m
+  /// Per degree: RMS of sigma over m / RMS of the coefficients over m (0 where the sigmas are below 1e-13,
+  /// i.e. rounding noise; infinite where only the coefficients vanish).
+  Eigen::VectorXd degree_ratio;
   /// Lowest degree n >= 2 such that every degree n..N has degree_ratio > 0.1; -1 if degree N has not.
   int dominated_from = -1;
   std::vector<int> isolated;     ///< degrees >= 2 below dominated_from whose ratio exceeds 0.1 all the same
