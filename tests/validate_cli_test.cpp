@@ -1,0 +1,166 @@
+// End-to-end checks of `polystokes field` and `polystokes validate` on generated meshes and sets: series and
+// exact columns agree outside the Brillouin sphere, warnings appear, bad input gives exit 2 and no file.
+#include <catch2/catch.hpp>
+#include <cmath>
+#include <nlohmann/json.hpp>
+#include <sstream>
+
+#include "coefficient_file.h"
+#include "harmonics.h"
+#include "mesh_io.h"
+#include "polyhedron_gravity.h"
+#include "shapes.h"
+#include "test_support.h"
+
+using namespace polystokes;
+using namespace polystokes::test;
+
+namespace {
+
+// Single-quoted for the shell that run_cli uses.
+std::string shell_arg(const std::string& path) { return "'" + path + "'"; }
+
+// Numeric rows of a CSV field table (header skipped).
+std::vector<std::vector<double>> read_table(const std::string& path, std::string& header) {
+  std::istringstream in(read_bytes(path));
+  std::vector<std::vector<double>> rows;
+  std::getline(in, header);
+  std::string line;
+  while (std::getline(in, line)) {
+    std::vector<double> row;
+    std::istringstream fields(line);
+    std::string field;
+    while (std::getline(fields, field, ',')) row.push_back(std::stod(field));
+    rows.push_back(row);
+  }
+  return rows;
+}
+
+struct Fixture {
+  std::string dir, mesh, set, points;
+  Fixture() : dir(temp_directory()) {
+    mesh = dir + "/ovoid.obj";
+    // A smooth triaxial body written in km, off the origin, so units and the expansion origin matter.
+    write_obj(transformed(make_ellipsoid(3, 1200.0, 900.0, 700.0), Eigen::Matrix3d::Identity(),
+                          Eigen::Vector3d(300.0, -200.0, 100.0)),
+              mesh, LengthUnit::kilometer);
+    set = dir + "/ovoid.txt";
+    const CommandResult compute =
+        run_cli("compute " + shell_arg(mesh) + " --unit km --density 2100 --degree 24 -o " + shell_arg(set));
+    INFO(compute.output);
+    REQUIRE(compute.exit_code == 0);
+    points = dir + "/points.csv";
+    // Far points (> 2 R_B about the centre of mass), one near the surface inside the Brillouin sphere.
+    write_text(points, "x,y,z\n5000,0,0\n-1000,4000,2500\n300,-200,4800\n300,-200,950\n");
+  }
+};
+
+}  // namespace
+
+TEST_CASE("field: series of a computed set and exact polyhedron gravity give the same columns and agree "
+          "far out",
+          "[validate_cli]") {
+  const Fixture f;
+  const CommandResult series = run_cli("field " + shell_arg(f.set) + " --points " + shell_arg(f.points) + " -o " +
+                                       shell_arg(f.dir + "/series.csv") + " --gradient");
+  CAPTURE(series.output);
+  REQUIRE(series.exit_code == 0);
+  CHECK(series.output.find("1 of 4 points lie inside the Brillouin sphere") != std::string::npos);
+  const CommandResult exact = run_cli("field " + shell_arg(f.mesh) + " --unit km --density 2100 --points " +
+                                      shell_arg(f.points) + " -o " + shell_arg(f.dir + "/exact.csv") + " --gradient");
+  CAPTURE(exact.output);
+  REQUIRE(exact.exit_code == 0);
+  std::string header_s, header_e;
+  const auto s = read_table(f.dir + "/series.csv", header_s);
+  const auto e = read_table(f.dir + "/exact.csv", header_e);
+  CHECK(header_s == "x,y,z,U,ax,ay,az,Txx,Txy,Txz,Tyy,Tyz,Tzz");
+  CHECK(header_e == header_s);
+  REQUIRE(s.size() == 4);
+  REQUIRE(e.size() == 4);
+  for (size_t i = 0; i < 3; ++i) {  // the three far points
+    CAPTURE(i);
+    REQUIRE(s[i].size() == 13);
+    CHECK(s[i][3] == Approx(e[i][3]).epsilon(1e-9));
+    const Eigen::Vector3d as(s[i][4], s[i][5], s[i][6]), ae(e[i][4], e[i][5], e[i][6]);
+    CHECK((as - ae).norm() <= 1e-8 * ae.norm());
+    CHECK(std::abs(s[i][7] - e[i][7]) <= 1e-6 * std::abs(e[i][7]));
+  }
+  // The exact column equals the library directly (mesh read in km, points in metres).
+  const Mesh mesh = read_mesh(f.mesh, MeshReadOptions{LengthUnit::kilometer, 0.0});
+  const FieldValue direct = PolyhedronGravity({DensityRegion{mesh, 2100.0}}).evaluate(Eigen::Vector3d(5000, 0, 0));
+  CHECK(e[0][3] == direct.potential);
+  CHECK(e[0][4] == direct.acceleration.x());
+
+  // --degree truncates; --set-frame takes points about the expansion origin.
+  const CommandResult low = run_cli("field " + shell_arg(f.set) + " --degree 0 --points " + shell_arg(f.points) + " -o " +
+                                    shell_arg(f.dir + "/low.csv"));
+  REQUIRE(low.exit_code == 0);
+  std::string header_low;
+  const auto l = read_table(f.dir + "/low.csv", header_low);
+  CHECK(header_low == "x,y,z,U,ax,ay,az");
+  const CoefficientSet set = read_coefficient_file(f.set);
+  const double r = (Eigen::Vector3d(5000, 0, 0) - set.origin_in_mesh).norm();
+  CHECK(l[0][3] == Approx(set.gm / r).epsilon(1e-15));  // degree 0 = point mass at the centre of mass
+}
+
+TEST_CASE("field: bad input is refused with one line, exit 2 and no output file", "[validate_cli]") {
+  const Fixture f;
+  const std::string out = f.dir + "/out.csv";
+  write_text(f.dir + "/bad.csv", "x,y,z\n1,2,3\n4,five,6\n");
+  CommandResult r = run_cli("field " + shell_arg(f.set) + " --points " + shell_arg(f.dir + "/bad.csv") + " -o " + shell_arg(out));
+  CAPTURE(r.output);
+  CHECK(r.exit_code == 2);
+  CHECK(r.output.find("bad.csv:3: field 2 ('five') is not a number") != std::string::npos);
+  CHECK(!file_exists(out));
+  r = run_cli("field " + shell_arg(f.mesh) + " --points " + shell_arg(f.points) + " -o " + shell_arg(out));
+  CHECK(r.exit_code == 2);
+  CHECK(r.output.find("1 meshes but 0 densities") != std::string::npos);
+  r = run_cli("field " + shell_arg(f.set) + " --density 2000 --points " + shell_arg(f.points) + " -o " + shell_arg(out));
+  CHECK(r.exit_code == 2);
+  CHECK(r.output.find("--density applies to meshes only") != std::string::npos);
+  write_text(f.dir + "/origin.csv", "0,0,0\n");
+  r = run_cli("field " + shell_arg(f.set) + " --set-frame --points " + shell_arg(f.dir + "/origin.csv") + " -o " + shell_arg(out));
+  CHECK(r.exit_code == 2);
+  CHECK(r.output.find("point 1") != std::string::npos);
+  CHECK(!file_exists(out));
+}
+
+TEST_CASE("validate: table, recommended degrees, Brillouin warning for a low altitude, JSON", "[validate_cli]") {
+  const Fixture f;
+  const std::string json = f.dir + "/v.json";
+  const CommandResult r = run_cli("validate " + shell_arg(f.mesh) + " " + shell_arg(f.set) +
+                                  " --radii 1.5,2,3 --altitudes 30 --samples 40 --target 1e-6 --json " + shell_arg(json));
+  CAPTURE(r.output);
+  REQUIRE(r.exit_code == 0);
+  CHECK(r.output.find("densities taken from") != std::string::npos);  // --density and --unit from the set
+  CHECK(r.output.find("recommended") != std::string::npos);
+  CHECK(r.output.find("shell 'h = 30 m'") != std::string::npos);
+  CHECK(r.output.find("inside the Brillouin sphere") != std::string::npos);
+  CHECK(r.output.find("CAUTION") != std::string::npos);
+  const auto j = nlohmann::json::parse(read_bytes(json));
+  REQUIRE(j["shells"].size() == 4);
+  CHECK(j["degree"] == 24);
+  CHECK(j["shells"][0]["inside_brillouin"] == 0);
+  CHECK(j["shells"][3]["inside_brillouin"].get<int>() > 0);
+  // Farther spheres need no higher degree.
+  const int d15 = j["shells"][0]["recommended_degree"], d2 = j["shells"][1]["recommended_degree"],
+            d3 = j["shells"][2]["recommended_degree"];
+  CHECK(d3 <= d2);
+  CHECK(d2 <= d15);
+  CHECK(j["shells"][1]["max_error"][d2].get<double>() <= 1e-6);
+}
+
+TEST_CASE("validate: a set without density regions needs --density; a wrong density is flagged", "[validate_cli]") {
+  const Fixture f;
+  CoefficientSet foreign = read_coefficient_file(f.set);
+  foreign.regions.clear();
+  const std::string bare = f.dir + "/bare.txt";
+  write_coefficient_file(foreign, bare);
+  CommandResult r = run_cli("validate " + shell_arg(f.mesh) + " " + shell_arg(bare) + " --unit km --samples 5");
+  CAPTURE(r.output);
+  CHECK(r.exit_code == 2);
+  CHECK(r.output.find("records no density regions: give --density") != std::string::npos);
+  r = run_cli("validate " + shell_arg(f.mesh) + " " + shell_arg(bare) + " --unit km --density 2000 --samples 5 --radii 2");
+  CHECK(r.exit_code == 0);
+  CHECK(r.output.find("GM of the set") != std::string::npos);
+}
