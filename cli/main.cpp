@@ -16,6 +16,7 @@ int main(int argc, char** argv) {
   app.add_flag("-v,--verbose", global.verbose, "Print more detail (repeat for more)");
   cli::setup_inspect(app, global);
   cli::setup_compute(app, global);
+  cli::setup_report(app, global);
   cli::setup_uncertainty(app, global);
   cli::setup_field(app, global);
   cli::setup_validate(app, global);
