@@ -1,0 +1,121 @@
+// End-to-end checks of `polystokes report`: a set computed here and its mesh written as OBJ give one
+// well-formed page with every section; bad inputs give a one-line error, exit code 2 and leave the
+// previous output intact.
+#include <catch2/catch.hpp>
+#include <fmt/format.h>
+
+#include "coefficient_file.h"
+#include "harmonics.h"
+#include "mesh_io.h"
+#include "shapes.h"
+#include "svg_plot.h"
+#include "test_support.h"
+#include "xml_check.h"
+
+using namespace polystokes;
+using namespace polystokes::test;
+
+namespace {
+
+std::string quoted(const std::string& path) { return "'" + path + "'"; }
+
+size_t count(const std::string& haystack, const std::string& needle) {
+  size_t found = 0;
+  for (size_t at = haystack.find(needle); at != std::string::npos; at = haystack.find(needle, at + needle.size()))
+    ++found;
+  return found;
+}
+
+// An invented body: a triaxial ellipsoid off the mesh origin, written in km, read back, and its set.
+struct Files {
+  std::string dir, mesh, set;
+  CoefficientSet computed;
+};
+const Files& files() {
+  static const Files made = [] {
+    Files f;
+    f.dir = temp_directory();
+    f.mesh = f.dir + "/orrin.obj";
+    f.set = f.dir + "/orrin.txt";
+    const Mesh shape = transformed(make_ellipsoid(4, 2100, 1400, 1100), Eigen::Matrix3d::Identity(),
+                                   Eigen::Vector3d(300, 120, -60));
+    write_obj(shape, f.mesh, LengthUnit::kilometer);
+    MeshReadOptions read;
+    read.unit = LengthUnit::kilometer;
+    ComputeOptions options;
+    options.degree = 10;
+    options.body = "Orrin";
+    f.computed = compute_coefficients({DensityRegion{read_mesh(f.mesh, read), 1700.0}}, options);
+    write_coefficient_file(f.computed, f.set);
+    return f;
+  }();
+  return made;
+}
+
+}  // namespace
+
+TEST_CASE("report with --mesh writes one well-formed page with every section, the set's numbers and checksums",
+          "[report_cli]") {
+  const Files& f = files();
+  const std::string out = f.dir + "/orrin.html";
+  const CommandResult result =
+      run_cli("report " + quoted(f.set) + " --mesh " + quoted(f.mesh) + " --unit km -o " + quoted(out));
+  CAPTURE(result.output);
+  REQUIRE(result.exit_code == 0);
+  CHECK(result.output.find("written") != std::string::npos);
+  const std::string html = read_bytes(out);
+  CHECK(xml_problem(html) == "");
+  CHECK(count(html, "<svg") == 5);
+  for (const char* id : {"provenance", "mass", "spectrum", "coefficients", "shape", "field"})
+    CHECK(html.find(fmt::format("<section id=\"{}\"", id)) != std::string::npos);
+  CHECK(html.find(fmt::format("{}", f.computed.gm)) != std::string::npos);
+  CHECK(html.find(fmt::format("{}", f.computed.reference_radius)) != std::string::npos);
+  CHECK(html.find(fmt::format("{:.9e}", f.computed.C(2, 0))) != std::string::npos);
+  CHECK(html.find(sha256_file_hex(f.set)) != std::string::npos);
+  CHECK(html.find("matches region 1 of the set") != std::string::npos);
+  CHECK(html.find("Orrin") != std::string::npos);
+  const std::string caution = operational_caution();
+  CHECK(count(html, svg::escape(caution.substr(caution.find(':') + 1))) >= 3);
+  CHECK(count(html, "http") == count(html, "http://www.w3.org/2000/svg"));
+}
+
+TEST_CASE("report without a mesh omits the silhouettes, and - writes the page to stdout", "[report_cli]") {
+  const Files& f = files();
+  const CommandResult result = run_cli("report " + quoted(f.set) + " -q -o -");
+  REQUIRE(result.exit_code == 0);
+  CHECK(result.output.rfind("<!DOCTYPE html>", 0) == 0);
+  CHECK(xml_problem(result.output) == "");
+  CHECK(count(result.output, "<svg") == 2);
+  CHECK(result.output.find("<section id=\"shape\"") == std::string::npos);
+}
+
+TEST_CASE("report refuses bad input with one error line and exit code 2, leaving the previous page intact",
+          "[report_cli]") {
+  const Files& f = files();
+  const std::string out = f.dir + "/kept.html";
+  write_text(out, "previous page");
+  const std::string bad_set = f.dir + "/bad.txt";
+  write_text(bad_set, "not a coefficient file\n");
+  const std::string open_mesh = f.dir + "/open.obj";
+  write_text(open_mesh,
+             "v 0 0 0\nv 1 0 0\nv 0 1 0\nv 1 1 0\nv 0 0 1\nv 1 0 1\nv 0 1 1\nv 1 1 1\n"
+             "f 1 3 2\nf 2 3 4\nf 1 2 5\nf 2 6 5\nf 3 7 4\nf 4 7 8\nf 1 5 3\nf 3 5 7\nf 2 4 6\nf 4 8 6\n");
+  const struct {
+    std::string arguments, expected;
+  } cases[] = {
+      {quoted(bad_set), bad_set},
+      {quoted(f.set) + " --mesh " + quoted(open_mesh), "closed"},
+      {quoted(f.set) + " --map-radius 1", "radius factor"},
+  };
+  for (const auto& c : cases) {
+    const CommandResult result = run_cli("report " + c.arguments + " -o " + quoted(out));
+    CAPTURE(c.arguments, result.output);
+    CHECK(result.exit_code == 2);
+    CHECK(result.output.find(c.expected) != std::string::npos);
+    CHECK(result.output.find("error") != std::string::npos);
+    CHECK(count(result.output, "\n") == 1);
+    CHECK(read_bytes(out) == "previous page");
+  }
+  const CommandResult missing_output = run_cli("report " + quoted(f.set));
+  CHECK(missing_output.exit_code == 1);
+}
