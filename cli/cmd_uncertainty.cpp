@@ -1,10 +1,11 @@
 // polystokes uncertainty / uncertainty-merge: Monte Carlo sigmas and notes for a coefficient set, in one run
 // or in shards that a batch scheduler runs anywhere and a merge step combines bit-identically.
+#include <fmt/format.h>
+#include <unistd.h>
+
 #include <chrono>
 #include <cstdio>
-#include <fmt/format.h>
 #include <memory>
-#include <unistd.h>
 
 #include "cli_common.h"
 #include "coefficient_file.h"
@@ -17,10 +18,10 @@ namespace polystokes::cli {
 namespace {
 
 struct InclusionOptions {
-  double radius = 0;      // mesh unit
-  double contrast = 0;    // kg/m^3
-  std::string center;     // "x,y,z" in the mesh unit
-  double offset = 0;      // mesh unit
+  double radius = 0;    // mesh unit
+  double contrast = 0;  // kg/m^3
+  std::string center;   // "x,y,z" in the mesh unit
+  double offset = 0;    // mesh unit
 };
 
 struct UncertaintyCommandOptions {
@@ -80,43 +81,49 @@ std::optional<Inclusion> make_inclusion(const InclusionOptions& given, bool empt
     if (given.contrast == 0) throw ConventionError("--core-radius needs --core-contrast (kg/m^3, non-zero)");
     inclusion.contrast = given.contrast;
   }
-  if (!given.center.empty()) inclusion.center = parse_vector3(given.center, fmt::format("--{}-center", name)) * u;
+  if (!given.center.empty())
+    inclusion.center = parse_vector3(given.center, fmt::format("--{}-center", name)) * u;
   inclusion.offset = given.offset * u;
   return inclusion;
 }
 
 void print_settings(std::FILE* out, const UncertaintySettings& s, const std::string& body, int degree) {
   fmt::print(out, "polystokes uncertainty: {}\n", body);
-  fmt::print(out, "  samples            {}, seed {} (sample i draws from (seed, i): reproducible, splittable)\n",
+  fmt::print(out,
+             "  samples            {}, seed {} (sample i draws from (seed, i): reproducible, splittable)\n",
              s.samples, s.seed);
   fmt::print(out, "  degree             {}\n", degree);
   if (s.shape.sigma > 0)
     fmt::print(out, "  shape noise        sigma {} m along vertex normals, {}\n", s.shape.sigma,
-               s.shape.correlation_length > 0 ? fmt::format("correlation length {} m", s.shape.correlation_length)
-                                              : std::string("independent per vertex"));
+               s.shape.correlation_length > 0
+                   ? fmt::format("correlation length {} m", s.shape.correlation_length)
+                   : std::string("independent per vertex"));
   if (s.density_sigma > 0) fmt::print(out, "  density scale      relative sigma {}\n", s.density_sigma);
   for (const auto& inclusion : s.inclusions) {
     const Eigen::Vector3d c = *inclusion.center;
     fmt::print(out, "  {:<18} radius {} m, {}, centre ({:.9g}, {:.9g}, {:.9g}) m{}\n",
                inclusion.empty ? "void" : "core", inclusion.radius,
-               inclusion.empty ? std::string("empty") : fmt::format("contrast {} kg/m^3", inclusion.contrast), c.x(),
-               c.y(), c.z(), inclusion.offset > 0 ? fmt::format(", anywhere within {} m", inclusion.offset) : "");
+               inclusion.empty ? std::string("empty") : fmt::format("contrast {} kg/m^3", inclusion.contrast),
+               c.x(), c.y(), c.z(),
+               inclusion.offset > 0 ? fmt::format(", anywhere within {} m", inclusion.offset) : "");
   }
   if (s.lateral.sigma > 0)
     fmt::print(out, "  lateral density    {} cones, relative sigma {}\n", s.lateral.sectors, s.lateral.sigma);
-  if (s.preserve_mass) fmt::print(out, "  mass               preserved (density outside inclusions rescaled)\n");
+  if (s.preserve_mass)
+    fmt::print(out, "  mass               preserved (density outside inclusions rescaled)\n");
 }
 
 void print_summary(std::FILE* out, const UncertaintyResult& result) {
   const UncertaintySummary& s = result.summary;
   fmt::print(out, "  GM                 {:.12g} m^3 s^-2, sigma {:.6g} ({:.3g} relative)\n", s.gm, s.gm_sigma,
              s.gm_sigma / s.gm);
-  fmt::print(out, "  centre of mass     RMS scatter {:.6g}, {:.6g}, {:.6g} m along the set's axes\n", s.com_sigma.x(),
-             s.com_sigma.y(), s.com_sigma.z());
+  fmt::print(out, "  centre of mass     RMS scatter {:.6g}, {:.6g}, {:.6g} m along the set's axes\n",
+             s.com_sigma.x(), s.com_sigma.y(), s.com_sigma.z());
   fmt::print(out, "  Brillouin radius   {:.9g} m nominal, sampled shapes reach {:.9g} m\n",
              result.set.brillouin_radius, s.max_brillouin_radius);
   std::string ratios;
-  for (Eigen::Index n = 2; n < s.degree_ratio.size(); ++n) ratios += fmt::format(" {}:{:.2g}", n, s.degree_ratio(n));
+  for (Eigen::Index n = 2; n < s.degree_ratio.size(); ++n)
+    ratios += fmt::format(" {}:{:.2g}", n, s.degree_ratio(n));
   if (!ratios.empty()) fmt::print(out, "  sigma / signal     by degree (RMS over orders){}\n", ratios);
   std::string isolated;
   for (const int n : s.isolated) isolated += fmt::format(" {}", n);
@@ -143,8 +150,9 @@ void run_uncertainty_command(const UncertaintyCommandOptions& options, const Glo
   for (size_t i = 0; i < options.meshes.size(); ++i) {
     const double density = options.densities[i];
     if (!std::isfinite(density) || density == 0 || (i == 0 && density < 0))
-      throw ConventionError(fmt::format("density {} for {} must be finite and non-zero (positive for the first mesh)",
-                                        density, options.meshes[i]));
+      throw ConventionError(
+          fmt::format("density {} for {} must be finite and non-zero (positive for the first mesh)", density,
+                      options.meshes[i]));
     regions.push_back({load_checked_mesh(options.meshes[i], unit, options.merge_tolerance, global), density});
   }
 
@@ -173,7 +181,8 @@ void run_uncertainty_command(const UncertaintyCommandOptions& options, const Glo
   std::optional<Shard> shard;
   if (!options.shard.empty()) {
     shard = parse_shard(options.shard);
-    if (!options.json.empty()) throw ConventionError("--json needs the merged set: give it to uncertainty-merge");
+    if (!options.json.empty())
+      throw ConventionError("--json needs the merged set: give it to uncertainty-merge");
   }
 
   const UncertaintyPlan plan = plan_uncertainty(regions, compute, settings);
@@ -197,7 +206,8 @@ void run_uncertainty_command(const UncertaintyCommandOptions& options, const Glo
     if (global.quiet) return;
     print_settings(out, plan.settings, plan.nominal.body, plan.nominal.degree);
     print_summary(out, result);
-    fmt::print(out, "  written            {}{}\n", options.output, options.json.empty() ? "" : " and " + options.json);
+    fmt::print(out, "  written            {}{}\n", options.output,
+               options.json.empty() ? "" : " and " + options.json);
   }
   const double seconds = std::chrono::duration<double>(std::chrono::steady_clock::now() - start).count();
   fmt::print(out, "  time               {:.3f} s\n", seconds);
@@ -214,14 +224,16 @@ void run_merge_command(const MergeCommandOptions& options, const GlobalOptions& 
   print_settings(out, shards.front().settings, result.set.body, result.set.degree);
   fmt::print(out, "  merged             {} shard file(s)\n", shards.size());
   print_summary(out, result);
-  fmt::print(out, "  written            {}{}\n", options.output, options.json.empty() ? "" : " and " + options.json);
+  fmt::print(out, "  written            {}{}\n", options.output,
+             options.json.empty() ? "" : " and " + options.json);
   fmt::print(out, "{}\n", operational_caution());
 }
 
 void add_inclusion_options(CLI::App* cmd, InclusionOptions& inclusion, bool empty) {
   const std::string name = empty ? "void" : "core";
-  cmd->add_option("--" + name + "-radius", inclusion.radius,
-                  "Radius of a " + std::string(empty ? "spherical void (empty)" : "spherical core") + " (mesh unit)")
+  cmd->add_option(
+         "--" + name + "-radius", inclusion.radius,
+         "Radius of a " + std::string(empty ? "spherical void (empty)" : "spherical core") + " (mesh unit)")
       ->check(CLI::PositiveNumber);
   if (!empty)
     cmd->add_option("--core-contrast", inclusion.contrast,
@@ -246,12 +258,20 @@ void setup_uncertainty(CLI::App& app, const GlobalOptions& global) {
       "shard file is written; uncertainty-merge combines all k into the same set as one run.\n"
       "Example: polystokes uncertainty body.obj --unit km --density 1900 --degree 12 --samples 200 --seed 7\n"
       "         --shape-sigma 0.02 --correlation-length 0.3 -o body_sigma.txt");
-  cmd->add_option("meshes", options->meshes, "Shape mesh(es): .obj, .off, .ply, .stl")->required()->check(CLI::ExistingFile);
-  cmd->add_option("--density", options->densities, "Density per mesh in kg/m^3 (repeat or list, in mesh order)")
-      ->required()->expected(1, -1);
-  cmd->add_option("--degree", options->degree, "Maximum degree")->check(CLI::NonNegativeNumber)->capture_default_str();
-  cmd->add_option("--unit", options->unit, "Length unit of the mesh files and of every length option: m or km")
-      ->check(CLI::IsMember({"m", "km"}))->capture_default_str();
+  cmd->add_option("meshes", options->meshes, "Shape mesh(es): .obj, .off, .ply, .stl")
+      ->required()
+      ->check(CLI::ExistingFile);
+  cmd->add_option("--density", options->densities,
+                  "Density per mesh in kg/m^3 (repeat or list, in mesh order)")
+      ->required()
+      ->expected(1, -1);
+  cmd->add_option("--degree", options->degree, "Maximum degree")
+      ->check(CLI::NonNegativeNumber)
+      ->capture_default_str();
+  cmd->add_option("--unit", options->unit,
+                  "Length unit of the mesh files and of every length option: m or km")
+      ->check(CLI::IsMember({"m", "km"}))
+      ->capture_default_str();
   cmd->add_option("--merge-tolerance", options->merge_tolerance,
                   "Merge vertices closer than this (mesh unit); exact duplicates are always merged")
       ->check(CLI::NonNegativeNumber);
@@ -259,16 +279,21 @@ void setup_uncertainty(CLI::App& app, const GlobalOptions& global) {
                   "Reference radius in the mesh unit (default: Brillouin radius about the origin)")
       ->check(CLI::PositiveNumber);
   cmd->add_option("--origin", options->origin, "Expansion origin: com (centre of mass) or mesh (mesh origin)")
-      ->check(CLI::IsMember({"com", "mesh"}))->capture_default_str();
+      ->check(CLI::IsMember({"com", "mesh"}))
+      ->capture_default_str();
   cmd->add_option("--frame", options->frame, "Axes: mesh or principal (principal axes of inertia)")
-      ->check(CLI::IsMember({"mesh", "principal"}))->capture_default_str();
-  cmd->add_option("--normalization", options->normalization, "fully (4pi), unnormalized, schmidt or orthonormal")
-      ->check(CLI::IsMember({"fully", "unnormalized", "schmidt", "orthonormal"}))->capture_default_str();
+      ->check(CLI::IsMember({"mesh", "principal"}))
+      ->capture_default_str();
+  cmd->add_option("--normalization", options->normalization,
+                  "fully (4pi), unnormalized, schmidt or orthonormal")
+      ->check(CLI::IsMember({"fully", "unnormalized", "schmidt", "orthonormal"}))
+      ->capture_default_str();
   cmd->add_flag("--condon-shortley", options->condon_shortley, "Include the (-1)^m Condon-Shortley phase");
   cmd->add_flag("--zonal-j", options->zonal_as_j, "Write zonal terms as J_n = -C_n0");
   cmd->add_option("--body", options->body, "Body label written into the set (default: first mesh file name)");
   cmd->add_option("--samples", options->samples, "Number of Monte Carlo samples (>= 2)")
-      ->check(CLI::Range(2L, 100000000L))->capture_default_str();
+      ->check(CLI::Range(2L, 100000000L))
+      ->capture_default_str();
   cmd->add_option("--seed", options->seed, "Random seed (recorded in the set)")->capture_default_str();
   cmd->add_option("--shape-sigma", options->shape_sigma,
                   "Standard deviation of each vertex's displacement along its normal (mesh unit)")
@@ -286,15 +311,18 @@ void setup_uncertainty(CLI::App& app, const GlobalOptions& global) {
                   "Relative density sigma of each cone from the origin (random lateral variation, < 0.25)")
       ->check(CLI::NonNegativeNumber);
   cmd->add_option("--lateral-sectors", options->lateral_sectors, "Number of cones: 12, 42, 162, 642 or 2562")
-      ->check(CLI::IsMember({12, 42, 162, 642, 2562}))->capture_default_str();
+      ->check(CLI::IsMember({12, 42, 162, 642, 2562}))
+      ->capture_default_str();
   cmd->add_flag("--preserve-mass", options->preserve_mass,
                 "Keep each sample's mass: the density outside cores and voids is rescaled (GM known)");
   cmd->add_option("--shard", options->shard, "Run only shard i of k (i = 1..k) and write a shard file to -o");
   cmd->add_option("-o,--output", options->output, "Coefficient file (or shard file with --shard) to write")
       ->required();
   cmd->add_option("--json", options->json, "Also write the set as JSON to this file");
-  cmd->add_option("--threads", options->threads, "Worker threads (0 = all cores); results do not depend on it")
-      ->check(CLI::NonNegativeNumber)->capture_default_str();
+  cmd->add_option("--threads", options->threads,
+                  "Worker threads (0 = all cores); results do not depend on it")
+      ->check(CLI::NonNegativeNumber)
+      ->capture_default_str();
   cmd->callback([options, &global]() { run_uncertainty_command(*options, global); });
 
   auto merge_options = std::make_shared<MergeCommandOptions>();
@@ -304,8 +332,12 @@ void setup_uncertainty(CLI::App& app, const GlobalOptions& global) {
       "All shards must come from the same mesh and settings and together hold every sample exactly once;\n"
       "the result is bit-identical to a single run with the same seed and sample count.\n"
       "Example: polystokes uncertainty-merge part1.shard part2.shard part3.shard -o body_sigma.txt");
-  merge->add_option("shards", merge_options->shards, "Shard files, in any order")->required()->check(CLI::ExistingFile);
-  merge->add_option("-o,--output", merge_options->output, "Coefficient file to write (our text format; - for stdout)")
+  merge->add_option("shards", merge_options->shards, "Shard files, in any order")
+      ->required()
+      ->check(CLI::ExistingFile);
+  merge
+      ->add_option("-o,--output", merge_options->output,
+                   "Coefficient file to write (our text format; - for stdout)")
       ->required();
   merge->add_option("--json", merge_options->json, "Also write the set as JSON to this file");
   merge->callback([merge_options, &global]() { run_merge_command(*merge_options, global); });

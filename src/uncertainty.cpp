@@ -1,5 +1,7 @@
 #include "uncertainty.h"
 
+#include <fmt/format.h>
+
 #include <Eigen/Geometry>
 #include <algorithm>
 #include <atomic>
@@ -7,7 +9,6 @@
 #include <cmath>
 #include <cstring>
 #include <exception>
-#include <fmt/format.h>
 #include <limits>
 #include <random>
 #include <sstream>
@@ -53,8 +54,8 @@ class SampleRandom {
   SampleRandom(std::uint64_t seed, long index, Stream stream) {
     const auto i = static_cast<std::uint64_t>(index);
     // std::seed_seq and std::mt19937_64 are fully specified by the C++ standard, unlike the distributions.
-    std::seed_seq sequence{std::uint32_t(seed), std::uint32_t(seed >> 32), std::uint32_t(i), std::uint32_t(i >> 32),
-                           static_cast<std::uint32_t>(stream)};
+    std::seed_seq sequence{std::uint32_t(seed), std::uint32_t(seed >> 32), std::uint32_t(i),
+                           std::uint32_t(i >> 32), static_cast<std::uint32_t>(stream)};
     engine_.seed(sequence);
   }
 
@@ -107,7 +108,8 @@ Vertices unit_vertex_normals(const Mesh& mesh) {
   }
   for (Eigen::Index v = 0; v < normals.rows(); ++v) {
     const double length = normals.row(v).norm();
-    if (!(length > 0)) throw ConventionError(fmt::format("{}: vertex {} has no normal (its faces cancel)", mesh.source, v));
+    if (!(length > 0))
+      throw ConventionError(fmt::format("{}: vertex {} has no normal (its faces cancel)", mesh.source, v));
     normals.row(v) /= length;
   }
   return normals;
@@ -117,7 +119,8 @@ Vertices unit_vertex_normals(const Mesh& mesh) {
 double cone_volume(const Mesh& mesh, const Eigen::Vector3d& apex) {
   double volume = 0;
   for (Eigen::Index f = 0; f < mesh.faces.rows(); ++f)
-    volume += (vertex(mesh, f, 0) - apex).dot((vertex(mesh, f, 1) - apex).cross(vertex(mesh, f, 2) - apex)) / 6.0;
+    volume +=
+        (vertex(mesh, f, 0) - apex).dot((vertex(mesh, f, 1) - apex).cross(vertex(mesh, f, 2) - apex)) / 6.0;
   return volume;
 }
 
@@ -136,8 +139,8 @@ double winding_number(const Mesh& mesh, const Eigen::Vector3d& p) {
 }
 
 // Closest point of triangle abc to p by Voronoi regions (Ericson 2005, Real-Time Collision Detection, 5.1.5).
-Eigen::Vector3d closest_on_triangle(const Eigen::Vector3d& p, const Eigen::Vector3d& a, const Eigen::Vector3d& b,
-                                    const Eigen::Vector3d& c) {
+Eigen::Vector3d closest_on_triangle(const Eigen::Vector3d& p, const Eigen::Vector3d& a,
+                                    const Eigen::Vector3d& b, const Eigen::Vector3d& c) {
   const Eigen::Vector3d ab = b - a, ac = c - a, ap = p - a;
   const double d1 = ab.dot(ap), d2 = ac.dot(ap);
   if (d1 <= 0 && d2 <= 0) return a;
@@ -160,7 +163,9 @@ Eigen::Vector3d closest_on_triangle(const Eigen::Vector3d& p, const Eigen::Vecto
 double distance_to_surface(const Mesh& mesh, const Eigen::Vector3d& p) {
   double best = std::numeric_limits<double>::infinity();
   for (Eigen::Index f = 0; f < mesh.faces.rows(); ++f)
-    best = std::min(best, (closest_on_triangle(p, vertex(mesh, f, 0), vertex(mesh, f, 1), vertex(mesh, f, 2)) - p).squaredNorm());
+    best = std::min(best,
+                    (closest_on_triangle(p, vertex(mesh, f, 0), vertex(mesh, f, 1), vertex(mesh, f, 2)) - p)
+                        .squaredNorm());
   return std::sqrt(best);
 }
 
@@ -215,12 +220,14 @@ int sector_subdivisions(int sectors) {
 }
 
 void check_finite_nonnegative(double value, const char* what) {
-  if (!(std::isfinite(value) && value >= 0)) throw ConventionError(fmt::format("{} must be >= 0, got {}", what, value));
+  if (!(std::isfinite(value) && value >= 0))
+    throw ConventionError(fmt::format("{} must be >= 0, got {}", what, value));
 }
 
 void check_relative_sigma(double value, const char* what) {
   if (!(std::isfinite(value) && value >= 0 && value < 0.25))
-    throw ConventionError(fmt::format("{} must be in [0, 0.25) so no density turns negative, got {}", what, value));
+    throw ConventionError(
+        fmt::format("{} must be in [0, 0.25) so no density turns negative, got {}", what, value));
 }
 
 void check_settings(const UncertaintySettings& s) {
@@ -236,17 +243,20 @@ void check_settings(const UncertaintySettings& s) {
     if (!(std::isfinite(inclusion.radius) && inclusion.radius > 0))
       throw ConventionError(fmt::format("{} radius must be > 0, got {}", name, inclusion.radius));
     if (!inclusion.empty && !(std::isfinite(inclusion.contrast) && inclusion.contrast != 0))
-      throw ConventionError(fmt::format("core density contrast must be finite and non-zero, got {}", inclusion.contrast));
+      throw ConventionError(
+          fmt::format("core density contrast must be finite and non-zero, got {}", inclusion.contrast));
     check_finite_nonnegative(inclusion.offset, inclusion.empty ? "void offset" : "core offset");
     if (inclusion.subdivisions < 0 || inclusion.subdivisions > 6)
-      throw ConventionError(fmt::format("{} sphere subdivisions must be in 0..6, got {}", name, inclusion.subdivisions));
+      throw ConventionError(
+          fmt::format("{} sphere subdivisions must be in 0..6, got {}", name, inclusion.subdivisions));
     if (inclusion.center && !inclusion.center->allFinite())
       throw ConventionError(fmt::format("{} centre must be finite", name));
   }
   if (s.shape.correlation_length > 0 && !(s.shape.sigma > 0))
     throw ConventionError("a correlation length needs a shape sigma > 0");
   if (!(s.shape.sigma > 0 || s.density_sigma > 0 || !s.inclusions.empty() || s.lateral.sigma > 0))
-    throw ConventionError("nothing to vary: give a shape sigma, a density sigma, a core or void, or a lateral density sigma");
+    throw ConventionError(
+        "nothing to vary: give a shape sigma, a density sigma, a core or void, or a lateral density sigma");
 }
 
 // Where an inclusion's sphere may go: wholly inside the first region, crossing no region surface and
@@ -261,7 +271,9 @@ bool fits(const std::vector<DensityRegion>& body, const Eigen::Vector3d& center,
   return true;
 }
 
-std::string describe_point(const Eigen::Vector3d& p) { return fmt::format("({}, {}, {}) m", p.x(), p.y(), p.z()); }
+std::string describe_point(const Eigen::Vector3d& p) {
+  return fmt::format("({}, {}, {}) m", p.x(), p.y(), p.z());
+}
 
 size_t packed_size(int degree) { return size_t(degree + 1) * size_t(degree + 2); }
 
@@ -305,7 +317,8 @@ UncertaintyPlan plan_uncertainty(const std::vector<DensityRegion>& regions, cons
   for (const auto& region : regions) {
     pre->vertex_normals.push_back(unit_vertex_normals(region.mesh));
     Vertices areas(region.mesh.faces.rows(), 3);
-    for (Eigen::Index f = 0; f < region.mesh.faces.rows(); ++f) areas.row(f) = area_vector(region.mesh, f).transpose();
+    for (Eigen::Index f = 0; f < region.mesh.faces.rows(); ++f)
+      areas.row(f) = area_vector(region.mesh, f).transpose();
     pre->face_areas.push_back(std::move(areas));
   }
 
@@ -316,11 +329,14 @@ UncertaintyPlan plan_uncertainty(const std::vector<DensityRegion>& regions, cons
     const char* name = inclusion.empty ? "void" : "core";
     if (inclusion.offset == 0) {
       if (!fits(regions, *inclusion.center, inclusion.radius, fixed))
-        throw ConventionError(fmt::format("the {} of radius {} m at {} is not inside the body (or overlaps another "
-                                          "inclusion)", name, inclusion.radius, describe_point(*inclusion.center)));
+        throw ConventionError(
+            fmt::format("the {} of radius {} m at {} is not inside the body (or overlaps another "
+                        "inclusion)",
+                        name, inclusion.radius, describe_point(*inclusion.center)));
       fixed.emplace_back(*inclusion.center, inclusion.radius);
     } else if (winding_number(regions.front().mesh, *inclusion.center) < 0.5) {
-      throw ConventionError(fmt::format("the {} centre {} is not inside the body", name, describe_point(*inclusion.center)));
+      throw ConventionError(
+          fmt::format("the {} centre {} is not inside the body", name, describe_point(*inclusion.center)));
     }
   }
 
@@ -331,7 +347,8 @@ UncertaintyPlan plan_uncertainty(const std::vector<DensityRegion>& regions, cons
       const Mesh& mesh = regions[r].mesh;
       std::vector<std::vector<Eigen::Index>> faces_of(size_t(directions.vertices.rows()));
       for (Eigen::Index f = 0; f < mesh.faces.rows(); ++f) {
-        const Eigen::Vector3d centroid = (vertex(mesh, f, 0) + vertex(mesh, f, 1) + vertex(mesh, f, 2)) / 3.0 - apex;
+        const Eigen::Vector3d centroid =
+            (vertex(mesh, f, 0) + vertex(mesh, f, 1) + vertex(mesh, f, 2)) / 3.0 - apex;
         Eigen::Index nearest = 0;
         (directions.vertices * centroid).maxCoeff(&nearest);
         faces_of[size_t(nearest)].push_back(f);
@@ -400,7 +417,8 @@ SampleResult run_sample(const UncertaintyPlan& plan, long index) {
         if (!(area_vector(mesh, f).dot(pre.face_areas[r].row(f).transpose()) > 0))
           throw ConventionError(fmt::format(
               "sample {}: the shape noise folds face {} of {} over (shape sigma {} m, mean edge {} m); use a "
-              "smaller sigma or a longer correlation length", index, f, mesh.source, s.shape.sigma, plan.mean_edge));
+              "smaller sigma or a longer correlation length",
+              index, f, mesh.source, s.shape.sigma, plan.mean_edge));
     }
   }
 
@@ -441,7 +459,8 @@ SampleResult run_sample(const UncertaintyPlan& plan, long index) {
       for (int attempt = 0; attempt < (inclusion.offset > 0 ? kPlacementTries : 1) && !ok; ++attempt) {
         if (inclusion.offset > 0) {
           Eigen::Vector3d u;
-          do u = Eigen::Vector3d(2 * random.uniform() - 1, 2 * random.uniform() - 1, 2 * random.uniform() - 1);
+          do
+            u = Eigen::Vector3d(2 * random.uniform() - 1, 2 * random.uniform() - 1, 2 * random.uniform() - 1);
           while (u.squaredNorm() > 1);
           center = *inclusion.center + inclusion.offset * u;
         }
@@ -451,8 +470,9 @@ SampleResult run_sample(const UncertaintyPlan& plan, long index) {
         throw ConventionError(fmt::format(
             "sample {}: cannot place the {} of radius {} m {} {} inside the sampled body{}", index,
             inclusion.empty ? "void" : "core", inclusion.radius, inclusion.offset > 0 ? "within" : "at",
-            inclusion.offset > 0 ? fmt::format("{} m of {}", inclusion.offset, describe_point(*inclusion.center))
-                                 : describe_point(center),
+            inclusion.offset > 0
+                ? fmt::format("{} m of {}", inclusion.offset, describe_point(*inclusion.center))
+                : describe_point(center),
             inclusion.offset > 0 ? fmt::format(" in {} tries", kPlacementTries) : std::string()));
       placed.emplace_back(center, inclusion.radius);
       DensityRegion sphere;
@@ -475,8 +495,10 @@ SampleResult run_sample(const UncertaintyPlan& plan, long index) {
   if (s.preserve_mass) {
     q = (homogeneous_mass - core_mass) / (body_mass - void_density * void_volume);
     if (!(q > 0))
-      throw ConventionError(fmt::format("sample {}: the inclusions hold more than the body's mass, so the mass "
-                                        "cannot be preserved", index));
+      throw ConventionError(
+          fmt::format("sample {}: the inclusions hold more than the body's mass, so the mass "
+                      "cannot be preserved",
+                      index));
   }
   double density_scale = 1.0;
   if (s.density_sigma > 0) {
@@ -556,41 +578,54 @@ std::string describe_variations(const UncertaintySettings& s, double mean_edge) 
     if (s.shape.correlation_length > 0)
       parts.push_back(fmt::format(
           "vertex positions along their normals with sigma {} m and a Gaussian correlation length of {} m "
-          "(covariance sigma^2 exp(-d^2/(2 L^2))){}", s.shape.sigma, s.shape.correlation_length,
+          "(covariance sigma^2 exp(-d^2/(2 L^2))){}",
+          s.shape.sigma, s.shape.correlation_length,
           s.shape.correlation_length < mean_edge
-              ? fmt::format(", shorter than the mean edge of {:.6g} m, so nearly independent per vertex", mean_edge)
+              ? fmt::format(", shorter than the mean edge of {:.6g} m, so nearly independent per vertex",
+                            mean_edge)
               : std::string()));
     else
-      parts.push_back(fmt::format("vertex positions along their normals with sigma {} m, independent per vertex "
-                                  "(mean edge {:.6g} m)", s.shape.sigma, mean_edge));
+      parts.push_back(
+          fmt::format("vertex positions along their normals with sigma {} m, independent per vertex "
+                      "(mean edge {:.6g} m)",
+                      s.shape.sigma, mean_edge));
   }
   if (s.density_sigma > 0)
-    parts.push_back(fmt::format("a global density scale with relative sigma {} (it changes GM but not the "
-                                "normalized coefficients)", s.density_sigma));
+    parts.push_back(
+        fmt::format("a global density scale with relative sigma {} (it changes GM but not the "
+                    "normalized coefficients)",
+                    s.density_sigma));
   for (const auto& inclusion : s.inclusions) {
     std::string what = inclusion.empty ? fmt::format("an empty void of radius {} m", inclusion.radius)
                                        : fmt::format("a core of radius {} m with density contrast {} kg/m^3",
                                                      inclusion.radius, inclusion.contrast);
-    what += inclusion.offset > 0 ? fmt::format(" centred anywhere within {} m of {} (mesh frame, uniform, always "
-                                               "inside the body)", inclusion.offset, describe_point(*inclusion.center))
-                                 : fmt::format(" centred at {} (mesh frame)", describe_point(*inclusion.center));
+    what += inclusion.offset > 0
+                ? fmt::format(
+                      " centred anywhere within {} m of {} (mesh frame, uniform, always "
+                      "inside the body)",
+                      inclusion.offset, describe_point(*inclusion.center))
+                : fmt::format(" centred at {} (mesh frame)", describe_point(*inclusion.center));
     parts.push_back(what);
   }
   if (s.lateral.sigma > 0)
-    parts.push_back(fmt::format("the density of {} cones from the expansion origin, each independently with "
-                                "relative sigma {}", s.lateral.sectors, s.lateral.sigma));
+    parts.push_back(
+        fmt::format("the density of {} cones from the expansion origin, each independently with "
+                    "relative sigma {}",
+                    s.lateral.sectors, s.lateral.sigma));
   std::string text;
   for (size_t i = 0; i < parts.size(); ++i) text += (i == 0 ? "" : "; ") + parts[i];
   if (s.preserve_mass && (!s.inclusions.empty() || s.lateral.sigma > 0))
-    text += "; the density outside the inclusions is rescaled so each sample keeps the mass of the homogeneous body";
+    text +=
+        "; the density outside the inclusions is rescaled so each sample keeps the mass of the homogeneous "
+        "body";
   return text;
 }
 
 }  // namespace
 
 UncertaintyResult summarize_uncertainty(const CoefficientSet& nominal, const UncertaintySettings& settings,
-                                        const Convention& convention, const std::vector<SampleResult>& samples,
-                                        double mean_edge) {
+                                        const Convention& convention,
+                                        const std::vector<SampleResult>& samples, double mean_edge) {
   if (nominal.convention.normalization != Normalization::fully || nominal.convention.condon_shortley ||
       nominal.convention.zonal_as_j)
     throw ConventionError("uncertainty statistics need the nominal set fully normalized without phase");
@@ -600,7 +635,8 @@ UncertaintyResult summarize_uncertainty(const CoefficientSet& nominal, const Unc
   for (const auto& sample : samples) {
     if (sample.index < 0 || sample.index >= K)
       throw ConventionError(fmt::format("sample index {} outside 0..{}", sample.index, K - 1));
-    if (ordered[size_t(sample.index)]) throw ConventionError(fmt::format("sample {} given twice", sample.index));
+    if (ordered[size_t(sample.index)])
+      throw ConventionError(fmt::format("sample {} given twice", sample.index));
     if (size_t(sample.delta.size()) != packed_size(N))
       throw ConventionError(fmt::format("sample {} holds {} values, degree {} needs {}", sample.index,
                                         sample.delta.size(), N, packed_size(N)));
@@ -612,7 +648,8 @@ UncertaintyResult summarize_uncertainty(const CoefficientSet& nominal, const Unc
   Eigen::VectorXd sum_squares = Eigen::VectorXd::Zero(Eigen::Index(packed_size(N)));
   double gm_squares = 0, brillouin = nominal.brillouin_radius;
   Eigen::Vector3d com_squares = Eigen::Vector3d::Zero();
-  const double degree_one = std::sqrt(3.0) * nominal.reference_radius;  // COM shift = sqrt(3) R (C11, S11, C10)
+  const double degree_one =
+      std::sqrt(3.0) * nominal.reference_radius;  // COM shift = sqrt(3) R (C11, S11, C10)
   const Eigen::Index s_offset = Eigen::Index(packed_size(N) / 2);
   for (const SampleResult* sample : ordered) {
     sum_squares += sample->delta.cwiseAbs2();
@@ -631,7 +668,8 @@ UncertaintyResult summarize_uncertainty(const CoefficientSet& nominal, const Unc
   for (int n = 0; n <= N; ++n)
     for (int m = 0; m <= n; ++m) set.sigma_C(n, m) = std::sqrt(sum_squares(i++) / double(K));
   for (int n = 0; n <= N; ++n)
-    for (int m = 0; m <= n; ++m, ++i) set.sigma_S(n, m) = m == 0 ? 0.0 : std::sqrt(sum_squares(i) / double(K));
+    for (int m = 0; m <= n; ++m, ++i)
+      set.sigma_S(n, m) = m == 0 ? 0.0 : std::sqrt(sum_squares(i) / double(K));
 
   UncertaintySummary& summary = result.summary;
   summary.samples = K;
@@ -652,60 +690,80 @@ UncertaintyResult summarize_uncertainty(const CoefficientSet& nominal, const Unc
     if (std::sqrt(noise) < kRoundingLevel)
       summary.degree_ratio(n) = 0;
     else
-      summary.degree_ratio(n) = signal > 0 ? std::sqrt(noise / signal) : std::numeric_limits<double>::infinity();
-    if (n >= 2 && (worst_degree < 0 || summary.degree_ratio(n) > summary.degree_ratio(worst_degree))) worst_degree = n;
+      summary.degree_ratio(n) =
+          signal > 0 ? std::sqrt(noise / signal) : std::numeric_limits<double>::infinity();
+    if (n >= 2 && (worst_degree < 0 || summary.degree_ratio(n) > summary.degree_ratio(worst_degree)))
+      worst_degree = n;
   }
   for (int n = N; n >= 2 && summary.degree_ratio(n) > kDominanceRatio; --n) summary.dominated_from = n;
   for (int n = 2; n < (summary.dominated_from >= 0 ? summary.dominated_from : N + 1); ++n)
     if (summary.degree_ratio(n) > kDominanceRatio) summary.isolated.push_back(n);
 
-  const bool shape_only = settings.shape.sigma > 0 && settings.density_sigma == 0 && settings.inclusions.empty() &&
-                          settings.lateral.sigma == 0;
+  const bool shape_only = settings.shape.sigma > 0 && settings.density_sigma == 0 &&
+                          settings.inclusions.empty() && settings.lateral.sigma == 0;
   const char* source = shape_only ? "shape noise" : "modelled variations";
   auto& notes = set.notes;
   notes.push_back(fmt::format(
-      "Uncertainty: sigma_C and sigma_S come from {} Monte Carlo samples with seed {}. Sample i draws its own "
+      "Uncertainty: sigma_C and sigma_S come from {} Monte Carlo samples with seed {}. Sample i draws its "
+      "own "
       "random numbers from (seed, i), so the same seed and sample count reproduce these values exactly, also "
-      "when the run is split into shards.", K, settings.seed));
+      "when the run is split into shards.",
+      K, settings.seed));
   notes.push_back("Uncertainty: varied: " + describe_variations(settings, mean_edge) + ".");
-  notes.push_back(fmt::format(
-      "Uncertainty: each sigma is the RMS difference between the sampled bodies and this nominal set (about the "
-      "nominal, not about the sample mean), so a fixed scenario counts fully. With {} samples a sigma is itself "
-      "uncertain by about {:.2g}% (1/sqrt(2K)).", K, 100.0 / std::sqrt(2.0 * double(K))));
-  notes.push_back(fmt::format("Uncertainty: GM sigma {:.6g} m^3 s^-2, {:.3g} of the nominal GM {:.9g} m^3 s^-2.",
-                              summary.gm_sigma, summary.gm_sigma / nominal.gm, nominal.gm));
+  notes.push_back(
+      fmt::format("Uncertainty: each sigma is the RMS difference between the sampled bodies and this nominal "
+                  "set (about the "
+                  "nominal, not about the sample mean), so a fixed scenario counts fully. With {} samples a "
+                  "sigma is itself "
+                  "uncertain by about {:.2g}% (1/sqrt(2K)).",
+                  K, 100.0 / std::sqrt(2.0 * double(K))));
+  notes.push_back(
+      fmt::format("Uncertainty: GM sigma {:.6g} m^3 s^-2, {:.3g} of the nominal GM {:.9g} m^3 s^-2.",
+                  summary.gm_sigma, summary.gm_sigma / nominal.gm, nominal.gm));
   if (N >= 1)
-    notes.push_back(fmt::format(
-        "Uncertainty: the samples keep this set's origin and axes, so the degree-1 terms carry the scatter of the "
-        "centre of mass: RMS {:.6g} m, {:.6g} m, {:.6g} m along the set's x, y, z axes.",
-        summary.com_sigma.x(), summary.com_sigma.y(), summary.com_sigma.z()));
+    notes.push_back(
+        fmt::format("Uncertainty: the samples keep this set's origin and axes, so the degree-1 terms carry "
+                    "the scatter of the "
+                    "centre of mass: RMS {:.6g} m, {:.6g} m, {:.6g} m along the set's x, y, z axes.",
+                    summary.com_sigma.x(), summary.com_sigma.y(), summary.com_sigma.z()));
   std::string isolated;
   for (const int n : summary.isolated) isolated += fmt::format("{}{}", isolated.empty() ? "" : ", ", n);
   const int percent = int(kDominanceRatio * 100);
   if (summary.dominated_from >= 0)
     notes.push_back(fmt::format(
-        "Uncertainty: from degree {} to {} every degree's sampled uncertainty exceeds {}% of its coefficients (RMS "
-        "over the orders; ratio {:.3g} at degree {}, {:.3g} at degree {}): that range is dominated by the {}, not "
-        "fixed by the shape.{}", summary.dominated_from, N, percent, summary.degree_ratio(summary.dominated_from),
+        "Uncertainty: from degree {} to {} every degree's sampled uncertainty exceeds {}% of its "
+        "coefficients (RMS "
+        "over the orders; ratio {:.3g} at degree {}, {:.3g} at degree {}): that range is dominated by the "
+        "{}, not "
+        "fixed by the shape.{}",
+        summary.dominated_from, N, percent, summary.degree_ratio(summary.dominated_from),
         summary.dominated_from, summary.degree_ratio(N), N, source,
-        isolated.empty() ? std::string()
-                         : fmt::format(" Below it, degree(s) {} exceed {}% too, where the coefficients are small.",
-                                       isolated, percent)));
+        isolated.empty()
+            ? std::string()
+            : fmt::format(" Below it, degree(s) {} exceed {}% too, where the coefficients are small.",
+                          isolated, percent)));
   else if (N >= 2)
     notes.push_back(fmt::format(
-        "Uncertainty: the sampled uncertainty stays below {}% of the coefficients (RMS over the orders) at degree {}{}; "
-        "largest ratio {:.3g} at degree {}.", percent, N,
-        isolated.empty() ? std::string(" and below")
-                         : fmt::format(" but exceeds it at degree(s) {}, where the coefficients are small", isolated),
+        "Uncertainty: the sampled uncertainty stays below {}% of the coefficients (RMS over the orders) at "
+        "degree {}{}; "
+        "largest ratio {:.3g} at degree {}.",
+        percent, N,
+        isolated.empty()
+            ? std::string(" and below")
+            : fmt::format(" but exceeds it at degree(s) {}, where the coefficients are small", isolated),
         summary.degree_ratio(worst_degree), worst_degree));
-  notes.push_back(fmt::format(
-      "Uncertainty: assumptions: homogeneous interior within each region apart from the scenarios listed above. "
-      "The nominal Brillouin radius is {:.9g} m; the sampled shapes reach {:.9g} m from the origin. The series "
-      "converges only outside the Brillouin sphere.", nominal.brillouin_radius, brillouin));
-  notes.push_back("CAUTION: these sigmas cover only the variations listed above; they are not a complete error "
-                  "budget and do not replace validation against tracking data.");
-  set.history.push_back(fmt::format("uncertainty: {} Monte Carlo samples, seed {}, sigma = RMS about the nominal", K,
-                                    settings.seed));
+  notes.push_back(
+      fmt::format("Uncertainty: assumptions: homogeneous interior within each region apart from the "
+                  "scenarios listed above. "
+                  "The nominal Brillouin radius is {:.9g} m; the sampled shapes reach {:.9g} m from the "
+                  "origin. The series "
+                  "converges only outside the Brillouin sphere.",
+                  nominal.brillouin_radius, brillouin));
+  notes.push_back(
+      "CAUTION: these sigmas cover only the variations listed above; they are not a complete error "
+      "budget and do not replace validation against tracking data.");
+  set.history.push_back(fmt::format(
+      "uncertainty: {} Monte Carlo samples, seed {}, sigma = RMS about the nominal", K, settings.seed));
   if (convention.normalization != Normalization::fully || convention.condon_shortley || convention.zonal_as_j)
     set = convert_convention(set, convention);
   return result;
@@ -721,7 +779,8 @@ UncertaintyShard run_shard(const UncertaintyPlan& plan, const Shard& shard, cons
   UncertaintyShard out;
   out.shard = shard;
   out.fingerprint = plan.fingerprint;
-  for (const auto& region : plan.nominal.regions) out.mesh_checksums.push_back(region.checksum.empty() ? "-" : region.checksum);
+  for (const auto& region : plan.nominal.regions)
+    out.mesh_checksums.push_back(region.checksum.empty() ? "-" : region.checksum);
   out.settings = plan.settings;
   out.convention = plan.convention;
   out.mean_edge = plan.mean_edge;
@@ -795,7 +854,8 @@ class ShardReader {
   /// The value of the next line, which must start with "key ".
   std::string value(const std::string& key) {
     const std::string& line = peek();
-    if (line.compare(0, key.size() + 1, key + " ") != 0) fail("expected '" + key + " ...', got '" + line + "'");
+    if (line.compare(0, key.size() + 1, key + " ") != 0)
+      fail("expected '" + key + " ...', got '" + line + "'");
     ++next_;
     return line.substr(key.size() + 1);
   }
@@ -868,8 +928,9 @@ std::string format_shard_text(const UncertaintyShard& shard) {
 UncertaintyShard parse_shard_text(const std::string& text, const std::string& source_name) {
   ShardReader in(text, source_name);
   if (in.at_end() || in.take_line() != fmt::format("{} {}", kShardFormat, kShardVersion))
-    throw format_error(source_name, 1, fmt::format("not a shard file: the first line must be '{} {}'", kShardFormat,
-                                                    kShardVersion));
+    throw format_error(
+        source_name, 1,
+        fmt::format("not a shard file: the first line must be '{} {}'", kShardFormat, kShardVersion));
   UncertaintyShard shard;
   try {
     shard.shard = parse_shard(in.value("shard"));
@@ -915,20 +976,23 @@ UncertaintyShard parse_shard_text(const std::string& text, const std::string& so
   std::string nominal;
   for (long k = 0; k < nominal_lines; ++k) nominal += in.take_line() + "\n";
   try {
-    shard.nominal = parse_coefficient_text(nominal, source_name + " (nominal set from line " +
-                                                        std::to_string(nominal_line + 1) + ")");
+    shard.nominal = parse_coefficient_text(
+        nominal, source_name + " (nominal set from line " + std::to_string(nominal_line + 1) + ")");
   } catch (const Error& e) {
     throw FormatError(e.what());
   }
-  if (shard.nominal.degree != degree) in.fail(fmt::format("nominal set has degree {}, header says {}", shard.nominal.degree, degree));
+  if (shard.nominal.degree != degree)
+    in.fail(fmt::format("nominal set has degree {}, header says {}", shard.nominal.degree, degree));
 
   const long count = in.integer<long>(in.value("sample_count"));
   const size_t values = packed_size(degree);
   for (long k = 0; k < count; ++k) {
     const auto w = ShardReader::words(in.value("sample"));
     if (w.size() != values + 3)
-      in.fail(fmt::format("a sample line needs index, Brillouin radius, GM delta and {} coefficient deltas; got {} "
-                          "values", values, w.size()));
+      in.fail(fmt::format(
+          "a sample line needs index, Brillouin radius, GM delta and {} coefficient deltas; got {} "
+          "values",
+          values, w.size()));
     SampleResult sample;
     sample.index = in.integer<long>(w[0]);
     if (sample.index < 0 || sample.index >= s.samples)
@@ -946,7 +1010,8 @@ UncertaintyShard parse_shard_text(const std::string& text, const std::string& so
   return shard;
 }
 
-UncertaintyResult merge_shards(const std::vector<UncertaintyShard>& shards, const std::vector<std::string>& names) {
+UncertaintyResult merge_shards(const std::vector<UncertaintyShard>& shards,
+                               const std::vector<std::string>& names) {
   if (shards.empty()) throw ConventionError("no shard files given");
   if (names.size() != shards.size()) throw ConventionError("one name per shard is needed");
   const UncertaintyShard& first = shards.front();
@@ -955,10 +1020,12 @@ UncertaintyResult merge_shards(const std::vector<UncertaintyShard>& shards, cons
     const auto lines = run_lines(shards[k]);
     for (size_t i = 0; i < std::max(lines.size(), reference.size()); ++i) {
       const std::string mine = i < lines.size() ? lines[i].first + " " + lines[i].second : "(nothing)";
-      const std::string theirs = i < reference.size() ? reference[i].first + " " + reference[i].second : "(nothing)";
+      const std::string theirs =
+          i < reference.size() ? reference[i].first + " " + reference[i].second : "(nothing)";
       if (mine != theirs)
-        throw ConventionError(fmt::format("{} does not belong to the same run as {}: it has '{}' where {} has '{}'",
-                                          names[k], names[0], mine, names[0], theirs));
+        throw ConventionError(
+            fmt::format("{} does not belong to the same run as {}: it has '{}' where {} has '{}'", names[k],
+                        names[0], mine, names[0], theirs));
     }
     const CoefficientSet& a = first.nominal;
     const CoefficientSet& b = shards[k].nominal;
@@ -973,16 +1040,17 @@ UncertaintyResult merge_shards(const std::vector<UncertaintyShard>& shards, cons
   for (size_t k = 0; k < shards.size(); ++k) {
     const auto expected = shard_samples(shards[k].shard, K);
     bool matches = expected.size() == shards[k].samples.size();
-    for (size_t i = 0; matches && i < expected.size(); ++i) matches = expected[i] == shards[k].samples[i].index;
+    for (size_t i = 0; matches && i < expected.size(); ++i)
+      matches = expected[i] == shards[k].samples[i].index;
     if (!matches)
-      throw ConventionError(fmt::format("{} holds {} samples that are not those of shard {}/{} ({} samples)", names[k],
-                                        shards[k].samples.size(), shards[k].shard.index, shards[k].shard.count,
-                                        expected.size()));
+      throw ConventionError(fmt::format("{} holds {} samples that are not those of shard {}/{} ({} samples)",
+                                        names[k], shards[k].samples.size(), shards[k].shard.index,
+                                        shards[k].shard.count, expected.size()));
     for (const auto& sample : shards[k].samples) {
       int& who = owner[size_t(sample.index)];
       if (who >= 0)
-        throw ConventionError(fmt::format("sample {} is in both {} and {} (the same shard given twice?)", sample.index,
-                                          names[size_t(who)], names[k]));
+        throw ConventionError(fmt::format("sample {} is in both {} and {} (the same shard given twice?)",
+                                          sample.index, names[size_t(who)], names[k]));
       who = int(k);
       all.push_back(sample);
     }
@@ -990,10 +1058,11 @@ UncertaintyResult merge_shards(const std::vector<UncertaintyShard>& shards, cons
   const long missing = std::count(owner.begin(), owner.end(), -1);
   if (missing > 0) {
     std::string given;
-    for (const auto& shard : shards) given += fmt::format("{}{}/{}", given.empty() ? "" : ", ", shard.shard.index, shard.shard.count);
+    for (const auto& shard : shards)
+      given += fmt::format("{}{}/{}", given.empty() ? "" : ", ", shard.shard.index, shard.shard.count);
     const long first_missing = long(std::find(owner.begin(), owner.end(), -1) - owner.begin());
-    throw ConventionError(fmt::format("{} of the {} samples are missing (first: sample {}); shards given: {}", missing, K,
-                                      first_missing, given));
+    throw ConventionError(fmt::format("{} of the {} samples are missing (first: sample {}); shards given: {}",
+                                      missing, K, first_missing, given));
   }
   return summarize_uncertainty(first.nominal, first.settings, first.convention, all, first.mean_edge);
 }

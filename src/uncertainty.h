@@ -1,5 +1,6 @@
 // Monte Carlo uncertainty of Stokes coefficients: shape noise, density (GM) scale and interior-density
-// scenarios, with sigma_C / sigma_S and plain-language notes written into the nominal set. See docs/uncertainty.md.
+// scenarios, with sigma_C / sigma_S and plain-language notes written into the nominal set. See
+// docs/uncertainty.md.
 #pragma once
 
 #include <Eigen/Core>
@@ -27,13 +28,13 @@ struct ShapeNoise {
 
 /// A sphere of different density superposed on the body: a denser core, a lighter zone or a void.
 struct Inclusion {
-  bool empty = false;           ///< true: a void (density zero inside); `contrast` is then ignored
-  double radius = 0;            ///< m
-  double contrast = 0;          ///< kg/m^3 added to the body's density inside the sphere (core only)
+  bool empty = false;   ///< true: a void (density zero inside); `contrast` is then ignored
+  double radius = 0;    ///< m
+  double contrast = 0;  ///< kg/m^3 added to the body's density inside the sphere (core only)
   /// Mesh frame, m. Unset: the nominal centre of mass (plan_uncertainty fills it in).
   std::optional<Eigen::Vector3d> center;
-  double offset = 0;            ///< m; > 0: each sample draws the centre uniformly within this distance
-  int subdivisions = 3;         ///< the sphere is an inscribed icosphere with 20 * 4^subdivisions faces
+  double offset = 0;     ///< m; > 0: each sample draws the centre uniformly within this distance
+  int subdivisions = 3;  ///< the sphere is an inscribed icosphere with 20 * 4^subdivisions faces
 };
 
 /// Random lateral density variation: every region is divided into cones from the expansion origin, one per
@@ -86,15 +87,16 @@ struct UncertaintyPlan {
   Convention convention;         ///< convention of the final set
   UncertaintySettings settings;  ///< with inclusion centres filled in
   std::vector<DensityRegion> regions;
-  std::string fingerprint;       ///< hash of the geometry, densities and compute options (16 hex digits)
-  double mean_edge = 0;          ///< m, mean edge length of the regions' meshes
+  std::string fingerprint;  ///< hash of the geometry, densities and compute options (16 hex digits)
+  double mean_edge = 0;     ///< m, mean edge length of the regions' meshes
   struct Precomputed;
   std::shared_ptr<const Precomputed> precomputed;  ///< vertex normals, cone partition (private)
 };
 
-/// Checks the settings, computes the nominal set (compute_coefficients, fully normalized; `compute.convention`
-/// is applied only to the final set) and what every sample shares. O(F) plus one coefficient computation.
-/// Throws ConventionError for settings out of range, nothing to vary, or an inclusion not inside the body.
+/// Checks the settings, computes the nominal set (compute_coefficients, fully normalized;
+/// `compute.convention` is applied only to the final set) and what every sample shares. O(F) plus one
+/// coefficient computation. Throws ConventionError for settings out of range, nothing to vary, or an
+/// inclusion not inside the body.
 UncertaintyPlan plan_uncertainty(const std::vector<DensityRegion>& regions, const ComputeOptions& compute,
                                  const UncertaintySettings& settings);
 
@@ -106,7 +108,7 @@ SampleResult run_sample(const UncertaintyPlan& plan, long index);
 
 /// Execution controls; results never depend on them.
 struct SampleOptions {
-  int threads = 0;                                  ///< 0 = all hardware threads (samples run in parallel)
+  int threads = 0;  ///< 0 = all hardware threads (samples run in parallel)
   std::function<void(long done, long total)> progress;  ///< called from worker threads
 };
 
@@ -127,7 +129,7 @@ struct UncertaintySummary {
   Eigen::VectorXd degree_ratio;
   /// Lowest degree n >= 2 such that every degree n..N has degree_ratio > 0.1; -1 if degree N has not.
   int dominated_from = -1;
-  std::vector<int> isolated;     ///< degrees >= 2 below dominated_from whose ratio exceeds 0.1 all the same
+  std::vector<int> isolated;  ///< degrees >= 2 below dominated_from whose ratio exceeds 0.1 all the same
 };
 
 struct UncertaintyResult {
@@ -140,8 +142,8 @@ struct UncertaintyResult {
 /// set (not the scatter about the sample mean, so a fixed scenario counts fully), summed in index order so
 /// the result is bit-identical however the samples were split. O(K (N+1)^2).
 UncertaintyResult summarize_uncertainty(const CoefficientSet& nominal, const UncertaintySettings& settings,
-                                        const Convention& convention, const std::vector<SampleResult>& samples,
-                                        double mean_edge);
+                                        const Convention& convention,
+                                        const std::vector<SampleResult>& samples, double mean_edge);
 
 /// All samples of the plan (run_samples then summarize_uncertainty).
 UncertaintyResult run_uncertainty(const UncertaintyPlan& plan, const SampleOptions& options = {});
@@ -155,11 +157,12 @@ struct UncertaintyShard {
   Convention convention;
   double mean_edge = 0;
   CoefficientSet nominal;
-  std::vector<SampleResult> samples;        ///< ascending index
+  std::vector<SampleResult> samples;  ///< ascending index
 };
 
 /// Runs the shard's samples of the plan.
-UncertaintyShard run_shard(const UncertaintyPlan& plan, const Shard& shard, const SampleOptions& options = {});
+UncertaintyShard run_shard(const UncertaintyPlan& plan, const Shard& shard,
+                           const SampleOptions& options = {});
 
 /// Shard file text, format "polystokes-uncertainty-shard 1" (docs/uncertainty.md): settings one per line,
 /// the nominal set embedded in the coefficient text format, then one line per sample; doubles written in
@@ -171,6 +174,7 @@ UncertaintyShard parse_shard_text(const std::string& text, const std::string& so
 /// Checks the shards belong to one run (same fingerprint, mesh checksums, settings, nominal set) and hold
 /// every sample exactly once, then summarizes. names[i] is used in messages for shards[i]. Throws
 /// ConventionError naming the shards and the first disagreement, duplicate or missing sample.
-UncertaintyResult merge_shards(const std::vector<UncertaintyShard>& shards, const std::vector<std::string>& names);
+UncertaintyResult merge_shards(const std::vector<UncertaintyShard>& shards,
+                               const std::vector<std::string>& names);
 
 }  // namespace polystokes

@@ -17,8 +17,10 @@ std::string quoted(const std::string& path) { return "'" + path + "'"; }
 // core drawn anywhere within 200 m of the centre.
 std::string run_arguments(int seed = 4242) {
   return "uncertainty " + quoted(source_path("shapes-demo/sphere.obj")) +
-         " --unit km --density 2100 --degree 4 --samples 7 --seed " + std::to_string(seed) + " --shape-sigma 0.002"
-         " --correlation-length 0.3 --density-sigma 0.01 --core-radius 0.2 --core-contrast 900 --core-offset 0.2";
+         " --unit km --density 2100 --degree 4 --samples 7 --seed " + std::to_string(seed) +
+         " --shape-sigma 0.002"
+         " --correlation-length 0.3 --density-sigma 0.01 --core-radius 0.2 --core-contrast 900 --core-offset "
+         "0.2";
 }
 
 }  // namespace
@@ -33,13 +35,14 @@ TEST_CASE("uncertainty in three shard processes, merged, equals one run bit for 
   std::vector<std::string> shards;
   for (int i = 1; i <= 3; ++i) {
     shards.push_back(dir + "/part" + std::to_string(i) + ".shard");
-    const CommandResult part = run_cli(run_arguments() + " --shard " + std::to_string(i) + "/3 -o " + quoted(shards.back()));
+    const CommandResult part =
+        run_cli(run_arguments() + " --shard " + std::to_string(i) + "/3 -o " + quoted(shards.back()));
     CAPTURE(part.output);
     REQUIRE(part.exit_code == 0);
   }
   // Any order of the shard files.
-  const CommandResult merged = run_cli("uncertainty-merge " + quoted(shards[2]) + " " + quoted(shards[0]) + " " +
-                                       quoted(shards[1]) + " -o " + quoted(dir + "/merged.txt"));
+  const CommandResult merged = run_cli("uncertainty-merge " + quoted(shards[2]) + " " + quoted(shards[0]) +
+                                       " " + quoted(shards[1]) + " -o " + quoted(dir + "/merged.txt"));
   CAPTURE(merged.output);
   REQUIRE(merged.exit_code == 0);
   const CoefficientSet a = read_coefficient_file(dir + "/single.txt");
@@ -53,8 +56,8 @@ TEST_CASE("uncertainty in three shard processes, merged, equals one run bit for 
   CHECK(from_json.sigma_C == a.sigma_C);
 
   SECTION("a missing shard: one error line, exit code 2, no output") {
-    const CommandResult bad = run_cli("uncertainty-merge " + quoted(shards[0]) + " " + quoted(shards[2]) + " -o " +
-                                      quoted(dir + "/incomplete.txt"));
+    const CommandResult bad = run_cli("uncertainty-merge " + quoted(shards[0]) + " " + quoted(shards[2]) +
+                                      " -o " + quoted(dir + "/incomplete.txt"));
     CAPTURE(bad.output);
     CHECK(bad.exit_code == 2);
     CHECK_THAT(bad.output, Contains("error") && Contains("samples are missing") && Contains("1/3, 3/3"));
@@ -74,8 +77,9 @@ TEST_CASE("uncertainty in three shard processes, merged, equals one run bit for 
     std::string text = read_bytes(shards[1]);
     text.resize(text.size() / 2);
     write_text(dir + "/cut.shard", text);
-    const CommandResult bad = run_cli("uncertainty-merge " + quoted(shards[0]) + " " + quoted(dir + "/cut.shard") +
-                                      " " + quoted(shards[2]) + " -o " + quoted(dir + "/cut.txt"));
+    const CommandResult bad =
+        run_cli("uncertainty-merge " + quoted(shards[0]) + " " + quoted(dir + "/cut.shard") + " " +
+                quoted(shards[2]) + " -o " + quoted(dir + "/cut.txt"));
     CAPTURE(bad.output);
     CHECK(bad.exit_code == 2);
     CHECK_THAT(bad.output, Contains("cut.shard:"));
@@ -96,8 +100,8 @@ TEST_CASE("uncertainty refuses bad settings with one error line and no output fi
   };
   for (const auto& c : cases) {
     CAPTURE(c.arguments);
-    const CommandResult result =
-        run_cli("uncertainty " + mesh + " --unit km --degree 2 --samples 4 " + c.arguments + " -o " + quoted(dir + "/x.txt"));
+    const CommandResult result = run_cli("uncertainty " + mesh + " --unit km --degree 2 --samples 4 " +
+                                         c.arguments + " -o " + quoted(dir + "/x.txt"));
     CAPTURE(result.output);
     CHECK(result.exit_code == 2);
     CHECK_THAT(result.output, Contains(c.expected));

@@ -1,19 +1,21 @@
 // Monte Carlo uncertainty: shape-noise sigmas against the first-order perturbation formula, density and
 // core scenarios against closed forms (mass scaling, shell theorem, point-mass coefficients), and the
 // reproducibility guarantees (same seed, any thread count, shards merged = one run, bit for bit).
+#include "uncertainty.h"
+
+#include <gsl/gsl_sf_legendre.h>
+
 #include <Eigen/Geometry>
-#include <catch2/catch.hpp>
 #include <array>
+#include <catch2/catch.hpp>
 #include <cmath>
 #include <functional>
-#include <gsl/gsl_sf_legendre.h>
 #include <numeric>
 
 #include "errors.h"
 #include "mass_properties.h"
 #include "shapes.h"
 #include "test_support.h"
-#include "uncertainty.h"
 
 using namespace polystokes;
 using Catch::Matchers::Contains;
@@ -64,7 +66,8 @@ double harmonic(const Term& term, const Eigen::Vector3d& p) {
 // With g = (r/R)^n Y_nm(x), a homogeneous polynomial of degree n (solid harmonic), b_v g has degree n+1 <= 5,
 // so Radon's 7-point rule of degree 5 integrates it exactly (Stroud 1971, Approximate Calculation of
 // Multiple Integrals, formula T2:5-1).
-std::vector<double> shape_derivative(const Mesh& mesh, const std::function<double(const Eigen::Vector3d&)>& g) {
+std::vector<double> shape_derivative(const Mesh& mesh,
+                                     const std::function<double(const Eigen::Vector3d&)>& g) {
   const Eigen::Index V = mesh.vertices.rows();
   std::vector<Eigen::Vector3d> normal(size_t(V), Eigen::Vector3d::Zero());
   auto corner = [&](Eigen::Index f, int k) -> Eigen::Vector3d { return mesh.vertices.row(mesh.faces(f, k)); };
@@ -75,16 +78,21 @@ std::vector<double> shape_derivative(const Mesh& mesh, const std::function<doubl
   for (auto& n : normal) n.normalize();
   const double s15 = std::sqrt(15.0);
   const double a1 = (6 - s15) / 21, a2 = (6 + s15) / 21, w1 = (155 - s15) / 1200, w2 = (155 + s15) / 1200;
-  const std::vector<std::array<double, 4>> rule = {
-      {1.0 / 3, 1.0 / 3, 1.0 / 3, 9.0 / 40}, {a1, a1, 1 - 2 * a1, w1}, {a1, 1 - 2 * a1, a1, w1},
-      {1 - 2 * a1, a1, a1, w1}, {a2, a2, 1 - 2 * a2, w2}, {a2, 1 - 2 * a2, a2, w2}, {1 - 2 * a2, a2, a2, w2}};
+  const std::vector<std::array<double, 4>> rule = {{1.0 / 3, 1.0 / 3, 1.0 / 3, 9.0 / 40},
+                                                   {a1, a1, 1 - 2 * a1, w1},
+                                                   {a1, 1 - 2 * a1, a1, w1},
+                                                   {1 - 2 * a1, a1, a1, w1},
+                                                   {a2, a2, 1 - 2 * a2, w2},
+                                                   {a2, 1 - 2 * a2, a2, w2},
+                                                   {1 - 2 * a2, a2, a2, w2}};
   std::vector<double> G(size_t(V), 0.0);
   for (Eigen::Index f = 0; f < mesh.faces.rows(); ++f) {
     const Eigen::Vector3d area = 0.5 * (corner(f, 1) - corner(f, 0)).cross(corner(f, 2) - corner(f, 0));
     for (const auto& [b0, b1, b2, w] : rule) {
       const double value = w * g(b0 * corner(f, 0) + b1 * corner(f, 1) + b2 * corner(f, 2));
       const double b[3] = {b0, b1, b2};
-      for (int k = 0; k < 3; ++k) G[size_t(mesh.faces(f, k))] += b[k] * value * normal[size_t(mesh.faces(f, k))].dot(area);
+      for (int k = 0; k < 3; ++k)
+        G[size_t(mesh.faces(f, k))] += b[k] * value * normal[size_t(mesh.faces(f, k))].dot(area);
     }
   }
   return G;
@@ -122,11 +130,12 @@ ComputeOptions degree_options(int degree) {
 // because the nominal C_nm vanish for 1 <= n <= 5 (an icosphere has icosahedral symmetry, whose lowest
 // invariant harmonic above degree 0 is of degree 6 -- from memory, checked on the nominal set below), so the
 // change of M does not enter. For zero-mean dr with covariance sigma^2 K_vw:
-//   var(delta C_nm) = (rho sigma / (M (2n+1)))^2 G^T K G,   and likewise var(delta M) = (rho sigma)^2 G0^T K G0.
+//   var(delta C_nm) = (rho sigma / (M (2n+1)))^2 G^T K G,   and likewise var(delta M) = (rho sigma)^2 G0^T K
+//   G0.
 // A sigma estimated from K samples has a relative sampling error of about 1/sqrt(2K) (chi-square, K degrees
 // of freedom). Returns the squared ratios MC / first order, one per checked term, after checking each.
-std::vector<double> check_against_first_order(const Mesh& sphere, const UncertaintyResult& result, double sigma,
-                                              double L, long K) {
+std::vector<double> check_against_first_order(const Mesh& sphere, const UncertaintyResult& result,
+                                              double sigma, double L, long K) {
   const CoefficientSet& set = result.set;
   const double M = kDensity * volume_moments(sphere).volume;
   const double R = set.reference_radius;
@@ -135,31 +144,35 @@ std::vector<double> check_against_first_order(const Mesh& sphere, const Uncertai
   for (const Term& term : terms(1, 4)) {
     CAPTURE(term.n, term.m, term.sine);
     REQUIRE(std::abs(term.sine ? set.S(term.n, term.m) : set.C(term.n, term.m)) < 1e-15);
-    const auto G = shape_derivative(sphere, [&](const Eigen::Vector3d& x) {
-      return std::pow(x.norm() / R, term.n) * harmonic(term, x);
-    });
-    const double expected = kDensity * sigma / (M * (2 * term.n + 1)) * std::sqrt(covariance_form(sphere, G, L));
+    const auto G = shape_derivative(
+        sphere, [&](const Eigen::Vector3d& x) { return std::pow(x.norm() / R, term.n) * harmonic(term, x); });
+    const double expected =
+        kDensity * sigma / (M * (2 * term.n + 1)) * std::sqrt(covariance_form(sphere, G, L));
     const double ratio = sigma_of(set, term) / expected;
     CAPTURE(expected, ratio);
     CHECK(std::abs(ratio - 1) < tolerance);
     squared_ratios.push_back(ratio * ratio);
   }
   const auto G0 = shape_derivative(sphere, [](const Eigen::Vector3d&) { return 1.0; });
-  const double expected_gm = gravitational_constant * kDensity * sigma * std::sqrt(covariance_form(sphere, G0, L));
+  const double expected_gm =
+      gravitational_constant * kDensity * sigma * std::sqrt(covariance_form(sphere, G0, L));
   CHECK(std::abs(result.summary.gm_sigma / expected_gm - 1) < tolerance);
   return squared_ratios;
 }
 
 }  // namespace
 
-TEST_CASE("independent vertex noise on a sphere: sigma of degree 1-4 coefficients and of GM match the "
-          "first-order formula (common practice) within sampling error", "[uncertainty]") {
+TEST_CASE(
+    "independent vertex noise on a sphere: sigma of degree 1-4 coefficients and of GM match the "
+    "first-order formula (common practice) within sampling error",
+    "[uncertainty]") {
   const Mesh sphere = make_icosphere(3);  // 1280 faces, mean edge ~ 0.13
   UncertaintySettings settings;
   settings.samples = 400;
   settings.seed = 20240611;
   settings.shape.sigma = 2e-3;
-  const UncertaintyPlan plan = plan_uncertainty({DensityRegion{sphere, kDensity}}, degree_options(4), settings);
+  const UncertaintyPlan plan =
+      plan_uncertainty({DensityRegion{sphere, kDensity}}, degree_options(4), settings);
   const UncertaintyResult result = run_uncertainty(plan);
   const auto squared = check_against_first_order(sphere, result, settings.shape.sigma, 0.0, settings.samples);
   // Independent Gaussian vertex noise makes the terms (nearly orthogonal functionals) independent, so the
@@ -170,15 +183,18 @@ TEST_CASE("independent vertex noise on a sphere: sigma of degree 1-4 coefficient
   CHECK(result.summary.dominated_from == 2);
 }
 
-TEST_CASE("correlated vertex noise on a sphere: sigma matches the first-order formula with the Gaussian "
-          "covariance (common practice) within sampling error", "[uncertainty]") {
+TEST_CASE(
+    "correlated vertex noise on a sphere: sigma matches the first-order formula with the Gaussian "
+    "covariance (common practice) within sampling error",
+    "[uncertainty]") {
   const Mesh sphere = make_icosphere(3);
   UncertaintySettings settings;
   settings.samples = 500;
   settings.seed = 77;
   settings.shape.sigma = 2e-3;
   settings.shape.correlation_length = 0.3;
-  const UncertaintyPlan plan = plan_uncertainty({DensityRegion{sphere, kDensity}}, degree_options(4), settings);
+  const UncertaintyPlan plan =
+      plan_uncertainty({DensityRegion{sphere, kDensity}}, degree_options(4), settings);
   const UncertaintyResult result = run_uncertainty(plan);
   // Each term on its own (the terms share the random field's features, so they are not pooled). The
   // correlated sigma of degree 1 is about ten times the independent one: ignoring L could not pass.
@@ -186,8 +202,10 @@ TEST_CASE("correlated vertex noise on a sphere: sigma matches the first-order fo
                             settings.samples);
 }
 
-TEST_CASE("density scale: normalized coefficients of a homogeneous body do not change, GM sigma equals the "
-          "relative density sigma (definition of C_nm, IERS Conventions 2010 ch. 6)", "[uncertainty]") {
+TEST_CASE(
+    "density scale: normalized coefficients of a homogeneous body do not change, GM sigma equals the "
+    "relative density sigma (definition of C_nm, IERS Conventions 2010 ch. 6)",
+    "[uncertainty]") {
   const Mesh body = make_ellipsoid(3, 1300, 900, 700);
   UncertaintySettings settings;
   settings.samples = 300;
@@ -212,8 +230,10 @@ TEST_CASE("density scale: normalized coefficients of a homogeneous body do not c
   CHECK(noted);
 }
 
-TEST_CASE("concentric core or void in a sphere: degrees 1-5 unchanged (shell theorem, symmetry), GM changes by "
-          "G drho V_core", "[uncertainty]") {
+TEST_CASE(
+    "concentric core or void in a sphere: degrees 1-5 unchanged (shell theorem, symmetry), GM changes by "
+    "G drho V_core",
+    "[uncertainty]") {
   const double R = 1000;
   const Mesh body = transformed(make_icosphere(4), R * Eigen::Matrix3d::Identity(), Eigen::Vector3d::Zero());
   const double core_radius = 400, contrast = 1500;
@@ -226,7 +246,8 @@ TEST_CASE("concentric core or void in a sphere: degrees 1-5 unchanged (shell the
     core.radius = core_radius;
     core.contrast = contrast;
     settings.inclusions.push_back(core);
-    const UncertaintyPlan plan = plan_uncertainty({DensityRegion{body, kDensity}}, degree_options(6), settings);
+    const UncertaintyPlan plan =
+        plan_uncertainty({DensityRegion{body, kDensity}}, degree_options(6), settings);
     const UncertaintyResult result = run_uncertainty(plan);
     for (const Term& term : terms(1, 5)) {
       CAPTURE(term.n, term.m, term.sine);
@@ -241,8 +262,10 @@ TEST_CASE("concentric core or void in a sphere: degrees 1-5 unchanged (shell the
   }
 }
 
-TEST_CASE("off-centre core: degree 1 shifts by m_core d / (M + m_core) and degrees 2-5 by the point-mass terms "
-          "(Newton's theorem for a ball; addition theorem, common practice)", "[uncertainty]") {
+TEST_CASE(
+    "off-centre core: degree 1 shifts by m_core d / (M + m_core) and degrees 2-5 by the point-mass terms "
+    "(Newton's theorem for a ball; addition theorem, common practice)",
+    "[uncertainty]") {
   const double R = 1000;
   const Mesh body = transformed(make_icosphere(4), R * Eigen::Matrix3d::Identity(), Eigen::Vector3d::Zero());
   const Eigen::Vector3d d(300, -200, 250);
@@ -258,7 +281,8 @@ TEST_CASE("off-centre core: degree 1 shifts by m_core d / (M + m_core) and degre
     core.contrast = contrast;
     core.center = d;
     settings.inclusions.push_back(core);
-    const UncertaintyPlan plan = plan_uncertainty({DensityRegion{body, kDensity}}, degree_options(5), settings);
+    const UncertaintyPlan plan =
+        plan_uncertainty({DensityRegion{body, kDensity}}, degree_options(5), settings);
     const UncertaintyResult result = run_uncertainty(plan);
     const Eigen::Vector3d c0 = plan.nominal.center_of_mass;
     const Mesh core_mesh = transformed(make_icosphere(3), core_radius * Eigen::Matrix3d::Identity(), d);
@@ -274,8 +298,8 @@ TEST_CASE("off-centre core: degree 1 shifts by m_core d / (M + m_core) and degre
     CHECK_THAT(result.summary.com_sigma.x(), WithinRel(std::abs(shift.x()), 1e-10));
     CHECK_THAT(result.summary.gm_sigma, WithinAbs(preserve ? 0.0 : gravitational_constant * excess,
                                                   1e-12 * gravitational_constant * M));
-    // A ball's exterior field is that of a point mass at its centre; the inscribed icosphere has no moments of
-    // degree 1-5 of its own, so up to degree 5 it acts as the point mass m at d exactly. Point mass:
+    // A ball's exterior field is that of a point mass at its centre; the inscribed icosphere has no moments
+    // of degree 1-5 of its own, so up to degree 5 it acts as the point mass m at d exactly. Point mass:
     //   C_nm + i S_nm = m / (M + m) (|d| / R)^n Pnm(sin lat_d) e^{i m lon_d} / (2n + 1)  (about c0 ~ 0).
     const Eigen::Vector3d p = d - c0;
     for (const Term& term : terms(2, 5)) {
@@ -287,15 +311,19 @@ TEST_CASE("off-centre core: degree 1 shifts by m_core d / (M + m_core) and degre
   }
 }
 
-TEST_CASE("lateral density variation: GM sigma of 12 equal cones equals G rho sigma V / sqrt(12) (variance of a "
-          "sum of independent terms; icosahedral symmetry)", "[uncertainty]") {
-  const Mesh sphere = transformed(make_icosphere(4), 500 * Eigen::Matrix3d::Identity(), Eigen::Vector3d::Zero());
+TEST_CASE(
+    "lateral density variation: GM sigma of 12 equal cones equals G rho sigma V / sqrt(12) (variance of a "
+    "sum of independent terms; icosahedral symmetry)",
+    "[uncertainty]") {
+  const Mesh sphere =
+      transformed(make_icosphere(4), 500 * Eigen::Matrix3d::Identity(), Eigen::Vector3d::Zero());
   UncertaintySettings settings;
   settings.samples = 400;
   settings.seed = 3;
   settings.lateral.sigma = 0.1;
   settings.lateral.sectors = 12;
-  const UncertaintyPlan plan = plan_uncertainty({DensityRegion{sphere, kDensity}}, degree_options(2), settings);
+  const UncertaintyPlan plan =
+      plan_uncertainty({DensityRegion{sphere, kDensity}}, degree_options(2), settings);
   const UncertaintyResult result = run_uncertainty(plan);
   const double V = volume_moments(sphere).volume;
   const double expected = gravitational_constant * kDensity * settings.lateral.sigma * V / std::sqrt(12.0);
@@ -303,7 +331,8 @@ TEST_CASE("lateral density variation: GM sigma of 12 equal cones equals G rho si
   CHECK(result.set.sigma_C(2, 0) > 0);  // laterally varying density shows up in the shape terms
 }
 
-TEST_CASE("same seed gives identical results for any thread count; a different seed does not", "[uncertainty]") {
+TEST_CASE("same seed gives identical results for any thread count; a different seed does not",
+          "[uncertainty]") {
   const Mesh body = make_ellipsoid(2, 1200, 900, 800);
   UncertaintySettings settings;
   settings.samples = 6;
@@ -319,7 +348,8 @@ TEST_CASE("same seed gives identical results for any thread count; a different s
   CHECK(a.set.sigma_S == b.set.sigma_S);
   CHECK(a.set.notes == b.set.notes);
   settings.seed = 12;
-  const UncertaintyResult c = run_uncertainty(plan_uncertainty({DensityRegion{body, kDensity}}, degree_options(6), settings));
+  const UncertaintyResult c =
+      run_uncertainty(plan_uncertainty({DensityRegion{body, kDensity}}, degree_options(6), settings));
   CHECK(c.set.sigma_C != a.set.sigma_C);
 }
 
@@ -370,7 +400,8 @@ TEST_CASE("shards written, read back and merged equal one run bit for bit", "[un
   SECTION("a shard of another run is refused") {
     UncertaintySettings other = settings;
     other.seed = 100;
-    const auto stray = run_shard(plan_uncertainty({DensityRegion{body, kDensity}}, options, other), Shard{3, 3});
+    const auto stray =
+        run_shard(plan_uncertainty({DensityRegion{body, kDensity}}, options, other), Shard{3, 3});
     REQUIRE_THROWS_WITH(merge_shards({shards[0], shards[1], stray}, {"a", "b", "c"}),
                         Contains("c does not belong to the same run as a") && Contains("seed 100"));
   }
@@ -379,12 +410,14 @@ TEST_CASE("shards written, read back and merged equal one run bit for bit", "[un
     text.resize(text.rfind("sample "));
     REQUIRE_THROWS_AS(parse_shard_text(text, "cut.shard"), FormatError);
     REQUIRE_THROWS_WITH(parse_shard_text(text, "cut.shard"), Contains("cut.shard:") && Contains("truncated"));
-    REQUIRE_THROWS_WITH(parse_shard_text("something else\n", "x.shard"), Contains("x.shard:1: not a shard file"));
+    REQUIRE_THROWS_WITH(parse_shard_text("something else\n", "x.shard"),
+                        Contains("x.shard:1: not a shard file"));
   }
 }
 
 TEST_CASE("bad uncertainty settings are refused with a clear message", "[uncertainty]") {
-  const Mesh body = transformed(make_icosphere(2), 1000 * Eigen::Matrix3d::Identity(), Eigen::Vector3d::Zero());
+  const Mesh body =
+      transformed(make_icosphere(2), 1000 * Eigen::Matrix3d::Identity(), Eigen::Vector3d::Zero());
   const std::vector<DensityRegion> regions{DensityRegion{body, kDensity}};
   UncertaintySettings settings;
   REQUIRE_THROWS_WITH(plan_uncertainty(regions, degree_options(4), settings), Contains("nothing to vary"));
@@ -393,7 +426,8 @@ TEST_CASE("bad uncertainty settings are refused with a clear message", "[uncerta
   core.contrast = 500;
   core.center = Eigen::Vector3d(800, 0, 0);
   settings.inclusions.push_back(core);
-  REQUIRE_THROWS_WITH(plan_uncertainty(regions, degree_options(4), settings), Contains("is not inside the body"));
+  REQUIRE_THROWS_WITH(plan_uncertainty(regions, degree_options(4), settings),
+                      Contains("is not inside the body"));
   settings.inclusions.clear();
   settings.density_sigma = 0.3;
   REQUIRE_THROWS_WITH(plan_uncertainty(regions, degree_options(4), settings), Contains("density sigma"));
