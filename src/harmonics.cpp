@@ -2,15 +2,18 @@
 
 #include <Eigen/Dense>
 #include <algorithm>
-#include <atomic>
 #include <cmath>
+#include <condition_variable>
 #include <ctime>
+#include <exception>
 #include <fmt/format.h>
 #include <mutex>
 #include <thread>
 
 #include "conventions.h"
 #include "errors.h"
+#include "fan_decomposition.h"
+#include "moment_kernel.h"
 
 namespace polystokes {
 
@@ -70,105 +73,31 @@ void for_each_scaled_face(const DensityRegion& region, const HarmonicFrame& fram
 // so the coefficient of e^{-imu} in l_u(x)^n is G_m = i^m n!/(n+m)! r^n P_n^m e^{i m lon}.
 // Over a simplex, int l^n dV = vol * 3! n!/(n+3)! h_n(l(v0), .., l(v3)) with h_n the complete homogeneous
 // symmetric polynomial (e.g. Baldoni et al. 2011, "How to integrate a polynomial over a simplex",
-// Math. Comp. 80, Cor. 12). With v0 = origin, l(v0) = 0 and h_n(a, b, c) follows from
+// Math. Comp. 80, Cor. 12). With v0 = origin, l(v0) = 0. h_n(a, b, c) follows from
 //   h_n(a) = a h_{n-1}(a),  h_n(a,b) = h_n(a) + b h_{n-1}(a,b),  h_n(a,b,c) = h_n(a,b) + c h_{n-1}(a,b,c),
-// each product being a 3-term operator on Fourier coefficients: O(n) per step, O(N^2) per face.
-// Coefficients are stored scaled, G~_k = 2^k G_k, for k >= 0 only: every product of l_u's satisfies
-// f(u) = conj f(u + pi), hence G_{-k} = (-1)^k conj G_k. The scaling keeps all stored values O(r^n) and turns
-// the normalization factor into K_nm / 2^m <= 1, so no degree overflows and the small high-order terms are
-// never formed as differences of large numbers.
-class FaceAccumulator {
- public:
-  explicit FaceAccumulator(int degree) : degree_(degree) {
-    for (auto& buffer : buffers_) buffer.assign(size_t(degree + 2), 0.0);
-  }
+// each product being a 3-term operator on Fourier coefficients: O(n) per step, O(N^2) per face. The faces are
+// grouped into vertex fans (fan_decomposition.h) so that the three recursions are shared between faces, and
+// the products run vectorized over orders (moment_kernel.h), in the scaled basis H_m = (-i)^m 2^m G_m:
+// every product of l_u's satisfies f(u) = conj f(u + pi), so only m >= 0 is stored; the exact power-of-two
+// scaling keeps every stored value O(r^n) and turns the normalization factor into K_nm / 2^m <= 1, so no
+// degree overflows and no order is extracted from numbers 2^m times larger than itself.
 
-  void add(const ScaledFace& face, double* acc_re, double* acc_im) {
-    for (auto& buffer : buffers_) std::fill(buffer.begin(), buffer.end(), 0.0);
-    // prev/cur re/im for the three running products h(a), h(a,b), h(a,b,c).
-    double* prev_re[3];
-    double* prev_im[3];
-    double* cur_re[3];
-    double* cur_im[3];
-    for (int j = 0; j < 3; ++j) {
-      prev_re[j] = buffers_[4 * j + 0].data();
-      prev_im[j] = buffers_[4 * j + 1].data();
-      cur_re[j] = buffers_[4 * j + 2].data();
-      cur_im[j] = buffers_[4 * j + 3].data();
-      prev_re[j][0] = 1.0;
-    }
-    Factor factor[3];
-    for (int j = 0; j < 3; ++j) factor[j] = Factor(face.v[j]);
-    acc_re[0] += face.det;
-    for (int n = 1; n <= degree_; ++n) {
-      multiply(factor[0], prev_re[0], prev_im[0], nullptr, nullptr, n, cur_re[0], cur_im[0]);
-      multiply(factor[1], prev_re[1], prev_im[1], cur_re[0], cur_im[0], n, cur_re[1], cur_im[1]);
-      multiply(factor[2], prev_re[2], prev_im[2], cur_re[1], cur_im[1], n, cur_re[2], cur_im[2]);
-      double* out_re = acc_re + triangle_offset(n);
-      double* out_im = acc_im + triangle_offset(n);
-      const double det = face.det;
-      for (int k = 0; k <= n; ++k) {
-        out_re[k] += det * cur_re[2][k];
-        out_im[k] += det * cur_im[2][k];
-      }
-      for (int j = 0; j < 3; ++j) {
-        std::swap(prev_re[j], cur_re[j]);
-        std::swap(prev_im[j], cur_im[j]);
-      }
-    }
-  }
-
- private:
-  // l_u(v) in scaled coefficients: G~'_k = z G~_k + beta G~_{k-1} + alpha G~_{k+1}, where
-  // beta = 2 * (i/2)(x + iy) = -y + ix and alpha = (1/2) * (i/2)(x - iy) = (y + ix)/4.
-  struct Factor {
-    Factor() = default;
-    explicit Factor(const Eigen::Vector3d& v)
-        : z(v.z()), beta_re(-v.y()), beta_im(v.x()), alpha_re(v.y() / 4.0), alpha_im(v.x() / 4.0) {}
-    double z = 0, beta_re = 0, beta_im = 0, alpha_re = 0, alpha_im = 0;
-  };
-
-  // out = add + l * p, p holding degree n-1 (entries n and n+1 are zero).
-  static void multiply(const Factor& l, const double* p_re, const double* p_im, const double* add_re,
-                       const double* add_im, int n, double* out_re, double* out_im) {
-    // k = 0 needs G~_{-1} = -conj(G~_1) / 4.
-    const double m1_re = -p_re[1] / 4.0, m1_im = p_im[1] / 4.0;
-    out_re[0] = l.z * p_re[0] + (l.beta_re * m1_re - l.beta_im * m1_im) + (l.alpha_re * p_re[1] - l.alpha_im * p_im[1]);
-    out_im[0] = l.z * p_im[0] + (l.beta_re * m1_im + l.beta_im * m1_re) + (l.alpha_re * p_im[1] + l.alpha_im * p_re[1]);
-    for (int k = 1; k <= n; ++k) {
-      out_re[k] = l.z * p_re[k] + (l.beta_re * p_re[k - 1] - l.beta_im * p_im[k - 1]) +
-                  (l.alpha_re * p_re[k + 1] - l.alpha_im * p_im[k + 1]);
-      out_im[k] = l.z * p_im[k] + (l.beta_re * p_im[k - 1] + l.beta_im * p_re[k - 1]) +
-                  (l.alpha_re * p_im[k + 1] + l.alpha_im * p_re[k + 1]);
-    }
-    if (add_re) {
-      for (int k = 0; k <= n; ++k) {
-        out_re[k] += add_re[k];
-        out_im[k] += add_im[k];
-      }
-    }
-  }
-
-  int degree_;
-  std::vector<double> buffers_[12];
-};
-
-// Facets are cut into a fixed number of chunks that does not depend on the thread count, and chunk sums are
-// added in chunk order, so results are bit-identical for any number of threads.
-struct Chunk {
+// Faces are cut into blocks whose size depends only on the degree, and block sums are added in block order,
+// so results are bit-identical for any number of threads.
+struct FaceBlock {
   size_t region;
   Eigen::Index begin, end;
 };
 
-std::vector<Chunk> make_chunks(const std::vector<DensityRegion>& regions) {
-  constexpr Eigen::Index chunk_faces = 4096;
-  std::vector<Chunk> chunks;
+
+std::vector<FaceBlock> make_blocks(const std::vector<DensityRegion>& regions, int degree) {
+  const Eigen::Index size = moment_block_faces(degree);
+  std::vector<FaceBlock> blocks;
   for (size_t r = 0; r < regions.size(); ++r) {
     const Eigen::Index faces = regions[r].mesh.faces.rows();
-    for (Eigen::Index begin = 0; begin < faces; begin += chunk_faces)
-      chunks.push_back({r, begin, std::min(faces, begin + chunk_faces)});
+    for (Eigen::Index begin = 0; begin < faces; begin += size) blocks.push_back({r, begin, std::min(faces, begin + size)});
   }
-  return chunks;
+  return blocks;
 }
 
 int thread_count(int requested, size_t work_items) {
@@ -176,54 +105,118 @@ int thread_count(int requested, size_t work_items) {
   return int(std::min<size_t>(size_t(threads), std::max<size_t>(1, work_items)));
 }
 
-// Runs chunk_work(chunk, acc_re, acc_im) over all chunks on a pool, each chunk into its own partial sum of
-// `size` entries, and returns the ordered reduction. Peak extra memory: one partial per thread plus one per
-// finished-but-unreduced chunk (reduced in order as soon as possible).
+// Per-thread scratch of the fast path.
+struct BlockWorker {
+  FanDecomposer decomposer;
+  std::vector<Eigen::Vector3d> local;  // expansion coordinates of the decomposition's vertices
+  std::vector<double> weights;         // per fan face
+  FanWorkspace workspace;
+};
+
+// Decomposes one block of faces into fans and runs the recursion on it, into `re`/`im` (triangle layout).
+void accumulate_face_block(const DensityRegion& region, const HarmonicFrame& frame, const FaceBlock& range,
+                           int degree, BlockWorker& worker, double* re, double* im) {
+  const Mesh& mesh = region.mesh;
+  const FanDecomposition& fans =
+      worker.decomposer.decompose(mesh.faces, mesh.vertices.rows(), range.begin, range.end);
+  worker.local.resize(fans.vertices.size());
+  const Eigen::Matrix3d map = frame.axes / frame.scale_radius;
+  for (size_t v = 0; v < fans.vertices.size(); ++v)
+    worker.local[v] = map * (mesh.vertices.row(fans.vertices[v]).transpose() - frame.origin);
+  worker.weights.resize(fans.fan_faces.size());
+  for (size_t f = 0; f < fans.fan_faces.size(); ++f) {
+    const Eigen::Vector3d& a = worker.local[size_t(fans.fan_corners[3 * f])];
+    const Eigen::Vector3d& b = worker.local[size_t(fans.fan_corners[3 * f + 1])];
+    const Eigen::Vector3d& c = worker.local[size_t(fans.fan_corners[3 * f + 2])];
+    worker.weights[f] = region.density * a.dot(b.cross(c));
+  }
+  accumulate_fan_block(fans, worker.local.data(), worker.weights.data(), degree, worker.workspace, re, im);
+}
+
+// Runs block_work(block, worker, re, im) over all blocks on a pool of threads and returns the sums added in
+// block order. A thread starts block b only while b is within a window of the next block to be added, so the
+// partial sums held at once stay bounded (2 per thread) whatever the relative speed of the threads.
 template <class Work>
-void reduce_chunks(const std::vector<Chunk>& chunks, size_t size, const MomentOptions& options, Work&& chunk_work,
-                   std::vector<double>& total_re, std::vector<double>& total_im) {
-  total_re.assign(size, 0.0);
-  total_im.assign(size, 0.0);
-  std::vector<std::vector<double>> partial_re(chunks.size()), partial_im(chunks.size());
-  std::vector<char> done(chunks.size(), 0);
-  size_t next_to_reduce = 0;
-  std::atomic<size_t> next_chunk{0};
+void sum_blocks_in_order(size_t blocks, size_t size, const MomentOptions& options, Work&& block_work,
+                         std::vector<double>& total_re, std::vector<double>& total_im) {
+  constexpr size_t slack = 8;  // the kernel writes exact zeros just past the last row
+  total_re.assign(size + slack, 0.0);
+  total_im.assign(size + slack, 0.0);
+  const int threads = thread_count(options.threads, blocks);
+  const size_t window = 2 * size_t(threads);
+  std::vector<std::vector<double>> slot_re(window), slot_im(window);
+  std::vector<char> ready(window, 0);
+  size_t next_block = 0, next_to_add = 0;
+  long reported = -1;
+  std::exception_ptr failure;
   std::mutex mutex;
+  std::condition_variable changed;
   auto worker = [&]() {
+    BlockWorker scratch;
     for (;;) {
-      const size_t c = next_chunk.fetch_add(1);
-      if (c >= chunks.size()) return;
-      std::vector<double> re(size, 0.0), im(size, 0.0);
-      chunk_work(chunks[c], re.data(), im.data());
-      std::lock_guard<std::mutex> lock(mutex);
-      partial_re[c].swap(re);
-      partial_im[c].swap(im);
-      done[c] = 1;
-      while (next_to_reduce < chunks.size() && done[next_to_reduce]) {
-        for (size_t i = 0; i < size; ++i) {
-          total_re[i] += partial_re[next_to_reduce][i];
-          total_im[i] += partial_im[next_to_reduce][i];
-        }
-        std::vector<double>().swap(partial_re[next_to_reduce]);
-        std::vector<double>().swap(partial_im[next_to_reduce]);
-        ++next_to_reduce;
+      size_t b;
+      {
+        std::unique_lock<std::mutex> lock(mutex);
+        changed.wait(lock, [&] { return failure || next_block >= blocks || next_block < next_to_add + window; });
+        if (failure || next_block >= blocks) return;
+        b = next_block++;
       }
-      if (options.progress) options.progress(double(next_to_reduce) / double(chunks.size()));
+      std::vector<double>& re = slot_re[b % window];
+      std::vector<double>& im = slot_im[b % window];
+      try {
+        re.assign(size + slack, 0.0);
+        im.assign(size + slack, 0.0);
+        block_work(b, scratch, re.data(), im.data());
+      } catch (...) {
+        std::lock_guard<std::mutex> lock(mutex);
+        if (!failure) failure = std::current_exception();
+        changed.notify_all();
+        return;
+      }
+      {
+        std::lock_guard<std::mutex> lock(mutex);
+        ready[b % window] = 1;
+        while (next_to_add < blocks && ready[next_to_add % window]) {
+          const size_t s = next_to_add % window;
+          for (size_t i = 0; i < size; ++i) {
+            total_re[i] += slot_re[s][i];
+            total_im[i] += slot_im[s][i];
+          }
+          ready[s] = 0;
+          ++next_to_add;
+        }
+        // At most about a thousand progress calls however many blocks there are.
+        const long permille = long(1000 * next_to_add / blocks);
+        if (options.progress && permille > reported) {
+          reported = permille;
+          options.progress(double(next_to_add) / double(blocks));
+        }
+      }
+      changed.notify_all();
     }
   };
-  const int threads = thread_count(options.threads, chunks.size());
   std::vector<std::thread> pool;
   for (int t = 1; t < threads; ++t) pool.emplace_back(worker);
   worker();
   for (auto& thread : pool) thread.join();
+  if (failure) std::rethrow_exception(failure);
+  total_re.resize(size);
+  total_im.resize(size);
 }
 
-void check_degree(int degree) {
+// Bytes the fast path and the result need for `degree` on `threads` threads: four (degree+1)^2 tables (moments
+// and coefficients), the per-thread partial sums and the per-thread recursion rows.
+double moment_bytes(int degree, int threads) {
+  const double triangle = double(triangle_size(degree));
+  const double rows = double(fan_workspace_bytes(degree, size_t(1.3 * double(moment_block_faces(degree))), size_t(moment_block_faces(degree))));
+  return 4.0 * 8.0 * double(degree + 1) * double(degree + 1) + threads * (2.0 * 2.0 * 16.0 * triangle + rows);
+}
+
+void check_degree(int degree, int threads) {
   if (degree < 0) throw ConventionError("degree must be >= 0, got " + std::to_string(degree));
-  // Four (degree+1)^2 matrices per set plus per-thread partial sums; refuse before allocating.
-  const double bytes = 8.0 * 8.0 * double(degree + 1) * double(degree + 1);
   constexpr double limit = 8e9;
-  if (degree > 20000 || bytes > limit)
+  const double bytes = degree > 20000 ? limit * 2 : moment_bytes(degree, threads);
+  if (bytes > limit)
     throw ResourceError(fmt::format("degree {} would need about {:.1f} GB for the coefficient tables; "
                                     "refusing (limit {:.0f} GB)", degree, bytes / 1e9, limit / 1e9));
 }
@@ -237,23 +230,15 @@ HarmonicMoments unpack_moments(int degree, double scale_radius, const std::vecto
   moments.im.setZero(degree + 1, degree + 1);
   const double r3 = scale_radius * scale_radius * scale_radius;
   for (int n = 0; n <= degree; ++n) {
-    // int over a tetrahedron = det * n!/(n+3)! * h_n; Pnm r^n e^{im lon} = sqrt((2-d_m0)(2n+1)) K~_nm (-i)^m G~_m
+    // int over a tetrahedron = det * n!/(n+3)! * h_n; Pnm r^n e^{im lon} = sqrt((2-d_m0)(2n+1)) K~_nm H_m
     // with K~_nm = sqrt((n-m)!(n+m)!)/(n! 2^m), built as a running product.
     const double degree_factor = r3 / ((n + 1.0) * (n + 2.0) * (n + 3.0)) * std::sqrt(2.0 * n + 1.0);
     double k_scaled = 1.0;
     for (int m = 0; m <= n; ++m) {
       if (m > 0) k_scaled *= std::sqrt((n + m) / double(n - m + 1)) / 2.0;
       const double factor = degree_factor * k_scaled * (m == 0 ? 1.0 : std::sqrt(2.0));
-      const double a = re[triangle_offset(n) + size_t(m)], b = im[triangle_offset(n) + size_t(m)];
-      double out_re = 0, out_im = 0;
-      switch (m % 4) {  // multiply by (-i)^m
-        case 0: out_re = a; out_im = b; break;
-        case 1: out_re = b; out_im = -a; break;
-        case 2: out_re = -a; out_im = -b; break;
-        default: out_re = -b; out_im = a; break;
-      }
-      moments.re(n, m) = factor * out_re;
-      moments.im(n, m) = factor * out_im;
+      moments.re(n, m) = factor * re[triangle_offset(n) + size_t(m)];
+      moments.im(n, m) = factor * im[triangle_offset(n) + size_t(m)];
     }
   }
   return moments;
@@ -293,25 +278,32 @@ void gauss_legendre_unit(int q, std::vector<double>& nodes, std::vector<double>&
 
 }  // namespace
 
+// The fan recursion keeps two rows per entity (about one entity per face); a block's rows should stay in the
+// second-level cache while every degree sweeps over them.
+Eigen::Index moment_block_faces(int degree) {
+  constexpr double budget = 1.0e6;
+  const double per_face = double(fan_workspace_bytes(std::max(0, degree), 1100, 1000)) / 1000;
+  return Eigen::Index(std::clamp(budget / per_face, 128.0, 4096.0));
+}
+
 HarmonicMoments harmonic_moments(const std::vector<DensityRegion>& regions, const HarmonicFrame& frame,
                                  int degree, const MomentOptions& options) {
-  check_degree(degree);
+  check_degree(degree, thread_count(options.threads, SIZE_MAX));
   check_frame(frame, regions);
-  const auto chunks = make_chunks(regions);
+  const auto blocks = make_blocks(regions, degree);
   std::vector<double> re, im;
-  reduce_chunks(chunks, triangle_size(degree), options,
-                [&](const Chunk& chunk, double* acc_re, double* acc_im) {
-                  FaceAccumulator accumulator(degree);
-                  for_each_scaled_face(regions[chunk.region], frame, chunk.begin, chunk.end,
-                                       [&](const ScaledFace& face) { accumulator.add(face, acc_re, acc_im); });
-                },
-                re, im);
+  sum_blocks_in_order(blocks.size(), triangle_size(degree), options,
+                      [&](size_t b, BlockWorker& worker, double* acc_re, double* acc_im) {
+                        const FaceBlock& block = blocks[b];
+                        accumulate_face_block(regions[block.region], frame, block, degree, worker, acc_re, acc_im);
+                      },
+                      re, im);
   return unpack_moments(degree, frame.scale_radius, re, im);
 }
 
 HarmonicMoments harmonic_moments_reference(const std::vector<DensityRegion>& regions, const HarmonicFrame& frame,
                                            int degree) {
-  check_degree(degree);
+  check_degree(degree, 1);
   check_frame(frame, regions);
   // int_T f dV = det/(n+3) int_{w1,w2>=0, w1+w2<=1} f(w1 a + w2 b + (1-w1-w2) c) dw for f homogeneous of degree n
   // (radial integration of the cone over the face). The face integral uses the collapsed (Duffy) square
@@ -390,7 +382,7 @@ std::string utc_now() {
 }  // namespace
 
 CoefficientSet compute_coefficients(const std::vector<DensityRegion>& regions, const ComputeOptions& options) {
-  check_degree(options.degree);
+  check_degree(options.degree, thread_count(options.execution.threads, SIZE_MAX));
   if (regions.empty()) throw ConventionError("no mesh given");
   if (options.reference_radius < 0 || !std::isfinite(options.reference_radius))
     throw ConventionError("reference radius must be positive");

@@ -39,8 +39,13 @@ struct HarmonicMoments {
 /// Execution controls for long computations; results do not depend on `threads`.
 struct MomentOptions {
   int threads = 0;                                ///< 0 = all hardware threads
-  std::function<void(double)> progress;           ///< called with the fraction done (from worker threads)
+  std::function<void(double)> progress;           ///< called with the fraction done (from worker threads,
+                                                  ///< serialized, at most about 1000 times, last with 1)
 };
+
+/// Faces per block of the fast path at `degree` (blocks are the unit of threading and of the ordered
+/// reduction; the size depends on the degree only, never on the thread count).
+Eigen::Index moment_block_faces(int degree);
 
 /// Exact moments, O(F * degree^2). Each signed tetrahedron (origin, a, b, c) contributes through Whittaker's
 /// integral representation of solid harmonics and the closed form of a power of a linear form over a simplex.

@@ -1,6 +1,9 @@
 #include "shapes.h"
 
+#include <algorithm>
+#include <cstdint>
 #include <map>
+#include <tuple>
 #include <utility>
 
 #include "errors.h"
@@ -64,6 +67,82 @@ Mesh make_icosphere(int subdivisions) {
   for (size_t i = 0; i < v.size(); ++i) mesh.vertices.row(static_cast<Eigen::Index>(i)) = v[i].transpose();
   mesh.faces.resize(static_cast<Eigen::Index>(f.size()), 3);
   for (size_t i = 0; i < f.size(); ++i) mesh.faces.row(static_cast<Eigen::Index>(i)) = f[i].transpose();
+  return mesh;
+}
+
+namespace {
+
+// Interleaves the bits of i and j (Morton code) for the face order of make_geodesic_sphere.
+uint64_t morton(uint32_t i, uint32_t j) {
+  uint64_t code = 0;
+  for (int bit = 0; bit < 32; ++bit)
+    code |= (uint64_t((i >> bit) & 1u) << (2 * bit)) | (uint64_t((j >> bit) & 1u) << (2 * bit + 1));
+  return code;
+}
+
+}  // namespace
+
+Mesh make_geodesic_sphere(int frequency) {
+  if (frequency < 1 || frequency > 20000)
+    throw ConventionError("geodesic sphere frequency must be in 1..20000, got " + std::to_string(frequency));
+  const Mesh base = make_icosphere(0);
+  const int k = frequency;
+  std::vector<Eigen::Vector3d> v;
+  v.reserve(size_t(10) * k * k + 2);
+  for (Eigen::Index i = 0; i < base.vertices.rows(); ++i) v.push_back(base.vertices.row(i).transpose());
+  // Grid points on an icosahedron edge are shared by its two faces: keyed by (lower corner, upper corner, step
+  // from the lower corner).
+  std::map<std::tuple<int, int, int>, int> edge_points;
+  std::vector<Eigen::Vector3i> faces;
+  faces.reserve(size_t(20) * k * k);
+  std::vector<int> grid(size_t(k + 1) * size_t(k + 1));
+  std::vector<std::pair<uint64_t, Eigen::Vector3i>> cells;
+  for (Eigen::Index f = 0; f < base.faces.rows(); ++f) {
+    const int corner[3] = {base.faces(f, 0), base.faces(f, 1), base.faces(f, 2)};
+    const Eigen::Vector3d a = v[corner[0]], b = v[corner[1]], c = v[corner[2]];
+    // Point (i, j) = a + (b - a) i/k + (c - a) j/k, i + j <= k.
+    auto point = [&](int i, int j) -> int {
+      const int l = k - i - j;
+      // On an edge when one barycentric index is zero; at a corner when two are.
+      int from = -1, to = -1, step = 0;
+      if (i == 0 && j == 0) return corner[0];
+      if (i == k) return corner[1];
+      if (j == k) return corner[2];
+      if (j == 0) { from = corner[0]; to = corner[1]; step = i; }
+      else if (i == 0) { from = corner[0]; to = corner[2]; step = j; }
+      else if (l == 0) { from = corner[1]; to = corner[2]; step = j; }
+      if (from >= 0) {
+        if (from > to) { std::swap(from, to); step = k - step; }
+        const auto key = std::make_tuple(from, to, step);
+        const auto it = edge_points.find(key);
+        if (it != edge_points.end()) return it->second;
+        v.push_back((v[from] + (v[to] - v[from]) * (double(step) / k)).normalized());
+        edge_points.emplace(key, int(v.size()) - 1);
+        return int(v.size()) - 1;
+      }
+      v.push_back((a + (b - a) * (double(i) / k) + (c - a) * (double(j) / k)).normalized());
+      return int(v.size()) - 1;
+    };
+    for (int i = 0; i <= k; ++i)
+      for (int j = 0; i + j <= k; ++j) grid[size_t(i) * size_t(k + 1) + size_t(j)] = point(i, j);
+    auto at = [&](int i, int j) { return grid[size_t(i) * size_t(k + 1) + size_t(j)]; };
+    cells.clear();
+    for (int i = 0; i < k; ++i)
+      for (int j = 0; i + j < k; ++j) {
+        // Same orientation as the icosahedron face (a, b, c): outward.
+        cells.push_back({2 * morton(uint32_t(i), uint32_t(j)), {at(i, j), at(i + 1, j), at(i, j + 1)}});
+        if (i + j + 1 < k)
+          cells.push_back({2 * morton(uint32_t(i), uint32_t(j)) + 1, {at(i + 1, j), at(i + 1, j + 1), at(i, j + 1)}});
+      }
+    std::sort(cells.begin(), cells.end(), [](const auto& x, const auto& y) { return x.first < y.first; });
+    for (const auto& cell : cells) faces.push_back(cell.second);
+  }
+  Mesh mesh;
+  mesh.source = "geodesic" + std::to_string(frequency);
+  mesh.vertices.resize(static_cast<Eigen::Index>(v.size()), 3);
+  for (size_t i = 0; i < v.size(); ++i) mesh.vertices.row(static_cast<Eigen::Index>(i)) = v[i].transpose();
+  mesh.faces.resize(static_cast<Eigen::Index>(faces.size()), 3);
+  for (size_t i = 0; i < faces.size(); ++i) mesh.faces.row(static_cast<Eigen::Index>(i)) = faces[i].transpose();
   return mesh;
 }
 

@@ -15,6 +15,12 @@ Mesh make_box(double a, double b, double c);
 /// vertices pushed to the unit sphere. 20 * 4^subdivisions faces.
 Mesh make_icosphere(int subdivisions);
 
+/// Unit-radius geodesic sphere of any size: each icosahedron face cut into frequency^2 triangles on a regular
+/// grid (class I), vertices pushed to the unit sphere. 20 frequency^2 faces, 10 frequency^2 + 2 vertices.
+/// Faces of each icosahedron face are listed in Morton (Z) order of their grid cell, so consecutive faces
+/// form compact patches, as in meshes refined or re-meshed by region. frequency >= 1.
+Mesh make_geodesic_sphere(int frequency);
+
 /// Icosphere with every vertex mapped through `displace` (unit-sphere direction -> position, metres).
 /// The map must keep the surface free of self-intersections (star-shaped radial maps do).
 Mesh make_deformed_sphere(int subdivisions, const std::function<Eigen::Vector3d(const Eigen::Vector3d&)>& displace);

@@ -1,0 +1,214 @@
+#include "moment_kernel.h"
+
+#include <algorithm>
+#include <cstdint>
+#include <cstring>
+
+// The kernel is compiled twice on x86-64 with GCC: for the baseline instruction set and for x86-64-v3
+// (AVX2 + FMA, chosen at load time when the processor has it). The clone contracts a*b+c into fused
+// multiply-adds, so its results differ from the baseline's by rounding; every thread runs the same clone, so
+// results stay identical for any thread count on a given machine.
+#if defined(__x86_64__) && defined(__GNUC__) && !defined(__clang__)
+#define POLYSTOKES_KERNEL_CLONES __attribute__((target_clones("arch=x86-64-v3", "default")))
+#define POLYSTOKES_HAVE_CLONES 1
+#else
+#define POLYSTOKES_KERNEL_CLONES
+#define POLYSTOKES_HAVE_CLONES 0
+#endif
+
+#if defined(__GNUC__) && !defined(__clang__)
+// The 4-double vector type never crosses a call boundary (all helpers are always inlined), so the ABI note
+// GCC gives for it in the baseline compilation does not apply.
+#pragma GCC diagnostic ignored "-Wpsabi"
+#endif
+
+namespace polystokes {
+namespace {
+
+typedef double v4 __attribute__((vector_size(32)));
+
+#define POLYSTOKES_INLINE inline __attribute__((always_inline))
+
+POLYSTOKES_INLINE v4 load(const double* p) {
+  v4 v;
+  std::memcpy(&v, p, sizeof v);
+  return v;
+}
+POLYSTOKES_INLINE void store(double* p, v4 v) { std::memcpy(p, &v, sizeof v); }
+
+// Row layout: order k at index k + first, so blocks of 4 orders are 32-byte aligned; the entry before order
+// 0 holds order -1. Entries past the current degree are exact zeros (zeroed once, and every step computes
+// exact zeros there from zeros), so the steps need no bounds.
+constexpr int first = 4;
+
+int row_stride(int degree) {
+  const int blocks = (degree + 4) / 4;
+  return (4 * blocks + 9 + 7) / 8 * 8;  // the last block reads up to 4 blocks + 8; whole cache lines
+}
+
+// One step of a row, in place: the product by l(v) plus `add`, in the scaled H basis H_k = (-i)^k 2^k G_k:
+//   H'_k = add_k + z H_k + w H_{k-1} - (conj(w)/4) H_{k+1},   w = x + i y,
+// on real and imaginary parts C, S:
+//   C'_k = add + z C_k + x (C_{k-1} - C_{k+1}/4) - y (S_{k-1} + S_{k+1}/4)
+//   S'_k = add + z S_k + x (S_{k-1} - S_{k+1}/4) + y (C_{k-1} + C_{k+1}/4).
+// Each block's inputs (orders k-1..k+4) are loaded before the previous block is stored over them. After the
+// first block goes the order -1 entry for the next step, from the symmetry f(u + pi) = conj f(u) of every
+// product of l_u's: H_{-1} = -conj(H_1)/4, which keeps S_0 exactly zero and needs no case at k = 0.
+// add_block(i, cre, cim) sets the added term of the block at index i; after(i, cre, cim) sees each result.
+template <class Add, class After>
+POLYSTOKES_INLINE void step_row(double* re, double* im, const double* coefficients, int blocks, Add&& add_block,
+                                After&& after) {
+  const v4 x = load(coefficients), y = load(coefficients + 4), z = load(coefficients + 8);
+  const v4 quarter = {0.25, 0.25, 0.25, 0.25};
+  v4 cm = load(re + first - 1), c0 = load(re + first), cp = load(re + first + 1);
+  v4 sm = load(im + first - 1), s0 = load(im + first), sp = load(im + first + 1);
+  for (int b = 0; b < blocks; ++b) {
+    const int i = first + 4 * b;
+    v4 cre, cim;
+    add_block(i, cre, cim);
+    const v4 p = cm - quarter * cp, t = cm + quarter * cp;
+    const v4 q = sm + quarter * sp, r = sm - quarter * sp;
+    cre = cre + z * c0;
+    cre = cre + x * p;
+    cre = cre - y * q;
+    cim = cim + z * s0;
+    cim = cim + x * r;
+    cim = cim + y * t;
+    cm = load(re + i + 3);
+    c0 = load(re + i + 4);
+    cp = load(re + i + 5);
+    sm = load(im + i + 3);
+    s0 = load(im + i + 4);
+    sp = load(im + i + 5);
+    store(re + i, cre);
+    store(im + i, cim);
+    if (b == 0) {
+      re[first - 1] = -0.25 * cre[1];
+      im[first - 1] = 0.25 * cim[1];
+    }
+    after(i, cre, cim);
+  }
+}
+
+// Aligns the workspace to a cache line and returns its start.
+double* aligned_memory(std::vector<double>& memory, size_t doubles) {
+  if (memory.size() < doubles + 8) memory.resize(doubles + 8);
+  const uintptr_t address = reinterpret_cast<uintptr_t>(memory.data());
+  return memory.data() + ((64 - address % 64) % 64) / sizeof(double);
+}
+
+size_t workspace_doubles(int degree, size_t entities, size_t faces) {
+  const size_t stride = size_t(row_stride(degree));
+  return entities * 2 * stride + size_t(degree + 1) * 2 * stride + 12 * entities + 4 * faces;
+}
+
+}  // namespace
+
+size_t fan_workspace_bytes(int degree, size_t entities, size_t faces) {
+  return sizeof(double) * (workspace_doubles(degree, entities, faces) + 8) + sizeof(double*) * 2 * faces;
+}
+
+POLYSTOKES_KERNEL_CLONES
+void accumulate_fan_block(const FanDecomposition& fans, const Eigen::Vector3d* local, const double* fan_weights,
+                          int degree, FanWorkspace& workspace, double* out_re, double* out_im) {
+  const size_t stride = size_t(row_stride(degree));
+  const int sources = int(fans.sources.size()), edges = int(fans.edge_source.size());
+  const int centres = int(fans.centres.size());
+  const size_t entities = size_t(sources + edges + centres), faces = fans.fan_faces.size();
+  double* const rows = aligned_memory(workspace.memory, workspace_doubles(degree, entities, faces));
+  double* const totals = rows + entities * 2 * stride;                  // per degree: real row, imaginary row
+  double* const coefficients = totals + size_t(degree + 1) * 2 * stride;  // per entity: x, y, z splatted
+  double* const weights = coefficients + 12 * entities;                 // per fan face: weight splatted
+  auto row = [rows, stride](size_t e) { return rows + e * 2 * stride; };
+
+  std::fill(rows, rows + entities * 2 * stride + size_t(degree + 1) * 2 * stride, 0.0);
+  // Each entity's multiplying vertex: the source itself, the rim edge's other endpoint, the fan centre.
+  auto splat = [&](size_t e, int vertex) {
+    const Eigen::Vector3d& p = local[vertex];
+    for (int c = 0; c < 3; ++c) std::fill(coefficients + 12 * e + 4 * size_t(c), coefficients + 12 * e + 4 * size_t(c) + 4, p[c]);
+  };
+  for (int j = 0; j < sources; ++j) splat(size_t(j), fans.sources[size_t(j)]);
+  for (int j = 0; j < edges; ++j) splat(size_t(sources + j), fans.edge_other[size_t(j)]);
+  for (int j = 0; j < centres; ++j) splat(size_t(sources + edges + j), fans.centres[size_t(j)]);
+  for (size_t f = 0; f < faces; ++f) std::fill(weights + 4 * f, weights + 4 * f + 4, fan_weights[f]);
+  // Rows never move, so each rim edge's source and each fan face's rim edge are fixed pointers.
+  workspace.pointers.resize(size_t(edges) + faces);
+  const double** const edge_source = workspace.pointers.data();
+  const double** const face_edge = edge_source + edges;
+  for (int j = 0; j < edges; ++j) edge_source[j] = row(size_t(fans.edge_source[size_t(j)]));
+  for (size_t f = 0; f < faces; ++f) face_edge[f] = row(size_t(sources + fans.fan_edges[f]));
+
+  // Degree 0: h_0 = 1 for sources and rim edges, the sum of the fan weights for centres.
+  for (size_t e = 0; e < size_t(sources + edges); ++e) row(e)[first] = 1.0;
+  for (int c = 0; c < centres; ++c) {
+    double weight = 0;
+    for (int f = fans.fan_begin[size_t(c)]; f < fans.fan_begin[size_t(c) + 1]; ++f) weight += fan_weights[f];
+    row(size_t(sources + edges + c))[first] = weight;
+    totals[first] += weight;
+  }
+
+  const v4 zero = {0, 0, 0, 0};
+  auto nothing = [](int, v4, v4) {};
+  for (int n = 1; n <= degree; ++n) {
+    const int blocks = (n + 4) / 4;
+    // Sources: s^n = s * s^{n-1}.
+    for (int e = 0; e < sources; ++e) {
+      double* r = row(size_t(e));
+      step_row(r, r + stride, coefficients + 12 * size_t(e), blocks,
+               [&](int, v4& cre, v4& cim) { cre = cim = zero; }, nothing);
+    }
+    // Rim edges: h_n(s, t) = s^n + t h_{n-1}(s, t).
+    for (int j = 0; j < edges; ++j) {
+      const size_t e = size_t(sources + j);
+      double* r = row(e);
+      const double* add = edge_source[j];
+      step_row(r, r + stride, coefficients + 12 * e, blocks,
+               [&](int i, v4& cre, v4& cim) {
+                 cre = load(add + i);
+                 cim = load(add + stride + i);
+               },
+               nothing);
+    }
+    // Centres: sum over the fan of weight * h_n(a, b, c) = sum weight * h_n(a, b) + c * (the same at n - 1).
+    double* const t_re = totals + size_t(n) * 2 * stride;
+    double* const t_im = t_re + stride;
+    for (int c = 0; c < centres; ++c) {
+      const size_t e = size_t(sources + edges + c);
+      double* r = row(e);
+      const int begin = fans.fan_begin[size_t(c)], end = fans.fan_begin[size_t(c) + 1];
+      step_row(r, r + stride, coefficients + 12 * e, blocks,
+               [&](int i, v4& cre, v4& cim) {
+                 cre = cim = zero;
+                 for (int f = begin; f < end; ++f) {
+                   const v4 weight = load(weights + 4 * size_t(f));
+                   cre = cre + weight * load(face_edge[f] + i);
+                   cim = cim + weight * load(face_edge[f] + stride + i);
+                 }
+               },
+               [&](int i, v4 cre, v4 cim) {
+                 store(t_re + i, load(t_re + i) + cre);
+                 store(t_im + i, load(t_im + i) + cim);
+               });
+    }
+  }
+  for (int n = 0; n <= degree; ++n) {
+    const double* t_re = totals + size_t(n) * 2 * stride + first;
+    const double* t_im = t_re + stride;
+    double* o_re = out_re + size_t(n) * size_t(n + 1) / 2;
+    double* o_im = out_im + size_t(n) * size_t(n + 1) / 2;
+    for (int k = 0; k <= n; ++k) {
+      o_re[k] += t_re[k];
+      o_im[k] += t_im[k];
+    }
+  }
+}
+
+const char* moment_kernel_isa() {
+#if POLYSTOKES_HAVE_CLONES
+  __builtin_cpu_init();
+  if (__builtin_cpu_supports("x86-64-v3")) return "x86-64-v3 (AVX2+FMA)";
+#endif
+  return "baseline";
+}
+
+}  // namespace polystokes
