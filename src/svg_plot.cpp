@@ -227,9 +227,11 @@ void Plot::label(double x, double y, const std::string& text, const std::string&
 
 void Plot::legend(const std::vector<LegendEntry>& entries, Corner corner) {
   if (entries.empty()) return;
-  size_t longest = 0;
-  for (const auto& e : entries) longest = std::max(longest, e.label.size());
-  const double box_w = 40 + 6.6 * double(longest);
+  size_t longest = 0;  // in code points: UTF-8 continuation bytes do not count
+  for (const auto& e : entries)
+    longest = std::max(longest, size_t(std::count_if(e.label.begin(), e.label.end(),
+                                                     [](char c) { return (static_cast<unsigned char>(c) & 0xc0) != 0x80; })));
+  const double box_w = 44 + 6.4 * double(longest);
   const double line_h = 17;
   const double box_h = 8 + line_h * double(entries.size());
   const bool on_right = corner == Corner::top_right || corner == Corner::bottom_right;
