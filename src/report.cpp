@@ -12,7 +12,6 @@
 #include "mass_properties.h"
 #include "series.h"
 #include "svg_plot.h"
-#include "transforms.h"
 
 namespace polystokes {
 
@@ -268,9 +267,13 @@ std::string mass_section(const ReportInput& input, const MeshFacts* facts) {
        with_mesh ? mesh_value(facts->density) + " (" + escape(facts->density_source) + ")" : "");
   line("centre of mass (m, mesh frame)", num(vector_short(set.center_of_mass)),
        with_mesh ? num(vector_short(facts->props.center_of_mass)) : "");
-  if (set.degree >= 1) {
-    const Eigen::Vector3d from_degree_one =
-        set.origin_in_mesh + set.axes_in_mesh.transpose() * center_of_mass_offset(set);
+  if (set.degree >= 1 && set.C(0, 0) != 0) {
+    // Degree 1 of a field about an origin offset by d from the centre of mass is, fully normalized,
+    // (C11, S11, C10) = (dx, dy, dz) C00 / (sqrt(3) R) (common practice: the dipole term of the expansion).
+    const CoefficientSet fully = expressed_in(set, Convention{});
+    const Eigen::Vector3d offset =
+        std::sqrt(3.0) * set.reference_radius / fully.C(0, 0) * Eigen::Vector3d(fully.C(1, 1), fully.S(1, 1), fully.C(1, 0));
+    const Eigen::Vector3d from_degree_one = set.origin_in_mesh + set.axes_in_mesh.transpose() * offset;
     line("centre of mass implied by the degree-1 terms (m, mesh frame)", num(vector_short(from_degree_one)), "");
   }
   line("Brillouin radius about the expansion origin (m)",

@@ -6,6 +6,7 @@
 #include <Eigen/Geometry>
 #include <catch2/catch.hpp>
 #include <cmath>
+#include <cstdio>
 #include <fmt/format.h>
 
 #include "conventions.h"
@@ -274,6 +275,26 @@ TEST_CASE("the report shows GM, reference radius, C20, the fitted law and mesh m
   CHECK(section(html, "mass").find("matches") == std::string::npos);  // a generated mesh has no checksum
   for (const auto& line : set.history) CHECK(html.find(svg::escape(line)) != std::string::npos);
   for (const auto& note : set.notes) CHECK(html.find(svg::escape(note)) != std::string::npos);
+}
+
+TEST_CASE("the centre of mass implied by the degree-1 terms of a set about the mesh origin is the body's "
+          "(dipole term of the exterior expansion, common practice)",
+          "[report]") {
+  ComputeOptions options;
+  options.degree = 2;
+  options.origin = OriginChoice::mesh;
+  ReportInput input;
+  input.set = compute_coefficients({DensityRegion{test_body().mesh, 2100.0}}, options);
+  const std::string mass = section(make_report(input), "mass");
+  const size_t row = mass.find("implied by the degree-1 terms");
+  REQUIRE(row != std::string::npos);
+  const size_t open = mass.find('(', mass.find("<td>", row));
+  Eigen::Vector3d shown;
+  REQUIRE(std::sscanf(mass.c_str() + open, "(%lf, %lf, %lf)", &shown[0], &shown[1], &shown[2]) == 3);
+  const Eigen::Vector3d expected = mass_properties({DensityRegion{test_body().mesh, 2100.0}}).center_of_mass;
+  CAPTURE(shown.transpose(), expected.transpose());
+  CHECK((shown - expected).norm() < 1e-6 * expected.norm());
+  CHECK(expected.norm() > 100);
 }
 
 TEST_CASE("the report carries the operational caution at the top, at the end and on every printed page",
