@@ -23,20 +23,36 @@ double legendre_normalization(Normalization normalization, int n, int m) {
   return 1.0;
 }
 
+namespace {
+
+// N_X / N_fully for the three normalized conventions, without the common factorial part.
+double relative_to_fully(Normalization normalization, int n) {
+  switch (normalization) {
+    case Normalization::fully: return 1.0;
+    case Normalization::schmidt: return 1.0 / std::sqrt(2.0 * n + 1.0);
+    case Normalization::orthonormal: return 1.0 / std::sqrt(4.0 * M_PI);
+    case Normalization::unnormalized: break;
+  }
+  throw ConventionError("unnormalized has no finite ratio to fully normalized at every degree");
+}
+
+}  // namespace
+
 double coefficient_factor(const Convention& from, const Convention& to, int n, int m) {
+  if (m < 0 || m > n) throw ConventionError(fmt::format("invalid degree/order n = {}, m = {}", n, m));
   // C_X P_X is invariant, so C_to = C_from * N_from / N_to; the phase (-1)^m moves with the functions.
   double factor = 1.0;
   if (from.normalization != to.normalization) {
-    // Divide in the direction that keeps intermediate values in range.
-    const double n_from = legendre_normalization(from.normalization, n, m);
-    const double n_to = legendre_normalization(to.normalization, n, m);
-    factor = n_from / n_to;
+    if (from.normalization == Normalization::unnormalized || to.normalization == Normalization::unnormalized)
+      factor = legendre_normalization(from.normalization, n, m) / legendre_normalization(to.normalization, n, m);
+    else
+      factor = relative_to_fully(from.normalization, n) / relative_to_fully(to.normalization, n);
   }
   if (from.condon_shortley != to.condon_shortley && (m % 2) == 1) factor = -factor;
   return factor;
 }
 
-CoefficientSet convert_convention(const CoefficientSet& set, const Convention& target) {
+CoefficientSet expressed_in(const CoefficientSet& set, const Convention& target) {
   CoefficientSet out = set;
   for (int n = 0; n <= set.degree; ++n) {
     for (int m = 0; m <= n; ++m) {
@@ -52,6 +68,11 @@ CoefficientSet convert_convention(const CoefficientSet& set, const Convention& t
     }
   }
   out.convention = target;
+  return out;
+}
+
+CoefficientSet convert_convention(const CoefficientSet& set, const Convention& target) {
+  CoefficientSet out = expressed_in(set, target);
   out.history.push_back("converted from " + describe(set.convention) + " to " + describe(target));
   return out;
 }
@@ -68,5 +89,28 @@ std::string describe(const Convention& convention) {
   text += convention.zonal_as_j ? ", zonal as J_n = -C_n0" : ", zonal as C_n0";
   return text;
 }
+
+std::string short_name(const Convention& convention) {
+  std::string text = to_string(convention.normalization);
+  if (convention.condon_shortley) text += "+cs";
+  if (convention.zonal_as_j) text += "+J";
+  return text;
+}
+
+std::vector<Convention> all_conventions() {
+  std::vector<Convention> out;
+  for (Normalization normalization :
+       {Normalization::fully, Normalization::unnormalized, Normalization::schmidt, Normalization::orthonormal})
+    for (bool phase : {false, true})
+      for (bool zonal : {false, true}) out.push_back(Convention{normalization, phase, zonal});
+  return out;
+}
+
+bool operator==(const Convention& a, const Convention& b) {
+  return a.normalization == b.normalization && a.condon_shortley == b.condon_shortley &&
+         a.zonal_as_j == b.zonal_as_j;
+}
+
+bool operator!=(const Convention& a, const Convention& b) { return !(a == b); }
 
 }  // namespace polystokes
