@@ -18,9 +18,9 @@ namespace {
 // The closed form of a face integral carries a rounding error of about (distance / face radius) * epsilon
 // relative to the integral (cancellation between its edge and solid-angle terms), and the face integrals
 // themselves cancel in the sums by about distance / region radius more. Faces use the closed form while the
-// product of the two ratios is below kClosedFormLimit (error <~ 1e-14 relative to the field), and otherwise
+// product of the two ratios is below kClosedFormLimit (error <~ 2e-14 relative to the field), and otherwise
 // the quadrature, with its order chosen for a per-face error of kBudget (scaled like the reduced integrals).
-constexpr double kClosedFormLimit = 32.0;
+constexpr double kClosedFormLimit = 64.0;
 constexpr double kBudget = 2e-15;
 constexpr int kMaxRule = 12;
 
@@ -40,12 +40,21 @@ void gauss_legendre(int q, std::vector<double>& nodes, std::vector<double>& weig
 
 // The q x q Gauss product rule on the triangle collapsed at v0 (Duffy): y = v0 + s(1-t) e1 + s t e2, dA = 2A s ds dt,
 // exact for polynomials of degree 2q - 2. For 1/|x - y| at `ratio` face radii its relative error was measured
-// (all directions, equilateral and skinny faces) to stay below 0.4 (2.5 ratio)^-(2q-1); the order is the
-// smallest meeting `tolerance`.
-int rule_order(double ratio, double tolerance) {
-  const double q = 0.5 * (std::log(0.4 / tolerance) / std::log(2.5 * ratio) + 1.0);
-  return std::max(1, std::min(kMaxRule, int(std::ceil(q))));
-}
+// (all directions, equilateral and skinny faces) to stay below 0.4 (2.5 ratio)^-(2q-1). Rule q therefore meets
+// `tolerance` from ratio (0.4 / tolerance)^(1/(2q-1)) / 2.5 on; these thresholds are computed once per point.
+struct RuleThresholds {
+  explicit RuleThresholds(double tolerance) {
+    const double log_needed = std::log(0.4 / tolerance);
+    for (int q = 1; q <= kMaxRule; ++q) ratio[q] = std::exp(log_needed / (2.0 * q - 1.0)) / 2.5;
+  }
+  // Smallest order whose threshold `ratio` reaches (the largest order if none).
+  int order(double face_ratio) const {
+    int q = 1;
+    while (q < kMaxRule && face_ratio < ratio[q]) ++q;
+    return q;
+  }
+  double ratio[kMaxRule + 1] = {};
+};
 
 // ln((r_i + r_j + e)/(r_i + r_j - e)) = asinh(s_j/rho) - asinh(s_i/rho) with s the signed projections of the
 // endpoints on the edge line (s_j = s_i + e) and rho the distance from the line. Mirrored so that
@@ -146,7 +155,7 @@ FieldValue PolyhedronGravity::evaluate_region(const Region& region, const Eigen:
   const bool reduced = distance > 2.0 * region.radius;
   const double inv_d = reduced ? 1.0 / distance : 0.0, inv_d3 = inv_d * inv_d * inv_d;
   // Reduced integrals are smaller than the plain ones by ~radius/distance, so the budget shrinks with it.
-  const double tolerance = kBudget * std::min(1.0, region.radius / distance);
+  const RuleThresholds rules(kBudget * std::min(1.0, region.radius / distance));
 
   double sum_plane = 0;                           // sum_f plane_f I~_f
   Eigen::Vector3d sum_normal = Eigen::Vector3d::Zero();  // sum_f n_f I~_f
@@ -179,7 +188,7 @@ FieldValue PolyhedronGravity::evaluate_region(const Region& region, const Eigen:
         vector -= face.area * inv_d3 * x;
       }
     } else {
-      const auto& rule = rules_[size_t(rule_order(ratio, tolerance))];
+      const auto& rule = rules_[size_t(rules.order(ratio))];
       const Eigen::Vector3d e1 = face.v[1] - face.v[0], e2 = face.v[2] - face.v[0];
       if (!reduced) {
         for (const Node& node : rule) {

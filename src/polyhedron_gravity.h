@@ -26,15 +26,16 @@ namespace polystokes {
 ///    the triple product taken from the face's edge vectors; L_e as log1p of a ratio formed without
 ///    cancellation (from the signed projections of the endpoints on the edge line and the distance to it),
 ///    so points near faces, edges and vertices are fine. On an edge or vertex, U and grad U are finite and
-///    the gradient tensor is infinite (it diverges logarithmically there); on a face it takes the outer side.
-///  - The closed form loses about (distance / face size) * (distance / body size) digits to cancellation.
-///    Where that product exceeds 32 the face integrals are taken by Gauss-Legendre product quadrature on the
+///    the gradient tensor is infinite (it diverges logarithmically there); exactly on a face it is the mean of
+///    the two one-sided limits (which differ by 4 pi G rho n n^T).
+///  - The closed form loses a factor of about (distance / face size) * (distance / body size) in precision to
+///    cancellation. Where that product exceeds 64 the face integrals are taken by Gauss-Legendre product quadrature on the
 ///    collapsed triangle instead, with the order chosen to reach round-off (the integrands are analytic
-///    there), so the model is exact to rounding (~1e-14 relative or better) everywhere.
+///    there), so the model is exact to rounding (a few 1e-14 relative at worst) everywhere.
 ///  - Beyond twice the region's radius every face integral is evaluated relative to its value seen from the
 ///    region's centroid (the subtracted terms sum to zero exactly on a closed surface), which removes the
-///    loss of (distance / size) digits in the sums: at 10^4 body radii the field agrees with the point mass
-///    to ~1e-15.
+///    loss of a factor distance / size in the sums: at 10^4 body radii the field agrees with the point mass
+///    to a few 1e-15.
 /// Cost O(faces) per point; see evaluate(Points) for parallel evaluation.
 class PolyhedronGravity {
  public:

@@ -2,6 +2,7 @@
 // degree), acceleration and gradient against the classical spherical-coordinate formulas and finite
 // differences, handbook point-mass and J2 closed forms, the poles, conventions and truncation.
 #include <catch2/catch.hpp>
+#include <ctime>
 #include <cmath>
 #include <gsl/gsl_sf_legendre.h>
 #include <random>
@@ -276,5 +277,18 @@ TEST_CASE("threaded evaluation over many points gives the same values for any th
   for (int i = 0; i < 37; ++i) {
     CHECK(one[size_t(i)].potential == three[size_t(i)].potential);
     CHECK(one[size_t(i)].gradient == three[size_t(i)].gradient);
+  }
+}
+
+TEST_CASE("timing: microseconds per point by degree", "[series][.slow]") {
+  for (const int degree : {20, 50, 150}) {
+    const SeriesModel model(random_set(degree, 8));
+    Points points(200, 3);
+    for (int i = 0; i < 200; ++i) points.row(i) = spherical_point(1500.0, -89.0 + 0.89 * i, 7.3 * i).transpose();
+    const std::clock_t start = std::clock();  // processor time: meaningful on a shared machine
+    const auto values = model.evaluate(points, 1);
+    const double seconds = double(std::clock() - start) / CLOCKS_PER_SEC;
+    WARN("degree " << degree << ": " << seconds / 200.0 * 1e6 << " us per point (potential, acceleration, gradient)");
+    CHECK(values.size() == 200);
   }
 }
