@@ -17,23 +17,44 @@
 
 namespace polystokes {
 
-void fully_normalized_legendre(int degree, double t, Eigen::MatrixXd& out) {
-  out.setZero(degree + 1, degree + 1);
-  const double u = std::sqrt(std::max(0.0, (1.0 - t) * (1.0 + t)));
-  out(0, 0) = 1.0;
-  if (degree == 0) return;
-  // Sectorial seeds, then the forward column recursion in n for each m
-  // (Holmes & Featherstone 2002, J. Geodesy 76, eqs. 11-13).
-  out(1, 1) = std::sqrt(3.0) * u;
-  for (int m = 2; m <= degree; ++m) out(m, m) = u * std::sqrt((2.0 * m + 1.0) / (2.0 * m)) * out(m - 1, m - 1);
-  for (int m = 0; m <= degree; ++m) {
-    if (m + 1 <= degree) out(m + 1, m) = std::sqrt(2.0 * m + 3.0) * t * out(m, m);
-    for (int n = m + 2; n <= degree; ++n) {
-      const double a = std::sqrt((2.0 * n - 1.0) * (2.0 * n + 1.0) / ((n - m) * double(n + m)));
-      const double b = std::sqrt((2.0 * n + 1.0) * (n + m - 1.0) * (n - m - 1.0) / ((n - m) * double(n + m) * (2.0 * n - 3.0)));
-      out(n, m) = a * t * out(n - 1, m) - b * out(n - 2, m);
+namespace {
+
+// Factors of the standard forward column recursion (Holmes & Featherstone 2002, J. Geodesy 76, eqs. 11-13),
+// computed once per degree: sectorial seeds s_m, the first step c_m and the column factors a_nm, b_nm.
+struct LegendreRecursion {
+  explicit LegendreRecursion(int degree) : degree(degree), a(degree + 1, degree + 1), b(degree + 1, degree + 1) {
+    sectorial.resize(size_t(degree + 1));
+    first_step.resize(size_t(degree + 1));
+    for (int m = 1; m <= degree; ++m) sectorial[size_t(m)] = m == 1 ? std::sqrt(3.0) : std::sqrt((2.0 * m + 1.0) / (2.0 * m));
+    for (int m = 0; m <= degree; ++m) {
+      first_step[size_t(m)] = std::sqrt(2.0 * m + 3.0);
+      for (int n = m + 2; n <= degree; ++n) {
+        a(n, m) = std::sqrt((2.0 * n - 1.0) * (2.0 * n + 1.0) / ((n - m) * double(n + m)));
+        b(n, m) = std::sqrt((2.0 * n + 1.0) * (n + m - 1.0) * (n - m - 1.0) / ((n - m) * double(n + m) * (2.0 * n - 3.0)));
+      }
     }
   }
+
+  void evaluate(double t, Eigen::MatrixXd& out) const {
+    out.setZero(degree + 1, degree + 1);
+    const double u = std::sqrt(std::max(0.0, (1.0 - t) * (1.0 + t)));
+    out(0, 0) = 1.0;
+    for (int m = 1; m <= degree; ++m) out(m, m) = u * sectorial[size_t(m)] * out(m - 1, m - 1);
+    for (int m = 0; m <= degree; ++m) {
+      if (m + 1 <= degree) out(m + 1, m) = first_step[size_t(m)] * t * out(m, m);
+      for (int n = m + 2; n <= degree; ++n) out(n, m) = a(n, m) * t * out(n - 1, m) - b(n, m) * out(n - 2, m);
+    }
+  }
+
+  int degree;
+  std::vector<double> sectorial, first_step;
+  Eigen::MatrixXd a, b;
+};
+
+}  // namespace
+
+void fully_normalized_legendre(int degree, double t, Eigen::MatrixXd& out) {
+  LegendreRecursion(degree).evaluate(t, out);
 }
 
 Eigen::MatrixXd fully_normalized_legendre(int degree, double t) {
@@ -314,6 +335,7 @@ HarmonicMoments harmonic_moments_reference(const std::vector<DensityRegion>& reg
   Eigen::MatrixXd sum_re = Eigen::MatrixXd::Zero(degree + 1, degree + 1);
   Eigen::MatrixXd sum_im = sum_re;
   Eigen::MatrixXd legendre;
+  const LegendreRecursion recursion(degree);
   std::vector<double> cos_m(size_t(degree + 1)), sin_m(size_t(degree + 1));
   for (const auto& region : regions) {
     for_each_scaled_face(region, frame, 0, region.mesh.faces.rows(), [&](const ScaledFace& face) {
@@ -329,7 +351,7 @@ HarmonicMoments harmonic_moments_reference(const std::vector<DensityRegion>& reg
             cos_m[size_t(m)] = std::cos(m * lon);
             sin_m[size_t(m)] = std::sin(m * lon);
           }
-          fully_normalized_legendre(degree, x.z() / r, legendre);
+          recursion.evaluate(x.z() / r, legendre);
           double rn = 1;
           for (int n = 0; n <= degree; ++n, rn *= r) {
             const double scale = face.det / (n + 3.0) * w * rn;
