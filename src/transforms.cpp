@@ -293,14 +293,6 @@ const Eigen::MatrixXd& RealWignerD::next() {
     return real_;
 }
 
-namespace {
-
-double d_at(const Eigen::MatrixXd& d, int level, int mu, int nu) {
-  if (std::abs(mu) > level || std::abs(nu) > level) return 0.0;
-  return d(mu + level, nu + level);
-}
-
-}  // namespace
 
 void RealWignerD::advance_wigner_d() {
     const int l = l_;
@@ -425,6 +417,27 @@ CoefficientSet rotate_set(const CoefficientSet& set, const Eigen::Matrix3d& rota
   out.frame = frame_label;
   out.history.push_back(fmt::format("axes rotated (real Wigner-D, degrees 0..{}): x_new = Q x_old with Q = {}",
                                     set.degree, matrix_text(rotation)));
+  return out;
+}
+
+CoefficientSet rotate_about_z(const CoefficientSet& set, double angle) {
+  check_matrices(set);
+  if (!std::isfinite(angle)) throw ConventionError("rotation angle is not finite");
+  // Normalization and phase factors depend on (n, m) only, so they commute with this map.
+  CoefficientSet out = set;
+  for (int m = 1; m <= set.degree; ++m) {
+    const double c = std::cos(m * angle), s = std::sin(m * angle);
+    for (int n = m; n <= set.degree; ++n) {
+      out.C(n, m) = set.C(n, m) * c - set.S(n, m) * s;
+      out.S(n, m) = set.C(n, m) * s + set.S(n, m) * c;
+      out.sigma_C(n, m) = std::hypot(c * set.sigma_C(n, m), s * set.sigma_S(n, m));
+      out.sigma_S(n, m) = std::hypot(s * set.sigma_C(n, m), c * set.sigma_S(n, m));
+    }
+  }
+  const Eigen::Matrix3d rotation = euler_zyz_matrix(angle, 0, 0);
+  out.axes_in_mesh = rotation * set.axes_in_mesh;
+  out.frame = "rotated";
+  out.history.push_back(fmt::format("axes rotated about z by {} rad (longitudes + {} rad)", angle, angle));
   return out;
 }
 

@@ -72,6 +72,10 @@ class RealWignerD {
 CoefficientSet rotate_set(const CoefficientSet& set, const Eigen::Matrix3d& rotation,
                           const std::string& frame_label = "rotated");
 
+/// rotate_set for Q = Rz(angle) (radians) by the closed form C' = C cos(m a) - S sin(m a),
+/// S' = C sin(m a) + S cos(m a): longitudes grow by `angle`. Any convention. O(degree^2).
+CoefficientSet rotate_about_z(const CoefficientSet& set, double angle);
+
 /// Q = Rz(alpha) Ry(beta) Rz(gamma) (radians; right-handed active rotations about the fixed z, y, z axes,
 /// which is the same as intrinsic rotations z, y', z'' applied in the order alpha, beta, gamma).
 Eigen::Matrix3d euler_zyz_matrix(double alpha, double beta, double gamma);

@@ -212,6 +212,10 @@ TEST_CASE("rotation about z equals the closed form C' = C cos(m a) - S sin(m a),
     }
   CHECK(out.frame == "rotated");
   CHECK(out.history.back().find("rotated") != std::string::npos);
+  // The O(n^2) closed-form path agrees with the general rotation.
+  require_sets_close(rotate_about_z(set, a), out, 30, 1e-14);
+  const CoefficientSet z_only = rotate_about_z(set, a);
+  CHECK_THAT(z_only.sigma_S(7, 3), WithinRel(out.sigma_S(7, 3), 1e-12));
 }
 
 TEST_CASE("rotating a set equals the set computed exactly from the rotated mesh to degree 20 (1e-12)",

@@ -1,0 +1,229 @@
+// Comparison of coefficient sets: per-degree statistics against their definitions, agreement after every
+// exact conversion, frame alignment, and the diagnosis naming each injected exchange mistake.
+#include <Eigen/Geometry>
+#include <catch2/catch.hpp>
+#include <cmath>
+#include <nlohmann/json.hpp>
+
+#include "compare.h"
+#include "conventions.h"
+#include "errors.h"
+#include "harmonics.h"
+#include "shapes.h"
+#include "test_support.h"
+#include "transforms.h"
+
+using namespace polystokes;
+using namespace polystokes::test;
+using Catch::Matchers::WithinAbs;
+using Catch::Matchers::WithinRel;
+
+namespace {
+
+// Lumpy body with no symmetry: every order present, distinct principal moments.
+const CoefficientSet& body_set() {
+  static const CoefficientSet set = [] {
+    const Mesh mesh = make_deformed_sphere(3, [](const Eigen::Vector3d& u) {
+      const double r = 1.0 + 0.2 * u.x() * u.y() + 0.1 * u.z() * u.z() * u.x() + 0.08 * std::sin(3 * u.y() + 1);
+      return Eigen::Vector3d(1600.0 * r * u.x(), 1000.0 * r * u.y(), 750.0 * r * u.z());
+    });
+    ComputeOptions options;
+    options.degree = 12;
+    options.body = "lumpy";
+    return compute_coefficients({DensityRegion{mesh, 1800.0}}, options);
+  }();
+  return set;
+}
+
+const Hypothesis& best(const Comparison& c) {
+  REQUIRE(!c.hypotheses.empty());
+  return c.hypotheses.front();
+}
+
+}  // namespace
+
+TEST_CASE("per-degree statistics follow their definitions (RMS per coefficient, degree correlation)", "[compare]") {
+  // Degree variance sigma_n^2 = sum_m (C^2 + S^2) (Kaula 1966, Theory of Satellite Geodesy, sec. 1.5), here
+  // divided by 2n+1 as an RMS per coefficient; degree correlation as in common practice.
+  CoefficientSet a = make_empty_set(3), b = make_empty_set(3);
+  for (CoefficientSet* s : {&a, &b}) {
+    s->gm = 1e5;
+    s->reference_radius = 1000;
+    s->C(0, 0) = 1;
+  }
+  a.C(2, 0) = 3e-2;
+  a.C(2, 2) = 4e-2;
+  b.C(2, 0) = 3e-2;
+  b.S(2, 2) = 4e-2;
+  a.C(3, 1) = 1e-3;
+  b.C(3, 1) = 2e-3;
+  const Comparison c = compare_sets(a, b);
+  REQUIRE(c.degrees.size() == 4);
+  const DegreeComparison& d2 = c.degrees[2];
+  CHECK_THAT(d2.rms_a, WithinRel(std::sqrt((9e-4 + 16e-4) / 5), 1e-15));
+  CHECK_THAT(d2.rms_difference, WithinRel(std::sqrt(2 * 16e-4 / 5), 1e-15));
+  CHECK_THAT(d2.correlation, WithinRel(9e-4 / 25e-4, 1e-15));
+  CHECK_THAT(c.degrees[3].correlation, WithinRel(1.0, 1e-15));
+  CHECK_THAT(c.degrees[3].relative, WithinRel(0.5, 1e-15));
+  CHECK(std::isnan(c.degrees[1].correlation));
+  CHECK(c.degrees[1].agrees);
+  CHECK(c.agree_degree == 1);
+  CHECK(!c.agree);
+  REQUIRE(!c.largest.empty());
+  CHECK(c.largest.front().n == 2);
+  CHECK(c.largest.front().m == 2);
+  CHECK(c.verdict.rfind("DIFFER", 0) == 0);
+}
+
+TEST_CASE("a set agrees with itself after every exact conversion, rescaling and rotation round trip", "[compare]") {
+  // Conversions are exact (IERS Conventions 2010 ch. 6 factors); compare brings B back to A's conventions.
+  const CoefficientSet& a = body_set();
+  for (const Convention& c : all_conventions()) {
+    CAPTURE(describe(c));
+    const CoefficientSet b = rescale_gm(rescale_reference_radius(convert_convention(a, c), 3000.0), a.gm * 2);
+    CompareOptions options;
+    options.tolerance = 1e-13;
+    const Comparison result = compare_sets(a, b, options);
+    CHECK(result.agree);
+    CHECK(result.agree_degree == a.degree);
+    CHECK(result.hypotheses.empty());
+    CHECK(result.verdict.rfind("AGREE", 0) == 0);
+    CHECK(!result.alignment.empty());
+  }
+}
+
+TEST_CASE("frame alignment: a rotated and shifted set agrees with A only when the frame is aligned", "[compare]") {
+  const CoefficientSet& a = body_set();
+  const Eigen::Matrix3d Q = Eigen::AngleAxisd(0.7, Eigen::Vector3d(1, 2, -1).normalized()).toRotationMatrix();
+  const CoefficientSet b = rotate_set(shift_origin(a, Eigen::Vector3d(40, -25, 10)), Q);
+  CompareOptions options;
+  options.tolerance = 1e-9;
+  options.diagnose = false;
+  CHECK(!compare_sets(a, b, options).agree);
+  options.align_frame = true;
+  // The shift there and back is exact only to the set's degree: compare below the top degree is not
+  // needed, the translation is exact degree by degree.
+  const Comparison aligned = compare_sets(a, b, options);
+  CAPTURE(comparison_text(aligned));
+  CHECK(aligned.agree);
+  CHECK(aligned.alignment.size() >= 2);
+}
+
+TEST_CASE("diagnosis names each injected exchange mistake and the corrected set agrees", "[compare]") {
+  const CoefficientSet& a = body_set();
+  CompareOptions options;
+  options.tolerance = 1e-9;
+  struct Case {
+    std::string kind;
+    CoefficientSet b;
+    double parameter;  // expected fitted value where there is one
+  };
+  std::vector<Case> cases;
+  {  // Schmidt numbers labelled fully normalized.
+    CoefficientSet b = expressed_in(a, Convention{Normalization::schmidt, false, false});
+    b.convention = a.convention;
+    cases.push_back({"normalization", b, 0});
+  }
+  {  // Condon-Shortley phase included but not declared.
+    CoefficientSet b = expressed_in(a, Convention{Normalization::fully, true, false});
+    b.convention = a.convention;
+    cases.push_back({"phase", b, 0});
+  }
+  {  // J_n written where C_n0 is declared (degree 0 left as C00 = 1).
+    CoefficientSet b = a;
+    for (int n = 1; n <= b.degree; ++n) b.C(n, 0) = -b.C(n, 0);
+    cases.push_back({"j_sign", b, 0});
+  }
+  {  // Coefficients for R = 2 km labelled with another radius.
+    CoefficientSet b = rescale_reference_radius(a, 2000.0);
+    b.reference_radius = 2300.0;
+    cases.push_back({"radius", b, 2000.0 / 2300.0});
+  }
+  {  // Coefficients scaled for another GM than the one declared.
+    CoefficientSet b = a;
+    b.gm = a.gm * 1.25;
+    cases.push_back({"gm", b, 1 / 1.25});
+  }
+  {  // Longitudes reversed.
+    CoefficientSet b = a;
+    b.S = -a.S;
+    cases.push_back({"longitude_sign", b, 0});
+  }
+  {  // Prime meridian 23 degrees off.
+    CoefficientSet b = rotate_about_z(a, -23.0 * M_PI / 180.0);
+    b.axes_in_mesh = a.axes_in_mesh;
+    cases.push_back({"z_rotation", b, 23.0});
+  }
+  {  // C and S columns swapped.
+    CoefficientSet b = a;
+    for (int n = 1; n <= a.degree; ++n)
+      for (int m = 1; m <= n; ++m) std::swap(b.C(n, m), b.S(n, m));
+    cases.push_back({"swapped_cs", b, 0});
+  }
+  {  // Expanded about a point 60 m off the centre of mass.
+    CoefficientSet b = shift_origin(a, Eigen::Vector3d(30, -40, 36));
+    b.origin_in_mesh = a.origin_in_mesh;
+    cases.push_back({"origin", b, std::sqrt(30.0 * 30 + 40 * 40 + 36 * 36)});
+  }
+  for (const Case& item : cases) {
+    CAPTURE(item.kind);
+    const Comparison c = compare_sets(a, item.b, options);
+    CAPTURE(comparison_text(c));
+    REQUIRE(!c.agree);
+    CHECK(best(c).kind == item.kind);
+    CHECK(best(c).explains);
+    CHECK(best(c).misfit < 1e-6 * c.misfit);
+    if (item.parameter != 0) CHECK_THAT(best(c).parameter, WithinRel(item.parameter, 1e-9));
+    CHECK(c.verdict.find("most likely " + item.kind) != std::string::npos);
+  }
+}
+
+TEST_CASE("a phase mistake also fits a 180-degree turn about z, and the verdict says so", "[compare]") {
+  // (-1)^m on C and S is exactly the rotation by pi about z (C' = C cos(m pi), S' = S cos(m pi)).
+  const CoefficientSet& a = body_set();
+  CoefficientSet b = expressed_in(a, Convention{Normalization::fully, true, false});
+  b.convention = a.convention;
+  const Comparison c = compare_sets(a, b);
+  CHECK(c.verdict.find("equally explained by") != std::string::npos);
+  CHECK(c.verdict.find("z_rotation") != std::string::npos);
+}
+
+TEST_CASE("an unexplained difference is reported as such", "[compare]") {
+  const CoefficientSet& a = body_set();
+  CoefficientSet b = a;
+  b.C(5, 3) *= 1.5;
+  b.S(9, 2) += 1e-5;
+  const Comparison c = compare_sets(a, b);
+  CHECK(c.agree_degree == 4);
+  CHECK(!best(c).explains);
+  CHECK(c.verdict.find("none of the usual mismatches") != std::string::npos);
+  // |0.5 C53| exceeds the 1e-5 added to S92 for this body.
+  REQUIRE(std::abs(0.5 * a.C(5, 3)) > 1e-5);
+  CHECK(c.largest.front().n == 5);
+  CHECK(c.largest.front().m == 3);
+  CHECK(!c.largest.front().sine);
+  CHECK(c.largest[1].sine);
+}
+
+TEST_CASE("JSON report carries the same numbers", "[compare]") {
+  const CoefficientSet& a = body_set();
+  CoefficientSet b = a;
+  b.S = -a.S;
+  const Comparison c = compare_sets(a, b);
+  const auto json = nlohmann::json::parse(comparison_json(c));
+  CHECK(json["agree"] == false);
+  CHECK(json["degrees"].size() == size_t(a.degree + 1));
+  CHECK(json["degrees"][3]["relative"].get<double>() == c.degrees[3].relative);
+  CHECK(json["degrees"][0]["correlation"].get<double>() == 1.0);
+  CHECK(json["diagnosis"][0]["kind"] == "longitude_sign");
+  CHECK(json["verdict"] == c.verdict);
+}
+
+TEST_CASE("sets without GM or radius are refused", "[compare]") {
+  CoefficientSet a = body_set(), b = body_set();
+  b.gm = 0;
+  CHECK_THROWS_AS(compare_sets(a, b), ConventionError);
+  b = a;
+  b.reference_radius = -1;
+  CHECK_THROWS_AS(compare_sets(a, b), ConventionError);
+}
