@@ -11,6 +11,7 @@
 #include "conventions.h"
 #include "errors.h"
 #include "output_file.h"
+#include "transforms.h"
 
 namespace polystokes {
 
@@ -244,9 +245,8 @@ CoefficientSet parse_table(const std::string& text, const std::string& source_na
     throw format_error(source_name, rows.begin()->second.line,
                        fmt::format("C00 = {} is not positive{}", c00,
                                    options.zonal_as_j ? " (with --zonal-j the degree-0 row holds J_0 = -C00)" : ""));
-  const bool degree_one_zero =
-      degree < 1 || (set.C(1, 0) == 0 && set.C(1, 1) == 0 && set.S(1, 1) == 0);
-  set.origin = degree_one_zero ? "com" : "shifted";
+  // Same reading of the degree-1 terms as shift_origin: a centre of mass within 1e-9 R means "com".
+  set.origin = center_of_mass_offset(set).norm() <= 1e-9 * set.reference_radius ? "com" : "shifted";
   set.notes.push_back(fmt::format("Imported from the table {}: frame and origin are the table's own; "
                                   "the Brillouin radius, mass and regions are not known.", source_name));
   return set;

@@ -1,0 +1,194 @@
+// Plain coefficient tables: a set written as a table in several layouts reads back bit for bit; declarations
+// that are missing, and every kind of bad row, give a one-line error naming the option or file:line.
+#include <catch2/catch.hpp>
+#include <cmath>
+#include <fmt/format.h>
+
+#include "conventions.h"
+#include "errors.h"
+#include "harmonics.h"
+#include "shapes.h"
+#include "table_import.h"
+#include "test_support.h"
+
+using namespace polystokes;
+using namespace polystokes::test;
+
+namespace {
+
+const CoefficientSet& body_set() {
+  static const CoefficientSet set = [] {
+    ComputeOptions options;
+    options.degree = 8;
+    CoefficientSet s = compute_coefficients({DensityRegion{make_ellipsoid(2, 900, 600, 450), 1500.0}}, options);
+    for (int n = 0; n <= s.degree; ++n)
+      for (int m = 0; m <= n; ++m) {
+        s.sigma_C(n, m) = 1e-3 * std::abs(s.C(n, m));
+        s.sigma_S(n, m) = m ? 2e-3 * std::abs(s.S(n, m)) : 0.0;
+      }
+    return s;
+  }();
+  return set;
+}
+
+TableImportOptions declared(const CoefficientSet& set, const std::string& columns) {
+  TableImportOptions options;
+  options.columns = parse_table_columns(columns);
+  options.normalization = set.convention.normalization;
+  options.condon_shortley = set.convention.condon_shortley;
+  options.zonal_as_j = set.convention.zonal_as_j;
+  options.reference_radius = set.reference_radius;
+  options.gm = set.gm;
+  return options;
+}
+
+// A table of `set` with a two-line header, a comment line and a trailing comment, rows "label n m C S sC sS".
+// Numbers in the shortest round-trip form (fmt "{}").
+std::string table_text(const CoefficientSet& set, const std::string& separator, int first_degree = 0) {
+  std::string text = "Invented team table, body Quillop\nrow n m C S sigmaC sigmaS\n# coefficients follow\n";
+  for (int n = first_degree; n <= set.degree; ++n)
+    for (int m = 0; m <= n; ++m)
+      text += fmt::format("coef{0}{1}{0}{2}{0}{3}{0}{4}{0}{5}{0}{6}   # row\n", separator, n, m, set.C(n, m), set.S(n, m),
+                          set.sigma_C(n, m), set.sigma_S(n, m));
+  return text;
+}
+
+void require_identical(const CoefficientSet& a, const CoefficientSet& b) {
+  REQUIRE(a.degree == b.degree);
+  CHECK(a.C == b.C);
+  CHECK(a.S == b.S);
+  CHECK(a.sigma_C == b.sigma_C);
+  CHECK(a.sigma_S == b.sigma_S);
+  CHECK(a.convention == b.convention);
+  CHECK(a.gm == b.gm);
+  CHECK(a.reference_radius == b.reference_radius);
+}
+
+}  // namespace
+
+TEST_CASE("a table read back reproduces the set exactly, whitespace or comma separated, any convention",
+          "[table_import]") {
+  for (const Convention& c : {Convention{}, Convention{Normalization::unnormalized, true, true},
+                              Convention{Normalization::schmidt, false, true}}) {
+    const CoefficientSet set = convert_convention(body_set(), c);
+    for (const std::string separator : {" ", "\t", ",", ", "}) {
+      CAPTURE(describe(c), separator);
+      TableImportOptions options = declared(set, "skip,n,m,C,S,sigma_C,sigma_S");
+      options.skip_lines = 2;
+      const CoefficientSet read = parse_table(table_text(set, separator), "team.tab", options);
+      require_identical(read, set);
+      CHECK(read.body == "team.tab");
+      CHECK(read.history.front().find("imported from table team.tab") != std::string::npos);
+      CHECK(read.origin == "com");
+    }
+  }
+}
+
+TEST_CASE("columns may come in any order; absent S and sigma columns are zeros; extra columns are ignored",
+          "[table_import]") {
+  const CoefficientSet& set = body_set();
+  std::string text;
+  for (int n = 0; n <= 2; ++n)
+    for (int m = 0; m <= n; ++m) text += fmt::format("{} {} {} 99 extra\n", set.C(n, m), m, n);
+  const CoefficientSet read = parse_table(text, "t", declared(set, "C,m,n"));
+  CHECK(read.degree == 2);
+  CHECK(read.C(2, 2) == set.C(2, 2));
+  CHECK(read.S.isZero());
+  CHECK(read.sigma_C.isZero());
+}
+
+TEST_CASE("Fortran D exponents and a leading + are read", "[table_import]") {
+  const CoefficientSet& set = body_set();
+  TableImportOptions options = declared(set, "n,m,C,S");
+  const CoefficientSet read = parse_table("0 0 1.0D+00 0\n1 0 0 0\n1 1 0 0\n2 0 -4.5d-02 0\n2 1 +1E-9 0\n2 2 3.25D-3 -1D-4\n",
+                                          "t", options);
+  CHECK(read.C(2, 0) == -4.5e-2);
+  CHECK(read.C(2, 1) == 1e-9);
+  CHECK(read.S(2, 2) == -1e-4);
+}
+
+TEST_CASE("a table starting at degree 2 gets C00 = 1 and zero degree-1 terms, recorded", "[table_import]") {
+  const CoefficientSet& set = body_set();
+  TableImportOptions options = declared(set, "skip,n,m,C,S,sigma_C,sigma_S");
+  options.skip_lines = 2;
+  const CoefficientSet read = parse_table(table_text(set, " ", 2), "t2", options);
+  CHECK(read.C(0, 0) == 1.0);
+  CHECK(read.C(1, 0) == 0.0);
+  CHECK(read.C(2, 0) == set.C(2, 0));
+  CHECK(read.history.size() == 3);
+  options.zonal_as_j = true;
+  CHECK(parse_table(table_text(set, " ", 2), "t2", options).C(0, 0) == -1.0);  // stored in J form
+}
+
+TEST_CASE("reference radius in km and GM in km^3 s^-2 are converted to metres", "[table_import]") {
+  const CoefficientSet& set = body_set();
+  TableImportOptions options = declared(set, "skip,n,m,C,S,sigma_C,sigma_S");
+  options.skip_lines = 2;
+  options.unit = LengthUnit::kilometer;
+  options.reference_radius = 0.95;
+  options.gm = 2.5e-5;
+  const CoefficientSet read = parse_table(table_text(set, " "), "t", options);
+  CHECK(read.reference_radius == 950.0);
+  CHECK(read.gm == Approx(2.5e4).epsilon(1e-15));
+  CHECK(read.length_unit == "km");
+}
+
+TEST_CASE("missing declarations are named in one error", "[table_import]") {
+  TableImportOptions options;
+  options.columns = parse_table_columns("n,m,C,S");
+  options.normalization = Normalization::fully;
+  options.condon_shortley = false;
+  options.reference_radius = 1000;
+  CHECK_THROWS_WITH(parse_table("0 0 1 0\n", "t", options), "--gm is required for a table (a plain table does not say it)");
+  options.gm = 1;
+  options.normalization.reset();
+  options.condon_shortley.reset();
+  CHECK_THROWS_WITH(parse_table("0 0 1 0\n", "t", options),
+                    Catch::StartsWith("--normalization, --condon-shortley or --no-condon-shortley are required"));
+  options = TableImportOptions{};
+  CHECK_THROWS_WITH(parse_table("0 0 1 0\n", "t", options), Catch::Contains("--columns"));
+  CHECK_THROWS_AS(parse_table("0 0 1 0\n", "t", options), ConventionError);
+}
+
+TEST_CASE("bad column lists are refused", "[table_import]") {
+  CHECK_THROWS_WITH(parse_table_columns("n,m,C,Q"), Catch::Contains("unknown column 'Q'"));
+  CHECK_THROWS_WITH(parse_table_columns("n,m,S"), Catch::Contains("column C is required"));
+  CHECK_THROWS_WITH(parse_table_columns("n,m,C,C"), Catch::Contains("column C given twice"));
+  CHECK(to_string(parse_table_columns("skip,n,m,C,skip,S")) == "skip,n,m,C,skip,S");
+}
+
+TEST_CASE("bad rows give file:line errors", "[table_import]") {
+  const CoefficientSet& set = body_set();
+  const TableImportOptions options = declared(set, "n,m,C,S");
+  const std::string good = "0 0 1 0\n1 0 0 0\n1 1 0 0\n";
+  struct Bad {
+    std::string text, message;
+  };
+  const std::vector<Bad> cases{
+      {good + "2 0 1e-3 0\n2 1 0 0\n2 1 0 0\n2 2 0 0\n", "t.tab:6: row n = 2, m = 1 repeats line 5"},
+      {good + "2 0 1e-3 0\n2 2 0 0\n", "t.tab: no row for n = 2, m = 1"},
+      {good + "2 3 1e-3 0\n", "t.tab:4: order m = 3 exceeds degree n = 2"},
+      {good + "2 0 abc 0\n", "t.tab:4: C 'abc' is not a number"},
+      {good + "2 0 1e-3\n", "t.tab:4: 3 field(s), but --columns n,m,C,S declares 4"},
+      {good + "2.5 0 1e-3 0\n", "t.tab:4: n '2.5' is not an integer"},
+      {good + "2 0 1e-3 5e-4\n", "t.tab:4: S or sigma_S is not 0 for m = 0"},
+      {good + "2,,0,1e-3,0\n", "t.tab:4: empty field"},
+      {good + "2 0 nan 0\n", "t.tab:4: C 'nan' is not finite"},
+      {good + "-1 0 0 0\n", "t.tab:4: negative degree or order"},
+      {"# only a comment\n\n", "t.tab: no coefficient rows"},
+      {"3 0 1 0\n3 1 0 0\n3 2 0 0\n3 3 0 0\n", "t.tab: no rows below degree 3"},
+      {"0 0 -1 0\n", "t.tab:1: C00 = -1 is not positive"},
+  };
+  for (const Bad& bad : cases) {
+    CAPTURE(bad.text);
+    CHECK_THROWS_AS(parse_table(bad.text, "t.tab", options), FormatError);
+    CHECK_THROWS_WITH(parse_table(bad.text, "t.tab", options), Catch::StartsWith(bad.message));
+  }
+  TableImportOptions with_sigma = declared(set, "n,m,C,S,sigma_C");
+  CHECK_THROWS_WITH(parse_table("0 0 1 0 -1\n", "t.tab", with_sigma), Catch::StartsWith("t.tab:1: negative sigma"));
+}
+
+TEST_CASE("read_table names a missing file", "[table_import]") {
+  const CoefficientSet& set = body_set();
+  CHECK_THROWS_WITH(read_table("/nonexistent/team.tab", declared(set, "n,m,C,S")), Catch::Contains("/nonexistent/team.tab"));
+}
