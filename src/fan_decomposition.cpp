@@ -1,5 +1,6 @@
 #include "fan_decomposition.h"
 
+#include <algorithm>
 #include <fmt/format.h>
 
 #include "errors.h"
@@ -9,23 +10,24 @@ namespace polystokes {
 const FanDecomposition& FanDecomposer::decompose(const Faces& faces, Eigen::Index vertex_count, Eigen::Index begin,
                                                  Eigen::Index end) {
   FanDecomposition& out = result_;
+  const int count = int(end - begin);
   out.vertices.clear();
   out.sources.clear();
   out.edge_source.clear();
   out.edge_other.clear();
   out.centres.clear();
   out.fan_begin.assign(1, 0);
-  out.fan_faces.clear();
-  out.fan_edges.clear();
-  out.fan_corners.clear();
+  out.fan_faces.resize(size_t(count));
+  out.fan_edges.resize(size_t(count));
+  out.fan_corners.resize(3 * size_t(count));
+  assigned_ = 0;
   edge_a_.clear();
   edge_b_.clear();
   begin_ = begin;
   if (local_of_.size() < size_t(vertex_count)) local_of_.resize(size_t(vertex_count), -1);
-  const int count = int(end - begin);
 
-  // Local vertex ids in order of first use, and the faces around each local vertex.
-  corners_.resize(size_t(3) * size_t(count));
+  // Local vertex ids in order of first use.
+  corners_.resize(3 * size_t(count));
   for (int f = 0; f < count; ++f)
     for (int k = 0; k < 3; ++k) {
       const int vertex = faces(begin + f, k);
@@ -41,15 +43,22 @@ const FanDecomposition& FanDecomposer::decompose(const Faces& faces, Eigen::Inde
     }
   const int locals = int(out.vertices.size());
   for (int vertex : out.vertices) local_of_[size_t(vertex)] = -1;
-  incident_begin_.assign(size_t(locals) + 1, 0);
-  for (int corner : corners_) ++incident_begin_[size_t(corner) + 1];
-  for (int v = 0; v < locals; ++v) incident_begin_[size_t(v) + 1] += incident_begin_[size_t(v)];
-  unassigned_.assign(incident_begin_.begin(), incident_begin_.end() - 1);  // used as fill positions first
-  incident_.resize(corners_.size());
-  for (int f = 0; f < count; ++f)
-    for (int k = 0; k < 3; ++k) incident_[size_t(unassigned_[size_t(corners_[size_t(3 * f + k)])]++)] = f;
-  for (int v = 0; v < locals; ++v) unassigned_[size_t(v)] = incident_begin_[size_t(v) + 1] - incident_begin_[size_t(v)];
+  // Wedges around each local vertex (CSR): the face and its next two corners in the face's own cyclic order,
+  // which are the rim edge when that vertex is the face's centre.
+  wedge_begin_.assign(size_t(locals) + 1, 0);
+  for (int corner : corners_) ++wedge_begin_[size_t(corner) + 1];
+  for (int v = 0; v < locals; ++v) wedge_begin_[size_t(v) + 1] += wedge_begin_[size_t(v)];
+  unassigned_.assign(wedge_begin_.begin(), wedge_begin_.end() - 1);  // fill positions first
+  wedges_.resize(corners_.size());
+  for (int f = 0; f < count; ++f) {
+    const int* c = &corners_[size_t(3 * f)];
+    wedges_[size_t(unassigned_[size_t(c[0])]++)] = {f, c[1], c[2]};
+    wedges_[size_t(unassigned_[size_t(c[1])]++)] = {f, c[2], c[0]};
+    wedges_[size_t(unassigned_[size_t(c[2])]++)] = {f, c[0], c[1]};
+  }
+  for (int v = 0; v < locals; ++v) unassigned_[size_t(v)] = wedge_begin_[size_t(v) + 1] - wedge_begin_[size_t(v)];
   face_edge_.assign(size_t(count), -1);
+  face_centre_.resize(size_t(count));
 
   // Centres: proposed ones while they still have two or more open faces, else a seed at the first open face.
   candidates_.clear();
@@ -77,42 +86,39 @@ const FanDecomposition& FanDecomposer::decompose(const Faces& faces, Eigen::Inde
 
 void FanDecomposer::make_centre(int centre) {
   FanDecomposition& out = result_;
-  for (int i = incident_begin_[size_t(centre)]; i < incident_begin_[size_t(centre) + 1]; ++i) {
-    const int f = incident_[size_t(i)];
+  for (int i = wedge_begin_[size_t(centre)]; i < wedge_begin_[size_t(centre) + 1]; ++i) {
+    const Wedge wedge = wedges_[size_t(i)];
+    const int f = wedge.face;
     if (face_edge_[size_t(f)] >= 0) continue;
-    const int* c = &corners_[size_t(3 * f)];
-    // The rim edge is the side opposite the centre (for a face with a repeated vertex, any other two corners).
-    const int at = c[0] == centre ? 0 : c[1] == centre ? 1 : 2;
-    const int a = c[(at + 1) % 3], b = c[(at + 2) % 3];
-    for (int k = 0; k < 3; ++k) --unassigned_[size_t(c[k])];
-    const int edge = rim_edge(f, a, b);
+    --unassigned_[size_t(centre)];
+    --unassigned_[size_t(wedge.next)];
+    --unassigned_[size_t(wedge.after)];
+    const int edge = rim_edge(f, wedge.next, wedge.after);
     face_edge_[size_t(f)] = edge;
-    out.fan_faces.push_back(int(begin_) + f);
-    out.fan_edges.push_back(edge);
-    out.fan_corners.insert(out.fan_corners.end(), c, c + 3);
+    face_centre_[size_t(f)] = centre;
+    out.fan_faces[assigned_] = int(begin_) + f;
+    out.fan_edges[assigned_] = edge;
+    std::copy_n(&corners_[size_t(3 * f)], 3, &out.fan_corners[3 * assigned_]);
+    ++assigned_;
   }
   out.centres.push_back(centre);
-  out.fan_begin.push_back(int(out.fan_faces.size()));
+  out.fan_begin.push_back(int(assigned_));
 }
 
-// The rim edge {a, b} of face f: reused when another face through a and b already has it as its rim edge;
-// the third vertices of open faces across {a, b} are proposed as centres (the next centre of the colour class).
-int FanDecomposer::rim_edge(int face, int a, int b) {
+// The rim edge {a, b} of face f: reused when another face through a and b already has it as its rim edge
+// (its centre is its corner other than a and b); the third corners of open faces through a and b are
+// proposed as centres (the next centres of the colour class).
+inline int FanDecomposer::rim_edge(int face, int a, int b) {
   int found = -1;
-  for (int i = incident_begin_[size_t(a)]; i < incident_begin_[size_t(a) + 1]; ++i) {
-    const int g = incident_[size_t(i)];
-    if (g == face) continue;
-    const int* c = &corners_[size_t(3 * g)];
-    if (c[0] != b && c[1] != b && c[2] != b) continue;
-    const int edge = face_edge_[size_t(g)];
-    if (edge >= 0) {
-      if (found < 0 && ((edge_a_[size_t(edge)] == a && edge_b_[size_t(edge)] == b) ||
-                        (edge_a_[size_t(edge)] == b && edge_b_[size_t(edge)] == a)))
-        found = edge;
-    } else {
-      for (int k = 0; k < 3; ++k)
-        if (c[k] != a && c[k] != b) candidates_.push_back(c[k]);
-    }
+  for (int i = wedge_begin_[size_t(a)]; i < wedge_begin_[size_t(a) + 1]; ++i) {
+    const Wedge wedge = wedges_[size_t(i)];
+    if (wedge.face == face || (wedge.next != b && wedge.after != b)) continue;
+    const int third = wedge.next == b ? wedge.after : wedge.next;
+    const int edge = face_edge_[size_t(wedge.face)];
+    if (edge < 0)
+      candidates_.push_back(third);
+    else if (found < 0 && face_centre_[size_t(wedge.face)] == third)
+      found = edge;
   }
   if (found >= 0) return found;
   edge_a_.push_back(a);

@@ -50,14 +50,20 @@ class FanDecomposer {
 
   FanDecomposition result_;
   std::vector<int> local_of_;      // mesh vertex -> local id, -1 when not in the block
+  struct Wedge {
+    int face, next, after;         // a block face and its two corners after the wedge's vertex
+  };
   std::vector<int> corners_;       // 3 local ids per block face
-  std::vector<int> incident_begin_, incident_;  // local vertex -> block faces (CSR)
+  std::vector<int> wedge_begin_;   // local vertex -> its wedges (CSR)
+  std::vector<Wedge> wedges_;
   std::vector<int> unassigned_;    // per local vertex: its faces without a centre yet
   std::vector<int> face_edge_;     // per block face: its rim edge, -1 while unassigned
+  std::vector<int> face_centre_;   // per assigned block face: its centre
   std::vector<int> edge_a_, edge_b_;  // rim edge endpoints (local)
   std::vector<int> candidates_;    // proposed centres, first in first out
   std::vector<char> side_;         // per local vertex: used as the non-source end of a rim edge
   Eigen::Index begin_ = 0;
+  size_t assigned_ = 0;             // fan faces written so far
 };
 
 }  // namespace polystokes

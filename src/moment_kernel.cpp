@@ -3,6 +3,7 @@
 #include <algorithm>
 #include <cstdint>
 #include <cstring>
+#include <utility>
 
 // The kernel is compiled twice on x86-64 with GCC: for the baseline instruction set and for x86-64-v3
 // (AVX2 + FMA, chosen at load time when the processor has it). The clone contracts a*b+c into fused
@@ -54,40 +55,45 @@ int row_stride(int degree) {
 // Each block's inputs (orders k-1..k+4) are loaded before the previous block is stored over them. After the
 // first block goes the order -1 entry for the next step, from the symmetry f(u + pi) = conj f(u) of every
 // product of l_u's: H_{-1} = -conj(H_1)/4, which keeps S_0 exactly zero and needs no case at k = 0.
-// add_block(i, cre, cim) sets the added term of the block at index i; after(i, cre, cim) sees each result.
+// add_block(b, cre, cim) sets the added term of block b (orders 4b..4b+3); after(b, cre, cim) sees each result.
 template <class Add, class After>
 POLYSTOKES_INLINE void step_row(double* re, double* im, const double* coefficients, int blocks, Add&& add_block,
                                 After&& after) {
   const v4 x = load(coefficients), y = load(coefficients + 4), z = load(coefficients + 8);
   const v4 quarter = {0.25, 0.25, 0.25, 0.25};
-  v4 cm = load(re + first - 1), c0 = load(re + first), cp = load(re + first + 1);
-  v4 sm = load(im + first - 1), s0 = load(im + first), sp = load(im + first + 1);
-  for (int b = 0; b < blocks; ++b) {
-    const int i = first + 4 * b;
+  double* r = re + first;
+  double* s = im + first;
+  // Order -1 from the symmetry f(u + pi) = conj f(u) of every product of l_u's: H_{-1} = -conj(H_1)/4.
+  v4 c0 = load(r), cp = load(r + 1), s0 = load(s), sp = load(s + 1);
+  const v4 mirror_re = {-0.25, 1, 1, 1}, mirror_im = {0.25, 1, 1, 1};
+  const long long order[4] = {1, 0, 1, 2};
+  typedef long long v4i __attribute__((vector_size(32)));
+  const v4i shift = {order[0], order[1], order[2], order[3]};
+  v4 cm = __builtin_shuffle(c0, shift) * mirror_re, sm = __builtin_shuffle(s0, shift) * mirror_im;
+  auto block = [&](int b) {
     v4 cre, cim;
-    add_block(i, cre, cim);
+    add_block(b, cre, cim);
     const v4 p = cm - quarter * cp, t = cm + quarter * cp;
-    const v4 q = sm + quarter * sp, r = sm - quarter * sp;
+    const v4 q = sm + quarter * sp, u = sm - quarter * sp;
     cre = cre + z * c0;
     cre = cre + x * p;
     cre = cre - y * q;
     cim = cim + z * s0;
-    cim = cim + x * r;
+    cim = cim + x * u;
     cim = cim + y * t;
-    cm = load(re + i + 3);
-    c0 = load(re + i + 4);
-    cp = load(re + i + 5);
-    sm = load(im + i + 3);
-    s0 = load(im + i + 4);
-    sp = load(im + i + 5);
-    store(re + i, cre);
-    store(im + i, cim);
-    if (b == 0) {
-      re[first - 1] = -0.25 * cre[1];
-      im[first - 1] = 0.25 * cim[1];
-    }
-    after(i, cre, cim);
-  }
+    cm = load(r + 3);
+    c0 = load(r + 4);
+    cp = load(r + 5);
+    sm = load(s + 3);
+    s0 = load(s + 4);
+    sp = load(s + 5);
+    store(r, cre);
+    store(s, cim);
+    after(b, cre, cim);
+    r += 4;
+    s += 4;
+  };
+  for (int b = 0; b < blocks; ++b) block(b);
 }
 
 // Aligns the workspace to a cache line and returns its start.
@@ -163,31 +169,43 @@ void accumulate_fan_block(const FanDecomposition& fans, const Eigen::Vector3d* l
       double* r = row(e);
       const double* add = edge_source[j];
       step_row(r, r + stride, coefficients + 12 * e, blocks,
-               [&](int i, v4& cre, v4& cim) {
-                 cre = load(add + i);
-                 cim = load(add + stride + i);
+               [&](int b, v4& cre, v4& cim) {
+                 cre = load(add + first + 4 * b);
+                 cim = load(add + stride + first + 4 * b);
                },
                nothing);
     }
     // Centres: sum over the fan of weight * h_n(a, b, c) = sum weight * h_n(a, b) + c * (the same at n - 1).
-    double* const t_re = totals + size_t(n) * 2 * stride;
+    double* const t_re = totals + size_t(n) * 2 * stride + first;
     double* const t_im = t_re + stride;
     for (int c = 0; c < centres; ++c) {
       const size_t e = size_t(sources + edges + c);
       double* r = row(e);
       const int begin = fans.fan_begin[size_t(c)], end = fans.fan_begin[size_t(c) + 1];
       step_row(r, r + stride, coefficients + 12 * e, blocks,
-               [&](int i, v4& cre, v4& cim) {
-                 cre = cim = zero;
-                 for (int f = begin; f < end; ++f) {
-                   const v4 weight = load(weights + 4 * size_t(f));
-                   cre = cre + weight * load(face_edge[f] + i);
-                   cim = cim + weight * load(face_edge[f] + stride + i);
+               [&](int b, v4& cre, v4& cim) {
+                 // Two partial sums halve the dependency chain through the fan.
+                 v4 re0 = zero, im0 = zero, re1 = zero, im1 = zero;
+                 const size_t offset = size_t(first + 4 * b);
+                 int f = begin;
+                 for (; f + 1 < end; f += 2) {
+                   const v4 w0 = load(weights + 4 * size_t(f)), w1 = load(weights + 4 * size_t(f) + 4);
+                   re0 = re0 + w0 * load(face_edge[f] + offset);
+                   im0 = im0 + w0 * load(face_edge[f] + stride + offset);
+                   re1 = re1 + w1 * load(face_edge[f + 1] + offset);
+                   im1 = im1 + w1 * load(face_edge[f + 1] + stride + offset);
                  }
+                 if (f < end) {
+                   const v4 w0 = load(weights + 4 * size_t(f));
+                   re0 = re0 + w0 * load(face_edge[f] + offset);
+                   im0 = im0 + w0 * load(face_edge[f] + stride + offset);
+                 }
+                 cre = re0 + re1;
+                 cim = im0 + im1;
                },
-               [&](int i, v4 cre, v4 cim) {
-                 store(t_re + i, load(t_re + i) + cre);
-                 store(t_im + i, load(t_im + i) + cim);
+               [&](int b, v4 cre, v4 cim) {
+                 store(t_re + 4 * b, load(t_re + 4 * b) + cre);
+                 store(t_im + 4 * b, load(t_im + 4 * b) + cim);
                });
     }
   }
