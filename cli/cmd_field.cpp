@@ -1,9 +1,10 @@
 // polystokes field: potential, acceleration (and gradient) at listed points, from a coefficient set (series)
 // or from shape meshes with densities (exact constant-density polyhedron gravity); same output columns.
+#include <fmt/format.h>
+
 #include <algorithm>
 #include <cctype>
 #include <cstdio>
-#include <fmt/format.h>
 #include <memory>
 
 #include "cli_common.h"
@@ -37,11 +38,12 @@ bool is_mesh_path(const std::string& path) {
   return ext == "obj" || ext == "off" || ext == "ply" || ext == "stl";
 }
 
-std::vector<FieldValue> exact_field(const FieldOptions& options, const Points& points, const GlobalOptions& global,
-                                    std::string& model) {
+std::vector<FieldValue> exact_field(const FieldOptions& options, const Points& points,
+                                    const GlobalOptions& global, std::string& model) {
   if (options.densities.size() != options.inputs.size())
-    throw ConventionError(fmt::format("{} meshes but {} densities: give one --density (kg/m^3) per mesh, in order",
-                                      options.inputs.size(), options.densities.size()));
+    throw ConventionError(
+        fmt::format("{} meshes but {} densities: give one --density (kg/m^3) per mesh, in order",
+                    options.inputs.size(), options.densities.size()));
   if (options.degree >= 0) throw ConventionError("--degree applies to coefficient sets, not to meshes");
   if (options.set_frame) throw ConventionError("--set-frame applies to coefficient sets, not to meshes");
   const LengthUnit unit = parse_unit_option(options.unit);
@@ -49,9 +51,10 @@ std::vector<FieldValue> exact_field(const FieldOptions& options, const Points& p
   for (size_t i = 0; i < options.inputs.size(); ++i) {
     const double density = options.densities[i];
     if (!std::isfinite(density) || density == 0 || (i == 0 && density < 0))
-      throw ConventionError(fmt::format("density {} for {} must be a finite non-zero number (positive for the "
-                                        "first mesh)",
-                                        density, options.inputs[i]));
+      throw ConventionError(
+          fmt::format("density {} for {} must be a finite non-zero number (positive for the "
+                      "first mesh)",
+                      density, options.inputs[i]));
     regions.push_back({load_checked_mesh(options.inputs[i], unit, options.merge_tolerance, global), density});
   }
   const PolyhedronGravity gravity(regions);
@@ -60,16 +63,17 @@ std::vector<FieldValue> exact_field(const FieldOptions& options, const Points& p
   for (Eigen::Index i = 0; i < points.rows(); ++i)
     if (gravity.density_at(points.row(i).transpose()) != 0) ++inside;
   if (inside > 0)
-    print_notice(global, fmt::format("{} of {} points lie inside the body (the exact model holds there too)", inside,
-                                     points.rows()));
+    print_notice(global, fmt::format("{} of {} points lie inside the body (the exact model holds there too)",
+                                     inside, points.rows()));
   model = fmt::format("exact constant-density polyhedron gravity of {} region(s), {} faces, mesh frame",
                       regions.size(), gravity.face_count());
   return values;
 }
 
-std::vector<FieldValue> series_field(const FieldOptions& options, const Points& points, const GlobalOptions& global,
-                                     std::string& model) {
-  if (options.inputs.size() != 1) throw ConventionError("give one coefficient set (or meshes with --density)");
+std::vector<FieldValue> series_field(const FieldOptions& options, const Points& points,
+                                     const GlobalOptions& global, std::string& model) {
+  if (options.inputs.size() != 1)
+    throw ConventionError("give one coefficient set (or meshes with --density)");
   if (!options.densities.empty())
     throw ConventionError(options.inputs[0] + " is a coefficient set: --density applies to meshes only");
   const CoefficientSet set = read_coefficient_file(options.inputs[0]);
@@ -79,7 +83,8 @@ std::vector<FieldValue> series_field(const FieldOptions& options, const Points& 
     values = series.evaluate(points, options.threads);
   } else {
     Points local(points.rows(), 3);
-    for (Eigen::Index i = 0; i < points.rows(); ++i) local.row(i) = to_set_frame(set, points.row(i).transpose()).transpose();
+    for (Eigen::Index i = 0; i < points.rows(); ++i)
+      local.row(i) = to_set_frame(set, points.row(i).transpose()).transpose();
     values = series.evaluate(local, options.threads);
     for (auto& value : values) value = to_mesh_frame(set, value);
   }
@@ -91,10 +96,11 @@ std::vector<FieldValue> series_field(const FieldOptions& options, const Points& 
       if (r < set.brillouin_radius) ++inside;
     }
     if (inside > 0 && !global.quiet)
-      std::fprintf(stderr,
-                   "polystokes: warning: %ld of %ld points lie inside the Brillouin sphere (r < %.9g m about the "
-                   "expansion origin), where the series may diverge\n",
-                   inside, long(points.rows()), set.brillouin_radius);
+      std::fprintf(
+          stderr,
+          "polystokes: warning: %ld of %ld points lie inside the Brillouin sphere (r < %.9g m about the "
+          "expansion origin), where the series may diverge\n",
+          inside, long(points.rows()), set.brillouin_radius);
   } else {
     print_notice(global, "the set records no Brillouin radius; points inside it cannot be flagged");
   }
@@ -127,15 +133,18 @@ void setup_field(CLI::App& app, const GlobalOptions& global) {
   auto options = std::make_shared<FieldOptions>();
   auto* cmd = app.add_subcommand(
       "field",
-      "Potential and acceleration at points, from a coefficient set (series) or from meshes (exact polyhedron).\n"
+      "Potential and acceleration at points, from a coefficient set (series) or from meshes (exact "
+      "polyhedron).\n"
       "Points: CSV x,y,z in metres, mesh frame (optional header x,y,z; '#' comments).\n"
       "Examples: polystokes field body.txt --points pts.csv -o series.csv\n"
       "          polystokes field body.obj --unit km --density 1900 --points pts.csv -o exact.csv");
   cmd->add_option("input", options->inputs, "Coefficient set, or mesh(es) .obj/.off/.ply/.stl with --density")
       ->required()
       ->check(CLI::ExistingFile);
-  cmd->add_option("--points", options->points, "CSV file of points x,y,z in metres ('-' for stdin)")->required();
-  cmd->add_option("-o,--output", options->output, "CSV to write: x,y,z,U,ax,ay,az ('-' for stdout)")->required();
+  cmd->add_option("--points", options->points, "CSV file of points x,y,z in metres ('-' for stdin)")
+      ->required();
+  cmd->add_option("-o,--output", options->output, "CSV to write: x,y,z,U,ax,ay,az ('-' for stdout)")
+      ->required();
   cmd->add_option("--density", options->densities, "Density per mesh in kg/m^3, in mesh order (meshes only)")
       ->expected(1, -1);
   cmd->add_option("--unit", options->unit, "Length unit of the mesh files: m or km")
@@ -144,11 +153,14 @@ void setup_field(CLI::App& app, const GlobalOptions& global) {
   cmd->add_option("--merge-tolerance", options->merge_tolerance,
                   "Merge mesh vertices closer than this (mesh unit); exact duplicates are always merged")
       ->check(CLI::NonNegativeNumber);
-  cmd->add_option("--degree", options->degree, "Truncate the series at this degree (default: the set's degree)")
+  cmd->add_option("--degree", options->degree,
+                  "Truncate the series at this degree (default: the set's degree)")
       ->check(CLI::NonNegativeNumber);
-  cmd->add_flag("--set-frame", options->set_frame,
-                "Points and output vectors in the set's own frame about its expansion origin (default: mesh frame)");
-  cmd->add_flag("--gradient", options->gradient, "Add the gravity-gradient columns Txx,Txy,Txz,Tyy,Tyz,Tzz (s^-2)");
+  cmd->add_flag(
+      "--set-frame", options->set_frame,
+      "Points and output vectors in the set's own frame about its expansion origin (default: mesh frame)");
+  cmd->add_flag("--gradient", options->gradient,
+                "Add the gravity-gradient columns Txx,Txy,Txz,Tyy,Tyz,Tzz (s^-2)");
   cmd->add_option("--threads", options->threads, "Worker threads (0 = all cores)")
       ->check(CLI::NonNegativeNumber)
       ->capture_default_str();

@@ -1,8 +1,9 @@
 // polystokes validate: how well a coefficient set's truncated series reproduces the exact polyhedron gravity
 // of its mesh, by degree and distance, with the recommended degree per shell and Brillouin-sphere warnings.
+#include <fmt/format.h>
+
 #include <cstdio>
 #include <filesystem>
-#include <fmt/format.h>
 #include <memory>
 
 #include "cli_common.h"
@@ -31,29 +32,34 @@ struct ValidateOptions {
 
 // The region meshes: MESH with --density, or MESH as the first of the set's recorded regions with their
 // densities (further region meshes are looked up by their recorded names, as given or next to the set file).
-std::vector<DensityRegion> load_regions(const ValidateOptions& options, bool unit_given, const CoefficientSet& set,
-                                        const GlobalOptions& global) {
+std::vector<DensityRegion> load_regions(const ValidateOptions& options, bool unit_given,
+                                        const CoefficientSet& set, const GlobalOptions& global) {
   const LengthUnit unit = !unit_given && !set.regions.empty() ? parse_length_unit(set.regions.front().unit)
                                                               : parse_unit_option(options.unit);
   std::vector<DensityRegion> regions;
   if (options.density != 0) {
-    regions.push_back({load_checked_mesh(options.mesh, unit, options.merge_tolerance, global), options.density});
+    regions.push_back(
+        {load_checked_mesh(options.mesh, unit, options.merge_tolerance, global), options.density});
     return regions;
   }
   if (set.regions.empty())
     throw ConventionError(options.set + " records no density regions: give --density for " + options.mesh);
-  regions.push_back({load_checked_mesh(options.mesh, unit, options.merge_tolerance, global), set.regions[0].density});
+  regions.push_back(
+      {load_checked_mesh(options.mesh, unit, options.merge_tolerance, global), set.regions[0].density});
   const std::filesystem::path set_dir = std::filesystem::path(options.set).parent_path();
   for (size_t i = 1; i < set.regions.size(); ++i) {
     const Region& region = set.regions[i];
     std::filesystem::path path = region.mesh;
-    if (!std::filesystem::exists(path) && std::filesystem::exists(set_dir / path.filename())) path = set_dir / path.filename();
+    if (!std::filesystem::exists(path) && std::filesystem::exists(set_dir / path.filename()))
+      path = set_dir / path.filename();
     if (!std::filesystem::exists(path))
-      throw ConventionError(fmt::format("{}: region {} mesh '{}' not found (looked as given and next to the set); "
-                                        "give --density to validate {} alone",
-                                        options.set, i + 1, region.mesh, options.mesh));
-    regions.push_back({load_checked_mesh(path.string(), parse_length_unit(region.unit), options.merge_tolerance, global),
-                       region.density});
+      throw ConventionError(
+          fmt::format("{}: region {} mesh '{}' not found (looked as given and next to the set); "
+                      "give --density to validate {} alone",
+                      options.set, i + 1, region.mesh, options.mesh));
+    regions.push_back(
+        {load_checked_mesh(path.string(), parse_length_unit(region.unit), options.merge_tolerance, global),
+         region.density});
   }
   print_notice(global, fmt::format("densities taken from {} ({} region(s))", options.set, regions.size()));
   return regions;
@@ -75,7 +81,8 @@ void run_validate(const ValidateOptions& options, bool unit_given, const GlobalO
     fmt::print(out, "{}", format_validation_text(report));
     fmt::print(out, "{}\n", operational_caution());
   } else {
-    for (const auto& warning : report.warnings) std::fprintf(stderr, "polystokes: warning: %s\n", warning.c_str());
+    for (const auto& warning : report.warnings)
+      std::fprintf(stderr, "polystokes: warning: %s\n", warning.c_str());
   }
 }
 
@@ -86,19 +93,23 @@ void setup_validate(CLI::App& app, const GlobalOptions& global) {
   auto* cmd = app.add_subcommand(
       "validate",
       "Compare a coefficient set's series, truncated at every degree, with the exact gravity of its mesh on\n"
-      "spheres about the expansion origin (multiples of the Brillouin radius R_B) and at altitudes above the\n"
+      "spheres about the expansion origin (multiples of the Brillouin radius R_B) and at altitudes above "
+      "the\n"
       "surface; report the relative acceleration error and the lowest degree meeting --target per shell.\n"
       "Example: polystokes validate body.obj body.txt --altitudes 100,1000 --json validation.json");
   cmd->add_option("mesh", options->mesh, "Shape mesh the set was computed from (.obj, .off, .ply, .stl)")
       ->required()
       ->check(CLI::ExistingFile);
-  cmd->add_option("set", options->set, "Coefficient set (text or JSON)")->required()->check(CLI::ExistingFile);
+  cmd->add_option("set", options->set, "Coefficient set (text or JSON)")
+      ->required()
+      ->check(CLI::ExistingFile);
   cmd->add_option("--density", options->density,
                   "Density in kg/m^3 (default: the densities recorded in the set, with their region meshes)")
       ->check(CLI::PositiveNumber);
-  auto* unit = cmd->add_option("--unit", options->unit,
-                               "Length unit of the mesh file: m or km (default: the unit recorded in the set)")
-                   ->check(CLI::IsMember({"m", "km"}));
+  auto* unit =
+      cmd->add_option("--unit", options->unit,
+                      "Length unit of the mesh file: m or km (default: the unit recorded in the set)")
+          ->check(CLI::IsMember({"m", "km"}));
   cmd->add_option("--merge-tolerance", options->merge_tolerance,
                   "Merge vertices closer than this (mesh unit); exact duplicates are always merged")
       ->check(CLI::NonNegativeNumber);

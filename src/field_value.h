@@ -8,9 +8,9 @@ namespace polystokes {
 
 /// Field at a point. Sign convention of geodesy: U > 0, U -> GM/r far away, acceleration = grad U.
 struct FieldValue {
-  double potential = 0;                                     ///< U, m^2 s^-2
-  Eigen::Vector3d acceleration = Eigen::Vector3d::Zero();   ///< grad U, m s^-2
-  Eigen::Matrix3d gradient = Eigen::Matrix3d::Zero();       ///< d2U / dx dx^T (symmetric), s^-2
+  double potential = 0;                                    ///< U, m^2 s^-2
+  Eigen::Vector3d acceleration = Eigen::Vector3d::Zero();  ///< grad U, m s^-2
+  Eigen::Matrix3d gradient = Eigen::Matrix3d::Zero();      ///< d2U / dx dx^T (symmetric), s^-2
 };
 
 /// A list of evaluation points, one per row, metres.

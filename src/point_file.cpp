@@ -1,10 +1,11 @@
 #include "point_file.h"
 
+#include <fmt/format.h>
+
 #include <algorithm>
 #include <cctype>
 #include <charconv>
 #include <cmath>
-#include <fmt/format.h>
 #include <string_view>
 
 #include "errors.h"
@@ -26,7 +27,8 @@ std::vector<std::string_view> split_fields(std::string_view line) {
   size_t start = 0;
   for (;;) {
     const size_t comma = line.find(',', start);
-    fields.push_back(trim(line.substr(start, comma == std::string_view::npos ? std::string_view::npos : comma - start)));
+    fields.push_back(
+        trim(line.substr(start, comma == std::string_view::npos ? std::string_view::npos : comma - start)));
     if (comma == std::string_view::npos) return fields;
     start = comma + 1;
   }
@@ -67,21 +69,25 @@ Points parse_points(const std::string& text, const std::string& source_name) {
     double first = 0;
     if (expected_fields == 0 && !parse_number(fields.front(), first).empty()) {
       if (fields.size() < 3 || lower(fields[0]) != "x" || lower(fields[1]) != "y" || lower(fields[2]) != "z")
-        throw format_error(source_name, line_number,
-                           fmt::format("expected a header starting with x,y,z or three numbers, got '{}'", line));
+        throw format_error(
+            source_name, line_number,
+            fmt::format("expected a header starting with x,y,z or three numbers, got '{}'", line));
       expected_fields = fields.size();
       continue;
     }
     if (expected_fields == 0) expected_fields = 3;
     if (fields.size() != expected_fields)
-      throw format_error(source_name, line_number,
-                         fmt::format("expected {} comma-separated fields, got {}", expected_fields, fields.size()));
+      throw format_error(
+          source_name, line_number,
+          fmt::format("expected {} comma-separated fields, got {}", expected_fields, fields.size()));
     for (int k = 0; k < 3; ++k) {
       double value = 0;
       if (const std::string problem = parse_number(fields[size_t(k)], value); !problem.empty())
-        throw format_error(source_name, line_number, fmt::format("field {} ('{}') {}", k + 1, fields[size_t(k)], problem));
+        throw format_error(source_name, line_number,
+                           fmt::format("field {} ('{}') {}", k + 1, fields[size_t(k)], problem));
       if (!std::isfinite(value))
-        throw format_error(source_name, line_number, fmt::format("field {} ('{}') is not finite", k + 1, fields[size_t(k)]));
+        throw format_error(source_name, line_number,
+                           fmt::format("field {} ('{}') is not finite", k + 1, fields[size_t(k)]));
       coordinates.push_back(value);
     }
   }
@@ -98,7 +104,8 @@ std::string field_table_header(bool with_gradient) {
   return with_gradient ? "x,y,z,U,ax,ay,az,Txx,Txy,Txz,Tyy,Tyz,Tzz" : "x,y,z,U,ax,ay,az";
 }
 
-std::string format_field_table(const Points& points, const std::vector<FieldValue>& values, bool with_gradient) {
+std::string format_field_table(const Points& points, const std::vector<FieldValue>& values,
+                               bool with_gradient) {
   if (size_t(points.rows()) != values.size())
     throw ConventionError(fmt::format("{} points but {} field values", points.rows(), values.size()));
   fmt::memory_buffer out;

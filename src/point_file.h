@@ -26,7 +26,8 @@ std::string field_table_header(bool with_gradient);
 
 /// The table: header line, then one row per point with the shortest round-trip form of every number
 /// (fmt "{}"). Units: m, m^2 s^-2, m s^-2, s^-2. Throws ConventionError if the sizes differ.
-std::string format_field_table(const Points& points, const std::vector<FieldValue>& values, bool with_gradient);
+std::string format_field_table(const Points& points, const std::vector<FieldValue>& values,
+                               bool with_gradient);
 
 /// format_field_table written atomically (write_file_atomically; "-" = stdout). Throws OutputError.
 void write_field_table(const std::string& path, const Points& points, const std::vector<FieldValue>& values,

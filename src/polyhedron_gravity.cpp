@@ -1,10 +1,11 @@
 #include "polyhedron_gravity.h"
 
+#include <fmt/format.h>
+
 #include <Eigen/Dense>
 #include <Eigen/Eigenvalues>
 #include <cmath>
 #include <limits>
-#include <fmt/format.h>
 #include <string>
 
 #include "errors.h"
@@ -38,10 +39,11 @@ void gauss_legendre(int q, std::vector<double>& nodes, std::vector<double>& weig
   }
 }
 
-// The q x q Gauss product rule on the triangle collapsed at v0 (Duffy): y = v0 + s(1-t) e1 + s t e2, dA = 2A s ds dt,
-// exact for polynomials of degree 2q - 2. For 1/|x - y| at `ratio` face radii its relative error was measured
-// (all directions, equilateral and skinny faces) to stay below 0.4 (2.5 ratio)^-(2q-1). Rule q therefore meets
-// `tolerance` from ratio (0.4 / tolerance)^(1/(2q-1)) / 2.5 on; these thresholds are computed once per point.
+// The q x q Gauss product rule on the triangle collapsed at v0 (Duffy): y = v0 + s(1-t) e1 + s t e2, dA = 2A
+// s ds dt, exact for polynomials of degree 2q - 2. For 1/|x - y| at `ratio` face radii its relative error was
+// measured (all directions, equilateral and skinny faces) to stay below 0.4 (2.5 ratio)^-(2q-1). Rule q
+// therefore meets `tolerance` from ratio (0.4 / tolerance)^(1/(2q-1)) / 2.5 on; these thresholds are computed
+// once per point.
 struct RuleThresholds {
   explicit RuleThresholds(double tolerance) {
     const double log_needed = std::log(0.4 / tolerance);
@@ -77,13 +79,13 @@ double edge_factor(const Eigen::Vector3d& ri, double norm_i, double norm_j, cons
 }
 
 // Signed solid angle of triangle (r0, r1, r2) seen from the origin, van Oosterom & Strackee 1983:
-// tan(omega/2) = r0 . (r1 x r2) / (|r0||r1||r2| + (r0.r1)|r2| + (r0.r2)|r1| + (r1.r2)|r0|). The triple product
-// is passed in as r0 . ((v1 - v0) x (v2 - v0)), which is free of the cancellation of r0 . (r1 x r2). Zero when
-// the point lies in the face's plane (the mean of the two one-sided limits +-2 pi on the face).
+// tan(omega/2) = r0 . (r1 x r2) / (|r0||r1||r2| + (r0.r1)|r2| + (r0.r2)|r1| + (r1.r2)|r0|). The triple
+// product is passed in as r0 . ((v1 - v0) x (v2 - v0)), which is free of the cancellation of r0 . (r1 x r2).
+// Zero when the point lies in the face's plane (the mean of the two one-sided limits +-2 pi on the face).
 double solid_angle(const Eigen::Vector3d (&r)[3], const double (&norm)[3], double triple) {
   if (triple == 0) return 0.0;
-  const double denominator = norm[0] * norm[1] * norm[2] + r[0].dot(r[1]) * norm[2] + r[0].dot(r[2]) * norm[1] +
-                             r[1].dot(r[2]) * norm[0];
+  const double denominator = norm[0] * norm[1] * norm[2] + r[0].dot(r[1]) * norm[2] +
+                             r[0].dot(r[2]) * norm[1] + r[1].dot(r[2]) * norm[0];
   return 2.0 * std::atan2(triple, denominator);
 }
 
@@ -99,14 +101,16 @@ PolyhedronGravity::PolyhedronGravity(const std::vector<DensityRegion>& regions) 
     region.density = input.density;
     // Centre of the face data: the volume centroid keeps the stored coordinates as small as possible.
     const VolumeMoments moments = volume_moments(mesh);
-    region.center = std::abs(moments.volume) > 0 ? Eigen::Vector3d(moments.first / moments.volume)
-                                                 : Eigen::Vector3d(mesh.vertices.colwise().mean().transpose());
+    region.center = std::abs(moments.volume) > 0
+                        ? Eigen::Vector3d(moments.first / moments.volume)
+                        : Eigen::Vector3d(mesh.vertices.colwise().mean().transpose());
     for (Eigen::Index f = 0; f < mesh.faces.rows(); ++f) {
       Face face;
       for (int k = 0; k < 3; ++k) {
         const int vertex = mesh.faces(f, k);
         if (vertex < 0 || vertex >= mesh.vertices.rows())
-          throw MeshError(fmt::format("{}: face {} names vertex {} that does not exist", mesh.source, f, vertex));
+          throw MeshError(
+              fmt::format("{}: face {} names vertex {} that does not exist", mesh.source, f, vertex));
         face.v[k] = mesh.vertices.row(vertex).transpose() - region.center;
         region.radius = std::max(region.radius, face.v[k].norm());
       }
@@ -136,7 +140,8 @@ PolyhedronGravity::PolyhedronGravity(const std::vector<DensityRegion>& regions) 
     gauss_legendre(q, nodes, weights);
     for (int i = 0; i < q; ++i)
       for (int k = 0; k < q; ++k)
-        rules_[size_t(q)].push_back({nodes[size_t(i)] * (1.0 - nodes[size_t(k)]), nodes[size_t(i)] * nodes[size_t(k)],
+        rules_[size_t(q)].push_back({nodes[size_t(i)] * (1.0 - nodes[size_t(k)]),
+                                     nodes[size_t(i)] * nodes[size_t(k)],
                                      2.0 * weights[size_t(i)] * weights[size_t(k)] * nodes[size_t(i)]});
   }
 }
@@ -157,11 +162,11 @@ FieldValue PolyhedronGravity::evaluate_region(const Region& region, const Eigen:
   // Reduced integrals are smaller than the plain ones by ~radius/distance, so the budget shrinks with it.
   const RuleThresholds rules(kBudget * std::min(1.0, region.radius / distance));
 
-  double sum_plane = 0;                           // sum_f plane_f I~_f
+  double sum_plane = 0;                                  // sum_f plane_f I~_f
   Eigen::Vector3d sum_normal = Eigen::Vector3d::Zero();  // sum_f n_f I~_f
   Eigen::Matrix3d sum_dyad = Eigen::Matrix3d::Zero();    // sum_f n_f v~_f^T
   for (const Face& face : region.faces) {
-    double integral = 0;                          // I~_f
+    double integral = 0;                               // I~_f
     Eigen::Vector3d vector = Eigen::Vector3d::Zero();  // v~_f = -grad of I~_f
     const double ratio = (face.centroid - x).norm() / face.radius;
     if (ratio * std::max(1.0, distance / region.radius) < kClosedFormLimit) {
@@ -198,8 +203,9 @@ FieldValue PolyhedronGravity::evaluate_region(const Region& region, const Eigen:
           vector -= (node.weight * inv_a * inv_a * inv_a) * u;
         }
       } else {
-        // With a = |y - x|, b = |x|: 1/a - 1/b = (b^2 - a^2)/(a b (a + b)) with b^2 - a^2 = 2 x.y - y.y formed
-        // from the small y (no cancellation), and (y - x)/a^3 + x/b^3 = y/a^3 - x (b^2 - a^2)(a^2 + ab + b^2) /
+        // With a = |y - x|, b = |x|: 1/a - 1/b = (b^2 - a^2)/(a b (a + b)) with b^2 - a^2 = 2 x.y - y.y
+        // formed from the small y (no cancellation), and (y - x)/a^3 + x/b^3 = y/a^3 - x (b^2 - a^2)(a^2 + ab
+        // + b^2) /
         // ((a + b) a^3 b^3).
         const double b = distance;
         double along_x = 0;
@@ -234,7 +240,8 @@ FieldValue PolyhedronGravity::evaluate_region(const Region& region, const Eigen:
 
 FieldValue PolyhedronGravity::evaluate(const Eigen::Vector3d& point) const {
   if (!point.allFinite())
-    throw ConventionError(fmt::format("field point ({}, {}, {}) is not finite", point.x(), point.y(), point.z()));
+    throw ConventionError(
+        fmt::format("field point ({}, {}, {}) is not finite", point.x(), point.y(), point.z()));
   FieldValue total;
   for (const auto& region : regions_) {
     const FieldValue part = evaluate_region(region, point);

@@ -26,12 +26,12 @@ namespace polystokes {
 ///    the triple product taken from the face's edge vectors; L_e as log1p of a ratio formed without
 ///    cancellation (from the signed projections of the endpoints on the edge line and the distance to it),
 ///    so points near faces, edges and vertices are fine. On an edge or vertex, U and grad U are finite and
-///    the gradient tensor is infinite (it diverges logarithmically there); exactly on a face it is the mean of
-///    the two one-sided limits (which differ by 4 pi G rho n n^T).
+///    the gradient tensor is infinite (it diverges logarithmically there); exactly on a face it is the mean
+///    of the two one-sided limits (which differ by 4 pi G rho n n^T).
 ///  - The closed form loses a factor of about (distance / face size) * (distance / body size) in precision to
-///    cancellation. Where that product exceeds 64 the face integrals are taken by Gauss-Legendre product quadrature on the
-///    collapsed triangle instead, with the order chosen to reach round-off (the integrands are analytic
-///    there), so the model is exact to rounding (a few 1e-14 relative at worst) everywhere.
+///    cancellation. Where that product exceeds 64 the face integrals are taken by Gauss-Legendre product
+///    quadrature on the collapsed triangle instead, with the order chosen to reach round-off (the integrands
+///    are analytic there), so the model is exact to rounding (a few 1e-14 relative at worst) everywhere.
 ///  - Beyond twice the region's radius every face integral is evaluated relative to its value seen from the
 ///    region's centroid (the subtracted terms sum to zero exactly on a closed surface), which removes the
 ///    loss of a factor distance / size in the sums: at 10^4 body radii the field agrees with the point mass
@@ -61,21 +61,21 @@ class PolyhedronGravity {
 
  private:
   struct Face {
-    Eigen::Vector3d v[3];              // vertices relative to the region centre
-    Eigen::Vector3d edge_unit[3];      // from v[k] to v[k+1]
-    Eigen::Vector3d edge_normal[3];    // in-plane, outward: edge_unit x normal
+    Eigen::Vector3d v[3];            // vertices relative to the region centre
+    Eigen::Vector3d edge_unit[3];    // from v[k] to v[k+1]
+    Eigen::Vector3d edge_normal[3];  // in-plane, outward: edge_unit x normal
     double edge_length[3];
-    Eigen::Vector3d normal;            // unit, outward
+    Eigen::Vector3d normal;              // unit, outward
     Eigen::Vector3d double_area_normal;  // (v1 - v0) x (v2 - v0)
-    double area, plane;                // plane = normal . v0
+    double area, plane;                  // plane = normal . v0
     Eigen::Vector3d centroid;
-    double radius;                     // largest centroid-vertex distance
+    double radius;  // largest centroid-vertex distance
   };
   struct Region {
-    Eigen::Vector3d center;            // volume centroid (or vertex mean), the origin of the face data
+    Eigen::Vector3d center;  // volume centroid (or vertex mean), the origin of the face data
     double density = 0;
-    double radius = 0;                 // largest vertex distance from center
-    double plane_area_sum = 0;         // sum_f plane_f area_f = 3 volume
+    double radius = 0;          // largest vertex distance from center
+    double plane_area_sum = 0;  // sum_f plane_f area_f = 3 volume
     std::vector<Face> faces;
   };
   FieldValue evaluate_region(const Region& region, const Eigen::Vector3d& point) const;

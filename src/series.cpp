@@ -1,9 +1,10 @@
 #include "series.h"
 
+#include <fmt/format.h>
+
 #include <Eigen/Dense>
 #include <algorithm>
 #include <cmath>
-#include <fmt/format.h>
 
 #include "conventions.h"
 #include "errors.h"
@@ -78,9 +79,10 @@ FieldValue assemble(const double (&q)[10], double scale) {
 
 SeriesModel::SeriesModel(const CoefficientSet& input, int max_degree) {
   if (input.degree < 0) throw ConventionError(fmt::format("degree must be >= 0, got {}", input.degree));
-  if (input.C.rows() < input.degree + 1 || input.C.cols() < input.degree + 1 || input.S.rows() < input.degree + 1 ||
-      input.S.cols() < input.degree + 1)
-    throw ConventionError(fmt::format("coefficient matrices are smaller than degree {} requires", input.degree));
+  if (input.C.rows() < input.degree + 1 || input.C.cols() < input.degree + 1 ||
+      input.S.rows() < input.degree + 1 || input.S.cols() < input.degree + 1)
+    throw ConventionError(
+        fmt::format("coefficient matrices are smaller than degree {} requires", input.degree));
   if (!(input.reference_radius > 0) || !std::isfinite(input.reference_radius))
     throw ConventionError(fmt::format("reference radius must be positive, got {}", input.reference_radius));
   if (!std::isfinite(input.gm)) throw ConventionError("GM is not finite");
@@ -124,7 +126,8 @@ SeriesModel::SeriesModel(const CoefficientSet& input, int max_degree) {
     for (int m = 0; m <= n - 2; ++m) {
       const double nm = (n - m) * double(n + m);
       recursion_a_[index(n, m)] = std::sqrt((2.0 * n - 1.0) * (2.0 * n + 1.0) / nm);
-      recursion_b_[index(n, m)] = std::sqrt((2.0 * n + 1.0) * (n + m - 1.0) * (n - m - 1.0) / (nm * (2.0 * n - 3.0)));
+      recursion_b_[index(n, m)] =
+          std::sqrt((2.0 * n + 1.0) * (n + m - 1.0) * (n - m - 1.0) / (nm * (2.0 * n - 3.0)));
     }
   }
 }
@@ -146,8 +149,8 @@ void SeriesModel::solid_harmonics(const Eigen::Vector3d& point, int top,
   }
   table[0] = s;
   for (int m = 1; m <= effective; ++m)
-    table[index(m, m)] =
-        (m == 1 ? std::sqrt(3.0) : std::sqrt((2.0 * m + 1.0) / (2.0 * m))) * s * w * table[index(m - 1, m - 1)];
+    table[index(m, m)] = (m == 1 ? std::sqrt(3.0) : std::sqrt((2.0 * m + 1.0) / (2.0 * m))) * s * w *
+                         table[index(m - 1, m - 1)];
   const double s2 = s * s;
   for (int m = 0; m < effective; ++m) {
     table[index(m + 1, m)] = std::sqrt(2.0 * m + 3.0) * t * s * table[index(m, m)];
@@ -194,7 +197,9 @@ std::vector<FieldValue> SeriesModel::sums_by_degree(const Eigen::Vector3d& point
   return out;
 }
 
-FieldValue SeriesModel::evaluate(const Eigen::Vector3d& point) const { return sums_by_degree(point, false).front(); }
+FieldValue SeriesModel::evaluate(const Eigen::Vector3d& point) const {
+  return sums_by_degree(point, false).front();
+}
 
 std::vector<FieldValue> SeriesModel::partial_sums(const Eigen::Vector3d& point) const {
   return sums_by_degree(point, true);
@@ -212,7 +217,8 @@ std::vector<FieldValue> SeriesModel::evaluate(const Points& points, int threads)
     }
   });
   for (Eigen::Index i = 0; i < points.rows(); ++i)
-    if (!errors[size_t(i)].empty()) throw ConventionError(fmt::format("point {}: {}", i + 1, errors[size_t(i)]));
+    if (!errors[size_t(i)].empty())
+      throw ConventionError(fmt::format("point {}: {}", i + 1, errors[size_t(i)]));
   return out;
 }
 

@@ -36,7 +36,8 @@ class SeriesModel {
   /// Same cost as one evaluate.
   std::vector<FieldValue> partial_sums(const Eigen::Vector3d& point) const;
 
-  /// evaluate() at each row, split over `threads` (0 = all hardware threads); identical results for any count.
+  /// evaluate() at each row, split over `threads` (0 = all hardware threads); identical results for any
+  /// count.
   std::vector<FieldValue> evaluate(const Points& points, int threads = 0) const;
 
  private:
@@ -58,7 +59,8 @@ class SeriesModel {
 /// Only meaningful outside the Brillouin sphere (the series may diverge inside).
 FieldValue evaluate_series(const CoefficientSet& set, const Eigen::Vector3d& point, int max_degree = -1);
 
-/// Mesh-frame point (metres) expressed in the set's frame about its origin: axes_in_mesh * (p - origin_in_mesh).
+/// Mesh-frame point (metres) expressed in the set's frame about its origin: axes_in_mesh * (p -
+/// origin_in_mesh).
 Eigen::Vector3d to_set_frame(const CoefficientSet& set, const Eigen::Vector3d& mesh_point);
 
 /// A field value computed in the set's frame, expressed in the mesh frame (vectors and tensor rotated back).

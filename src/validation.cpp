@@ -1,9 +1,10 @@
 #include "validation.h"
 
+#include <fmt/format.h>
+
 #include <Eigen/Geometry>
 #include <algorithm>
 #include <cmath>
-#include <fmt/format.h>
 #include <limits>
 #include <nlohmann/json.hpp>
 
@@ -20,12 +21,14 @@ namespace {
 void check_options(const ValidationOptions& options) {
   if (options.radius_factors.empty() && options.altitudes.empty())
     throw ConventionError("nothing to sample: give at least one radius factor or altitude");
-  if (options.samples < 1) throw ConventionError(fmt::format("samples must be >= 1, got {}", options.samples));
+  if (options.samples < 1)
+    throw ConventionError(fmt::format("samples must be >= 1, got {}", options.samples));
   for (const double f : options.radius_factors)
     if (!(f > 0) || !std::isfinite(f))
       throw ConventionError(fmt::format("radius factor must be positive, got {}", f));
   for (const double h : options.altitudes)
-    if (!(h >= 0) || !std::isfinite(h)) throw ConventionError(fmt::format("altitude must be >= 0 m, got {}", h));
+    if (!(h >= 0) || !std::isfinite(h))
+      throw ConventionError(fmt::format("altitude must be >= 0 m, got {}", h));
   if (!(options.target > 0) || !std::isfinite(options.target))
     throw ConventionError(fmt::format("target must be positive, got {}", options.target));
 }
@@ -34,19 +37,22 @@ void add_consistency_warnings(const std::vector<DensityRegion>& regions, const C
                               ValidationReport& report) {
   const double rb = report.brillouin_radius;
   if (std::abs(report.gm_set - report.gm_mesh) > 1e-9 * std::abs(report.gm_mesh))
-    report.warnings.push_back(fmt::format(
-        "GM of the set ({:.9g} m^3 s^-2) differs from G * density * volume of the mesh ({:.9g} m^3 s^-2) by a "
-        "relative {:.2e}; the errors below include that difference.",
-        report.gm_set, report.gm_mesh, (report.gm_set - report.gm_mesh) / report.gm_mesh));
+    report.warnings.push_back(
+        fmt::format("GM of the set ({:.9g} m^3 s^-2) differs from G * density * volume of the mesh ({:.9g} "
+                    "m^3 s^-2) by a "
+                    "relative {:.2e}; the errors below include that difference.",
+                    report.gm_set, report.gm_mesh, (report.gm_set - report.gm_mesh) / report.gm_mesh));
   if (set.brillouin_radius > 0 && std::abs(set.brillouin_radius - rb) > 1e-9 * rb)
-    report.warnings.push_back(fmt::format("the set's Brillouin radius ({:.9g} m) differs from the mesh's about the "
-                                          "set's origin ({:.9g} m): was the set computed from this mesh?",
-                                          set.brillouin_radius, rb));
+    report.warnings.push_back(
+        fmt::format("the set's Brillouin radius ({:.9g} m) differs from the mesh's about the "
+                    "set's origin ({:.9g} m): was the set computed from this mesh?",
+                    set.brillouin_radius, rb));
   if (set.origin == "com") {
     const Eigen::Vector3d com = mass_properties(regions).center_of_mass;
     if ((com - set.origin_in_mesh).norm() > 1e-9 * rb)
       report.warnings.push_back(fmt::format(
-          "the set's origin is the centre of mass ({:.9g}, {:.9g}, {:.9g}) m but the mesh's centre of mass is "
+          "the set's origin is the centre of mass ({:.9g}, {:.9g}, {:.9g}) m but the mesh's centre of mass "
+          "is "
           "({:.9g}, {:.9g}, {:.9g}) m: the set and the mesh (or densities) do not match.",
           set.origin_in_mesh.x(), set.origin_in_mesh.y(), set.origin_in_mesh.z(), com.x(), com.y(), com.z()));
   }
@@ -55,9 +61,10 @@ void add_consistency_warnings(const std::vector<DensityRegion>& regions, const C
       const std::string& recorded = set.regions[i].checksum;
       const std::string& actual = regions[i].mesh.checksum;
       if (!recorded.empty() && !actual.empty() && recorded != actual)
-        report.warnings.push_back(fmt::format("mesh {} is not the mesh the set was computed from (SHA-256 {} "
-                                              "recorded as {} in the set)",
-                                              regions[i].mesh.source, actual, recorded));
+        report.warnings.push_back(
+            fmt::format("mesh {} is not the mesh the set was computed from (SHA-256 {} "
+                        "recorded as {} in the set)",
+                        regions[i].mesh.source, actual, recorded));
     }
   }
 }
@@ -134,13 +141,15 @@ ValidationReport validate_series(const std::vector<DensityRegion>& regions, cons
   }
   if (!options.altitudes.empty()) {
     std::vector<double> surface(directions.size());
-    parallel_rows(long(directions.size()), options.threads,
-                  [&](long i) { surface[size_t(i)] = outermost_crossing(regions, origin, directions[size_t(i)]); });
+    parallel_rows(long(directions.size()), options.threads, [&](long i) {
+      surface[size_t(i)] = outermost_crossing(regions, origin, directions[size_t(i)]);
+    });
     const long missed = long(std::count(surface.begin(), surface.end(), 0.0));
     if (missed > 0)
-      report.warnings.push_back(fmt::format("{} of {} sample directions from the expansion origin do not meet the "
-                                            "surface; altitude shells leave them out.",
-                                            missed, directions.size()));
+      report.warnings.push_back(
+          fmt::format("{} of {} sample directions from the expansion origin do not meet the "
+                      "surface; altitude shells leave them out.",
+                      missed, directions.size()));
     for (const double h : options.altitudes) {
       ShellResult shell;
       shell.label = fmt::format("h = {:g} m", h);
@@ -196,8 +205,10 @@ ValidationReport validate_series(const std::vector<DensityRegion>& regions, cons
       shell.radius_min = 0;
       continue;
     }
-    for (size_t L = 0; L < levels; ++L) shell.rms_error[L] = std::sqrt(shell.rms_error[L] / double(shell.points));
-    shell.best_degree = int(std::min_element(shell.max_error.begin(), shell.max_error.end()) - shell.max_error.begin());
+    for (size_t L = 0; L < levels; ++L)
+      shell.rms_error[L] = std::sqrt(shell.rms_error[L] / double(shell.points));
+    shell.best_degree =
+        int(std::min_element(shell.max_error.begin(), shell.max_error.end()) - shell.max_error.begin());
     for (size_t L = 0; L < levels; ++L)
       if (shell.max_error[L] <= options.target) {
         shell.recommended_degree = int(L);
@@ -209,10 +220,11 @@ ValidationReport validate_series(const std::vector<DensityRegion>& regions, cons
           "diverge; there the error need not fall with degree and a higher degree can be worse.",
           shell.label, shell.inside_brillouin, shell.points, report.brillouin_radius));
     if (shell.recommended_degree < 0)
-      report.warnings.push_back(fmt::format("shell '{}': the target {:.1e} is not met up to degree {} (best {:.2e} "
-                                            "at degree {}).",
-                                            shell.label, options.target, report.degree,
-                                            shell.max_error[size_t(shell.best_degree)], shell.best_degree));
+      report.warnings.push_back(
+          fmt::format("shell '{}': the target {:.1e} is not met up to degree {} (best {:.2e} "
+                      "at degree {}).",
+                      shell.label, options.target, report.degree, shell.max_error[size_t(shell.best_degree)],
+                      shell.best_degree));
   }
   return report;
 }
@@ -220,12 +232,15 @@ ValidationReport validate_series(const std::vector<DensityRegion>& regions, cons
 std::string format_validation_text(const ValidationReport& report) {
   std::string out;
   out += "polystokes validate: series against exact constant-density polyhedron gravity\n";
-  out += fmt::format("  degree {}, reference radius {:.9g} m, Brillouin radius R_B {:.9g} m (about the expansion "
-                     "origin)\n",
-                     report.degree, report.reference_radius, report.brillouin_radius);
+  out += fmt::format(
+      "  degree {}, reference radius {:.9g} m, Brillouin radius R_B {:.9g} m (about the expansion "
+      "origin)\n",
+      report.degree, report.reference_radius, report.brillouin_radius);
   out += fmt::format("  GM set {:.12g}, mesh {:.12g} m^3 s^-2; {} faces; {} sample directions per shell\n",
                      report.gm_set, report.gm_mesh, report.faces, report.samples);
-  out += "  error = largest |a_series - a_exact| / |a_exact| over the shell's points, series truncated at degree L\n\n";
+  out +=
+      "  error = largest |a_series - a_exact| / |a_exact| over the shell's points, series truncated at "
+      "degree L\n\n";
 
   // Rows: all degrees up to 40, else a thinned set that keeps the ends and every recommended degree.
   std::vector<int> rows;
@@ -248,8 +263,8 @@ std::string format_validation_text(const ValidationReport& report) {
   }
   out += fmt::format("  (* = recommended: lowest degree meeting the target {:.1e})\n\n", report.target);
 
-  out += fmt::format("  {:<12} {:>23} {:>12} {:>12} {:>16}\n", "shell", "radius [m]", "inside R_B", "recommended",
-                     "error there");
+  out += fmt::format("  {:<12} {:>23} {:>12} {:>12} {:>16}\n", "shell", "radius [m]", "inside R_B",
+                     "recommended", "error there");
   for (const auto& shell : report.shells) {
     const std::string radius = shell.radius_max - shell.radius_min <= 1e-9 * shell.radius_max
                                    ? fmt::format("{:.6g}", shell.radius_min)
@@ -257,10 +272,11 @@ std::string format_validation_text(const ValidationReport& report) {
     const std::string inside = fmt::format("{}/{}", shell.inside_brillouin, shell.points);
     const std::string degree =
         shell.recommended_degree >= 0 ? fmt::format("{}", shell.recommended_degree) : std::string("none");
-    const double error = shell.recommended_degree >= 0 ? shell.max_error[size_t(shell.recommended_degree)]
-                                                       : (shell.points ? shell.max_error[size_t(shell.best_degree)] : 0.0);
-    out += fmt::format("  {:<12} {:>23} {:>12} {:>12} {:>16.2e}{}\n", shell.label, radius, inside, degree, error,
-                       shell.inside_brillouin > 0 ? "  WARNING: inside Brillouin sphere" : "");
+    const double error = shell.recommended_degree >= 0
+                             ? shell.max_error[size_t(shell.recommended_degree)]
+                             : (shell.points ? shell.max_error[size_t(shell.best_degree)] : 0.0);
+    out += fmt::format("  {:<12} {:>23} {:>12} {:>12} {:>16.2e}{}\n", shell.label, radius, inside, degree,
+                       error, shell.inside_brillouin > 0 ? "  WARNING: inside Brillouin sphere" : "");
   }
   if (!report.warnings.empty()) {
     out += "\n";
@@ -290,7 +306,8 @@ std::string format_validation_json(const ValidationReport& report) {
     s["radius_max_m"] = shell.radius_max;
     s["points"] = shell.points;
     s["inside_brillouin"] = shell.inside_brillouin;
-    s["recommended_degree"] = shell.recommended_degree >= 0 ? nlohmann::json(shell.recommended_degree) : nlohmann::json();
+    s["recommended_degree"] =
+        shell.recommended_degree >= 0 ? nlohmann::json(shell.recommended_degree) : nlohmann::json();
     s["best_degree"] = shell.best_degree;
     s["max_error"] = shell.max_error;
     s["rms_error"] = shell.rms_error;

@@ -1,5 +1,7 @@
 // Point lists and field tables: parsing rules, error messages with line numbers, exact round trip of doubles
 // (shortest round-trip form, as std::from_chars / std::to_chars specify in C++17), atomic output.
+#include "point_file.h"
+
 #include <catch2/catch.hpp>
 #include <cmath>
 #include <cstring>
@@ -7,18 +9,18 @@
 #include <random>
 
 #include "errors.h"
-#include "point_file.h"
 #include "test_support.h"
 
 using namespace polystokes;
 
 TEST_CASE("points parse with optional header, comments, blank lines and spaces", "[point_file]") {
-  const Points p = parse_points("# evaluation points\n"
-                                "X, Y, Z\n"
-                                "\n"
-                                "1, 2.5, -3e3   # trailing comment\n"
-                                "  +4,0.125,6E-2\r\n",
-                                "p.csv");
+  const Points p = parse_points(
+      "# evaluation points\n"
+      "X, Y, Z\n"
+      "\n"
+      "1, 2.5, -3e3   # trailing comment\n"
+      "  +4,0.125,6E-2\r\n",
+      "p.csv");
   REQUIRE(p.rows() == 2);
   CHECK(p(0, 0) == 1.0);
   CHECK(p(0, 1) == 2.5);
@@ -68,14 +70,17 @@ TEST_CASE("every double survives format -> parse exactly (shortest round-trip fo
 }
 
 TEST_CASE("malformed point lists give one-line errors naming file and line", "[point_file]") {
-  CHECK_THROWS_WITH(parse_points("1,2,3\n4,5\n", "a.csv"), "a.csv:2: expected 3 comma-separated fields, got 2");
+  CHECK_THROWS_WITH(parse_points("1,2,3\n4,5\n", "a.csv"),
+                    "a.csv:2: expected 3 comma-separated fields, got 2");
   CHECK_THROWS_WITH(parse_points("x,y,z\n1,2,abc\n", "b.csv"), "b.csv:2: field 3 ('abc') is not a number");
   CHECK_THROWS_WITH(parse_points("# c\nlat,lon,h\n", "c.csv"),
                     "c.csv:2: expected a header starting with x,y,z or three numbers, got 'lat,lon,h'");
   CHECK_THROWS_WITH(parse_points("1,nan,3\n", "d.csv"), "d.csv:1: field 2 ('nan') is not finite");
-  CHECK_THROWS_WITH(parse_points("1,2,1e999\n", "e.csv"), "e.csv:1: field 3 ('1e999') is out of the range of double");
+  CHECK_THROWS_WITH(parse_points("1,2,1e999\n", "e.csv"),
+                    "e.csv:1: field 3 ('1e999') is out of the range of double");
   CHECK_THROWS_WITH(parse_points("# only comments\n\n", "f.csv"), "f.csv: no points");
-  CHECK_THROWS_WITH(parse_points("x,y,z,U\n1,2,3\n", "g.csv"), "g.csv:2: expected 4 comma-separated fields, got 3");
+  CHECK_THROWS_WITH(parse_points("x,y,z,U\n1,2,3\n", "g.csv"),
+                    "g.csv:2: expected 4 comma-separated fields, got 3");
   CHECK_THROWS_WITH(parse_points("1,2,3\nx,y,z\n", "h.csv"), "h.csv:2: field 1 ('x') is not a number");
   CHECK_THROWS_WITH(parse_points("1,,3\n", "i.csv"), "i.csv:1: field 2 ('') is empty");
   CHECK_THROWS_AS(read_points("/nonexistent/dir/p.csv"), FormatError);

@@ -1,14 +1,15 @@
 // Exact polyhedron gravity: rectangular prisms against the closed form of Nagy, Papp & Benedek 2000, the far
 // field against the point mass and MacCullagh's formula, Poisson's equation inside and Laplace's outside,
 // continuity and the known jump of the gradient across the surface, edges and vertices, superposed regions.
+#include "polyhedron_gravity.h"
+
 #include <Eigen/Geometry>
 #include <catch2/catch.hpp>
-#include <ctime>
 #include <cmath>
+#include <ctime>
 
 #include "errors.h"
 #include "harmonics.h"
-#include "polyhedron_gravity.h"
 #include "shapes.h"
 
 using namespace polystokes;
@@ -32,8 +33,8 @@ struct PrismField {
   Eigen::Vector3d acceleration = Eigen::Vector3d::Zero();
 };
 
-// The corner sum cancels strongly away from the prism (terms ~ r^2 ln r, sum ~ volume / r), so it is evaluated
-// in long double (64-bit mantissa on x86-64, 113-bit where long double is quadruple).
+// The corner sum cancels strongly away from the prism (terms ~ r^2 ln r, sum ~ volume / r), so it is
+// evaluated in long double (64-bit mantissa on x86-64, 113-bit where long double is quadruple).
 using Wide = long double;
 
 Wide log_plus(Wide a, Wide r, Wide rest2) {
@@ -58,7 +59,8 @@ PrismField prism(const Eigen::Vector3d& lo, const Eigen::Vector3d& hi, double rh
     const Wide ly = (Z == 0 && X == 0) ? Wide(0) : log_plus(Y, r, Z * Z + X * X);
     const Wide lz = (X == 0 && Y == 0) ? Wide(0) : log_plus(Z, r, X * X + Y * Y);
     const Wide ax = atan_term(X, Y, Z, r), ay = atan_term(Y, Z, X, r), az = atan_term(Z, X, Y, r);
-    potential += sign * (X * Y * lz + Y * Z * lx + Z * X * ly - X * X / 2 * ax - Y * Y / 2 * ay - Z * Z / 2 * az);
+    potential +=
+        sign * (X * Y * lz + Y * Z * lx + Z * X * ly - X * X / 2 * ax - Y * Y / 2 * ay - Z * Z / 2 * az);
     acceleration[0] -= sign * (Y * lz + Z * ly - X * ax);
     acceleration[1] -= sign * (Z * lx + X * lz - Y * ay);
     acceleration[2] -= sign * (X * ly + Y * lx - Z * az);
@@ -95,9 +97,9 @@ TEST_CASE("rectangular prism: potential and attraction equal the Nagy, Papp & Be
   const PolyhedronGravity model({DensityRegion{box_mesh(lo, hi), rho}});
   // Outside (near, diagonal, far), inside, and below a face.
   for (const Eigen::Vector3d p :
-       {Eigen::Vector3d(700.0, -300.0, 500.0), Eigen::Vector3d(300.0, 300.0, 100.0), Eigen::Vector3d(10.0, 100.0, -50.0),
-        Eigen::Vector3d(50.0, 150.0, -400.0), Eigen::Vector3d(-2500.0, 1200.0, 3100.0),
-        Eigen::Vector3d(-140.0, 280.0, 55.0)}) {
+       {Eigen::Vector3d(700.0, -300.0, 500.0), Eigen::Vector3d(300.0, 300.0, 100.0),
+        Eigen::Vector3d(10.0, 100.0, -50.0), Eigen::Vector3d(50.0, 150.0, -400.0),
+        Eigen::Vector3d(-2500.0, 1200.0, 3100.0), Eigen::Vector3d(-140.0, 280.0, 55.0)}) {
     CAPTURE(p.transpose());
     const FieldValue v = model.evaluate(p);
     const PrismField ref = prism(lo, hi, rho, p);
@@ -133,8 +135,8 @@ TEST_CASE("rectangular prism: field on a face, an edge and at a vertex equals th
 }
 
 TEST_CASE("exactly on a face the gradient is the mean of its two one-sided limits", "[polyhedron_gravity]") {
-  // The one-sided limits differ by -4 pi G rho n n^T (Kellogg 1929, ch. VI); on the face the closed form gives
-  // the face's own solid angle as 0, the mean of +2 pi and -2 pi.
+  // The one-sided limits differ by -4 pi G rho n n^T (Kellogg 1929, ch. VI); on the face the closed form
+  // gives the face's own solid angle as 0, the mean of +2 pi and -2 pi.
   const Eigen::Vector3d lo(0.0, 0.0, 0.0), hi(300.0, 200.0, 100.0);
   const PolyhedronGravity model({DensityRegion{box_mesh(lo, hi), 2000.0}});
   const Eigen::Vector3d on(120.0, 70.0, 100.0), n(0.0, 0.0, 1.0);
@@ -149,7 +151,8 @@ TEST_CASE("two prisms as two regions and a prism with a void equal the closed-fo
           "[polyhedron_gravity]") {
   const Eigen::Vector3d a_lo(0, 0, 0), a_hi(200, 100, 100), b_lo(200, 0, 0), b_hi(300, 100, 100);
   const Eigen::Vector3d c_lo(50, 20, 30), c_hi(120, 70, 80);  // void inside a
-  const PolyhedronGravity model({DensityRegion{box_mesh(a_lo, a_hi), 2500.0}, DensityRegion{box_mesh(b_lo, b_hi), 1800.0},
+  const PolyhedronGravity model({DensityRegion{box_mesh(a_lo, a_hi), 2500.0},
+                                 DensityRegion{box_mesh(b_lo, b_hi), 1800.0},
                                  DensityRegion{box_mesh(c_lo, c_hi), -2500.0}});
   REQUIRE(model.region_count() == 3);
   REQUIRE(model.face_count() == 36);
@@ -159,9 +162,10 @@ TEST_CASE("two prisms as two regions and a prism with a void equal the closed-fo
     const PrismField a = prism(a_lo, a_hi, 2500.0, p), b = prism(b_lo, b_hi, 1800.0, p),
                      c = prism(c_lo, c_hi, -2500.0, p);
     CHECK(relative(v.potential, a.potential + b.potential + c.potential) <= 1e-13);
-    CHECK(relative(v.acceleration, Eigen::Vector3d(a.acceleration + b.acceleration + c.acceleration)) <= 1e-13);
+    CHECK(relative(v.acceleration, Eigen::Vector3d(a.acceleration + b.acceleration + c.acceleration)) <=
+          1e-13);
   }
-  CHECK(model.density_at(Eigen::Vector3d(90.0, 40.0, 50.0)) == 0.0);   // in the void
+  CHECK(model.density_at(Eigen::Vector3d(90.0, 40.0, 50.0)) == 0.0);  // in the void
   CHECK(model.density_at(Eigen::Vector3d(250.0, 40.0, 50.0)) == 1800.0);
 }
 
@@ -171,8 +175,9 @@ TEST_CASE("far field at 10^4 radii: cube and icosphere equal the point mass to ~
   // (cubic symmetry leaves degree 4 as the first, icosahedral degree 6: common practice), so at 10^4 radii
   // the point mass GM/r (Newton) is exact to ~1e-16.
   const Eigen::Vector3d center(3000.0, -1200.0, 450.0);
-  for (const Mesh& body : {transformed(make_box(500.0, 500.0, 500.0), Eigen::Matrix3d::Identity(), center),
-                           transformed(Mesh(make_icosphere(3)), 400.0 * Eigen::Matrix3d::Identity(), center)}) {
+  for (const Mesh& body :
+       {transformed(make_box(500.0, 500.0, 500.0), Eigen::Matrix3d::Identity(), center),
+        transformed(Mesh(make_icosphere(3)), 400.0 * Eigen::Matrix3d::Identity(), center)}) {
     const double rho = 2100.0;
     const double gm = kG * rho * volume_moments(body).volume;
     const PolyhedronGravity model({DensityRegion{body, rho}});
@@ -183,20 +188,23 @@ TEST_CASE("far field at 10^4 radii: cube and icosphere equal the point mass to ~
       CAPTURE(body.faces.rows(), d.transpose());
       CHECK(relative(v.potential, gm / r) <= 1e-14);
       CHECK(relative(v.acceleration, Eigen::Vector3d(-gm * d / (r * r * r))) <= 1e-14);
-      const Eigen::Matrix3d t = gm * (3.0 * d * d.transpose() - r * r * Eigen::Matrix3d::Identity()) / std::pow(r, 5);
+      const Eigen::Matrix3d t =
+          gm * (3.0 * d * d.transpose() - r * r * Eigen::Matrix3d::Identity()) / std::pow(r, 5);
       CHECK((v.gradient - t).norm() <= 1e-13 * t.norm());
     }
   }
 }
 
-TEST_CASE("far field of a triaxial prism equals MacCullagh's formula (Murray & Dermott 1999, Solar System "
-          "Dynamics, sec. 4.7, from memory)",
-          "[polyhedron_gravity]") {
+TEST_CASE(
+    "far field of a triaxial prism equals MacCullagh's formula (Murray & Dermott 1999, Solar System "
+    "Dynamics, sec. 4.7, from memory)",
+    "[polyhedron_gravity]") {
   // U = GM/r + G (A + B + C - 3 I_r) / (2 r^3), I_r the moment of inertia about the line to the point; prism
   // moments A = M (b^2 + c^2)/12 etc. (any mechanics handbook). The next terms (degree 4) are ~(size/r)^4.
   const double a = 600.0, b = 300.0, c = 150.0, rho = 1900.0, mass = rho * a * b * c;
   const PolyhedronGravity model({DensityRegion{make_box(a, b, c), rho}});
-  const Eigen::Vector3d moments(mass * (b * b + c * c) / 12, mass * (a * a + c * c) / 12, mass * (a * a + b * b) / 12);
+  const Eigen::Vector3d moments(mass * (b * b + c * c) / 12, mass * (a * a + c * c) / 12,
+                                mass * (a * a + b * b) / 12);
   for (const double scale : {1e3, 1e4}) {
     const Eigen::Vector3d p = scale * a * Eigen::Vector3d(0.4, -0.7, 0.59).normalized();
     const Eigen::Vector3d u = p.normalized();
@@ -209,7 +217,8 @@ TEST_CASE("far field of a triaxial prism equals MacCullagh's formula (Murray & D
 
 TEST_CASE("Poisson inside (trace of the gradient = -4 pi G rho) and Laplace outside; winding number 1 / 0",
           "[polyhedron_gravity]") {
-  // Poisson's equation for a Newtonian potential with U > 0 (Kellogg 1929, Foundations of Potential Theory, ch. VI).
+  // Poisson's equation for a Newtonian potential with U > 0 (Kellogg 1929, Foundations of Potential Theory,
+  // ch. VI).
   const double rho = 2300.0;
   const Mesh body = lumpy_body(3);
   const PolyhedronGravity model({DensityRegion{body, rho}});
@@ -231,8 +240,8 @@ TEST_CASE("Poisson inside (trace of the gradient = -4 pi G rho) and Laplace outs
 
 TEST_CASE("across the surface U and a are continuous and the gradient jumps by -4 pi G rho n n^T",
           "[polyhedron_gravity]") {
-  // Jump of the second derivatives of a volume potential across the boundary (Kellogg 1929, ch. VI, from memory):
-  // T_inside - T_outside = -4 pi G rho n n^T, n the outward normal.
+  // Jump of the second derivatives of a volume potential across the boundary (Kellogg 1929, ch. VI, from
+  // memory): T_inside - T_outside = -4 pi G rho n n^T, n the outward normal.
   const double rho = 2000.0;
   const Mesh body = lumpy_body(2);
   const PolyhedronGravity model({DensityRegion{body, rho}});
@@ -274,7 +283,8 @@ TEST_CASE("the field agrees whether a face is integrated in closed form or by qu
 TEST_CASE("parallel evaluation gives identical results for any thread count", "[polyhedron_gravity]") {
   const PolyhedronGravity model({DensityRegion{lumpy_body(2), 2000.0}});
   Points points(25, 3);
-  for (int i = 0; i < 25; ++i) points.row(i) = Eigen::RowVector3d(100.0 * i - 1200.0, 37.0 * i, 900.0 - 71.0 * i);
+  for (int i = 0; i < 25; ++i)
+    points.row(i) = Eigen::RowVector3d(100.0 * i - 1200.0, 37.0 * i, 900.0 - 71.0 * i);
   const auto one = model.evaluate(points, 1), four = model.evaluate(points, 4);
   for (size_t i = 0; i < one.size(); ++i) {
     CHECK(one[i].potential == four[i].potential);
@@ -290,12 +300,14 @@ TEST_CASE("timing: nanoseconds per facet and point", "[polyhedron_gravity][.slow
   for (const double radius : {1200.0, 3000.0, 1e6}) {
     Points points(200, 3);
     for (int i = 0; i < 200; ++i)
-      points.row(i) = radius * Eigen::RowVector3d(std::cos(i * 0.7) * std::sin(i * 0.3 + 0.1),
-                                                  std::sin(i * 0.7) * std::sin(i * 0.3 + 0.1), std::cos(i * 0.3 + 0.1));
+      points.row(i) =
+          radius * Eigen::RowVector3d(std::cos(i * 0.7) * std::sin(i * 0.3 + 0.1),
+                                      std::sin(i * 0.7) * std::sin(i * 0.3 + 0.1), std::cos(i * 0.3 + 0.1));
     const std::clock_t start = std::clock();  // processor time: meaningful on a shared machine
     const auto values = model.evaluate(points, 1);
     const double seconds = double(std::clock() - start) / CLOCKS_PER_SEC;
-    WARN("r = " << radius << " m: " << seconds / (200.0 * double(model.face_count())) * 1e9 << " ns per facet-point");
+    WARN("r = " << radius << " m: " << seconds / (200.0 * double(model.face_count())) * 1e9
+                << " ns per facet-point");
     CHECK(values.size() == 200);
   }
 }

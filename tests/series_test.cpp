@@ -1,15 +1,17 @@
 // Series evaluation: potential against the defining sum with GSL Legendre functions (moderate and high
 // degree), acceleration and gradient against the classical spherical-coordinate formulas and finite
 // differences, handbook point-mass and J2 closed forms, the poles, conventions and truncation.
-#include <catch2/catch.hpp>
-#include <ctime>
-#include <cmath>
+#include "series.h"
+
 #include <gsl/gsl_sf_legendre.h>
+
+#include <catch2/catch.hpp>
+#include <cmath>
+#include <ctime>
 #include <random>
 
 #include "conventions.h"
 #include "errors.h"
-#include "series.h"
 
 using namespace polystokes;
 
@@ -46,7 +48,8 @@ BruteForce brute_force(const CoefficientSet& set, const Eigen::Vector3d& p, bool
   std::vector<double> P(gsl_sf_legendre_array_n(size_t(N))), dP(P.size());
   // d/dtheta of P(cos theta) with theta the colatitude; d/dlat = -d/dtheta.
   if (with_acceleration)
-    gsl_sf_legendre_deriv_alt_array_e(GSL_SF_LEGENDRE_SPHARM, size_t(N), std::sin(lat), 1.0, P.data(), dP.data());
+    gsl_sf_legendre_deriv_alt_array_e(GSL_SF_LEGENDRE_SPHARM, size_t(N), std::sin(lat), 1.0, P.data(),
+                                      dP.data());
   else
     gsl_sf_legendre_array_e(GSL_SF_LEGENDRE_SPHARM, size_t(N), std::sin(lat), 1.0, P.data());
   double u = 0, du_dr = 0, du_dlat = 0, du_dlon = 0;
@@ -68,7 +71,8 @@ BruteForce brute_force(const CoefficientSet& set, const Eigen::Vector3d& p, bool
   out.potential = set.gm / r * u;
   if (with_acceleration) {
     const Eigen::Vector3d e_r(std::cos(lat) * std::cos(lon), std::cos(lat) * std::sin(lon), std::sin(lat));
-    const Eigen::Vector3d e_lat(-std::sin(lat) * std::cos(lon), -std::sin(lat) * std::sin(lon), std::cos(lat));
+    const Eigen::Vector3d e_lat(-std::sin(lat) * std::cos(lon), -std::sin(lat) * std::sin(lon),
+                                std::cos(lat));
     const Eigen::Vector3d e_lon(-std::sin(lon), std::cos(lon), 0.0);
     out.acceleration = set.gm / (r * r) * (du_dr * e_r + du_dlat * e_lat + du_dlon / std::cos(lat) * e_lon);
   }
@@ -85,9 +89,9 @@ auto central_difference(F&& f, const Eigen::Vector3d& p, int k, double h) {
   using Value = decltype(f(p));  // evaluated here, not returned as an expression of temporaries
   Eigen::Vector3d e = Eigen::Vector3d::Zero();
   e[k] = h;
-  return Value((f(Eigen::Vector3d(p - 2 * e)) - 8.0 * f(Eigen::Vector3d(p - e)) + 8.0 * f(Eigen::Vector3d(p + e)) -
-          f(Eigen::Vector3d(p + 2 * e))) /
-         (12.0 * h));
+  return Value((f(Eigen::Vector3d(p - 2 * e)) - 8.0 * f(Eigen::Vector3d(p - e)) +
+                8.0 * f(Eigen::Vector3d(p + e)) - f(Eigen::Vector3d(p + 2 * e))) /
+               (12.0 * h));
 }
 
 Eigen::Vector3d spherical_point(double r, double lat_deg, double lon_deg) {
@@ -97,9 +101,11 @@ Eigen::Vector3d spherical_point(double r, double lat_deg, double lon_deg) {
 
 }  // namespace
 
-TEST_CASE("point mass: potential, acceleration and gradient equal Newton's GM/r, -GM x/r^3, GM(3xx^T - r^2 I)/r^5",
-          "[series]") {
-  // Newton's point-mass field (any mechanics text, e.g. Goldstein 1980, Classical Mechanics, ch. 3): common practice.
+TEST_CASE(
+    "point mass: potential, acceleration and gradient equal Newton's GM/r, -GM x/r^3, GM(3xx^T - r^2 I)/r^5",
+    "[series]") {
+  // Newton's point-mass field (any mechanics text, e.g. Goldstein 1980, Classical Mechanics, ch. 3): common
+  // practice.
   CoefficientSet set = make_empty_set(6);
   set.gm = 4.2e4;
   set.reference_radius = 700.0;
@@ -112,23 +118,26 @@ TEST_CASE("point mass: potential, acceleration and gradient equal Newton's GM/r,
     CHECK(v.potential == Approx(set.gm / r).epsilon(1e-15));
     const Eigen::Vector3d a = -set.gm * p / (r * r * r);
     CHECK((v.acceleration - a).norm() <= 1e-15 * a.norm());
-    const Eigen::Matrix3d t = set.gm * (3.0 * p * p.transpose() - r * r * Eigen::Matrix3d::Identity()) / std::pow(r, 5);
+    const Eigen::Matrix3d t =
+        set.gm * (3.0 * p * p.transpose() - r * r * Eigen::Matrix3d::Identity()) / std::pow(r, 5);
     CHECK((v.gradient - t).norm() <= 1e-14 * t.norm());
   }
 }
 
-TEST_CASE("J2 field equals the classical zonal J2 acceleration (Vallado 2013, Fundamentals of Astrodynamics, "
-          "sec. 8.6, from memory)",
-          "[series]") {
-  // a_x,y = -GM x,y/r^3 [1 - 3/2 J2 (R/r)^2 (5 z^2/r^2 - 1)], a_z = -GM z/r^3 [1 - 3/2 J2 (R/r)^2 (5 z^2/r^2 - 3)],
-  // U = GM/r [1 - J2 (R/r)^2 (3 z^2/r^2 - 1)/2], and C20 (fully normalized) = -J2 / sqrt(5).
+TEST_CASE(
+    "J2 field equals the classical zonal J2 acceleration (Vallado 2013, Fundamentals of Astrodynamics, "
+    "sec. 8.6, from memory)",
+    "[series]") {
+  // a_x,y = -GM x,y/r^3 [1 - 3/2 J2 (R/r)^2 (5 z^2/r^2 - 1)], a_z = -GM z/r^3 [1 - 3/2 J2 (R/r)^2 (5 z^2/r^2
+  // - 3)], U = GM/r [1 - J2 (R/r)^2 (3 z^2/r^2 - 1)/2], and C20 (fully normalized) = -J2 / sqrt(5).
   const double j2 = 0.07, radius = 1500.0, gm = 6.0e5;
   CoefficientSet set = make_empty_set(2);
   set.gm = gm;
   set.reference_radius = radius;
   set.C(0, 0) = 1.0;
   set.C(2, 0) = -j2 / std::sqrt(5.0);
-  for (const Eigen::Vector3d p : {Eigen::Vector3d(1800.0, 700.0, -900.0), Eigen::Vector3d(0.0, 0.0, 2000.0)}) {
+  for (const Eigen::Vector3d p :
+       {Eigen::Vector3d(1800.0, 700.0, -900.0), Eigen::Vector3d(0.0, 0.0, 2000.0)}) {
     const FieldValue v = evaluate_series(set, p);
     const double r = p.norm(), q = radius / r, zr = p.z() / r;
     CHECK(v.potential == Approx(gm / r * (1 - j2 * q * q * (3 * zr * zr - 1) / 2)).epsilon(1e-14));
@@ -139,7 +148,8 @@ TEST_CASE("J2 field equals the classical zonal J2 acceleration (Vallado 2013, Fu
   }
 }
 
-TEST_CASE("potential and acceleration match the defining sum with GSL Legendre functions at degree 20", "[series]") {
+TEST_CASE("potential and acceleration match the defining sum with GSL Legendre functions at degree 20",
+          "[series]") {
   const CoefficientSet set = random_set(20, 11);
   const SeriesModel model(set);
   for (const Eigen::Vector3d p : {spherical_point(1100.0, 37.0, 122.0), spherical_point(1500.0, -64.0, -10.0),
@@ -152,7 +162,8 @@ TEST_CASE("potential and acceleration match the defining sum with GSL Legendre f
   }
 }
 
-TEST_CASE("stable at degree 200: series equals the GSL brute-force sum near the reference sphere", "[series]") {
+TEST_CASE("stable at degree 200: series equals the GSL brute-force sum near the reference sphere",
+          "[series]") {
   const CoefficientSet set = random_set(200, 5);
   const SeriesModel model(set);
   for (const Eigen::Vector3d p : {spherical_point(1020.0, 12.0, 33.0), spherical_point(1005.0, -71.0, 190.0),
@@ -169,12 +180,14 @@ TEST_CASE("acceleration and gradient equal finite differences of the GSL brute-f
   const CoefficientSet set = random_set(8, 3);
   const SeriesModel model(set);
   const double h = 0.5;  // m at r ~ 1300 m: truncation ~ (8 h / r)^4 ~ 1e-10, rounding ~ 1e-13
-  for (const Eigen::Vector3d p : {spherical_point(1300.0, 20.0, 40.0), spherical_point(1250.0, -50.0, 200.0)}) {
+  for (const Eigen::Vector3d p :
+       {spherical_point(1300.0, 20.0, 40.0), spherical_point(1250.0, -50.0, 200.0)}) {
     CAPTURE(p.transpose());
     const FieldValue v = model.evaluate(p);
     for (int k = 0; k < 3; ++k) {
       CAPTURE(k);
-      const double du = central_difference([&](const Eigen::Vector3d& q) { return brute_potential(set, q); }, p, k, h);
+      const double du =
+          central_difference([&](const Eigen::Vector3d& q) { return brute_potential(set, q); }, p, k, h);
       CHECK(std::abs(v.acceleration[k] - du) <= 1e-9 * v.acceleration.norm());
       const Eigen::Vector3d da = central_difference(
           [&](const Eigen::Vector3d& q) { return brute_force(set, q, true).acceleration; }, p, k, h);
@@ -183,9 +196,10 @@ TEST_CASE("acceleration and gradient equal finite differences of the GSL brute-f
   }
 }
 
-TEST_CASE("no pole singularity: at both poles the field is finite and equals finite differences of the GSL "
-          "brute-force potential",
-          "[series]") {
+TEST_CASE(
+    "no pole singularity: at both poles the field is finite and equals finite differences of the GSL "
+    "brute-force potential",
+    "[series]") {
   const CoefficientSet set = random_set(6, 7);
   const SeriesModel model(set);
   for (const double z : {1400.0, -1400.0}) {
@@ -200,7 +214,8 @@ TEST_CASE("no pole singularity: at both poles the field is finite and equals fin
     auto potential = [&](const Eigen::Vector3d& q) { return brute_potential(set, q); };
     for (int k = 0; k < 3; ++k) {
       CAPTURE(k);
-      CHECK(std::abs(v.acceleration[k] - central_difference(potential, pole, k, h)) <= 1e-9 * v.acceleration.norm());
+      CHECK(std::abs(v.acceleration[k] - central_difference(potential, pole, k, h)) <=
+            1e-9 * v.acceleration.norm());
       // Second derivatives by differencing the (independently computed) first differences.
       for (int j = 0; j < 3; ++j) {
         const double d2 = central_difference(
@@ -216,9 +231,10 @@ TEST_CASE("no pole singularity: at both poles the field is finite and equals fin
   }
 }
 
-TEST_CASE("the field does not depend on the coefficient convention (conversion per IERS Conventions 2010 and "
-          "Condon-Shortley / J_n definitions)",
-          "[series]") {
+TEST_CASE(
+    "the field does not depend on the coefficient convention (conversion per IERS Conventions 2010 and "
+    "Condon-Shortley / J_n definitions)",
+    "[series]") {
   const CoefficientSet set = random_set(12, 9);
   Convention other;
   other.normalization = Normalization::unnormalized;
@@ -257,8 +273,8 @@ TEST_CASE("frames: to_set_frame and to_mesh_frame use the set's origin and axes"
   CHECK(q.isApprox(Eigen::Vector3d(420.0, -305.0, 1490.0)));
   const FieldValue in_set = evaluate_series(set, q);
   const FieldValue in_mesh = to_mesh_frame(set, in_set);
-  CHECK(in_mesh.acceleration.isApprox(Eigen::Vector3d(in_set.acceleration[2], in_set.acceleration[0],
-                                                      in_set.acceleration[1])));
+  CHECK(in_mesh.acceleration.isApprox(
+      Eigen::Vector3d(in_set.acceleration[2], in_set.acceleration[0], in_set.acceleration[1])));
   CHECK(in_mesh.gradient(0, 0) == Approx(in_set.gradient(2, 2)));
 }
 
@@ -272,7 +288,8 @@ TEST_CASE("bad input is refused with a clear error", "[series]") {
 TEST_CASE("threaded evaluation over many points gives the same values for any thread count", "[series]") {
   const SeriesModel model(random_set(30, 4));
   Points points(37, 3);
-  for (int i = 0; i < 37; ++i) points.row(i) = spherical_point(1100.0 + 10 * i, -80.0 + 4.3 * i, 9.7 * i).transpose();
+  for (int i = 0; i < 37; ++i)
+    points.row(i) = spherical_point(1100.0 + 10 * i, -80.0 + 4.3 * i, 9.7 * i).transpose();
   const auto one = model.evaluate(points, 1), three = model.evaluate(points, 3);
   for (int i = 0; i < 37; ++i) {
     CHECK(one[size_t(i)].potential == three[size_t(i)].potential);
@@ -284,11 +301,13 @@ TEST_CASE("timing: microseconds per point by degree", "[series][.slow]") {
   for (const int degree : {20, 50, 150}) {
     const SeriesModel model(random_set(degree, 8));
     Points points(200, 3);
-    for (int i = 0; i < 200; ++i) points.row(i) = spherical_point(1500.0, -89.0 + 0.89 * i, 7.3 * i).transpose();
+    for (int i = 0; i < 200; ++i)
+      points.row(i) = spherical_point(1500.0, -89.0 + 0.89 * i, 7.3 * i).transpose();
     const std::clock_t start = std::clock();  // processor time: meaningful on a shared machine
     const auto values = model.evaluate(points, 1);
     const double seconds = double(std::clock() - start) / CLOCKS_PER_SEC;
-    WARN("degree " << degree << ": " << seconds / 200.0 * 1e6 << " us per point (potential, acceleration, gradient)");
+    WARN("degree " << degree << ": " << seconds / 200.0 * 1e6
+                   << " us per point (potential, acceleration, gradient)");
     CHECK(values.size() == 200);
   }
 }

@@ -57,17 +57,19 @@ struct Fixture {
 
 }  // namespace
 
-TEST_CASE("field: series of a computed set and exact polyhedron gravity give the same columns and agree "
-          "far out",
-          "[validate_cli]") {
+TEST_CASE(
+    "field: series of a computed set and exact polyhedron gravity give the same columns and agree "
+    "far out",
+    "[validate_cli]") {
   const Fixture f;
-  const CommandResult series = run_cli("field " + shell_arg(f.set) + " --points " + shell_arg(f.points) + " -o " +
-                                       shell_arg(f.dir + "/series.csv") + " --gradient");
+  const CommandResult series = run_cli("field " + shell_arg(f.set) + " --points " + shell_arg(f.points) +
+                                       " -o " + shell_arg(f.dir + "/series.csv") + " --gradient");
   CAPTURE(series.output);
   REQUIRE(series.exit_code == 0);
   CHECK(series.output.find("1 of 4 points lie inside the Brillouin sphere") != std::string::npos);
-  const CommandResult exact = run_cli("field " + shell_arg(f.mesh) + " --unit km --density 2100 --points " +
-                                      shell_arg(f.points) + " -o " + shell_arg(f.dir + "/exact.csv") + " --gradient");
+  const CommandResult exact =
+      run_cli("field " + shell_arg(f.mesh) + " --unit km --density 2100 --points " + shell_arg(f.points) +
+              " -o " + shell_arg(f.dir + "/exact.csv") + " --gradient");
   CAPTURE(exact.output);
   REQUIRE(exact.exit_code == 0);
   std::string header_s, header_e;
@@ -87,13 +89,14 @@ TEST_CASE("field: series of a computed set and exact polyhedron gravity give the
   }
   // The exact column equals the library directly (mesh read in km, points in metres).
   const Mesh mesh = read_mesh(f.mesh, MeshReadOptions{LengthUnit::kilometer, 0.0});
-  const FieldValue direct = PolyhedronGravity({DensityRegion{mesh, 2100.0}}).evaluate(Eigen::Vector3d(5000, 0, 0));
+  const FieldValue direct =
+      PolyhedronGravity({DensityRegion{mesh, 2100.0}}).evaluate(Eigen::Vector3d(5000, 0, 0));
   CHECK(e[0][3] == direct.potential);
   CHECK(e[0][4] == direct.acceleration.x());
 
   // --degree truncates; --set-frame takes points about the expansion origin.
-  const CommandResult low = run_cli("field " + shell_arg(f.set) + " --degree 0 --points " + shell_arg(f.points) + " -o " +
-                                    shell_arg(f.dir + "/low.csv"));
+  const CommandResult low = run_cli("field " + shell_arg(f.set) + " --degree 0 --points " +
+                                    shell_arg(f.points) + " -o " + shell_arg(f.dir + "/low.csv"));
   REQUIRE(low.exit_code == 0);
   std::string header_low;
   const auto l = read_table(f.dir + "/low.csv", header_low);
@@ -107,7 +110,8 @@ TEST_CASE("field: bad input is refused with one line, exit 2 and no output file"
   const Fixture f;
   const std::string out = f.dir + "/out.csv";
   write_text(f.dir + "/bad.csv", "x,y,z\n1,2,3\n4,five,6\n");
-  CommandResult r = run_cli("field " + shell_arg(f.set) + " --points " + shell_arg(f.dir + "/bad.csv") + " -o " + shell_arg(out));
+  CommandResult r = run_cli("field " + shell_arg(f.set) + " --points " + shell_arg(f.dir + "/bad.csv") +
+                            " -o " + shell_arg(out));
   CAPTURE(r.output);
   CHECK(r.exit_code == 2);
   CHECK(r.output.find("bad.csv:3: field 2 ('five') is not a number") != std::string::npos);
@@ -115,21 +119,25 @@ TEST_CASE("field: bad input is refused with one line, exit 2 and no output file"
   r = run_cli("field " + shell_arg(f.mesh) + " --points " + shell_arg(f.points) + " -o " + shell_arg(out));
   CHECK(r.exit_code == 2);
   CHECK(r.output.find("1 meshes but 0 densities") != std::string::npos);
-  r = run_cli("field " + shell_arg(f.set) + " --density 2000 --points " + shell_arg(f.points) + " -o " + shell_arg(out));
+  r = run_cli("field " + shell_arg(f.set) + " --density 2000 --points " + shell_arg(f.points) + " -o " +
+              shell_arg(out));
   CHECK(r.exit_code == 2);
   CHECK(r.output.find("--density applies to meshes only") != std::string::npos);
   write_text(f.dir + "/origin.csv", "0,0,0\n");
-  r = run_cli("field " + shell_arg(f.set) + " --set-frame --points " + shell_arg(f.dir + "/origin.csv") + " -o " + shell_arg(out));
+  r = run_cli("field " + shell_arg(f.set) + " --set-frame --points " + shell_arg(f.dir + "/origin.csv") +
+              " -o " + shell_arg(out));
   CHECK(r.exit_code == 2);
   CHECK(r.output.find("point 1") != std::string::npos);
   CHECK(!file_exists(out));
 }
 
-TEST_CASE("validate: table, recommended degrees, Brillouin warning for a low altitude, JSON", "[validate_cli]") {
+TEST_CASE("validate: table, recommended degrees, Brillouin warning for a low altitude, JSON",
+          "[validate_cli]") {
   const Fixture f;
   const std::string json = f.dir + "/v.json";
-  const CommandResult r = run_cli("validate " + shell_arg(f.mesh) + " " + shell_arg(f.set) +
-                                  " --radii 1.5,2,3 --altitudes 30 --samples 40 --target 1e-6 --json " + shell_arg(json));
+  const CommandResult r =
+      run_cli("validate " + shell_arg(f.mesh) + " " + shell_arg(f.set) +
+              " --radii 1.5,2,3 --altitudes 30 --samples 40 --target 1e-6 --json " + shell_arg(json));
   CAPTURE(r.output);
   REQUIRE(r.exit_code == 0);
   CHECK(r.output.find("densities taken from") != std::string::npos);  // --density and --unit from the set
@@ -150,17 +158,20 @@ TEST_CASE("validate: table, recommended degrees, Brillouin warning for a low alt
   CHECK(j["shells"][1]["max_error"][d2].get<double>() <= 1e-6);
 }
 
-TEST_CASE("validate: a set without density regions needs --density; a wrong density is flagged", "[validate_cli]") {
+TEST_CASE("validate: a set without density regions needs --density; a wrong density is flagged",
+          "[validate_cli]") {
   const Fixture f;
   CoefficientSet foreign = read_coefficient_file(f.set);
   foreign.regions.clear();
   const std::string bare = f.dir + "/bare.txt";
   write_coefficient_file(foreign, bare);
-  CommandResult r = run_cli("validate " + shell_arg(f.mesh) + " " + shell_arg(bare) + " --unit km --samples 5");
+  CommandResult r =
+      run_cli("validate " + shell_arg(f.mesh) + " " + shell_arg(bare) + " --unit km --samples 5");
   CAPTURE(r.output);
   CHECK(r.exit_code == 2);
   CHECK(r.output.find("records no density regions: give --density") != std::string::npos);
-  r = run_cli("validate " + shell_arg(f.mesh) + " " + shell_arg(bare) + " --unit km --density 2000 --samples 5 --radii 2");
+  r = run_cli("validate " + shell_arg(f.mesh) + " " + shell_arg(bare) +
+              " --unit km --density 2000 --samples 5 --radii 2");
   CHECK(r.exit_code == 0);
   CHECK(r.output.find("GM of the set") != std::string::npos);
 }

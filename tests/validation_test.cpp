@@ -1,5 +1,8 @@
 // Series from the exact coefficients against exact polyhedron gravity: convergence outside the Brillouin
-// sphere (error falls with degree; 1e-10 at twice R_B for a smooth body), recommendations, warnings, sampling.
+// sphere (error falls with degree; 1e-10 at twice R_B for a smooth body), recommendations, warnings,
+// sampling.
+#include "validation.h"
+
 #include <catch2/catch.hpp>
 #include <cmath>
 #include <nlohmann/json.hpp>
@@ -7,7 +10,6 @@
 #include "errors.h"
 #include "harmonics.h"
 #include "shapes.h"
-#include "validation.h"
 
 using namespace polystokes;
 
@@ -31,10 +33,11 @@ Case ellipsoid_case(int degree) {
 
 }  // namespace
 
-TEST_CASE("series of compute_coefficients converges to the exact polyhedron field outside the Brillouin sphere "
-          "(Werner & Scheeres 1997; convergence beyond the Brillouin sphere, e.g. Moritz 1980, Advanced Physical "
-          "Geodesy, from memory)",
-          "[validation]") {
+TEST_CASE(
+    "series of compute_coefficients converges to the exact polyhedron field outside the Brillouin sphere "
+    "(Werner & Scheeres 1997; convergence beyond the Brillouin sphere, e.g. Moritz 1980, Advanced Physical "
+    "Geodesy, from memory)",
+    "[validation]") {
   const Case c = ellipsoid_case(40);
   ValidationOptions options;
   options.radius_factors = {1.25, 2.0, 3.0};
@@ -53,7 +56,8 @@ TEST_CASE("series of compute_coefficients converges to the exact polyhedron fiel
     // degree until it reaches the round-off floor of the two models (~1e-14).
     for (int L = 2; L + 2 <= report.degree; L += 2) {
       CAPTURE(L, shell.max_error[size_t(L)], shell.max_error[size_t(L + 2)]);
-      if (shell.max_error[size_t(L)] > 1e-13) CHECK(shell.max_error[size_t(L + 2)] < shell.max_error[size_t(L)]);
+      if (shell.max_error[size_t(L)] > 1e-13)
+        CHECK(shell.max_error[size_t(L + 2)] < shell.max_error[size_t(L)]);
     }
   }
   // Geometric rate ~ (R_B / r)^L: at 3 R_B the error at degree 10 is far below that at 1.25 R_B.
@@ -64,7 +68,8 @@ TEST_CASE("series of compute_coefficients converges to the exact polyhedron fiel
   CHECK(report.shells[1].recommended_degree <= 40);
 }
 
-TEST_CASE("recommended degree is the lowest meeting the target; a target out of reach is reported", "[validation]") {
+TEST_CASE("recommended degree is the lowest meeting the target; a target out of reach is reported",
+          "[validation]") {
   const Case c = ellipsoid_case(12);
   ValidationOptions options;
   options.radius_factors = {1.5, 2.5};
@@ -98,7 +103,8 @@ TEST_CASE("points inside the Brillouin sphere are counted and warned about", "[v
   CHECK(report.shells[1].inside_brillouin > 40);
   CHECK(report.shells[1].radius_min == Approx(650.0).epsilon(0.01));
   size_t brillouin_warnings = 0;
-  for (const auto& w : report.warnings) brillouin_warnings += w.find("inside the Brillouin sphere") != std::string::npos;
+  for (const auto& w : report.warnings)
+    brillouin_warnings += w.find("inside the Brillouin sphere") != std::string::npos;
   CHECK(brillouin_warnings == 2);
   const std::string text = format_validation_text(report);
   CHECK(text.find("WARNING: inside Brillouin sphere") != std::string::npos);
@@ -133,9 +139,11 @@ TEST_CASE("sampling geometry: Fibonacci directions are unit and balanced; ray cr
     mean += u / 500.0;
   }
   CHECK(mean.norm() < 2.0 / 500.0);  // a lattice is balanced to O(1/n) (Gonzalez 2010)
-  // Box of half sizes 2, 1.5, 1: the ray along +x leaves through x = 2, along a diagonal through the nearest face.
+  // Box of half sizes 2, 1.5, 1: the ray along +x leaves through x = 2, along a diagonal through the nearest
+  // face.
   const std::vector<DensityRegion> box{{make_box(4.0, 3.0, 2.0), 1.0}};
-  CHECK(outermost_crossing(box, Eigen::Vector3d::Zero(), Eigen::Vector3d(1, 0, 0)) == Approx(2.0).epsilon(1e-15));
+  CHECK(outermost_crossing(box, Eigen::Vector3d::Zero(), Eigen::Vector3d(1, 0, 0)) ==
+        Approx(2.0).epsilon(1e-15));
   const Eigen::Vector3d d = Eigen::Vector3d(1, 1, 1).normalized();
   CHECK(outermost_crossing(box, Eigen::Vector3d::Zero(), d) == Approx(std::sqrt(3.0)).epsilon(1e-14));
   // From outside a ray away from the box meets nothing.
