@@ -6,8 +6,10 @@
 // weight times (N+1)^2 table values, the table cycled so it stays in the first-level cache; eight independent
 // vector accumulators), split over the same threads and built with the same instruction-set clones as the
 // kernel; its result is printed so it cannot be removed.
+#include <Eigen/Geometry>
 #include <malloc.h>
 #include <sys/resource.h>
+#include <time.h>
 
 #include <algorithm>
 #include <chrono>
@@ -86,8 +88,21 @@ double floor_run(const std::vector<double>& weight, const std::vector<double>& t
   return std::accumulate(result.begin(), result.end(), 0.0);
 }
 
+std::string fmt_e(double value) {
+  char text[32];
+  std::snprintf(text, sizeof text, "%.1e", value);
+  return text;
+}
+
 double seconds_since(std::chrono::steady_clock::time_point start) {
   return std::chrono::duration<double>(std::chrono::steady_clock::now() - start).count();
+}
+
+// Processor time of the whole process (all threads), s: unaffected by other programs sharing the cores.
+double process_seconds() {
+  timespec now;
+  clock_gettime(CLOCK_PROCESS_CPUTIME_ID, &now);
+  return double(now.tv_sec) + 1e-9 * double(now.tv_nsec);
 }
 
 // Resident memory in bytes from /proc/self/status ("VmRSS" now, "VmHWM" peak); 0 if unavailable.
@@ -146,11 +161,133 @@ double products_per_face(const Mesh& mesh, int degree) {
   return products / double(faces);
 }
 
+// --- Accuracy: the fast path against the quadrature reference and against the same recursion in extended
+// precision, face by face (80-bit long double on x86-64: 11 more bits), to see how rounding grows with degree.
+
+// Sum over faces of weight * H_nk(h_n(a, b, c)) by the three plain recursions of h_n per face (no fans), in
+// long double; same basis and k = -1 rule as moment_kernel.
+void extended_precision_sums(const Mesh& mesh, const HarmonicFrame& frame, int degree, std::vector<long double>& re,
+                             std::vector<long double>& im) {
+  using Real = long double;
+  const size_t row = size_t(degree) + 3;  // k = -1 .. degree + 1
+  re.assign(size_t(degree + 1) * size_t(degree + 2) / 2, 0);
+  im = re;
+  std::vector<Real> seq_re(6 * row), seq_im(6 * row);
+  for (Eigen::Index f = 0; f < mesh.faces.rows(); ++f) {
+    Eigen::Vector3d v[3];
+    for (int k = 0; k < 3; ++k)
+      v[k] = frame.axes * (mesh.vertices.row(mesh.faces(f, k)).transpose() - frame.origin) / frame.scale_radius;
+    const Real weight = Real(v[0].dot(v[1].cross(v[2])));
+    std::fill(seq_re.begin(), seq_re.end(), 0);
+    std::fill(seq_im.begin(), seq_im.end(), 0);
+    // Sequence j (0: h(a), 1: h(a,b), 2: h(a,b,c)), parity p at (2 j + p) * row; order k at index k + 1.
+    for (int j = 0; j < 3; ++j) seq_re[size_t(2 * j) * row + 1] = 1;
+    re[0] += weight;
+    for (int n = 1; n <= degree; ++n) {
+      const size_t old_parity = size_t((n - 1) & 1), new_parity = size_t(n & 1);
+      for (int j = 0; j < 3; ++j) {
+        Real* o_re = &seq_re[(2 * size_t(j) + old_parity) * row];
+        Real* o_im = &seq_im[(2 * size_t(j) + old_parity) * row];
+        Real* n_re = &seq_re[(2 * size_t(j) + new_parity) * row];
+        Real* n_im = &seq_im[(2 * size_t(j) + new_parity) * row];
+        const Real* a_re = j == 0 ? nullptr : &seq_re[(2 * size_t(j - 1) + new_parity) * row];
+        const Real* a_im = j == 0 ? nullptr : &seq_im[(2 * size_t(j - 1) + new_parity) * row];
+        const Real x = v[j].x(), y = v[j].y(), z = v[j].z();
+        o_re[0] = -o_re[2] / 4;
+        o_im[0] = o_im[2] / 4;
+        for (int k = 0; k <= n; ++k) {
+          const size_t i = size_t(k) + 1;
+          // H'_k = add + z H_k + w H_{k-1} - (conj(w)/4) H_{k+1}, w = x + i y.
+          n_re[i] = (a_re ? a_re[i] : 0) + z * o_re[i] + x * o_re[i - 1] - y * o_im[i - 1] - (x * o_re[i + 1] + y * o_im[i + 1]) / 4;
+          n_im[i] = (a_im ? a_im[i] : 0) + z * o_im[i] + x * o_im[i - 1] + y * o_re[i - 1] - (x * o_im[i + 1] - y * o_re[i + 1]) / 4;
+        }
+        n_re[size_t(n) + 2] = n_im[size_t(n) + 2] = 0;
+      }
+      const Real* h_re = &seq_re[(4 + new_parity) * row];
+      const Real* h_im = &seq_im[(4 + new_parity) * row];
+      for (int k = 0; k <= n; ++k) {
+        re[size_t(n) * size_t(n + 1) / 2 + size_t(k)] += weight * h_re[k + 1];
+        im[size_t(n) * size_t(n + 1) / 2 + size_t(k)] += weight * h_im[k + 1];
+      }
+    }
+  }
+  // Normalization as in harmonics.cpp: int over a tetrahedron = det n!/(n+3)! h_n, and
+  // Pnm r^n e^{im lon} = sqrt((2 - d_m0)(2n+1)) K~_nm H_m with K~_nm = sqrt((n-m)!(n+m)!)/(n! 2^m).
+  const Real r3 = Real(frame.scale_radius) * frame.scale_radius * frame.scale_radius;
+  for (int n = 0; n <= degree; ++n) {
+    const Real factor = r3 / ((n + 1.0L) * (n + 2.0L) * (n + 3.0L)) * std::sqrt(2.0L * n + 1);
+    Real k_scaled = 1;
+    for (int m = 0; m <= n; ++m) {
+      if (m > 0) k_scaled *= std::sqrt((n + m) / Real(n - m + 1)) / 2;
+      const size_t i = size_t(n) * size_t(n + 1) / 2 + size_t(m);
+      re[i] *= factor * k_scaled * (m == 0 ? 1 : std::sqrt(2.0L));
+      im[i] *= factor * k_scaled * (m == 0 ? 1 : std::sqrt(2.0L));
+    }
+  }
+}
+
+void print_accuracy(int max_degree) {
+  struct Body {
+    const char* name;
+    Mesh mesh;
+    Eigen::Vector3d origin;
+  };
+  Mesh tetra;
+  tetra.vertices.resize(4, 3);
+  tetra.vertices << 1.0, 0.2, -0.3, -0.4, 1.1, 0.1, -0.5, -0.7, 0.6, 0.3, -0.2, 1.2;
+  tetra.faces.resize(4, 3);
+  tetra.faces << 0, 1, 2, 0, 3, 1, 0, 2, 3, 1, 3, 2;
+  const std::vector<Body> bodies = {
+      {"tetrahedron", tetra, Eigen::Vector3d(0.05, 0.1, 0.15)},
+      {"flat disk (z/10)", transformed(make_geodesic_sphere(2), Eigen::Vector3d(1.0, 0.9, 0.1).asDiagonal(),
+                                       Eigen::Vector3d::Zero()), Eigen::Vector3d(0.2, 0.1, 0.0)},
+      {"cigar, origin near its end", transformed(make_geodesic_sphere(2), Eigen::Vector3d(1.5, 0.5, 0.4).asDiagonal(),
+                                                 Eigen::Vector3d::Zero()), Eigen::Vector3d(1.0, 0.1, 0.05)},
+  };
+  const int reference_degree = std::min(max_degree, 150);
+  std::printf("\naccuracy: max over orders |fast - other| / max over orders |other|, per degree (worst in each band)\n");
+  std::printf("%-28s %6s %8s %14s %16s\n", "body", "faces", "degrees", "vs reference", "vs long double");
+  for (const Body& body : bodies) {
+    const std::vector<DensityRegion> regions{{body.mesh, 1.0}};
+    HarmonicFrame frame;
+    frame.origin = body.origin;
+    frame.scale_radius = brillouin_radius(regions, body.origin);
+    const HarmonicMoments fast = harmonic_moments(regions, frame, max_degree);
+    const HarmonicMoments reference = harmonic_moments_reference(regions, frame, reference_degree);
+    std::vector<long double> ext_re, ext_im;
+    extended_precision_sums(body.mesh, frame, max_degree, ext_re, ext_im);
+    for (int low = 0; low <= max_degree; low += low < 10 ? 10 : (low < 100 ? 30 : 50)) {
+      const int high = std::min(max_degree, low < 10 ? 9 : (low < 100 ? low + 29 : low + 49));
+      double vs_reference = 0, vs_extended = 0;
+      for (int n = low; n <= high; ++n) {
+        double worst_r = 0, scale_r = 0, worst_e = 0, scale_e = 0;
+        for (int m = 0; m <= n; ++m) {
+          const size_t i = size_t(n) * size_t(n + 1) / 2 + size_t(m);
+          const double er = double(ext_re[i]), ei = double(ext_im[i]);
+          worst_e = std::max({worst_e, std::abs(double(fast.re(n, m) - ext_re[i])), std::abs(double(fast.im(n, m) - ext_im[i]))});
+          scale_e = std::max({scale_e, std::abs(er), std::abs(ei)});
+          if (n <= reference_degree) {
+            worst_r = std::max({worst_r, std::abs(fast.re(n, m) - reference.re(n, m)), std::abs(fast.im(n, m) - reference.im(n, m))});
+            scale_r = std::max({scale_r, std::abs(reference.re(n, m)), std::abs(reference.im(n, m))});
+          }
+        }
+        vs_extended = std::max(vs_extended, worst_e / scale_e);
+        if (n <= reference_degree) vs_reference = std::max(vs_reference, worst_r / scale_r);
+      }
+      char range[32];
+      std::snprintf(range, sizeof range, "%d-%d", low, high);
+      std::printf("%-28s %6ld %8s %14s %16.1e\n", body.name, long(body.mesh.faces.rows()), range,
+                  low <= reference_degree ? fmt_e(vs_reference).c_str() : "-", vs_extended);
+    }
+  }
+}
+
 struct Settings {
   std::vector<int> frequencies, degrees, threads;
   int repeat = 2;
   bool shuffled_row = true;
   int gravity_frequency = 71, gravity_points = 64;
+  int accuracy_degree = 0;  // 0: no accuracy section
 };
 
 std::vector<int> parse_list(const char* text) {
@@ -167,9 +304,11 @@ std::vector<int> parse_list(const char* text) {
 void usage() {
   std::printf(
       "usage: polystokes_bench [--quick] [--frequencies K,..] [--degrees N,..] [--threads T,..] [--repeat R]\n"
-      "                        [--gravity-frequency K] [--gravity-points P] [--no-shuffled]\n"
+      "                        [--gravity-frequency K] [--gravity-points P] [--no-shuffled] [--accuracy N]\n"
       "Meshes are lumpy geodesic spheres with 20 K^2 facets (default K = 71, 100, 224: 1.0e5, 2.0e5, 1.0e6\n"
-      "facets); --quick uses K = 23, 32 and degrees 20, 50 for a run of a few seconds.\n");
+      "facets); --quick uses K = 23, 32 and degrees 20, 50 for a run of a few seconds. --accuracy N adds the\n"
+      "error of the fast path against the quadrature reference (to degree 150) and against the same recursion\n"
+      "in extended precision (to degree N) on three small bodies.\n");
 }
 
 }  // namespace
@@ -207,6 +346,8 @@ int main(int argc, char** argv) {
       settings.gravity_frequency = std::atoi(value());
     } else if (arg == "--gravity-points") {
       settings.gravity_points = std::max(1, std::atoi(value()));
+    } else if (arg == "--accuracy") {
+      settings.accuracy_degree = std::atoi(value());
     } else if (arg == "--no-shuffled") {
       settings.shuffled_row = false;
     } else if (arg == "--help" || arg == "-h") {
@@ -221,10 +362,12 @@ int main(int argc, char** argv) {
 
   std::printf("polystokes benchmark: kernel instruction set %s, %d hardware threads, best of %d run(s)\n",
               moment_kernel_isa(), cores, settings.repeat);
-  std::printf("seconds = compute_coefficients (mass properties + moments + coefficients); floor = F (N+1)^2\n"
-              "multiply-adds on the same threads; memory = peak resident increase during the call / mesh bytes\n\n");
-  std::printf("%-16s %9s %6s %7s %9s %9s %7s %9s %9s %8s\n", "mesh", "facets", "degree", "threads", "seconds",
-              "floor s", "ratio", "products", "memory", "x mesh");
+  std::printf("seconds = wall time of compute_coefficients (mass properties + moments + coefficients); floor =\n"
+              "F (N+1)^2 multiply-adds on the same threads; ratio = seconds / floor s; cpu s and cpu ratio: the same\n"
+              "with processor time of all threads (steadier when other programs share the cores); products = operator\n"
+              "products per facet and degree; memory = peak resident increase during the call, and / mesh bytes\n\n");
+  std::printf("%-16s %9s %6s %7s %9s %9s %7s %9s %9s %9s %10s %8s\n", "mesh", "facets", "degree", "threads",
+              "seconds", "floor s", "ratio", "cpu s", "cpu ratio", "products", "memory", "x mesh");
   double checksum = 0;
   std::vector<Mesh> meshes;
   for (int k : settings.frequencies) meshes.push_back(lumpy_body(k));
@@ -245,22 +388,27 @@ int main(int argc, char** argv) {
         ComputeOptions options;
         options.degree = degree;
         options.execution.threads = threads;
-        double best = 1e300, best_floor = 1e300, memory = 0;
+        double best = 1e300, best_floor = 1e300, cpu = 1e300, cpu_floor = 1e300, memory = 0;
         for (int r = 0; r < settings.repeat; ++r) {
           auto start = std::chrono::steady_clock::now();
+          double processor = process_seconds();
           checksum += floor_run(weight, table, count, threads);
           best_floor = std::min(best_floor, seconds_since(start));
+          cpu_floor = std::min(cpu_floor, process_seconds() - processor);
           malloc_trim(0);
           const double before = status_bytes("VmRSS");
           const bool peak_reset = reset_peak();
           start = std::chrono::steady_clock::now();
+          processor = process_seconds();
           const CoefficientSet set = compute_coefficients(regions, options);
           best = std::min(best, seconds_since(start));
+          cpu = std::min(cpu, process_seconds() - processor);
           if (r == 0) memory = peak_reset ? status_bytes("VmHWM") - before : 0;
           checksum += set.C(degree, 0);
         }
-        std::printf("%-16s %9ld %6d %7d %9.3f %9.4f %7.1f %9.3f %7.1f MB %8.2f\n", mesh.source.c_str(), faces, degree,
-                    threads, best, best_floor, best / best_floor, products, memory / 1e6, memory / mesh_bytes(mesh));
+        std::printf("%-16s %9ld %6d %7d %9.3f %9.4f %7.1f %9.3f %9.1f %9.3f %7.1f MB %8.2f\n", mesh.source.c_str(),
+                    faces, degree, threads, best, best_floor, best / best_floor, cpu, cpu / cpu_floor, products,
+                    memory / 1e6, memory / mesh_bytes(mesh));
         std::fflush(stdout);
       }
     }
@@ -315,6 +463,7 @@ int main(int argc, char** argv) {
     std::printf("\nseries to degree %d: %.2f us per point (potential, acceleration, gradient; 1 thread)\n",
                 options.degree, seconds / 1000 * 1e6);
   }
+  if (settings.accuracy_degree > 0) print_accuracy(settings.accuracy_degree);
   std::printf("\n(checksum %.6g)\n", checksum);
   return 0;
 }
