@@ -16,6 +16,8 @@ int main(int argc, char** argv) {
   app.add_flag("-v,--verbose", global.verbose, "Print more detail (repeat for more)");
   cli::setup_inspect(app, global);
   cli::setup_compute(app, global);
+  cli::setup_convert(app, global);
+  cli::setup_compare(app, global);
   cli::setup_report(app, global);
   cli::setup_uncertainty(app, global);
   cli::setup_field(app, global);

@@ -128,7 +128,7 @@ CoefficientSet shift_origin(const CoefficientSet& set, const Eigen::Vector3d& sh
   if (outside && !options.allow_outside)
     throw ConventionError(fmt::format(
         "a shift of {:.9g} m moves the expansion origin outside the {} ({:.9g} m) of '{}'; the shifted series "
-        "would hold only outside {:.9g} m about the new origin (allow it explicitly to proceed)",
+        "would hold only outside {:.9g} m about the new origin (use --allow-outside to proceed anyway)",
         length, known_brillouin ? "Brillouin sphere" : "reference sphere (Brillouin radius unknown)", brillouin,
         set.body, brillouin + length));
 

@@ -24,7 +24,8 @@ Eigen::Vector3d center_of_mass_offset(const CoefficientSet& set);
 
 struct ShiftOptions {
   /// A shift longer than the Brillouin radius puts the new origin outside the sphere the input is valid
-  /// outside of; refused unless this is set (the set then carries a note saying so).
+  /// outside of; refused unless this is set (the set then carries a note saying so). The refusal names
+  /// the convert option --allow-outside.
   bool allow_outside = false;
 };
 

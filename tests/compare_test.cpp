@@ -5,6 +5,7 @@
 #include <cmath>
 #include <nlohmann/json.hpp>
 
+#include "coefficient_file.h"
 #include "compare.h"
 #include "conventions.h"
 #include "errors.h"
@@ -226,4 +227,42 @@ TEST_CASE("sets without GM or radius are refused", "[compare]") {
   b = a;
   b.reference_radius = -1;
   CHECK_THROWS_AS(compare_sets(a, b), ConventionError);
+}
+
+// ---- polystokes compare, end to end ----
+
+TEST_CASE("compare CLI: a reversed-longitude copy is diagnosed, text and JSON", "[compare][cli]") {
+  const std::string dir = temp_directory();
+  CoefficientSet b = convert_convention(body_set(), Convention{Normalization::schmidt, true, false});
+  b.S = -b.S;
+  write_coefficient_file(body_set(), dir + "/a.txt");
+  write_coefficient_file(b, dir + "/b.txt");
+  const CommandResult result = run_cli("compare '" + dir + "/a.txt' '" + dir + "/b.txt' --tolerance 1e-9 --json '" +
+                                       dir + "/c.json'");
+  CAPTURE(result.output);
+  REQUIRE(result.exit_code == 0);
+  CHECK(result.output.find("verdict: DIFFER") != std::string::npos);
+  CHECK(result.output.find("most likely longitude_sign") != std::string::npos);
+  CHECK(result.output.find("convention Schmidt semi-normalized, Condon-Shortley phase") != std::string::npos);
+  const auto json = nlohmann::json::parse(read_bytes(dir + "/c.json"));
+  CHECK(json["diagnosis"][0]["kind"] == "longitude_sign");
+  CHECK(json["diagnosis"][0]["explains"] == true);
+}
+
+TEST_CASE("compare CLI: the same field in another convention agrees; bad input is refused", "[compare][cli]") {
+  const std::string dir = temp_directory();
+  write_coefficient_file(body_set(), dir + "/a.txt");
+  write_coefficient_file(convert_convention(rescale_reference_radius(body_set(), 1234.5), Convention{Normalization::orthonormal, false, true}),
+                         dir + "/b.txt");
+  const CommandResult same = run_cli("compare '" + dir + "/a.txt' '" + dir + "/b.txt' --tolerance 1e-12 -q --json -");
+  CAPTURE(same.output);
+  REQUIRE(same.exit_code == 0);
+  const auto json = nlohmann::json::parse(same.output);
+  CHECK(json["agree"] == true);
+  CHECK(json["agree_degree"] == body_set().degree);
+  write_text(dir + "/bad.txt", "not a set\n");
+  const CommandResult bad = run_cli("compare '" + dir + "/a.txt' '" + dir + "/bad.txt'");
+  CHECK(bad.exit_code == 2);
+  CHECK(bad.output.find("bad.txt") != std::string::npos);
+  CHECK(run_cli("compare '" + dir + "/a.txt'").exit_code == 1);
 }

@@ -4,9 +4,11 @@
 #include <boost/math/special_functions/legendre.hpp>
 #include <catch2/catch.hpp>
 #include <cmath>
+#include <fmt/format.h>
 #include <gsl/gsl_sf_legendre.h>
 #include <set>
 
+#include "coefficient_file.h"
 #include "conventions.h"
 #include "errors.h"
 #include "harmonics.h"
@@ -228,4 +230,104 @@ TEST_CASE("convention names: 16 distinct conventions, descriptions and short nam
   CHECK(all.front() == Convention{});
   CHECK_THROWS_AS(legendre_normalization(Normalization::fully, 2, 3), ConventionError);
   CHECK_THROWS_AS(parse_normalization("full"), ConventionError);
+}
+
+// ---- polystokes convert, end to end ----
+
+namespace {
+
+std::string quoted(const std::string& path) { return "'" + path + "'"; }
+
+std::string written_set(const std::string& dir, const CoefficientSet& set) {
+  const std::string path = dir + "/in.txt";
+  write_coefficient_file(set, path);
+  return path;
+}
+
+}  // namespace
+
+TEST_CASE("convert CLI: conventions change exactly as the library does, text and JSON, history recorded",
+          "[conventions][cli]") {
+  const std::string dir = temp_directory();
+  const std::string in = written_set(dir, body_set());
+  const CommandResult result = run_cli("convert " + quoted(in) + " -o " + quoted(dir + "/out.txt") + " --json " +
+                                       quoted(dir + "/out.json") +
+                                       " --to-normalization unnormalized --to-condon-shortley on --to-zonal j");
+  CAPTURE(result.output);
+  REQUIRE(result.exit_code == 0);
+  CHECK(result.output.find("converted from fully normalized") != std::string::npos);
+  const CoefficientSet out = read_coefficient_file(dir + "/out.txt");
+  const CoefficientSet expected = convert_convention(body_set(), Convention{Normalization::unnormalized, true, true});
+  CHECK(out.convention == expected.convention);
+  CHECK(out.C == expected.C);
+  CHECK(out.S == expected.S);
+  CHECK(out.sigma_C == expected.sigma_C);
+  REQUIRE(out.history.size() == body_set().history.size() + 2);
+  CHECK(out.history[out.history.size() - 2] == "polystokes convert of " + in);
+  const CoefficientSet json = read_coefficient_file(dir + "/out.json");
+  CHECK(json.C == out.C);
+  // Potential unchanged, by the GSL-sum evaluator in each file's own convention.
+  const Eigen::Vector3d x(2500, -1200, 900);
+  CHECK_THAT(potential_in_own_convention(out, x), WithinRel(potential_in_own_convention(body_set(), x), 1e-13));
+}
+
+TEST_CASE("convert CLI: Euler rotation and its inverse, radius in km and back, return the set", "[conventions][cli]") {
+  // Inverse of Rz(a) Ry(b) Rz(c) is Rz(-c) Ry(-b) Rz(-a).
+  const std::string dir = temp_directory();
+  const std::string in = written_set(dir, body_set());
+  const std::string there = dir + "/there.txt", back = dir + "/back.txt";
+  REQUIRE(run_cli("convert " + quoted(in) + " -q -o " + quoted(there) + " --rotate-euler 30,20,-75 --to-ref-radius 2.5 --unit km")
+              .exit_code == 0);
+  const CoefficientSet mid = read_coefficient_file(there);
+  CHECK(mid.reference_radius == 2500.0);
+  CHECK(mid.frame == "rotated");
+  const std::string radius = fmt::format("{}", body_set().reference_radius);
+  REQUIRE(run_cli("convert " + quoted(there) + " -q -o " + quoted(back) + " --rotate-euler 75,-20,-30 --to-ref-radius " +
+                  radius).exit_code == 0);
+  const CoefficientSet out = read_coefficient_file(back);
+  require_sets_close(out, body_set(), body_set().degree, 1e-14);
+  CHECK((out.axes_in_mesh - Eigen::Matrix3d::Identity()).cwiseAbs().maxCoeff() < 1e-14);
+}
+
+TEST_CASE("convert CLI: refusals give one error line, exit code 2 or 1, and no output file", "[conventions][cli]") {
+  const std::string dir = temp_directory();
+  const std::string in = written_set(dir, body_set());
+  const std::string out = dir + "/out.txt";
+  struct Refusal {
+    std::string arguments, expected;
+    int code;
+  };
+  const std::vector<Refusal> refusals{
+      {"--shift 1e5,0,0", "--allow-outside", 2},
+      {"--rotate-matrix 1,0,0,0,-1,0,0,0,1", "reflection", 2},
+      {"--rotate-matrix 1,0,0", "nine comma-separated numbers", 2},
+      {"--rotate-euler 1,2,3 --to-principal", "excludes", 1},
+      {"--to-normalization full", "fully", 1},
+      {"--allow-outside", "--shift", 1},
+      {"--columns n,m,C,S", "--normalization, --condon-shortley or --no-condon-shortley, --ref-radius, --gm are required", 2},
+  };
+  for (const Refusal& refusal : refusals) {
+    const CommandResult result = run_cli("convert " + quoted(in) + " -o " + quoted(out) + " " + refusal.arguments);
+    CAPTURE(refusal.arguments, result.output);
+    CHECK(result.exit_code == refusal.code);
+    CHECK(result.output.find(refusal.expected) != std::string::npos);
+    CHECK(!file_exists(out));
+  }
+  const CommandResult missing = run_cli("convert " + quoted(dir + "/none.txt") + " -o " + quoted(out));
+  CHECK(missing.exit_code == 1);
+  CHECK(!file_exists(out));
+}
+
+TEST_CASE("convert CLI: shift allowed outside the Brillouin sphere writes the caution into the notes",
+          "[conventions][cli]") {
+  const std::string dir = temp_directory();
+  const std::string in = written_set(dir, body_set());
+  const CommandResult result = run_cli("convert " + quoted(in) + " -o " + quoted(dir + "/out.txt") +
+                                       " --shift 4,0,0 --unit km --allow-outside");
+  CAPTURE(result.output);
+  REQUIRE(result.exit_code == 0);
+  CHECK(result.output.find("CAUTION") != std::string::npos);
+  const CoefficientSet out = read_coefficient_file(dir + "/out.txt");
+  CHECK(out.notes.back().find("CAUTION") != std::string::npos);
+  CHECK(out.origin_in_mesh.x() == Approx(body_set().origin_in_mesh.x() + 4000.0));
 }

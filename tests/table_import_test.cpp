@@ -4,6 +4,7 @@
 #include <cmath>
 #include <fmt/format.h>
 
+#include "coefficient_file.h"
 #include "conventions.h"
 #include "errors.h"
 #include "harmonics.h"
@@ -191,4 +192,36 @@ TEST_CASE("bad rows give file:line errors", "[table_import]") {
 TEST_CASE("read_table names a missing file", "[table_import]") {
   const CoefficientSet& set = body_set();
   CHECK_THROWS_WITH(read_table("/nonexistent/team.tab", declared(set, "n,m,C,S")), Catch::Contains("/nonexistent/team.tab"));
+}
+
+// ---- polystokes convert of a plain table, end to end ----
+
+TEST_CASE("convert CLI reads a declared table into our format; a missing declaration is named", "[table_import][cli]") {
+  const std::string dir = temp_directory();
+  const CoefficientSet set = convert_convention(body_set(), Convention{Normalization::unnormalized, false, true});
+  write_text(dir + "/team.tab", table_text(set, ", "));
+  const std::string declarations = fmt::format(
+      " --columns skip,n,m,C,S,sigma_C,sigma_S --skip-lines 2 --normalization unnormalized --no-condon-shortley "
+      "--zonal-j --ref-radius {} --gm {} --unit km",
+      set.reference_radius / 1000.0, set.gm / 1e9);
+  const CommandResult result = run_cli("convert '" + dir + "/team.tab' -o '" + dir + "/team.txt'" + declarations +
+                                       " --to-normalization fully --to-zonal c");
+  CAPTURE(result.output);
+  REQUIRE(result.exit_code == 0);
+  const CoefficientSet read = read_coefficient_file(dir + "/team.txt");
+  CHECK(read.convention == Convention{});
+  CHECK(read.reference_radius == Approx(set.reference_radius).epsilon(1e-15));
+  require_sets_close(read, body_set(), body_set().degree, 1e-15);
+  CHECK(read.history.front().find("imported from table") != std::string::npos);
+
+  const CommandResult missing = run_cli("convert '" + dir + "/team.tab' -o '" + dir + "/x.txt' --columns n,m,C,S "
+                                        "--normalization fully --no-condon-shortley --ref-radius 1");
+  CHECK(missing.exit_code == 2);
+  CHECK(missing.output.find("--gm is required for a table") != std::string::npos);
+  CHECK(!file_exists(dir + "/x.txt"));
+  write_text(dir + "/dup.tab", "0 0 1 0\n1 0 0 0\n1 0 0 0\n");
+  const CommandResult duplicate = run_cli("convert '" + dir + "/dup.tab' -o '" + dir + "/x.txt' --columns n,m,C,S "
+                                          "--normalization fully --condon-shortley --ref-radius 1 --gm 1");
+  CHECK(duplicate.exit_code == 2);
+  CHECK(duplicate.output.find("dup.tab:3: row n = 1, m = 0 repeats line 2") != std::string::npos);
 }

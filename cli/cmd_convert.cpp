@@ -1,0 +1,188 @@
+// polystokes convert: one coefficient set (ours, or a plain table of another tool) -> the same field under
+// other conventions, reference radius, GM, origin or axes, with every step in the set's history.
+#include <cmath>
+#include <cstdio>
+#include <fmt/format.h>
+#include <memory>
+#include <sstream>
+
+#include "cli_common.h"
+#include "coefficient_file.h"
+#include "conventions.h"
+#include "errors.h"
+#include "table_import.h"
+#include "transforms.h"
+
+namespace polystokes::cli {
+namespace {
+
+struct ConvertOptions {
+  std::string input, output, json;
+  std::string unit = "m";  // of every length (and GM) given on the command line
+  // Target conventions; empty = keep.
+  std::string to_normalization, to_condon_shortley, to_zonal;
+  double to_ref_radius = 0, to_gm = 0;
+  std::string shift;  // "dx,dy,dz" or "com"
+  bool allow_outside = false;
+  std::string rotate_matrix, rotate_euler;
+  bool to_principal = false;
+  std::string body;
+  // Plain-table input.
+  std::string columns, comment = "#";
+  int skip_lines = 0;
+  std::string normalization;
+  bool condon_shortley = false;
+  bool condon_shortley_given = false;
+  bool zonal_j = false;
+  double ref_radius = 0, gm = 0;
+};
+
+Eigen::Matrix3d parse_matrix(const std::string& text) {
+  std::stringstream stream(text);
+  std::string item;
+  std::vector<double> values;
+  while (std::getline(stream, item, ',')) {
+    try {
+      size_t used = 0;
+      values.push_back(std::stod(item, &used));
+      if (used != item.size()) throw std::invalid_argument(item);
+    } catch (const std::exception&) {
+      values.clear();
+      break;
+    }
+  }
+  if (values.size() != 9)
+    throw ConventionError("--rotate-matrix: '" + text + "' is not nine comma-separated numbers (row by row)");
+  Eigen::Matrix3d q;
+  for (int i = 0; i < 9; ++i) q(i / 3, i % 3) = values[size_t(i)];
+  return q;
+}
+
+CoefficientSet read_input(const ConvertOptions& options, const GlobalOptions& global, const LengthUnit unit) {
+  const bool table = !options.columns.empty() || !options.normalization.empty() || options.condon_shortley_given ||
+                     options.ref_radius > 0 || options.gm > 0 || options.zonal_j || options.skip_lines > 0;
+  if (!table) return read_coefficient_file(options.input);
+  TableImportOptions import;
+  if (!options.columns.empty()) import.columns = parse_table_columns(options.columns);
+  import.comment = options.comment;
+  import.skip_lines = options.skip_lines;
+  if (!options.normalization.empty()) import.normalization = parse_normalization(options.normalization);
+  if (options.condon_shortley_given) import.condon_shortley = options.condon_shortley;
+  import.zonal_as_j = options.zonal_j;
+  if (options.ref_radius > 0) import.reference_radius = options.ref_radius;
+  if (options.gm > 0) import.gm = options.gm;
+  import.unit = unit;
+  import.body = options.body;
+  CoefficientSet set = read_table(options.input, import);
+  print_notice(global, fmt::format("{}: read as a plain table of degree {} ({})", options.input, set.degree,
+                                   describe(set.convention)));
+  return set;
+}
+
+void run_convert(const ConvertOptions& options, const GlobalOptions& global) {
+  const LengthUnit unit = parse_unit_option(options.unit);
+  const double u = meters_per(unit);
+  CoefficientSet set = read_input(options, global, unit);
+  if (!options.body.empty()) set.body = options.body;
+  const size_t first_new_history = set.history.size();
+  const size_t first_new_note = set.notes.size();
+  set.history.push_back(fmt::format("polystokes convert of {}", options.input));
+
+  if (!options.shift.empty()) {
+    const Eigen::Vector3d shift = options.shift == "com" ? center_of_mass_offset(set)
+                                                         : Eigen::Vector3d(parse_vector3(options.shift, "--shift") * u);
+    set = shift_origin(set, shift, ShiftOptions{options.allow_outside});
+  }
+  if (!options.rotate_matrix.empty()) set = rotate_set(set, parse_matrix(options.rotate_matrix));
+  if (!options.rotate_euler.empty()) {
+    const Eigen::Vector3d angles = parse_vector3(options.rotate_euler, "--rotate-euler") * (M_PI / 180.0);
+    set = rotate_set(set, euler_zyz_matrix(angles.x(), angles.y(), angles.z()));
+    set.history.back() += fmt::format(" (z-y-z Euler angles {} deg)", options.rotate_euler);
+  }
+  if (options.to_principal) set = rotate_to_principal_axes(set);
+  if (options.to_ref_radius > 0) set = rescale_reference_radius(set, options.to_ref_radius * u);
+  if (options.to_gm > 0) set = rescale_gm(set, options.to_gm * u * u * u);
+  Convention target = set.convention;
+  if (!options.to_normalization.empty()) target.normalization = parse_normalization(options.to_normalization);
+  if (!options.to_condon_shortley.empty()) target.condon_shortley = options.to_condon_shortley == "on";
+  if (!options.to_zonal.empty()) target.zonal_as_j = options.to_zonal == "j";
+  if (target != set.convention) set = convert_convention(set, target);
+
+  write_coefficient_file(set, options.output);
+  if (!options.json.empty()) write_coefficient_json(set, options.json);
+  for (size_t i = first_new_note; i < set.notes.size(); ++i) print_notice(global, set.notes[i]);
+  if (global.quiet) return;
+  std::FILE* out = options.output == "-" || options.json == "-" ? stderr : stdout;
+  fmt::print(out, "polystokes convert: {} ({}, degree {})\n", options.input, set.body, set.degree);
+  for (size_t i = first_new_history + 1; i < set.history.size(); ++i) fmt::print(out, "  {}\n", set.history[i]);
+  if (set.history.size() == first_new_history + 1) fmt::print(out, "  no change requested: set rewritten as is\n");
+  fmt::print(out, "  convention         {}\n", describe(set.convention));
+  fmt::print(out, "  reference radius   {:.9g} m, GM {:.9g} m^3 s^-2\n", set.reference_radius, set.gm);
+  fmt::print(out, "  origin             {} ({:.9g}, {:.9g}, {:.9g}) m in the mesh frame, axes {}\n", set.origin,
+             set.origin_in_mesh.x(), set.origin_in_mesh.y(), set.origin_in_mesh.z(), set.frame);
+  fmt::print(out, "  written            {}{}\n", options.output, options.json.empty() ? "" : " and " + options.json);
+}
+
+}  // namespace
+
+void setup_convert(CLI::App& app, const GlobalOptions& global) {
+  auto options = std::make_shared<ConvertOptions>();
+  auto* cmd = app.add_subcommand(
+      "convert",
+      "The same gravity field under other conventions, reference radius, GM, origin or axes.\n"
+      "Steps run in this order: --shift, rotation, --to-ref-radius, --to-gm, conventions; each is exact and\n"
+      "recorded in the output's history. IN is a polystokes set (text or JSON) or, with the table options, a\n"
+      "plain table of another tool. Lengths on the command line are in --unit; GM in --unit^3 s^-2.\n"
+      "Examples:\n"
+      "  polystokes convert varnek.txt -o varnek_schmidt.txt --to-normalization schmidt --to-condon-shortley on\n"
+      "  polystokes convert varnek.txt -o varnek_p.txt --to-principal --to-ref-radius 2.5 --unit km\n"
+      "  polystokes convert team.tab --columns n,m,C,S,sigma_C,sigma_S --normalization unnormalized\n"
+      "      --no-condon-shortley --zonal-j --ref-radius 2 --gm 1.1e-4 --unit km --skip-lines 3 -o team.txt");
+  cmd->add_option("input", options->input, "Coefficient set or plain table (- for stdin)")
+      ->required()->check(CLI::ExistingFile | CLI::IsMember({"-"}));
+  cmd->add_option("-o,--output", options->output, "Set to write (our text format; - for stdout)")->required();
+  cmd->add_option("--json", options->json, "Also write the set as JSON to this file");
+  cmd->add_option("--unit", options->unit, "Unit of lengths given here (m or km); GM in unit^3 s^-2")
+      ->check(CLI::IsMember({"m", "km"}))->capture_default_str();
+  cmd->add_option("--body", options->body, "New body label");
+  auto* group = cmd->add_option_group("target", "What to convert to (unchanged when not given)");
+  group->add_option("--to-normalization", options->to_normalization, "fully (4pi), unnormalized, schmidt or orthonormal")
+      ->check(CLI::IsMember({"fully", "unnormalized", "schmidt", "orthonormal"}));
+  group->add_option("--to-condon-shortley", options->to_condon_shortley, "Condon-Shortley phase: on or off")
+      ->check(CLI::IsMember({"on", "off"}));
+  group->add_option("--to-zonal", options->to_zonal, "Zonal terms as c (C_n0) or j (J_n = -C_n0)")
+      ->check(CLI::IsMember({"c", "j"}));
+  group->add_option("--to-ref-radius", options->to_ref_radius, "New reference radius (--unit)")->check(CLI::PositiveNumber);
+  group->add_option("--to-gm", options->to_gm, "New GM (--unit^3 s^-2)")->check(CLI::PositiveNumber);
+  auto* shift = group->add_option("--shift", options->shift,
+                                  "Move the expansion origin by dx,dy,dz (--unit, the set's axes), or 'com' to the "
+                                  "centre of mass implied by the degree-1 terms");
+  group->add_flag("--allow-outside", options->allow_outside,
+                  "Allow a shift longer than the Brillouin radius (a caution is written into the notes)")
+      ->needs(shift);
+  auto* matrix = group->add_option("--rotate-matrix", options->rotate_matrix,
+                                   "Rotate the axes: 9 numbers row by row of Q, new coordinates = Q old coordinates");
+  auto* euler = group->add_option("--rotate-euler", options->rotate_euler,
+                                  "Rotate by Q = Rz(a) Ry(b) Rz(c): a,b,c in degrees (z-y-z, active)");
+  auto* principal = group->add_flag("--to-principal", options->to_principal,
+                                    "Rotate to the principal axes implied by the degree-2 terms");
+  matrix->excludes(euler)->excludes(principal);
+  euler->excludes(principal);
+  auto* table = cmd->add_option_group("table input", "Declarations for a plain table (all that change the numbers are required)");
+  table->add_option("--columns", options->columns, "Column order, e.g. n,m,C,S,sigma_C,sigma_S (skip for others)");
+  table->add_option("--comment", options->comment, "Comment prefix")->capture_default_str();
+  table->add_option("--skip-lines", options->skip_lines, "Header lines to skip")->check(CLI::NonNegativeNumber);
+  table->add_option("--normalization", options->normalization, "The table's normalization")
+      ->check(CLI::IsMember({"fully", "unnormalized", "schmidt", "orthonormal"}));
+  auto* phase = table->add_flag("--condon-shortley,!--no-condon-shortley", options->condon_shortley,
+                                "Whether the table's functions carry the Condon-Shortley phase (one is required)");
+  table->add_flag("--zonal-j", options->zonal_j, "The table's m = 0 values are J_n = -C_n0");
+  table->add_option("--ref-radius", options->ref_radius, "The table's reference radius (--unit)")->check(CLI::PositiveNumber);
+  table->add_option("--gm", options->gm, "The table's GM (--unit^3 s^-2)")->check(CLI::PositiveNumber);
+  cmd->callback([options, phase, &global]() {
+    options->condon_shortley_given = phase->count() > 0;
+    run_convert(*options, global);
+  });
+}
+
+}  // namespace polystokes::cli
