@@ -1,6 +1,7 @@
 // polystokes compare: two coefficient sets -> per-degree agreement, verdict and diagnosis of the mismatch.
-#include <cstdio>
 #include <fmt/format.h>
+
+#include <cstdio>
 #include <memory>
 
 #include "cli_common.h"
@@ -22,8 +23,9 @@ struct CompareCommandOptions {
 };
 
 std::string describe_set(const std::string& path, const CoefficientSet& set) {
-  return fmt::format("{} ({}, degree {}, {}, R = {:.9g} m, GM = {:.9g} m^3 s^-2, origin {}, axes {})", path, set.body,
-                     set.degree, short_name(set.convention), set.reference_radius, set.gm, set.origin, set.frame);
+  return fmt::format("{} ({}, degree {}, {}, R = {:.9g} m, GM = {:.9g} m^3 s^-2, origin {}, axes {})", path,
+                     set.body, set.degree, short_name(set.convention), set.reference_radius, set.gm,
+                     set.origin, set.frame);
 }
 
 void run_compare(const CompareCommandOptions& options, const GlobalOptions& global) {
@@ -39,7 +41,8 @@ void run_compare(const CompareCommandOptions& options, const GlobalOptions& glob
   if (!options.json.empty()) write_file_atomically(options.json, comparison_json(result));
   if (global.quiet) return;
   std::FILE* out = options.json == "-" ? stderr : stdout;
-  fmt::print(out, "polystokes compare\n  A  {}\n  B  {}\n", describe_set(options.a, a), describe_set(options.b, b));
+  fmt::print(out, "polystokes compare\n  A  {}\n  B  {}\n", describe_set(options.a, a),
+             describe_set(options.b, b));
   fmt::print(out, "{}", comparison_text(result));
 }
 
@@ -50,22 +53,33 @@ void setup_compare(CLI::App& app, const GlobalOptions& global) {
   auto* cmd = app.add_subcommand(
       "compare",
       "Compare two coefficient sets degree by degree and name the likely mismatch.\n"
-      "B is brought to A's normalization, phase, zonal form, reference radius and GM (and, with --frame, to A's\n"
+      "B is brought to A's normalization, phase, zonal form, reference radius and GM (and, with --frame, to "
+      "A's\n"
       "origin and axes); per degree the RMS of A, B and A-B, their relative difference and correlation are\n"
-      "listed. When they differ, the usual exchange mistakes are tested on B (normalization or phase other than\n"
-      "declared, J_n sign, reference radius or GM factor, reversed longitudes, turn about z, swapped C/S, other\n"
-      "origin) and ranked by the misfit left. Exit code 0 whether or not they agree; the verdict line starts\n"
+      "listed. When they differ, the usual exchange mistakes are tested on B (normalization or phase other "
+      "than\n"
+      "declared, J_n sign, reference radius or GM factor, reversed longitudes, turn about z, swapped C/S, "
+      "other\n"
+      "origin) and ranked by the misfit left. Exit code 0 whether or not they agree; the verdict line "
+      "starts\n"
       "with AGREE or DIFFER.\n"
       "Example: polystokes compare varnek.txt team_varnek.txt --tolerance 1e-8 --json comparison.json");
-  cmd->add_option("a", options->a, "Reference set A (our text or JSON format)")->required()->check(CLI::ExistingFile);
+  cmd->add_option("a", options->a, "Reference set A (our text or JSON format)")
+      ->required()
+      ->check(CLI::ExistingFile);
   cmd->add_option("b", options->b, "Set B, compared with A")->required()->check(CLI::ExistingFile);
-  cmd->add_option("--tolerance", options->tolerance, "Relative RMS difference per degree counted as agreement")
-      ->check(CLI::NonNegativeNumber)->capture_default_str();
-  cmd->add_flag("--frame", options->frame, "Also bring B to A's origin and axes (both recorded against the same mesh)");
-  cmd->add_option("--max-degree", options->max_degree, "Highest degree compared (default: the smaller degree)")
+  cmd->add_option("--tolerance", options->tolerance,
+                  "Relative RMS difference per degree counted as agreement")
+      ->check(CLI::NonNegativeNumber)
+      ->capture_default_str();
+  cmd->add_flag("--frame", options->frame,
+                "Also bring B to A's origin and axes (both recorded against the same mesh)");
+  cmd->add_option("--max-degree", options->max_degree,
+                  "Highest degree compared (default: the smaller degree)")
       ->check(CLI::NonNegativeNumber);
   cmd->add_option("--largest", options->largest, "How many largest single differences to list")
-      ->check(CLI::NonNegativeNumber)->capture_default_str();
+      ->check(CLI::NonNegativeNumber)
+      ->capture_default_str();
   cmd->add_flag("--no-diagnosis", options->no_diagnosis, "Do not test explanations of a difference");
   cmd->add_option("--json", options->json, "Also write the comparison as JSON to this file (- for stdout)");
   cmd->callback([options, &global]() { run_compare(*options, global); });

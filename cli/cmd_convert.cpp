@@ -1,8 +1,9 @@
 // polystokes convert: one coefficient set (ours, or a plain table of another tool) -> the same field under
 // other conventions, reference radius, GM, origin or axes, with every step in the set's history.
+#include <fmt/format.h>
+
 #include <cmath>
 #include <cstdio>
-#include <fmt/format.h>
 #include <memory>
 #include <sstream>
 
@@ -59,8 +60,9 @@ Eigen::Matrix3d parse_matrix(const std::string& text) {
 }
 
 CoefficientSet read_input(const ConvertOptions& options, const GlobalOptions& global, const LengthUnit unit) {
-  const bool table = !options.columns.empty() || !options.normalization.empty() || options.condon_shortley_given ||
-                     options.ref_radius > 0 || options.gm > 0 || options.zonal_j || options.skip_lines > 0;
+  const bool table = !options.columns.empty() || !options.normalization.empty() ||
+                     options.condon_shortley_given || options.ref_radius > 0 || options.gm > 0 ||
+                     options.zonal_j || options.skip_lines > 0;
   if (!table) return read_coefficient_file(options.input);
   TableImportOptions import;
   if (!options.columns.empty()) import.columns = parse_table_columns(options.columns);
@@ -89,8 +91,9 @@ void run_convert(const ConvertOptions& options, const GlobalOptions& global) {
   set.history.push_back(fmt::format("polystokes convert of {}", options.input));
 
   if (!options.shift.empty()) {
-    const Eigen::Vector3d shift = options.shift == "com" ? center_of_mass_offset(set)
-                                                         : Eigen::Vector3d(parse_vector3(options.shift, "--shift") * u);
+    const Eigen::Vector3d shift = options.shift == "com"
+                                      ? center_of_mass_offset(set)
+                                      : Eigen::Vector3d(parse_vector3(options.shift, "--shift") * u);
     set = shift_origin(set, shift, ShiftOptions{options.allow_outside});
   }
   if (!options.rotate_matrix.empty()) set = rotate_set(set, parse_matrix(options.rotate_matrix));
@@ -114,13 +117,16 @@ void run_convert(const ConvertOptions& options, const GlobalOptions& global) {
   if (global.quiet) return;
   std::FILE* out = options.output == "-" || options.json == "-" ? stderr : stdout;
   fmt::print(out, "polystokes convert: {} ({}, degree {})\n", options.input, set.body, set.degree);
-  for (size_t i = first_new_history + 1; i < set.history.size(); ++i) fmt::print(out, "  {}\n", set.history[i]);
-  if (set.history.size() == first_new_history + 1) fmt::print(out, "  no change requested: set rewritten as is\n");
+  for (size_t i = first_new_history + 1; i < set.history.size(); ++i)
+    fmt::print(out, "  {}\n", set.history[i]);
+  if (set.history.size() == first_new_history + 1)
+    fmt::print(out, "  no change requested: set rewritten as is\n");
   fmt::print(out, "  convention         {}\n", describe(set.convention));
   fmt::print(out, "  reference radius   {:.9g} m, GM {:.9g} m^3 s^-2\n", set.reference_radius, set.gm);
-  fmt::print(out, "  origin             {} ({:.9g}, {:.9g}, {:.9g}) m in the mesh frame, axes {}\n", set.origin,
-             set.origin_in_mesh.x(), set.origin_in_mesh.y(), set.origin_in_mesh.z(), set.frame);
-  fmt::print(out, "  written            {}{}\n", options.output, options.json.empty() ? "" : " and " + options.json);
+  fmt::print(out, "  origin             {} ({:.9g}, {:.9g}, {:.9g}) m in the mesh frame, axes {}\n",
+             set.origin, set.origin_in_mesh.x(), set.origin_in_mesh.y(), set.origin_in_mesh.z(), set.frame);
+  fmt::print(out, "  written            {}{}\n", options.output,
+             options.json.empty() ? "" : " and " + options.json);
 }
 
 }  // namespace
@@ -131,53 +137,68 @@ void setup_convert(CLI::App& app, const GlobalOptions& global) {
       "convert",
       "The same gravity field under other conventions, reference radius, GM, origin or axes.\n"
       "Steps run in this order: --shift, rotation, --to-ref-radius, --to-gm, conventions; each is exact and\n"
-      "recorded in the output's history. IN is a polystokes set (text or JSON) or, with the table options, a\n"
+      "recorded in the output's history. IN is a polystokes set (text or JSON) or, with the table options, "
+      "a\n"
       "plain table of another tool. Lengths on the command line are in --unit; GM in --unit^3 s^-2.\n"
       "Examples:\n"
-      "  polystokes convert varnek.txt -o varnek_schmidt.txt --to-normalization schmidt --to-condon-shortley on\n"
+      "  polystokes convert varnek.txt -o varnek_schmidt.txt --to-normalization schmidt --to-condon-shortley "
+      "on\n"
       "  polystokes convert varnek.txt -o varnek_p.txt --to-principal --to-ref-radius 2.5 --unit km\n"
       "  polystokes convert team.tab --columns n,m,C,S,sigma_C,sigma_S --normalization unnormalized\n"
       "      --no-condon-shortley --zonal-j --ref-radius 2 --gm 1.1e-4 --unit km --skip-lines 3 -o team.txt");
   cmd->add_option("input", options->input, "Coefficient set or plain table (- for stdin)")
-      ->required()->check(CLI::ExistingFile | CLI::IsMember({"-"}));
+      ->required()
+      ->check(CLI::ExistingFile | CLI::IsMember({"-"}));
   cmd->add_option("-o,--output", options->output, "Set to write (our text format; - for stdout)")->required();
   cmd->add_option("--json", options->json, "Also write the set as JSON to this file");
   cmd->add_option("--unit", options->unit, "Unit of lengths given here (m or km); GM in unit^3 s^-2")
-      ->check(CLI::IsMember({"m", "km"}))->capture_default_str();
+      ->check(CLI::IsMember({"m", "km"}))
+      ->capture_default_str();
   cmd->add_option("--body", options->body, "New body label");
   auto* group = cmd->add_option_group("target", "What to convert to (unchanged when not given)");
-  group->add_option("--to-normalization", options->to_normalization, "fully (4pi), unnormalized, schmidt or orthonormal")
+  group
+      ->add_option("--to-normalization", options->to_normalization,
+                   "fully (4pi), unnormalized, schmidt or orthonormal")
       ->check(CLI::IsMember({"fully", "unnormalized", "schmidt", "orthonormal"}));
   group->add_option("--to-condon-shortley", options->to_condon_shortley, "Condon-Shortley phase: on or off")
       ->check(CLI::IsMember({"on", "off"}));
   group->add_option("--to-zonal", options->to_zonal, "Zonal terms as c (C_n0) or j (J_n = -C_n0)")
       ->check(CLI::IsMember({"c", "j"}));
-  group->add_option("--to-ref-radius", options->to_ref_radius, "New reference radius (--unit)")->check(CLI::PositiveNumber);
+  group->add_option("--to-ref-radius", options->to_ref_radius, "New reference radius (--unit)")
+      ->check(CLI::PositiveNumber);
   group->add_option("--to-gm", options->to_gm, "New GM (--unit^3 s^-2)")->check(CLI::PositiveNumber);
-  auto* shift = group->add_option("--shift", options->shift,
-                                  "Move the expansion origin by dx,dy,dz (--unit, the set's axes), or 'com' to the "
-                                  "centre of mass implied by the degree-1 terms");
-  group->add_flag("--allow-outside", options->allow_outside,
-                  "Allow a shift longer than the Brillouin radius (a caution is written into the notes)")
+  auto* shift =
+      group->add_option("--shift", options->shift,
+                        "Move the expansion origin by dx,dy,dz (--unit, the set's axes), or 'com' to the "
+                        "centre of mass implied by the degree-1 terms");
+  group
+      ->add_flag("--allow-outside", options->allow_outside,
+                 "Allow a shift longer than the Brillouin radius (a caution is written into the notes)")
       ->needs(shift);
-  auto* matrix = group->add_option("--rotate-matrix", options->rotate_matrix,
-                                   "Rotate the axes: 9 numbers row by row of Q, new coordinates = Q old coordinates");
+  auto* matrix =
+      group->add_option("--rotate-matrix", options->rotate_matrix,
+                        "Rotate the axes: 9 numbers row by row of Q, new coordinates = Q old coordinates");
   auto* euler = group->add_option("--rotate-euler", options->rotate_euler,
                                   "Rotate by Q = Rz(a) Ry(b) Rz(c): a,b,c in degrees (z-y-z, active)");
   auto* principal = group->add_flag("--to-principal", options->to_principal,
                                     "Rotate to the principal axes implied by the degree-2 terms");
   matrix->excludes(euler)->excludes(principal);
   euler->excludes(principal);
-  auto* table = cmd->add_option_group("table input", "Declarations for a plain table (all that change the numbers are required)");
-  table->add_option("--columns", options->columns, "Column order, e.g. n,m,C,S,sigma_C,sigma_S (skip for others)");
+  auto* table = cmd->add_option_group(
+      "table input", "Declarations for a plain table (all that change the numbers are required)");
+  table->add_option("--columns", options->columns,
+                    "Column order, e.g. n,m,C,S,sigma_C,sigma_S (skip for others)");
   table->add_option("--comment", options->comment, "Comment prefix")->capture_default_str();
-  table->add_option("--skip-lines", options->skip_lines, "Header lines to skip")->check(CLI::NonNegativeNumber);
+  table->add_option("--skip-lines", options->skip_lines, "Header lines to skip")
+      ->check(CLI::NonNegativeNumber);
   table->add_option("--normalization", options->normalization, "The table's normalization")
       ->check(CLI::IsMember({"fully", "unnormalized", "schmidt", "orthonormal"}));
-  auto* phase = table->add_flag("--condon-shortley,!--no-condon-shortley", options->condon_shortley,
-                                "Whether the table's functions carry the Condon-Shortley phase (one is required)");
+  auto* phase =
+      table->add_flag("--condon-shortley,!--no-condon-shortley", options->condon_shortley,
+                      "Whether the table's functions carry the Condon-Shortley phase (one is required)");
   table->add_flag("--zonal-j", options->zonal_j, "The table's m = 0 values are J_n = -C_n0");
-  table->add_option("--ref-radius", options->ref_radius, "The table's reference radius (--unit)")->check(CLI::PositiveNumber);
+  table->add_option("--ref-radius", options->ref_radius, "The table's reference radius (--unit)")
+      ->check(CLI::PositiveNumber);
   table->add_option("--gm", options->gm, "The table's GM (--unit^3 s^-2)")->check(CLI::PositiveNumber);
   cmd->callback([options, phase, &global]() {
     options->condon_shortley_given = phase->count() > 0;

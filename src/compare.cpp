@@ -1,9 +1,10 @@
 #include "compare.h"
 
+#include <fmt/format.h>
+
 #include <Eigen/Dense>
 #include <algorithm>
 #include <cmath>
-#include <fmt/format.h>
 #include <functional>
 #include <limits>
 #include <nlohmann/json.hpp>
@@ -54,7 +55,26 @@ void check_set(const CoefficientSet& set, const char* which) {
     throw ConventionError(fmt::format("set {} ('{}') has no valid GM", which, set.body));
 }
 
-std::string vector_text(const Eigen::Vector3d& v) { return fmt::format("({:.6g}, {:.6g}, {:.6g})", v.x(), v.y(), v.z()); }
+std::string vector_text(const Eigen::Vector3d& v) {
+  return fmt::format("({:.6g}, {:.6g}, {:.6g})", v.x(), v.y(), v.z());
+}
+
+// The parts of convention `x` that differ from `y`, e.g. "Schmidt semi-normalized functions, the
+// Condon-Shortley phase".
+std::string convention_difference(const Convention& x, const Convention& y) {
+  std::vector<std::string> parts;
+  if (x.normalization != y.normalization) {
+    const std::string full = describe(Convention{x.normalization, false, false});
+    parts.push_back(full.substr(0, full.find(',')) + " functions");
+  }
+  if (x.condon_shortley != y.condon_shortley)
+    parts.push_back(x.condon_shortley ? "the Condon-Shortley phase" : "no Condon-Shortley phase");
+  if (x.zonal_as_j != y.zonal_as_j)
+    parts.push_back(x.zonal_as_j ? "J_n in the zonal column" : "C_n0 in the zonal column");
+  std::string text;
+  for (size_t i = 0; i < parts.size(); ++i) text += (i ? ", " : "") + parts[i];
+  return text;
+}
 
 class Comparer {
  public:
@@ -68,7 +88,8 @@ class Comparer {
       const Eigen::Vector3d d = b.axes_in_mesh * (a_.origin_in_mesh - b.origin_in_mesh);
       if (d.norm() > 1e-12 * a_.reference_radius) {
         out = shift_origin(out, d, ShiftOptions{true});
-        if (steps) steps->push_back(fmt::format("origin shifted by {} m (B's frame) to A's origin", vector_text(d)));
+        if (steps)
+          steps->push_back(fmt::format("origin shifted by {} m (B's frame) to A's origin", vector_text(d)));
       }
       const Eigen::Matrix3d q = a_.axes_in_mesh * b.axes_in_mesh.transpose();
       if ((q - Eigen::Matrix3d::Identity()).cwiseAbs().maxCoeff() > 1e-15) {
@@ -78,7 +99,8 @@ class Comparer {
     }
     if (out.reference_radius != a_.reference_radius) {
       if (steps)
-        steps->push_back(fmt::format("reference radius {} m -> {} m", out.reference_radius, a_.reference_radius));
+        steps->push_back(
+            fmt::format("reference radius {} m -> {} m", out.reference_radius, a_.reference_radius));
       out = rescale_reference_radius(out, a_.reference_radius);
     }
     if (out.gm != a_.gm) {
@@ -86,7 +108,9 @@ class Comparer {
       out = rescale_gm(out, a_.gm);
     }
     if (out.convention != a_.convention) {
-      if (steps) steps->push_back(fmt::format("convention {} -> {}", describe(out.convention), describe(a_.convention)));
+      if (steps)
+        steps->push_back(
+            fmt::format("convention {} -> {}", describe(out.convention), describe(a_.convention)));
       out = expressed_in(out, a_.convention);
     }
     return out;
@@ -114,8 +138,10 @@ class Comparer {
       degree.rms_b = std::sqrt(bb / (2.0 * n + 1.0));
       degree.rms_difference = std::sqrt(dd / (2.0 * n + 1.0));
       const double scale = std::max(degree.rms_a, degree.rms_b);
-      degree.relative = degree.rms_difference <= options_.absolute_floor ? 0.0 : degree.rms_difference / scale;
-      degree.correlation = aa > 0 && bb > 0 ? ab / std::sqrt(aa * bb) : std::numeric_limits<double>::quiet_NaN();
+      degree.relative =
+          degree.rms_difference <= options_.absolute_floor ? 0.0 : degree.rms_difference / scale;
+      degree.correlation =
+          aa > 0 && bb > 0 ? ab / std::sqrt(aa * bb) : std::numeric_limits<double>::quiet_NaN();
       degree.agrees = degree.relative <= options_.tolerance;
       if (!degree.agrees && !failed) {
         failed = true;
@@ -130,7 +156,9 @@ class Comparer {
     return out;
   }
 
-  Stats stats_of_raw(const CoefficientSet& b_raw, int top = -1) const { return stats(bring(b_raw, nullptr), top); }
+  Stats stats_of_raw(const CoefficientSet& b_raw, int top = -1) const {
+    return stats(bring(b_raw, nullptr), top);
+  }
 
   Hypothesis judge(const std::string& kind, const std::string& description, double parameter,
                    const CoefficientSet& b_raw) const {
@@ -156,15 +184,18 @@ class Comparer {
       if (c.zonal_as_j != b.convention.zonal_as_j) relabeled.C(0, 0) = -b.C(0, 0);
       const bool same_norm = c.normalization == b.convention.normalization;
       const std::string kind = same_norm && c.condon_shortley == b.convention.condon_shortley ? "j_sign"
-                               : same_norm && c.zonal_as_j == b.convention.zonal_as_j    ? "phase"
-                                                                                          : "normalization";
+                               : same_norm && c.zonal_as_j == b.convention.zonal_as_j         ? "phase"
+                                                                                      : "normalization";
       const std::string description =
-          kind == "j_sign" ? fmt::format("B's zonal terms have the opposite sign: they are {}, not {} as declared",
-                                         c.zonal_as_j ? "J_n = -C_n0" : "C_n0", b.convention.zonal_as_j ? "J_n" : "C_n0")
-                           : fmt::format("B's numbers are {}, not {} as declared", describe(c), describe(b.convention));
+          kind == "j_sign"
+              ? fmt::format("B's zonal terms have the opposite sign: they are {}, not {} as declared",
+                            c.zonal_as_j ? "J_n = -C_n0" : "C_n0", b.convention.zonal_as_j ? "J_n" : "C_n0")
+              : fmt::format("B's numbers use {} (declared: {})", convention_difference(c, b.convention),
+                            convention_difference(b.convention, c));
       out.push_back(judge(kind, description, 0, relabeled));
     }
-    // Spectra ratio per degree: log(rms_a / rms_b) = n log k for a radius factor k, = log g for a GM factor g.
+    // Spectra ratio per degree: log(rms_a / rms_b) = n log k for a radius factor k, = log g for a GM factor
+    // g.
     double sum_ny = 0, sum_nn = 0, sum_y = 0;
     int count = 0;
     for (const auto& d : baseline.degrees) {
@@ -183,10 +214,12 @@ class Comparer {
       };
       const double t = refine(sum_ny / sum_nn, [&](double x) { return stats_of_raw(with_radius(x)).misfit; });
       const double k = std::exp(t);
-      out.push_back(judge("radius",
-                          fmt::format("B's coefficients refer to a reference radius {:.9g} times the declared one, "
-                                      "i.e. {:.9g} m instead of {:.9g} m", k, k * b.reference_radius, b.reference_radius),
-                          k, with_radius(t)));
+      out.push_back(
+          judge("radius",
+                fmt::format("B's coefficients refer to a reference radius {:.9g} times the declared one, "
+                            "i.e. {:.9g} m instead of {:.9g} m",
+                            k, k * b.reference_radius, b.reference_radius),
+                k, with_radius(t)));
     }
     if (count > 0) {
       auto with_gm = [&](double t) {
@@ -196,22 +229,27 @@ class Comparer {
       };
       const double t = refine(sum_y / count, [&](double x) { return stats_of_raw(with_gm(x)).misfit; });
       const double g = std::exp(t);
-      out.push_back(judge("gm",
-                          fmt::format("B's coefficients are scaled for a GM {:.9g} times the declared one, i.e. "
-                                      "{:.9g} instead of {:.9g} m^3 s^-2", g, g * b.gm, b.gm),
-                          g, with_gm(t)));
+      out.push_back(
+          judge("gm",
+                fmt::format("B's coefficients are scaled for a GM {:.9g} times the declared one, i.e. "
+                            "{:.9g} instead of {:.9g} m^3 s^-2",
+                            g, g * b.gm, b.gm),
+                g, with_gm(t)));
     }
     {
       CoefficientSet flipped = b;
       flipped.S = -b.S;
-      out.push_back(judge("longitude_sign", "B's longitudes run the other way (S -> -S, a y -> -y reflection)", 0, flipped));
+      out.push_back(judge("longitude_sign",
+                          "B's longitudes run the other way (S -> -S, a y -> -y reflection)", 0, flipped));
     }
     if (degree_ >= 1) {
       const double angle = fit_z_rotation(b);
-      out.push_back(judge("z_rotation",
-                          fmt::format("B's axes are turned about z: rotating B by {:.9g} deg about z matches A "
-                                      "(longitude origins differ)", angle * 180.0 / M_PI),
-                          angle * 180.0 / M_PI, rotate_about_z(b, angle)));
+      out.push_back(
+          judge("z_rotation",
+                fmt::format("B's axes are turned about z: rotating B by {:.9g} deg about z matches A "
+                            "(longitude origins differ)",
+                            angle * 180.0 / M_PI),
+                angle * 180.0 / M_PI, rotate_about_z(b, angle)));
     }
     {
       CoefficientSet swapped = b;
@@ -227,18 +265,22 @@ class Comparer {
       const Eigen::Vector3d com_a = center_of_mass_offset(a_);
       // A's centre of mass in B's frame about B's declared origin.
       const Eigen::Vector3d com_a_in_b =
-          options_.align_frame ? Eigen::Vector3d(b.axes_in_mesh * (a_.origin_in_mesh + a_.axes_in_mesh.transpose() * com_a -
-                                                                   b.origin_in_mesh))
-                               : com_a;
+          options_.align_frame
+              ? Eigen::Vector3d(b.axes_in_mesh *
+                                (a_.origin_in_mesh + a_.axes_in_mesh.transpose() * com_a - b.origin_in_mesh))
+              : com_a;
       const Eigen::Vector3d d = com_b - com_a_in_b;
       if (d.norm() > 1e-12 * b.reference_radius) {
         CoefficientSet moved = shift_origin(b, d, ShiftOptions{true});
-        moved.origin_in_mesh = b.origin_in_mesh;  // the hypothesis: B's coefficients were not about its stated origin
-        out.push_back(judge("origin",
-                            fmt::format("B is expanded about another point: its degree-1 terms put the centre of mass "
-                                        "{} m from its origin, A's at {} m; moving B's origin by {} m ({:.6g} m) "
-                                        "matches A", vector_text(com_b), vector_text(com_a_in_b), vector_text(d), d.norm()),
-                            d.norm(), moved));
+        moved.origin_in_mesh =
+            b.origin_in_mesh;  // the hypothesis: B's coefficients were not about its stated origin
+        out.push_back(
+            judge("origin",
+                  fmt::format("B is expanded about another point: its degree-1 terms put the centre of mass "
+                              "{} m from its origin, A's at {} m; moving B's origin by {} m ({:.6g} m) "
+                              "matches A",
+                              vector_text(com_b), vector_text(com_a_in_b), vector_text(d), d.norm()),
+                  d.norm(), moved));
       }
     }
     // Hypotheses that explain everything come first, in the order tested (simplest first: labels, scale
@@ -263,7 +305,9 @@ class Comparer {
   // golden-section refinement with more and more degrees in brackets narrower than their oscillation.
   double fit_z_rotation(const CoefficientSet& b) const {
     int top = std::min(degree_, 4);
-    auto misfit_at = [&](double angle, int up_to) { return stats_of_raw(rotate_about_z(b, angle), up_to).misfit; };
+    auto misfit_at = [&](double angle, int up_to) {
+      return stats_of_raw(rotate_about_z(b, angle), up_to).misfit;
+    };
     double best = 0, best_misfit = std::numeric_limits<double>::infinity();
     for (int i = 0; i < 720; ++i) {
       const double angle = -M_PI + i * M_PI / 360.0;
@@ -275,7 +319,8 @@ class Comparer {
     }
     double half_width = M_PI / 360.0;
     while (true) {
-      best = golden_minimum([&](double x) { return misfit_at(x, top); }, best - half_width, best + half_width);
+      best =
+          golden_minimum([&](double x) { return misfit_at(x, top); }, best - half_width, best + half_width);
       if (top == degree_) break;
       top = std::min(degree_, 2 * top);
       half_width = M_PI / (4.0 * top);
@@ -307,14 +352,14 @@ Comparison compare_sets(const CoefficientSet& a, const CoefficientSet& b, const 
   if (options.max_degree >= 0) out.degree = std::min(out.degree, options.max_degree);
   out.tolerance = options.tolerance;
   if (a.degree != b.degree)
-    out.alignment.push_back(fmt::format("compared to degree {} (A has degree {}, B degree {})", out.degree, a.degree,
-                                        b.degree));
+    out.alignment.push_back(
+        fmt::format("compared to degree {} (A has degree {}, B degree {})", out.degree, a.degree, b.degree));
   const Comparer comparer(a, options, out.degree);
   const CoefficientSet b_in_a = comparer.bring(b, &out.alignment);
-  if (!options.align_frame &&
-      ((a.origin_in_mesh - b.origin_in_mesh).norm() > 1e-9 * a.reference_radius ||
-       (a.axes_in_mesh - b.axes_in_mesh).cwiseAbs().maxCoeff() > 1e-12))
-    out.alignment.push_back("origins or axes recorded in the sets differ; not aligned (ask for frame alignment)");
+  if (!options.align_frame && ((a.origin_in_mesh - b.origin_in_mesh).norm() > 1e-9 * a.reference_radius ||
+                               (a.axes_in_mesh - b.axes_in_mesh).cwiseAbs().maxCoeff() > 1e-12))
+    out.alignment.push_back(
+        "origins or axes recorded in the sets differ; not aligned (ask for frame alignment)");
   const Stats stats = comparer.stats(b_in_a);
   out.degrees = stats.degrees;
   out.agree_degree = stats.agree_degree;
@@ -338,19 +383,28 @@ Comparison compare_sets(const CoefficientSet& a, const CoefficientSet& b, const 
   if (!out.agree && options.diagnose) out.hypotheses = comparer.diagnose(b, stats);
 
   if (out.agree) {
-    const auto worst = std::max_element(out.degrees.begin(), out.degrees.end(),
-                                        [](const DegreeComparison& x, const DegreeComparison& y) { return x.relative < y.relative; });
-    out.verdict = fmt::format("AGREE: A and B agree within {:.3g} at every degree 0..{} (largest relative RMS "
-                              "difference {:.3g} at degree {})", options.tolerance, out.degree, worst->relative,
-                              worst->degree);
+    const auto worst = std::max_element(
+        out.degrees.begin(), out.degrees.end(),
+        [](const DegreeComparison& x, const DegreeComparison& y) { return x.relative < y.relative; });
+    out.verdict = worst->relative == 0
+                      ? fmt::format(
+                            "AGREE: A and B agree within {:.3g} at every degree 0..{} (every RMS difference "
+                            "is within the rounding floor {:.3g})",
+                            options.tolerance, out.degree, options.absolute_floor)
+                      : fmt::format(
+                            "AGREE: A and B agree within {:.3g} at every degree 0..{} (largest relative RMS "
+                            "difference {:.3g} at degree {})",
+                            options.tolerance, out.degree, worst->relative, worst->degree);
   } else {
     const DegreeComparison& first = out.degrees[size_t(out.agree_degree + 1)];
-    std::string text = out.agree_degree >= 0
-                           ? fmt::format("DIFFER: A and B agree within {:.3g} up to degree {}; degree {} differs by "
-                                         "{:.3g} (relative RMS)", options.tolerance, out.agree_degree, first.degree,
-                                         first.relative)
-                           : fmt::format("DIFFER: A and B differ from degree 0 on (relative RMS {:.3g} at degree 0)",
-                                         first.relative);
+    std::string text =
+        out.agree_degree >= 0
+            ? fmt::format(
+                  "DIFFER: A and B agree within {:.3g} up to degree {}; degree {} differs by "
+                  "{:.3g} (relative RMS)",
+                  options.tolerance, out.agree_degree, first.degree, first.relative)
+            : fmt::format("DIFFER: A and B differ from degree 0 on (relative RMS {:.3g} at degree 0)",
+                          first.relative);
     if (!out.hypotheses.empty()) {
       const Hypothesis& best = out.hypotheses.front();
       std::string equivalents;
@@ -361,8 +415,10 @@ Comparison compare_sets(const CoefficientSet& a, const CoefficientSet& b, const 
                             out.misfit, best.misfit, best.explains ? ", agreeing at every degree" : "",
                             equivalents.empty() ? "" : "; equally explained by " + equivalents);
       else
-        text += fmt::format("; none of the usual mismatches explains it (best, {}, only takes the misfit from {:.3g} "
-                            "to {:.3g})", best.kind, out.misfit, best.misfit);
+        text += fmt::format(
+            "; none of the usual mismatches explains it (best, {}, only takes the misfit from {:.3g} "
+            "to {:.3g})",
+            best.kind, out.misfit, best.misfit);
     }
     out.verdict = text;
   }
@@ -376,25 +432,32 @@ std::string comparison_text(const Comparison& c) {
     for (const auto& step : c.alignment) out += "  " + step + "\n";
   }
   out += "per degree (fully normalized; RMS per coefficient; relative = RMS(A-B) / max(RMS A, RMS B)):\n";
-  out += fmt::format("  {:>5} {:>12} {:>12} {:>12} {:>10} {:>12}  {}\n", "n", "RMS A", "RMS B", "RMS A-B", "relative",
-                     "correlation", "agree");
+  out += fmt::format("  {:>5} {:>12} {:>12} {:>12} {:>10} {:>12}  {}\n", "n", "RMS A", "RMS B", "RMS A-B",
+                     "relative", "correlation", "agree");
   for (const auto& d : c.degrees) {
     const std::string correlation = std::isnan(d.correlation) ? "-" : fmt::format("{:.9f}", d.correlation);
-    out += fmt::format("  {:>5} {:>12.5e} {:>12.5e} {:>12.5e} {:>10.3e} {:>12}  {}\n", d.degree, d.rms_a, d.rms_b,
-                       d.rms_difference, d.relative, correlation, d.agrees ? "yes" : "NO");
+    out += fmt::format("  {:>5} {:>12.5e} {:>12.5e} {:>12.5e} {:>10.3e} {:>12}  {}\n", d.degree, d.rms_a,
+                       d.rms_b, d.rms_difference, d.relative, correlation, d.agrees ? "yes" : "NO");
   }
   if (!c.largest.empty()) {
     out += "largest differences (A's convention):\n";
     for (const auto& d : c.largest)
-      out += fmt::format("  {:<10} A {:>24} B {:>24} A-B {:.5e}\n", coefficient_name(d), fmt::format("{}", d.a),
-                         fmt::format("{}", d.b), d.a - d.b);
+      out += fmt::format("  {:<10} A {:>24} B {:>24} A-B {:.5e}\n", coefficient_name(d),
+                         fmt::format("{}", d.a), fmt::format("{}", d.b), d.a - d.b);
   }
   if (!c.hypotheses.empty()) {
-    out += fmt::format("diagnosis (misfit = RMS over degrees of the relative difference; as given: {:.3e}):\n", c.misfit);
-    for (const auto& h : c.hypotheses)
+    out += fmt::format(
+        "diagnosis (misfit = RMS over degrees of the relative difference; as given: {:.3e}):\n", c.misfit);
+    constexpr size_t shown = 6;
+    for (size_t i = 0; i < c.hypotheses.size() && i < shown; ++i) {
+      const Hypothesis& h = c.hypotheses[i];
       out += fmt::format("  {:<15} misfit {:.3e} (x{:<9.3g}) agree to degree {:>3}{}  {}\n", h.kind, h.misfit,
-                         h.misfit > 0 ? c.misfit / h.misfit : std::numeric_limits<double>::infinity(), h.agree_degree,
-                         h.explains ? " ALL" : "    ", h.description);
+                         h.misfit > 0 ? c.misfit / h.misfit : std::numeric_limits<double>::infinity(),
+                         h.agree_degree, h.explains ? " ALL" : "    ", h.description);
+    }
+    if (c.hypotheses.size() > shown)
+      out += fmt::format("  ({} less likely explanations tested; all are in the JSON report)\n",
+                         c.hypotheses.size() - shown);
   }
   out += "verdict: " + c.verdict + "\n";
   return out;
@@ -415,8 +478,13 @@ std::string comparison_json(const Comparison& c) {
   root["verdict"] = c.verdict;
   json degrees = json::array();
   for (const auto& d : c.degrees)
-    degrees.push_back({{"n", d.degree}, {"rms_a", d.rms_a}, {"rms_b", d.rms_b}, {"rms_difference", d.rms_difference},
-                       {"relative", d.relative}, {"correlation", number(d.correlation)}, {"agrees", d.agrees}});
+    degrees.push_back({{"n", d.degree},
+                       {"rms_a", d.rms_a},
+                       {"rms_b", d.rms_b},
+                       {"rms_difference", d.rms_difference},
+                       {"relative", d.relative},
+                       {"correlation", number(d.correlation)},
+                       {"agrees", d.agrees}});
   root["degrees"] = degrees;
   json largest = json::array();
   for (const auto& d : c.largest)
@@ -424,8 +492,12 @@ std::string comparison_json(const Comparison& c) {
   root["largest_differences"] = largest;
   json hypotheses = json::array();
   for (const auto& h : c.hypotheses)
-    hypotheses.push_back({{"kind", h.kind}, {"description", h.description}, {"parameter", number(h.parameter)},
-                          {"misfit", number(h.misfit)}, {"agree_degree", h.agree_degree}, {"explains", h.explains}});
+    hypotheses.push_back({{"kind", h.kind},
+                          {"description", h.description},
+                          {"parameter", number(h.parameter)},
+                          {"misfit", number(h.misfit)},
+                          {"agree_degree", h.agree_degree},
+                          {"explains", h.explains}});
   root["diagnosis"] = hypotheses;
   return root.dump(2) + "\n";
 }

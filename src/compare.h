@@ -45,7 +45,8 @@ struct CoefficientDifference {
 
 /// One tested explanation of a disagreement: B corrected as the hypothesis says, then compared again.
 struct Hypothesis {
-  std::string kind;         ///< normalization, phase, j_sign, radius, gm, longitude_sign, z_rotation, swapped_cs, origin
+  std::string
+      kind;  ///< normalization, phase, j_sign, radius, gm, longitude_sign, z_rotation, swapped_cs, origin
   std::string description;  ///< what the hypothesis says, with the fitted parameter if any
   double parameter = 0;     ///< radius or GM factor, angle (degrees), shift length (m); 0 if none
   double misfit = 0;        ///< misfit after the correction
@@ -54,17 +55,17 @@ struct Hypothesis {
 };
 
 struct Comparison {
-  int degree = 0;                                ///< highest degree compared
+  int degree = 0;  ///< highest degree compared
   int degree_a = 0, degree_b = 0;
-  std::vector<std::string> alignment;            ///< what was done to B to bring it to A
-  std::vector<DegreeComparison> degrees;         ///< 0..degree
-  std::vector<CoefficientDifference> largest;    ///< largest |a - b| first
-  int agree_degree = -1;                         ///< A and B agree at every degree 0..agree_degree
-  bool agree = false;                            ///< at every compared degree
-  double misfit = 0;                             ///< sqrt(mean over degrees of relative^2)
+  std::vector<std::string> alignment;          ///< what was done to B to bring it to A
+  std::vector<DegreeComparison> degrees;       ///< 0..degree
+  std::vector<CoefficientDifference> largest;  ///< largest |a - b| first
+  int agree_degree = -1;                       ///< A and B agree at every degree 0..agree_degree
+  bool agree = false;                          ///< at every compared degree
+  double misfit = 0;                           ///< sqrt(mean over degrees of relative^2)
   double tolerance = 0;
-  std::vector<Hypothesis> hypotheses;            ///< tested explanations, smallest misfit first
-  std::string verdict;                           ///< one line
+  std::vector<Hypothesis> hypotheses;  ///< tested explanations, smallest misfit first
+  std::string verdict;                 ///< one line
 };
 
 /// Brings B to A's normalization, phase, zonal form, reference radius and GM (and, with align_frame, origin

@@ -1,7 +1,8 @@
 #include "conventions.h"
 
-#include <cmath>
 #include <fmt/format.h>
+
+#include <cmath>
 
 #include "errors.h"
 
@@ -15,10 +16,14 @@ double legendre_normalization(Normalization normalization, int n, int m) {
   for (int k = n - m + 1; k <= n + m; ++k) ratio /= std::sqrt(double(k));
   const double delta = m == 0 ? 1.0 : 2.0;
   switch (normalization) {
-    case Normalization::schmidt: return std::sqrt(delta) * ratio;
-    case Normalization::fully: return std::sqrt(delta * (2.0 * n + 1.0)) * ratio;
-    case Normalization::orthonormal: return std::sqrt(delta * (2.0 * n + 1.0) / (4.0 * M_PI)) * ratio;
-    case Normalization::unnormalized: break;
+    case Normalization::schmidt:
+      return std::sqrt(delta) * ratio;
+    case Normalization::fully:
+      return std::sqrt(delta * (2.0 * n + 1.0)) * ratio;
+    case Normalization::orthonormal:
+      return std::sqrt(delta * (2.0 * n + 1.0) / (4.0 * M_PI)) * ratio;
+    case Normalization::unnormalized:
+      break;
   }
   return 1.0;
 }
@@ -28,10 +33,14 @@ namespace {
 // N_X / N_fully for the three normalized conventions, without the common factorial part.
 double relative_to_fully(Normalization normalization, int n) {
   switch (normalization) {
-    case Normalization::fully: return 1.0;
-    case Normalization::schmidt: return 1.0 / std::sqrt(2.0 * n + 1.0);
-    case Normalization::orthonormal: return 1.0 / std::sqrt(4.0 * M_PI);
-    case Normalization::unnormalized: break;
+    case Normalization::fully:
+      return 1.0;
+    case Normalization::schmidt:
+      return 1.0 / std::sqrt(2.0 * n + 1.0);
+    case Normalization::orthonormal:
+      return 1.0 / std::sqrt(4.0 * M_PI);
+    case Normalization::unnormalized:
+      break;
   }
   throw ConventionError("unnormalized has no finite ratio to fully normalized at every degree");
 }
@@ -44,7 +53,8 @@ double coefficient_factor(const Convention& from, const Convention& to, int n, i
   double factor = 1.0;
   if (from.normalization != to.normalization) {
     if (from.normalization == Normalization::unnormalized || to.normalization == Normalization::unnormalized)
-      factor = legendre_normalization(from.normalization, n, m) / legendre_normalization(to.normalization, n, m);
+      factor =
+          legendre_normalization(from.normalization, n, m) / legendre_normalization(to.normalization, n, m);
     else
       factor = relative_to_fully(from.normalization, n) / relative_to_fully(to.normalization, n);
   }
@@ -80,10 +90,18 @@ CoefficientSet convert_convention(const CoefficientSet& set, const Convention& t
 std::string describe(const Convention& convention) {
   std::string text;
   switch (convention.normalization) {
-    case Normalization::fully: text = "fully normalized (4pi)"; break;
-    case Normalization::unnormalized: text = "unnormalized"; break;
-    case Normalization::schmidt: text = "Schmidt semi-normalized"; break;
-    case Normalization::orthonormal: text = "orthonormal"; break;
+    case Normalization::fully:
+      text = "fully normalized (4pi)";
+      break;
+    case Normalization::unnormalized:
+      text = "unnormalized";
+      break;
+    case Normalization::schmidt:
+      text = "Schmidt semi-normalized";
+      break;
+    case Normalization::orthonormal:
+      text = "orthonormal";
+      break;
   }
   text += convention.condon_shortley ? ", Condon-Shortley phase" : ", no Condon-Shortley phase";
   text += convention.zonal_as_j ? ", zonal as J_n = -C_n0" : ", zonal as C_n0";
@@ -99,8 +117,8 @@ std::string short_name(const Convention& convention) {
 
 std::vector<Convention> all_conventions() {
   std::vector<Convention> out;
-  for (Normalization normalization :
-       {Normalization::fully, Normalization::unnormalized, Normalization::schmidt, Normalization::orthonormal})
+  for (Normalization normalization : {Normalization::fully, Normalization::unnormalized,
+                                      Normalization::schmidt, Normalization::orthonormal})
     for (bool phase : {false, true})
       for (bool zonal : {false, true}) out.push_back(Convention{normalization, phase, zonal});
   return out;

@@ -1,11 +1,12 @@
 #include "table_import.h"
 
+#include <fmt/format.h>
+
 #include <algorithm>
 #include <cctype>
 #include <charconv>
 #include <cmath>
 #include <filesystem>
-#include <fmt/format.h>
 #include <map>
 
 #include "conventions.h"
@@ -21,13 +22,20 @@ constexpr int max_table_degree = 20000;  // same bound as compute's memory guard
 
 const char* column_name(TableColumn column) {
   switch (column) {
-    case TableColumn::n: return "n";
-    case TableColumn::m: return "m";
-    case TableColumn::C: return "C";
-    case TableColumn::S: return "S";
-    case TableColumn::sigma_C: return "sigma_C";
-    case TableColumn::sigma_S: return "sigma_S";
-    case TableColumn::skip: return "skip";
+    case TableColumn::n:
+      return "n";
+    case TableColumn::m:
+      return "m";
+    case TableColumn::C:
+      return "C";
+    case TableColumn::S:
+      return "S";
+    case TableColumn::sigma_C:
+      return "sigma_C";
+    case TableColumn::sigma_S:
+      return "sigma_S";
+    case TableColumn::skip:
+      return "skip";
   }
   return "skip";
 }
@@ -46,9 +54,11 @@ std::vector<std::string> split_fields(const std::string& line, const std::string
   const bool has_comma = line.find(',') != std::string::npos;
   while (true) {
     const size_t comma = line.find(',', start);
-    const std::string piece = line.substr(start, comma == std::string::npos ? std::string::npos : comma - start);
+    const std::string piece =
+        line.substr(start, comma == std::string::npos ? std::string::npos : comma - start);
     const std::string trimmed = trim(piece);
-    if (has_comma && trimmed.empty()) throw format_error(source, number, "empty field (two commas in a row, or a comma at an end)");
+    if (has_comma && trimmed.empty())
+      throw format_error(source, number, "empty field (two commas in a row, or a comma at an end)");
     size_t pos = 0;
     while (pos < trimmed.size()) {
       while (pos < trimmed.size() && std::isspace(static_cast<unsigned char>(trimmed[pos]))) ++pos;
@@ -74,7 +84,8 @@ double parse_real(std::string field, const char* what, const std::string& source
   const auto result = std::from_chars(begin, end, value);
   if (result.ec != std::errc() || result.ptr != end || field.empty())
     throw format_error(source, number, fmt::format("{} '{}' is not a number", what, original));
-  if (!std::isfinite(value)) throw format_error(source, number, fmt::format("{} '{}' is not finite", what, original));
+  if (!std::isfinite(value))
+    throw format_error(source, number, fmt::format("{} '{}' is not finite", what, original));
   return value;
 }
 
@@ -119,10 +130,11 @@ std::vector<TableColumn> parse_table_columns(const std::string& text) {
   size_t start = 0;
   while (true) {
     const size_t comma = text.find(',', start);
-    const std::string name = trim(text.substr(start, comma == std::string::npos ? std::string::npos : comma - start));
+    const std::string name =
+        trim(text.substr(start, comma == std::string::npos ? std::string::npos : comma - start));
     bool known = false;
-    for (TableColumn column : {TableColumn::n, TableColumn::m, TableColumn::C, TableColumn::S, TableColumn::sigma_C,
-                               TableColumn::sigma_S, TableColumn::skip}) {
+    for (TableColumn column : {TableColumn::n, TableColumn::m, TableColumn::C, TableColumn::S,
+                               TableColumn::sigma_C, TableColumn::sigma_S, TableColumn::skip}) {
       if (name == column_name(column)) {
         if (column != TableColumn::skip && std::count(columns.begin(), columns.end(), column))
           throw ConventionError(fmt::format("--columns '{}': column {} given twice", text, name));
@@ -131,8 +143,10 @@ std::vector<TableColumn> parse_table_columns(const std::string& text) {
       }
     }
     if (!known)
-      throw ConventionError(fmt::format("--columns '{}': unknown column '{}' (expected n, m, C, S, sigma_C, "
-                                        "sigma_S or skip)", text, name));
+      throw ConventionError(
+          fmt::format("--columns '{}': unknown column '{}' (expected n, m, C, S, sigma_C, "
+                      "sigma_S or skip)",
+                      text, name));
     if (comma == std::string::npos) break;
     start = comma + 1;
   }
@@ -148,13 +162,15 @@ std::string to_string(const std::vector<TableColumn>& columns) {
   return text;
 }
 
-CoefficientSet parse_table(const std::string& text, const std::string& source_name, const TableImportOptions& options) {
+CoefficientSet parse_table(const std::string& text, const std::string& source_name,
+                           const TableImportOptions& options) {
   check_declarations(options);
   auto column_index = [&](TableColumn column) -> int {
     const auto it = std::find(options.columns.begin(), options.columns.end(), column);
     return it == options.columns.end() ? -1 : int(it - options.columns.begin());
   };
-  const int i_n = column_index(TableColumn::n), i_m = column_index(TableColumn::m), i_c = column_index(TableColumn::C);
+  const int i_n = column_index(TableColumn::n), i_m = column_index(TableColumn::m),
+            i_c = column_index(TableColumn::C);
   const int i_s = column_index(TableColumn::S), i_sc = column_index(TableColumn::sigma_C),
             i_ss = column_index(TableColumn::sigma_S);
 
@@ -185,10 +201,14 @@ CoefficientSet parse_table(const std::string& text, const std::string& source_na
                                      to_string(options.columns), options.columns.size()));
     const long n = parse_index(fields[size_t(i_n)], "n", source_name, line_number);
     const long m = parse_index(fields[size_t(i_m)], "m", source_name, line_number);
-    if (n < 0 || m < 0) throw format_error(source_name, line_number, fmt::format("negative degree or order (n = {}, m = {})", n, m));
-    if (m > n) throw format_error(source_name, line_number, fmt::format("order m = {} exceeds degree n = {}", m, n));
+    if (n < 0 || m < 0)
+      throw format_error(source_name, line_number,
+                         fmt::format("negative degree or order (n = {}, m = {})", n, m));
+    if (m > n)
+      throw format_error(source_name, line_number, fmt::format("order m = {} exceeds degree n = {}", m, n));
     if (n > max_table_degree)
-      throw format_error(source_name, line_number, fmt::format("degree {} exceeds the supported {}", n, max_table_degree));
+      throw format_error(source_name, line_number,
+                         fmt::format("degree {} exceeds the supported {}", n, max_table_degree));
     Row row;
     row.line = line_number;
     row.c = parse_real(fields[size_t(i_c)], "C", source_name, line_number);
@@ -197,24 +217,29 @@ CoefficientSet parse_table(const std::string& text, const std::string& source_na
     if (i_ss >= 0) row.sigma_s = parse_real(fields[size_t(i_ss)], "sigma_S", source_name, line_number);
     if (row.sigma_c < 0 || row.sigma_s < 0) throw format_error(source_name, line_number, "negative sigma");
     if (m == 0 && (row.s != 0 || row.sigma_s != 0))
-      throw format_error(source_name, line_number, fmt::format("S or sigma_S is not 0 for m = 0 (n = {})", n));
+      throw format_error(source_name, line_number,
+                         fmt::format("S or sigma_S is not 0 for m = 0 (n = {})", n));
     const auto inserted = rows.emplace(std::make_pair(n, m), row);
     if (!inserted.second)
-      throw format_error(source_name, line_number, fmt::format("row n = {}, m = {} repeats line {}", n, m,
-                                                               inserted.first->second.line));
+      throw format_error(
+          source_name, line_number,
+          fmt::format("row n = {}, m = {} repeats line {}", n, m, inserted.first->second.line));
   }
   if (rows.empty()) throw format_error(source_name, 0, "no coefficient rows");
 
   const int degree = int(rows.rbegin()->first.first);
   const int lowest = int(rows.begin()->first.first);
   if (lowest > 2)
-    throw format_error(source_name, 0, fmt::format("no rows below degree {}: a table must start at degree 0, 1 or 2",
-                                                   lowest));
+    throw format_error(
+        source_name, 0,
+        fmt::format("no rows below degree {}: a table must start at degree 0, 1 or 2", lowest));
   for (int n = lowest; n <= degree; ++n)
     for (int m = 0; m <= n; ++m)
       if (!rows.count({n, m}))
-        throw format_error(source_name, 0, fmt::format("no row for n = {}, m = {} (rows must cover every order of "
-                                                       "degrees {}..{})", n, m, lowest, degree));
+        throw format_error(source_name, 0,
+                           fmt::format("no row for n = {}, m = {} (rows must cover every order of "
+                                       "degrees {}..{})",
+                                       n, m, lowest, degree));
 
   CoefficientSet set = make_empty_set(degree);
   set.convention = Convention{*options.normalization, *options.condon_shortley, options.zonal_as_j};
@@ -230,25 +255,29 @@ CoefficientSet parse_table(const std::string& text, const std::string& source_na
   set.body = options.body.empty() ? std::filesystem::path(source_name).filename().string() : options.body;
   set.length_unit = to_string(options.unit);
   set.created = std::string("imported from a table by polystokes ") + POLYSTOKES_VERSION;
-  set.history.push_back(fmt::format(
-      "imported from table {} (columns {}, {}, reference radius {} {}, GM {} {}^3 s^-2)", source_name,
-      to_string(options.columns), describe(set.convention), *options.reference_radius, to_string(options.unit),
-      *options.gm, to_string(options.unit)));
+  set.history.push_back(
+      fmt::format("imported from table {} (columns {}, {}, reference radius {} {}, GM {} {}^3 s^-2)",
+                  source_name, to_string(options.columns), describe(set.convention),
+                  *options.reference_radius, to_string(options.unit), *options.gm, to_string(options.unit)));
   if (lowest > 0) {
     // C00 = 1 in every normalization; in J form the stored value is -1.
     set.C(0, 0) = options.zonal_as_j ? -1.0 : 1.0;
     set.history.push_back(fmt::format("{}: no degree-0 row, C00 = 1 (GM is the total)", source_name));
   }
-  if (lowest > 1) set.history.push_back(fmt::format("{}: no degree-1 rows, degree-1 terms set to 0", source_name));
+  if (lowest > 1)
+    set.history.push_back(fmt::format("{}: no degree-1 rows, degree-1 terms set to 0", source_name));
   const double c00 = options.zonal_as_j ? -set.C(0, 0) : set.C(0, 0);
   if (!(c00 > 0))
-    throw format_error(source_name, rows.begin()->second.line,
-                       fmt::format("C00 = {} is not positive{}", c00,
-                                   options.zonal_as_j ? " (with --zonal-j the degree-0 row holds J_0 = -C00)" : ""));
+    throw format_error(
+        source_name, rows.begin()->second.line,
+        fmt::format("C00 = {} is not positive{}", c00,
+                    options.zonal_as_j ? " (with --zonal-j the degree-0 row holds J_0 = -C00)" : ""));
   // Same reading of the degree-1 terms as shift_origin: a centre of mass within 1e-9 R means "com".
   set.origin = center_of_mass_offset(set).norm() <= 1e-9 * set.reference_radius ? "com" : "shifted";
-  set.notes.push_back(fmt::format("Imported from the table {}: frame and origin are the table's own; "
-                                  "the Brillouin radius, mass and regions are not known.", source_name));
+  set.notes.push_back(
+      fmt::format("Imported from the table {}: frame and origin are the table's own; "
+                  "the Brillouin radius, mass and regions are not known.",
+                  source_name));
   return set;
 }
 

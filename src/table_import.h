@@ -17,16 +17,16 @@ enum class TableColumn { n, m, C, S, sigma_C, sigma_S, skip };
 /// What the user declares about a table. Everything that changes the numbers has no default: a missing
 /// declaration is an error naming the option of `polystokes convert` that supplies it.
 struct TableImportOptions {
-  std::vector<TableColumn> columns;             ///< --columns; must hold n, m and C, each once
-  std::string comment = "#";                    ///< --comment: text from this prefix to the line end is ignored
-  int skip_lines = 0;                           ///< --skip-lines: header lines ignored before any parsing
-  std::optional<Normalization> normalization;   ///< --normalization
-  std::optional<bool> condon_shortley;          ///< --condon-shortley / --no-condon-shortley
-  bool zonal_as_j = false;                      ///< --zonal-j: the m = 0 values are J_n = -C_n0 (n = 0 too)
-  std::optional<double> reference_radius;       ///< --ref-radius, in `unit`
-  std::optional<double> gm;                     ///< --gm, in unit^3 s^-2
-  LengthUnit unit = LengthUnit::meter;          ///< --unit: of the radius and of GM
-  std::string body;                             ///< label; default: the file name
+  std::vector<TableColumn> columns;  ///< --columns; must hold n, m and C, each once
+  std::string comment = "#";         ///< --comment: text from this prefix to the line end is ignored
+  int skip_lines = 0;                ///< --skip-lines: header lines ignored before any parsing
+  std::optional<Normalization> normalization;  ///< --normalization
+  std::optional<bool> condon_shortley;         ///< --condon-shortley / --no-condon-shortley
+  bool zonal_as_j = false;                     ///< --zonal-j: the m = 0 values are J_n = -C_n0 (n = 0 too)
+  std::optional<double> reference_radius;      ///< --ref-radius, in `unit`
+  std::optional<double> gm;                    ///< --gm, in unit^3 s^-2
+  LengthUnit unit = LengthUnit::meter;         ///< --unit: of the radius and of GM
+  std::string body;                            ///< label; default: the file name
 };
 
 /// Parses "n,m,C,S,sigma_C,sigma_S,skip"-style lists (names case-sensitive as shown, comma separated).
@@ -44,7 +44,8 @@ std::string to_string(const std::vector<TableColumn>& columns);
 /// zeros. Throws ConventionError naming every missing declaration, FormatError "source:line: problem" for
 /// non-numeric or non-finite fields, negative sigmas, n or m not integers, m > n, a non-zero S for m = 0,
 /// repeated (n, m), and "source: no row for n = .., m = .." for gaps. O(lines).
-CoefficientSet parse_table(const std::string& text, const std::string& source_name, const TableImportOptions& options);
+CoefficientSet parse_table(const std::string& text, const std::string& source_name,
+                           const TableImportOptions& options);
 
 /// parse_table of a whole file (read_file; "-" = stdin).
 CoefficientSet read_table(const std::string& path, const TableImportOptions& options);

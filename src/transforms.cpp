@@ -1,9 +1,10 @@
 #include "transforms.h"
 
+#include <fmt/format.h>
+
 #include <Eigen/Dense>
 #include <cmath>
 #include <complex>
-#include <fmt/format.h>
 
 #include "conventions.h"
 #include "errors.h"
@@ -29,17 +30,21 @@ void check_matrices(const CoefficientSet& set) {
 std::string vector_text(const Eigen::Vector3d& v) { return fmt::format("({}, {}, {})", v.x(), v.y(), v.z()); }
 
 std::string matrix_text(const Eigen::Matrix3d& q) {
-  return fmt::format("[[{}, {}, {}], [{}, {}, {}], [{}, {}, {}]]", q(0, 0), q(0, 1), q(0, 2), q(1, 0), q(1, 1),
-                     q(1, 2), q(2, 0), q(2, 1), q(2, 2));
+  return fmt::format("[[{}, {}, {}], [{}, {}, {}], [{}, {}, {}]]", q(0, 0), q(0, 1), q(0, 2), q(1, 0),
+                     q(1, 1), q(1, 2), q(2, 0), q(2, 1), q(2, 2));
 }
 
 // i^p for any integer p.
 Complex i_power(int p) {
   switch (((p % 4) + 4) % 4) {
-    case 0: return {1, 0};
-    case 1: return {0, 1};
-    case 2: return {-1, 0};
-    default: return {0, -1};
+    case 0:
+      return {1, 0};
+    case 1:
+      return {0, 1};
+    case 2:
+      return {-1, 0};
+    default:
+      return {0, -1};
   }
 }
 
@@ -47,10 +52,11 @@ void check_rotation(const Eigen::Matrix3d& q) {
   if (!q.allFinite()) throw ConventionError("rotation matrix has non-finite entries");
   const double orthogonality = (q * q.transpose() - Eigen::Matrix3d::Identity()).cwiseAbs().maxCoeff();
   if (orthogonality > 1e-10)
-    throw ConventionError(fmt::format("matrix {} is not orthogonal (|Q Q^T - 1| = {:.3g})", matrix_text(q),
-                                      orthogonality));
+    throw ConventionError(
+        fmt::format("matrix {} is not orthogonal (|Q Q^T - 1| = {:.3g})", matrix_text(q), orthogonality));
   if (q.determinant() < 0)
-    throw ConventionError(fmt::format("matrix {} is a reflection (determinant -1), not a rotation", matrix_text(q)));
+    throw ConventionError(
+        fmt::format("matrix {} is a reflection (determinant -1), not a rotation", matrix_text(q)));
 }
 
 }  // namespace
@@ -80,7 +86,8 @@ CoefficientSet rescale_reference_radius(const CoefficientSet& set, double radius
 
 CoefficientSet rescale_gm(const CoefficientSet& set, double gm) {
   check_matrices(set);
-  if (!(gm > 0) || !std::isfinite(gm)) throw ConventionError(fmt::format("new GM must be positive, got {}", gm));
+  if (!(gm > 0) || !std::isfinite(gm))
+    throw ConventionError(fmt::format("new GM must be positive, got {}", gm));
   if (!(set.gm > 0)) throw ConventionError("the set has no GM; it cannot be rescaled");
   CoefficientSet out = set;
   const double factor = set.gm / gm;
@@ -99,7 +106,8 @@ Eigen::Vector3d center_of_mass_offset(const CoefficientSet& set) {
   if (set.degree < 1) return Eigen::Vector3d::Zero();
   const CoefficientSet work = expressed_in(set, working_convention);
   if (work.C(0, 0) == 0) throw ConventionError("C00 is zero; the centre of mass is undefined");
-  return std::sqrt(3.0) * set.reference_radius / work.C(0, 0) * Eigen::Vector3d(work.C(1, 1), work.S(1, 1), work.C(1, 0));
+  return std::sqrt(3.0) * set.reference_radius / work.C(0, 0) *
+         Eigen::Vector3d(work.C(1, 1), work.S(1, 1), work.C(1, 0));
 }
 
 // Translation. With G_n^m(x) the coefficient of e^{-imu} in l_u(x)^n / n!, l_u(x) = z + i(x cos u + y sin u)
@@ -113,30 +121,34 @@ Eigen::Vector3d center_of_mass_offset(const CoefficientSet& set) {
 // Lengths are in units of the reference radius and masses in units of M, so
 //   mu^_n^m = i^m sqrt((2n+1)/(2-d_m0)) (C + iS)_nm  (fully normalized),
 //   G^_n^m(x) = i^m r^n Pbar_nm(sin lat) e^{im lon} / sqrt((2-d_m0)(2n+1)).
-CoefficientSet shift_origin(const CoefficientSet& set, const Eigen::Vector3d& shift, const ShiftOptions& options) {
+CoefficientSet shift_origin(const CoefficientSet& set, const Eigen::Vector3d& shift,
+                            const ShiftOptions& options) {
   check_matrices(set);
   constexpr int max_shift_degree = 500;
   if (set.degree > max_shift_degree)
     throw ResourceError(fmt::format("shifting a degree-{} set is O(degree^4) work; refusing above degree {}",
                                     set.degree, max_shift_degree));
   if (!shift.allFinite()) throw ConventionError("shift vector has non-finite components");
-  if (!(set.reference_radius > 0)) throw ConventionError("the set has no reference radius; it cannot be shifted");
+  if (!(set.reference_radius > 0))
+    throw ConventionError("the set has no reference radius; it cannot be shifted");
   const bool known_brillouin = set.brillouin_radius > 0;
   const double brillouin = known_brillouin ? set.brillouin_radius : set.reference_radius;
   const double length = shift.norm();
   const bool outside = length > brillouin;
   if (outside && !options.allow_outside)
     throw ConventionError(fmt::format(
-        "a shift of {:.9g} m moves the expansion origin outside the {} ({:.9g} m) of '{}'; the shifted series "
+        "a shift of {:.9g} m moves the expansion origin outside the {} ({:.9g} m) of '{}'; the shifted "
+        "series "
         "would hold only outside {:.9g} m about the new origin (use --allow-outside to proceed anyway)",
-        length, known_brillouin ? "Brillouin sphere" : "reference sphere (Brillouin radius unknown)", brillouin,
-        set.body, brillouin + length));
+        length, known_brillouin ? "Brillouin sphere" : "reference sphere (Brillouin radius unknown)",
+        brillouin, set.body, brillouin + length));
 
   const int N = set.degree;
   const double R = set.reference_radius;
   const CoefficientSet work = expressed_in(set, working_convention);
 
-  // sqrt(binom(a, b)) for a <= 2N from Pascal's triangle (exact integers up to 2^53, one rounding per step after).
+  // sqrt(binom(a, b)) for a <= 2N from Pascal's triangle (exact integers up to 2^53, one rounding per step
+  // after).
   std::vector<std::vector<double>> root_binomial(size_t(2 * N + 1));
   {
     std::vector<double> row{1.0};
@@ -190,7 +202,8 @@ CoefficientSet shift_origin(const CoefficientSet& set, const Eigen::Vector3d& sh
           Complex z1(0, 0), z2(0, 0);
           const Complex alpha = i_power(lp) * s_factor(k, lp);
           const int q1 = m - lp;
-          if (q1 >= -j && q1 <= j) z1 = beta * weight(n + m, k + lp) * weight(n - m, k - lp) * g_at(j, q1) * alpha;
+          if (q1 >= -j && q1 <= j)
+            z1 = beta * weight(n + m, k + lp) * weight(n - m, k - lp) * g_at(j, q1) * alpha;
           const int q2 = m + lp;
           if (lp > 0 && q2 <= j)
             z2 = beta * weight(n + m, k - lp) * weight(n - m, k + lp) * g_at(j, q2) * (lp % 2 ? -1.0 : 1.0) *
@@ -201,7 +214,8 @@ CoefficientSet shift_origin(const CoefficientSet& set, const Eigen::Vector3d& sh
           const double c_in = work.C(k, lp), s_in = work.S(k, lp);
           c_out += cc * c_in + cs * s_in;
           s_out += sc * c_in + ss * s_in;
-          const double vc = work.sigma_C(k, lp) * work.sigma_C(k, lp), vs = work.sigma_S(k, lp) * work.sigma_S(k, lp);
+          const double vc = work.sigma_C(k, lp) * work.sigma_C(k, lp),
+                       vs = work.sigma_S(k, lp) * work.sigma_S(k, lp);
           var_c += cc * cc * vc + cs * cs * vs;
           var_s += sc * sc * vc + ss * ss * vs;
         }
@@ -225,17 +239,19 @@ CoefficientSet shift_origin(const CoefficientSet& set, const Eigen::Vector3d& sh
   else
     out.origin = "shifted";
   if (known_brillouin) out.brillouin_radius = brillouin + length;
-  out.history.push_back(fmt::format("expansion origin shifted by {} m (set frame) to {} m (mesh frame), exact "
-                                    "translation of degrees 0..{}",
-                                    vector_text(shift), vector_text(out.origin_in_mesh), N));
-  out.notes.push_back(fmt::format("After the origin shift of {:.9g} m the series converges only outside "
-                                  "{:.9g} m about the new origin ({} radius {:.9g} m plus the shift length).",
-                                  length, brillouin + length, known_brillouin ? "old Brillouin" : "reference",
-                                  brillouin));
+  out.history.push_back(
+      fmt::format("expansion origin shifted by {} m (set frame) to {} m (mesh frame), exact "
+                  "translation of degrees 0..{}",
+                  vector_text(shift), vector_text(out.origin_in_mesh), N));
+  out.notes.push_back(
+      fmt::format("After the origin shift of {:.9g} m the series converges only outside "
+                  "{:.9g} m about the new origin ({} radius {:.9g} m plus the shift length).",
+                  length, brillouin + length, known_brillouin ? "old Brillouin" : "reference", brillouin));
   if (outside)
-    out.notes.push_back(fmt::format("CAUTION: the shift ({:.9g} m) is longer than the {} radius ({:.9g} m): "
-                                    "the new origin lies outside the body's bounding sphere.",
-                                    length, known_brillouin ? "Brillouin" : "reference", brillouin));
+    out.notes.push_back(
+        fmt::format("CAUTION: the shift ({:.9g} m) is longer than the {} radius ({:.9g} m): "
+                    "the new origin lies outside the body's bounding sphere.",
+                    length, known_brillouin ? "Brillouin" : "reference", brillouin));
   return out;
 }
 
@@ -248,100 +264,102 @@ CoefficientSet shift_origin(const CoefficientSet& set, const Eigen::Vector3d& sh
 //                                          - l sqrt(((l-1)^2-mu^2)((l-1)^2-nu^2)) d^{l-2}
 // (Varshalovich, Moskalev & Khersonskii 1988, Quantum Theory of Angular Momentum, sec. 4.8.2; from memory)
 // from the border values at l = max(|mu|, |nu|),
-//   d^l_{l,nu} = (-1)^(l-nu) B(l,nu),  d^l_{nu,l} = B(l,nu),  d^l_{-l,nu} = B(l,-nu),  d^l_{nu,-l} = (-1)^(l+nu) B(l,-nu),
-//   B(l,nu) = sqrt(binom(2l, l+nu)) cos(beta/2)^(l+nu) sin(beta/2)^(l-nu)  (Wigner's closed form, ibid. sec. 4.3).
+//   d^l_{l,nu} = (-1)^(l-nu) B(l,nu),  d^l_{nu,l} = B(l,nu),  d^l_{-l,nu} = B(l,-nu),  d^l_{nu,-l} =
+//   (-1)^(l+nu) B(l,-nu), B(l,nu) = sqrt(binom(2l, l+nu)) cos(beta/2)^(l+nu) sin(beta/2)^(l-nu)  (Wigner's
+//   closed form, ibid. sec. 4.3).
 // For fixed orders this is the recurrence of Jacobi polynomials in cos(beta), stable upwards like the
 // Legendre recursions; B is carried from degree to degree by one bounded factor, so nothing overflows.
 // (The Ivanic & Ruedenberg 1996 recursion for real harmonics was tried first; in double precision it
 // loses about a tenth of a digit per degree, ~1e-8 at degree 100, so it serves only as a test reference.)
 // With Y^mu the orthonormal complex harmonics (Condon-Shortley phase included) and Pbar the 4pi functions,
-// Z_mu = sqrt(4pi) eps_mu Y^mu = Pbar_{l|mu|} e^{i mu lon} / sqrt(2 - d_mu0), eps_mu = (-1)^mu for mu > 0 and 1
-// otherwise; the real harmonics are Y_k = (Z_k + Z_-k)/sqrt(2), Y_-k = (Z_k - Z_-k)/(i sqrt(2)), Y_0 = Z_0.
+// Z_mu = sqrt(4pi) eps_mu Y^mu = Pbar_{l|mu|} e^{i mu lon} / sqrt(2 - d_mu0), eps_mu = (-1)^mu for mu > 0 and
+// 1 otherwise; the real harmonics are Y_k = (Z_k + Z_-k)/sqrt(2), Y_-k = (Z_k - Z_-k)/(i sqrt(2)), Y_0 = Z_0.
 RealWignerD::RealWignerD(const Eigen::Matrix3d& q) {
-    check_rotation(q);
-    // Rz(a) Ry(b) Rz(g): q00 + q11 = (1 + cos b) cos(a + g), q10 - q01 = (1 + cos b) sin(a + g),
-    // q00 - q11 = (cos b - 1) cos(a - g), q10 + q01 = (cos b - 1) sin(a - g), (q02, q12) = sin b (cos a, sin a),
-    // (q20, q21) = sin b (-cos g, sin g). The angle combination that matters near b = 0 (a + g) is taken from
-    // the upper block, the one that matters near b = pi (a - g) likewise, and the other from the third
-    // row and column, whose error is damped by the same small factor; so Q is reproduced to rounding.
-    beta_ = std::atan2(std::hypot(q(0, 2), q(1, 2)), q(2, 2));
-    const double a_column = std::atan2(q(1, 2), q(0, 2)), g_row = std::atan2(q(2, 1), -q(2, 0));
-    double sum, difference;
-    if (q(2, 2) >= 0) {
-      sum = std::atan2(q(1, 0) - q(0, 1), q(0, 0) + q(1, 1));
-      difference = a_column - g_row;
-    } else {
-      sum = a_column + g_row;
-      difference = std::atan2(-(q(1, 0) + q(0, 1)), -(q(0, 0) - q(1, 1)));
-    }
-    alpha_ = 0.5 * (sum + difference);
-    gamma_ = 0.5 * (sum - difference);
-    // (a, g) and (a + pi, g + pi) give the same sum and difference modulo 2 pi; the third column decides.
-    if (std::cos(alpha_) * q(0, 2) + std::sin(alpha_) * q(1, 2) < 0) {
-      alpha_ += M_PI;
-      gamma_ += M_PI;
-    }
-    cos_beta_ = std::cos(beta_);
-    cos_half_ = std::cos(beta_ / 2);
-    sin_half_ = std::sin(beta_ / 2);
+  check_rotation(q);
+  // Rz(a) Ry(b) Rz(g): q00 + q11 = (1 + cos b) cos(a + g), q10 - q01 = (1 + cos b) sin(a + g),
+  // q00 - q11 = (cos b - 1) cos(a - g), q10 + q01 = (cos b - 1) sin(a - g), (q02, q12) = sin b (cos a, sin
+  // a), (q20, q21) = sin b (-cos g, sin g). The angle combination that matters near b = 0 (a + g) is taken
+  // from the upper block, the one that matters near b = pi (a - g) likewise, and the other from the third row
+  // and column, whose error is damped by the same small factor; so Q is reproduced to rounding.
+  beta_ = std::atan2(std::hypot(q(0, 2), q(1, 2)), q(2, 2));
+  const double a_column = std::atan2(q(1, 2), q(0, 2)), g_row = std::atan2(q(2, 1), -q(2, 0));
+  double sum, difference;
+  if (q(2, 2) >= 0) {
+    sum = std::atan2(q(1, 0) - q(0, 1), q(0, 0) + q(1, 1));
+    difference = a_column - g_row;
+  } else {
+    sum = a_column + g_row;
+    difference = std::atan2(-(q(1, 0) + q(0, 1)), -(q(0, 0) - q(1, 1)));
+  }
+  alpha_ = 0.5 * (sum + difference);
+  gamma_ = 0.5 * (sum - difference);
+  // (a, g) and (a + pi, g + pi) give the same sum and difference modulo 2 pi; the third column decides.
+  if (std::cos(alpha_) * q(0, 2) + std::sin(alpha_) * q(1, 2) < 0) {
+    alpha_ += M_PI;
+    gamma_ += M_PI;
+  }
+  cos_beta_ = std::cos(beta_);
+  cos_half_ = std::cos(beta_ / 2);
+  sin_half_ = std::sin(beta_ / 2);
 }
 
 const Eigen::MatrixXd& RealWignerD::next() {
-    ++l_;
-    advance_wigner_d();
-    build_real();
-    return real_;
+  ++l_;
+  advance_wigner_d();
+  build_real();
+  return real_;
 }
 
-
 void RealWignerD::advance_wigner_d() {
-    const int l = l_;
-    // Border factors B(l, nu), nu = -l..l.
-    std::vector<double> border(size_t(2 * l + 1));
-    if (l == 0) {
-      border[0] = 1;
-    } else if (l == 1) {
-      border[0] = sin_half_ * sin_half_;
-      border[1] = std::sqrt(2.0) * cos_half_ * sin_half_;
-      border[2] = cos_half_ * cos_half_;
-    } else {
-      const double c2 = cos_half_ * cos_half_, s2 = sin_half_ * sin_half_, top = 2.0 * l * (2.0 * l - 1.0);
-      for (int nu = -l; nu <= l; ++nu) {
-        border[size_t(nu + l)] =
-            nu >= 0 ? border_[size_t(nu - 1 + l - 1)] * std::sqrt(top / ((l + nu) * (l + nu - 1.0))) * c2
-                    : border_[size_t(nu + 1 + l - 1)] * std::sqrt(top / ((l - nu) * (l - nu - 1.0))) * s2;
+  const int l = l_;
+  // Border factors B(l, nu), nu = -l..l.
+  std::vector<double> border(size_t(2 * l + 1));
+  if (l == 0) {
+    border[0] = 1;
+  } else if (l == 1) {
+    border[0] = sin_half_ * sin_half_;
+    border[1] = std::sqrt(2.0) * cos_half_ * sin_half_;
+    border[2] = cos_half_ * cos_half_;
+  } else {
+    const double c2 = cos_half_ * cos_half_, s2 = sin_half_ * sin_half_, top = 2.0 * l * (2.0 * l - 1.0);
+    for (int nu = -l; nu <= l; ++nu) {
+      border[size_t(nu + l)] =
+          nu >= 0 ? border_[size_t(nu - 1 + l - 1)] * std::sqrt(top / ((l + nu) * (l + nu - 1.0))) * c2
+                  : border_[size_t(nu + 1 + l - 1)] * std::sqrt(top / ((l - nu) * (l - nu - 1.0))) * s2;
+    }
+  }
+  Eigen::MatrixXd d(2 * l + 1, 2 * l + 1);
+  // Interior by the recurrence (root[k] = sqrt(l^2 - k^2), root1[k] = sqrt((l-1)^2 - k^2)), then the border.
+  if (l >= 2) {
+    std::vector<double> root(size_t(l + 1)), root1(size_t(l + 1));
+    for (int k = 0; k <= l; ++k) {
+      root[size_t(k)] = std::sqrt(double(l - k) * (l + k));
+      root1[size_t(k)] = k <= l - 1 ? std::sqrt(double(l - 1 - k) * (l - 1 + k)) : 0.0;
+    }
+    const double lead = (2.0 * l - 1.0), lower = 1.0 / (l - 1.0);
+    for (int nu = -l + 1; nu <= l - 1; ++nu) {
+      const double rn = root[size_t(std::abs(nu))], rn1 = root1[size_t(std::abs(nu))];
+      for (int mu = -l + 1; mu <= l - 1; ++mu) {
+        const double prev2 =
+            std::abs(mu) <= l - 2 && std::abs(nu) <= l - 2 ? d2_(mu + l - 2, nu + l - 2) : 0.0;
+        d(mu + l, nu + l) =
+            (lead * ((l - 1.0) * l * cos_beta_ - double(mu) * nu) * d1_(mu + l - 1, nu + l - 1) -
+             l * root1[size_t(std::abs(mu))] * rn1 * prev2) *
+            lower / (root[size_t(std::abs(mu))] * rn);
       }
     }
-    Eigen::MatrixXd d(2 * l + 1, 2 * l + 1);
-    // Interior by the recurrence (root[k] = sqrt(l^2 - k^2), root1[k] = sqrt((l-1)^2 - k^2)), then the border.
-    if (l >= 2) {
-      std::vector<double> root(size_t(l + 1)), root1(size_t(l + 1));
-      for (int k = 0; k <= l; ++k) {
-        root[size_t(k)] = std::sqrt(double(l - k) * (l + k));
-        root1[size_t(k)] = k <= l - 1 ? std::sqrt(double(l - 1 - k) * (l - 1 + k)) : 0.0;
-      }
-      const double lead = (2.0 * l - 1.0), lower = 1.0 / (l - 1.0);
-      for (int nu = -l + 1; nu <= l - 1; ++nu) {
-        const double rn = root[size_t(std::abs(nu))], rn1 = root1[size_t(std::abs(nu))];
-        for (int mu = -l + 1; mu <= l - 1; ++mu) {
-          const double prev2 = std::abs(mu) <= l - 2 && std::abs(nu) <= l - 2 ? d2_(mu + l - 2, nu + l - 2) : 0.0;
-          d(mu + l, nu + l) = (lead * ((l - 1.0) * l * cos_beta_ - double(mu) * nu) * d1_(mu + l - 1, nu + l - 1) -
-                               l * root1[size_t(std::abs(mu))] * rn1 * prev2) *
-                              lower / (root[size_t(std::abs(mu))] * rn);
-        }
-      }
-    } else if (l == 1) {
-      d(1, 1) = cos_beta_;  // d^1_00
-    }
-    for (int k = -l; k <= l; ++k) {
-      d(l + l, k + l) = ((l - k) % 2 ? -1.0 : 1.0) * border[size_t(k + l)];  // d_{l,k}
-      d(k + l, l + l) = border[size_t(k + l)];                               // d_{k,l}
-      d(0, k + l) = border[size_t(-k + l)];                                  // d_{-l,k}
-      d(k + l, 0) = ((l + k) % 2 ? -1.0 : 1.0) * border[size_t(-k + l)];    // d_{k,-l}
-    }
-    border_.swap(border);
-    d2_.swap(d1_);
-    d1_.swap(d);
+  } else if (l == 1) {
+    d(1, 1) = cos_beta_;  // d^1_00
+  }
+  for (int k = -l; k <= l; ++k) {
+    d(l + l, k + l) = ((l - k) % 2 ? -1.0 : 1.0) * border[size_t(k + l)];  // d_{l,k}
+    d(k + l, l + l) = border[size_t(k + l)];                               // d_{k,l}
+    d(0, k + l) = border[size_t(-k + l)];                                  // d_{-l,k}
+    d(k + l, 0) = ((l + k) % 2 ? -1.0 : 1.0) * border[size_t(-k + l)];     // d_{k,-l}
+  }
+  border_.swap(border);
+  d2_.swap(d1_);
+  d1_.swap(d);
 }
 
 void RealWignerD::build_real() {
@@ -365,7 +383,8 @@ void RealWignerD::build_real() {
       sin_block(k, j) = k > 0 && j > 0 ? 0.5 * (dt(k, j) - dt(k, -j) - dt(-k, j) + dt(-k, -j)) : 0.0;
     }
   }
-  // D = Dz(alpha) Dy(beta) Dz(gamma); Dz(t) turns each pair (cos k, sin k) by [cos kt, -sin kt; sin kt, cos kt].
+  // D = Dz(alpha) Dy(beta) Dz(gamma); Dz(t) turns each pair (cos k, sin k) by [cos kt, -sin kt; sin kt, cos
+  // kt].
   std::vector<double> ca(size_t(l + 1)), sa(size_t(l + 1)), cg(size_t(l + 1)), sg(size_t(l + 1));
   for (int k = 0; k <= l; ++k) {
     ca[size_t(k)] = std::cos(k * alpha_);
@@ -378,7 +397,7 @@ void RealWignerD::build_real() {
     for (int k = 0; k <= l; ++k) {
       const double c = cos_block(k, j), s = sin_block(k, j);
       const double ck = ca[size_t(k)], sk = sa[size_t(k)], cj = cg[size_t(j)], sj = sg[size_t(j)];
-      real_(l + k, l + j) = ck * c * cj - sk * s * sj;                     // (cos k, cos j)
+      real_(l + k, l + j) = ck * c * cj - sk * s * sj;                      // (cos k, cos j)
       if (j > 0) real_(l + k, l - j) = -(ck * c * sj + sk * s * cj);        // (cos k, sin j)
       if (k > 0) real_(l - k, l + j) = sk * c * cj + ck * s * sj;           // (sin k, cos j)
       if (k > 0 && j > 0) real_(l - k, l - j) = ck * s * cj - sk * c * sj;  // (sin k, sin j)
@@ -386,7 +405,8 @@ void RealWignerD::build_real() {
   }
 }
 
-CoefficientSet rotate_set(const CoefficientSet& set, const Eigen::Matrix3d& rotation, const std::string& frame_label) {
+CoefficientSet rotate_set(const CoefficientSet& set, const Eigen::Matrix3d& rotation,
+                          const std::string& frame_label) {
   check_matrices(set);
   RealWignerD sequence(rotation);
   CoefficientSet work = expressed_in(set, working_convention);
@@ -415,8 +435,9 @@ CoefficientSet rotate_set(const CoefficientSet& set, const Eigen::Matrix3d& rota
   CoefficientSet out = expressed_in(work, set.convention);
   out.axes_in_mesh = rotation * set.axes_in_mesh;
   out.frame = frame_label;
-  out.history.push_back(fmt::format("axes rotated (real Wigner-D, degrees 0..{}): x_new = Q x_old with Q = {}",
-                                    set.degree, matrix_text(rotation)));
+  out.history.push_back(
+      fmt::format("axes rotated (real Wigner-D, degrees 0..{}): x_new = Q x_old with Q = {}", set.degree,
+                  matrix_text(rotation)));
   return out;
 }
 
@@ -454,8 +475,9 @@ Eigen::Matrix3d euler_zyz_matrix(double alpha, double beta, double gamma) {
 
 Eigen::Matrix3d principal_axes_rotation(const CoefficientSet& set) {
   check_matrices(set);
-  if (set.degree < 2) throw ConventionError("principal axes need the degree-2 terms; the set has degree " +
-                                            std::to_string(set.degree));
+  if (set.degree < 2)
+    throw ConventionError("principal axes need the degree-2 terms; the set has degree " +
+                          std::to_string(set.degree));
   const CoefficientSet work = expressed_in(set, working_convention);
   const double c00 = work.C(0, 0);
   if (c00 == 0) throw ConventionError("C00 is zero; the principal axes are undefined");
@@ -463,11 +485,13 @@ Eigen::Matrix3d principal_axes_rotation(const CoefficientSet& set) {
   // C22 = (Jxx - Jyy)/4, S22 = Jxy/2, with J = int x x^T dm (Heiskanen & Moritz 1967, Physical Geodesy,
   // sec. 2-13, eqs. 2-90 and 2-91; written here from memory in the J form).
   const double c20 = std::sqrt(5.0) * work.C(2, 0) / c00;
-  const double c21 = std::sqrt(5.0 / 3.0) * work.C(2, 1) / c00, s21 = std::sqrt(5.0 / 3.0) * work.S(2, 1) / c00;
-  const double c22 = std::sqrt(5.0 / 12.0) * work.C(2, 2) / c00, s22 = std::sqrt(5.0 / 12.0) * work.S(2, 2) / c00;
+  const double c21 = std::sqrt(5.0 / 3.0) * work.C(2, 1) / c00,
+               s21 = std::sqrt(5.0 / 3.0) * work.S(2, 1) / c00;
+  const double c22 = std::sqrt(5.0 / 12.0) * work.C(2, 2) / c00,
+               s22 = std::sqrt(5.0 / 12.0) * work.S(2, 2) / c00;
   Eigen::Matrix3d J;
   J << -c20 / 3.0 + 2.0 * c22, 2.0 * s22, c21,  //
-      2.0 * s22, -c20 / 3.0 - 2.0 * c22, s21,    //
+      2.0 * s22, -c20 / 3.0 - 2.0 * c22, s21,   //
       c21, s21, 2.0 * c20 / 3.0;
   // Parallel-axis part about the origin: J_origin = J_com + c c^T, c = centre of mass / R from degree 1.
   const Eigen::Vector3d c = std::sqrt(3.0) * Eigen::Vector3d(work.C(1, 1), work.S(1, 1), work.C(1, 0)) / c00;
@@ -478,9 +502,10 @@ Eigen::Matrix3d principal_axes_rotation(const CoefficientSet& set) {
   const double scale = e.cwiseAbs().maxCoeff();
   const double gap = std::min(e(1) - e(0), e(2) - e(1));
   if (!(scale > 0) || gap < 1e-9 * scale)
-    throw ConventionError(fmt::format("principal axes of '{}' are undefined: two principal moments agree to "
-                                      "{:.2g} of their spread (nearly axisymmetric or spherical)",
-                                      set.body, scale > 0 ? gap / scale : 0.0));
+    throw ConventionError(
+        fmt::format("principal axes of '{}' are undefined: two principal moments agree to "
+                    "{:.2g} of their spread (nearly axisymmetric or spherical)",
+                    set.body, scale > 0 ? gap / scale : 0.0));
   Eigen::Matrix3d in_set;
   for (int k = 0; k < 3; ++k) in_set.col(k) = solver.eigenvectors().col(2 - k);
   // Same sign rule as mass_properties, applied in the mesh frame.

@@ -39,7 +39,8 @@ struct ShiftOptions {
 /// the set's, or the reference radius when the set does not know it.
 /// Throws ConventionError for a refused shift (see ShiftOptions), ResourceError above degree 500
 /// (O(degree^4) work). Any convention (worked in fully normalized, converted back).
-CoefficientSet shift_origin(const CoefficientSet& set, const Eigen::Vector3d& shift, const ShiftOptions& options = {});
+CoefficientSet shift_origin(const CoefficientSet& set, const Eigen::Vector3d& shift,
+                            const ShiftOptions& options = {});
 
 /// Real Wigner-D matrices D_l(Q) for the real (fully normalized, no Condon-Shortley phase) surface
 /// harmonics ordered m = -l..l, where m < 0 is the sine part of order |m|: Y_l(Q x) = D_l(Q) Y_l(x).

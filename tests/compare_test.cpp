@@ -1,12 +1,13 @@
 // Comparison of coefficient sets: per-degree statistics against their definitions, agreement after every
 // exact conversion, frame alignment, and the diagnosis naming each injected exchange mistake.
+#include "compare.h"
+
 #include <Eigen/Geometry>
 #include <catch2/catch.hpp>
 #include <cmath>
 #include <nlohmann/json.hpp>
 
 #include "coefficient_file.h"
-#include "compare.h"
 #include "conventions.h"
 #include "errors.h"
 #include "harmonics.h"
@@ -25,7 +26,8 @@ namespace {
 const CoefficientSet& body_set() {
   static const CoefficientSet set = [] {
     const Mesh mesh = make_deformed_sphere(3, [](const Eigen::Vector3d& u) {
-      const double r = 1.0 + 0.2 * u.x() * u.y() + 0.1 * u.z() * u.z() * u.x() + 0.08 * std::sin(3 * u.y() + 1);
+      const double r =
+          1.0 + 0.2 * u.x() * u.y() + 0.1 * u.z() * u.z() * u.x() + 0.08 * std::sin(3 * u.y() + 1);
       return Eigen::Vector3d(1600.0 * r * u.x(), 1000.0 * r * u.y(), 750.0 * r * u.z());
     });
     ComputeOptions options;
@@ -43,7 +45,8 @@ const Hypothesis& best(const Comparison& c) {
 
 }  // namespace
 
-TEST_CASE("per-degree statistics follow their definitions (RMS per coefficient, degree correlation)", "[compare]") {
+TEST_CASE("per-degree statistics follow their definitions (RMS per coefficient, degree correlation)",
+          "[compare]") {
   // Degree variance sigma_n^2 = sum_m (C^2 + S^2) (Kaula 1966, Theory of Satellite Geodesy, sec. 1.5), here
   // divided by 2n+1 as an RMS per coefficient; degree correlation as in common practice.
   CoefficientSet a = make_empty_set(3), b = make_empty_set(3);
@@ -76,7 +79,8 @@ TEST_CASE("per-degree statistics follow their definitions (RMS per coefficient, 
   CHECK(c.verdict.rfind("DIFFER", 0) == 0);
 }
 
-TEST_CASE("a set agrees with itself after every exact conversion, rescaling and rotation round trip", "[compare]") {
+TEST_CASE("a set agrees with itself after every exact conversion, rescaling and rotation round trip",
+          "[compare]") {
   // Conversions are exact (IERS Conventions 2010 ch. 6 factors); compare brings B back to A's conventions.
   const CoefficientSet& a = body_set();
   for (const Convention& c : all_conventions()) {
@@ -93,7 +97,8 @@ TEST_CASE("a set agrees with itself after every exact conversion, rescaling and 
   }
 }
 
-TEST_CASE("frame alignment: a rotated and shifted set agrees with A only when the frame is aligned", "[compare]") {
+TEST_CASE("frame alignment: a rotated and shifted set agrees with A only when the frame is aligned",
+          "[compare]") {
   const CoefficientSet& a = body_set();
   const Eigen::Matrix3d Q = Eigen::AngleAxisd(0.7, Eigen::Vector3d(1, 2, -1).normalized()).toRotationMatrix();
   const CoefficientSet b = rotate_set(shift_origin(a, Eigen::Vector3d(40, -25, 10)), Q);
@@ -237,8 +242,8 @@ TEST_CASE("compare CLI: a reversed-longitude copy is diagnosed, text and JSON", 
   b.S = -b.S;
   write_coefficient_file(body_set(), dir + "/a.txt");
   write_coefficient_file(b, dir + "/b.txt");
-  const CommandResult result = run_cli("compare '" + dir + "/a.txt' '" + dir + "/b.txt' --tolerance 1e-9 --json '" +
-                                       dir + "/c.json'");
+  const CommandResult result =
+      run_cli("compare '" + dir + "/a.txt' '" + dir + "/b.txt' --tolerance 1e-9 --json '" + dir + "/c.json'");
   CAPTURE(result.output);
   REQUIRE(result.exit_code == 0);
   CHECK(result.output.find("verdict: DIFFER") != std::string::npos);
@@ -249,12 +254,15 @@ TEST_CASE("compare CLI: a reversed-longitude copy is diagnosed, text and JSON", 
   CHECK(json["diagnosis"][0]["explains"] == true);
 }
 
-TEST_CASE("compare CLI: the same field in another convention agrees; bad input is refused", "[compare][cli]") {
+TEST_CASE("compare CLI: the same field in another convention agrees; bad input is refused",
+          "[compare][cli]") {
   const std::string dir = temp_directory();
   write_coefficient_file(body_set(), dir + "/a.txt");
-  write_coefficient_file(convert_convention(rescale_reference_radius(body_set(), 1234.5), Convention{Normalization::orthonormal, false, true}),
+  write_coefficient_file(convert_convention(rescale_reference_radius(body_set(), 1234.5),
+                                            Convention{Normalization::orthonormal, false, true}),
                          dir + "/b.txt");
-  const CommandResult same = run_cli("compare '" + dir + "/a.txt' '" + dir + "/b.txt' --tolerance 1e-12 -q --json -");
+  const CommandResult same =
+      run_cli("compare '" + dir + "/a.txt' '" + dir + "/b.txt' --tolerance 1e-12 -q --json -");
   CAPTURE(same.output);
   REQUIRE(same.exit_code == 0);
   const auto json = nlohmann::json::parse(same.output);

@@ -1,15 +1,17 @@
 // Normalization, phase and J_n conventions: factors against GSL and Boost.Math Legendre functions, the
 // potential unchanged by every conversion (evaluated natively in each convention with GSL functions, that
 // evaluator checked against the exact polyhedron field), and round trips between every pair.
+#include "conventions.h"
+
+#include <fmt/format.h>
+#include <gsl/gsl_sf_legendre.h>
+
 #include <boost/math/special_functions/legendre.hpp>
 #include <catch2/catch.hpp>
 #include <cmath>
-#include <fmt/format.h>
-#include <gsl/gsl_sf_legendre.h>
 #include <set>
 
 #include "coefficient_file.h"
-#include "conventions.h"
 #include "errors.h"
 #include "harmonics.h"
 #include "polyhedron_gravity.h"
@@ -25,19 +27,28 @@ namespace {
 
 // P_X(n, m)(t) of convention X (normalization and phase), all n <= degree, from GSL's arrays. GSL manual,
 // "Associated Legendre Polynomials and Spherical Harmonics": NONE = Ferrers P_l^m, SCHMIDT =
-// sqrt((2 - d_m0)(l-m)!/(l+m)!) P, SPHARM = sqrt((2l+1)/(4pi) (l-m)!/(l+m)!) P, FULL = sqrt((l+1/2)(l-m)!/(l+m)!) P;
-// csphase = -1 includes (-1)^m. So fully (4pi) = sqrt(2(2 - d_m0)) FULL and orthonormal (4pi fully normalized
-// over sqrt(4pi)) = sqrt(2 - d_m0) SPHARM.
+// sqrt((2 - d_m0)(l-m)!/(l+m)!) P, SPHARM = sqrt((2l+1)/(4pi) (l-m)!/(l+m)!) P, FULL =
+// sqrt((l+1/2)(l-m)!/(l+m)!) P; csphase = -1 includes (-1)^m. So fully (4pi) = sqrt(2(2 - d_m0)) FULL and
+// orthonormal (4pi fully normalized over sqrt(4pi)) = sqrt(2 - d_m0) SPHARM.
 Eigen::MatrixXd gsl_legendre(const Convention& convention, int degree, double t) {
   gsl_sf_legendre_t kind = GSL_SF_LEGENDRE_NONE;
   switch (convention.normalization) {
-    case Normalization::unnormalized: kind = GSL_SF_LEGENDRE_NONE; break;
-    case Normalization::schmidt: kind = GSL_SF_LEGENDRE_SCHMIDT; break;
-    case Normalization::fully: kind = GSL_SF_LEGENDRE_FULL; break;
-    case Normalization::orthonormal: kind = GSL_SF_LEGENDRE_SPHARM; break;
+    case Normalization::unnormalized:
+      kind = GSL_SF_LEGENDRE_NONE;
+      break;
+    case Normalization::schmidt:
+      kind = GSL_SF_LEGENDRE_SCHMIDT;
+      break;
+    case Normalization::fully:
+      kind = GSL_SF_LEGENDRE_FULL;
+      break;
+    case Normalization::orthonormal:
+      kind = GSL_SF_LEGENDRE_SPHARM;
+      break;
   }
   std::vector<double> values(gsl_sf_legendre_array_n(size_t(degree)));
-  REQUIRE(gsl_sf_legendre_array_e(kind, size_t(degree), t, convention.condon_shortley ? -1.0 : 1.0, values.data()) == 0);
+  REQUIRE(gsl_sf_legendre_array_e(kind, size_t(degree), t, convention.condon_shortley ? -1.0 : 1.0,
+                                  values.data()) == 0);
   Eigen::MatrixXd p = Eigen::MatrixXd::Zero(degree + 1, degree + 1);
   for (int n = 0; n <= degree; ++n)
     for (int m = 0; m <= n; ++m) {
@@ -49,8 +60,9 @@ Eigen::MatrixXd gsl_legendre(const Convention& convention, int degree, double t)
   return p;
 }
 
-// The defining sum U = GM/r sum_n (R/r)^n sum_m P_X(n,m)(sin lat) (C cos m lon + S sin m lon) in the set's own
-// convention (J_n = -C_n0 undone first), with GSL's functions: no conversion code of the library involved.
+// The defining sum U = GM/r sum_n (R/r)^n sum_m P_X(n,m)(sin lat) (C cos m lon + S sin m lon) in the set's
+// own convention (J_n = -C_n0 undone first), with GSL's functions: no conversion code of the library
+// involved.
 double potential_in_own_convention(const CoefficientSet& set, const Eigen::Vector3d& x) {
   const double r = x.norm();
   const Eigen::MatrixXd p = gsl_legendre(set.convention, set.degree, x.z() / r);
@@ -69,7 +81,8 @@ double potential_in_own_convention(const CoefficientSet& set, const Eigen::Vecto
 
 Mesh lumpy_body() {
   return make_deformed_sphere(3, [](const Eigen::Vector3d& u) {
-    const double r = 1.0 + 0.15 * u.x() * u.y() + 0.1 * u.z() * u.z() * u.x() + 0.07 * std::sin(3 * u.y() + 1);
+    const double r =
+        1.0 + 0.15 * u.x() * u.y() + 0.1 * u.z() * u.z() * u.x() + 0.07 * std::sin(3 * u.y() + 1);
     return Eigen::Vector3d(1500.0 * r * u.x(), 1100.0 * r * u.y(), 800.0 * r * u.z());
   });
 }
@@ -96,8 +109,10 @@ const CoefficientSet& body_set() {
 
 }  // namespace
 
-TEST_CASE("normalization factors and phase agree with GSL gsl_sf_legendre_array (NONE, SCHMIDT, SPHARM, FULL) "
-          "to degree 40", "[conventions]") {
+TEST_CASE(
+    "normalization factors and phase agree with GSL gsl_sf_legendre_array (NONE, SCHMIDT, SPHARM, FULL) "
+    "to degree 40",
+    "[conventions]") {
   // coefficient_factor(from, to) = P_from / P_to, because C_X P_X is the same for every X.
   for (double t : {-0.83, -0.2, 0.31, 0.77}) {
     std::vector<Eigen::MatrixXd> p;
@@ -120,24 +135,27 @@ TEST_CASE("normalization factors and phase agree with GSL gsl_sf_legendre_array 
           CHECK_THAT(legendre_normalization(conventions[i].normalization, n, m) * phase,
                      WithinRel(p[i](n, m) / none(n, m), 1e-12));
           for (size_t j = 0; j < conventions.size(); j += 3)
-            CHECK_THAT(coefficient_factor(conventions[i], conventions[j], n, m), WithinRel(p[i](n, m) / p[j](n, m), 1e-12));
+            CHECK_THAT(coefficient_factor(conventions[i], conventions[j], n, m),
+                       WithinRel(p[i](n, m) / p[j](n, m), 1e-12));
         }
     }
   }
 }
 
-TEST_CASE("Condon-Shortley functions equal N * Boost.Math legendre_p, which carries the (-1)^m phase", "[conventions]") {
+TEST_CASE("Condon-Shortley functions equal N * Boost.Math legendre_p, which carries the (-1)^m phase",
+          "[conventions]") {
   // Boost.Math documentation, "Legendre (and Associated) Polynomials": legendre_p(l, m, x) includes (-1)^m.
   for (double t : {-0.5, 0.2, 0.9})
-    for (Normalization normalization :
-         {Normalization::fully, Normalization::unnormalized, Normalization::schmidt, Normalization::orthonormal}) {
+    for (Normalization normalization : {Normalization::fully, Normalization::unnormalized,
+                                        Normalization::schmidt, Normalization::orthonormal}) {
       const Eigen::MatrixXd p = gsl_legendre(Convention{normalization, true, false}, 25, t);
       const Eigen::MatrixXd fully = gsl_legendre(Convention{}, 25, t);
       for (int n = 0; n <= 25; ++n)
         for (int m = 0; m <= n; ++m) {
           if (std::abs(fully(n, m)) < 1e-3) continue;  // near a zero of P_nm (e.g. P_13^11 at t = 0.2)
           CAPTURE(t, to_string(normalization), n, m);
-          const double boost_value = legendre_normalization(normalization, n, m) * boost::math::legendre_p(n, m, t);
+          const double boost_value =
+              legendre_normalization(normalization, n, m) * boost::math::legendre_p(n, m, t);
           CHECK_THAT(boost_value, WithinRel(p(n, m), 1e-12));
         }
     }
@@ -149,8 +167,8 @@ TEST_CASE("the GSL-sum evaluator equals the exact polyhedron potential outside t
   const PolyhedronGravity exact(body_regions());
   const CoefficientSet& set = body_set();
   const double rb = set.brillouin_radius;
-  for (const Eigen::Vector3d& direction : {Eigen::Vector3d(1, 0.3, -0.2), Eigen::Vector3d(-0.4, 1, 0.7),
-                                           Eigen::Vector3d(0.1, -0.2, -1)}) {
+  for (const Eigen::Vector3d& direction :
+       {Eigen::Vector3d(1, 0.3, -0.2), Eigen::Vector3d(-0.4, 1, 0.7), Eigen::Vector3d(0.1, -0.2, -1)}) {
     const Eigen::Vector3d x = set.center_of_mass + 3.0 * rb * direction.normalized();
     const double series = potential_in_own_convention(set, x - set.center_of_mass);
     const double polyhedron = exact.evaluate(x).potential;
@@ -162,8 +180,8 @@ TEST_CASE("the GSL-sum evaluator equals the exact polyhedron potential outside t
 
 TEST_CASE("every conversion leaves the potential unchanged (1e-13) and records itself", "[conventions]") {
   const CoefficientSet& set = body_set();
-  const std::vector<Eigen::Vector3d> points{Eigen::Vector3d(2600, 700, -300), Eigen::Vector3d(-900, 1400, 2100),
-                                            Eigen::Vector3d(100, -200, -2400)};
+  const std::vector<Eigen::Vector3d> points{
+      Eigen::Vector3d(2600, 700, -300), Eigen::Vector3d(-900, 1400, 2100), Eigen::Vector3d(100, -200, -2400)};
   for (const Convention& from : all_conventions()) {
     const CoefficientSet source = convert_convention(set, from);
     for (const Convention& to : all_conventions()) {
@@ -172,7 +190,8 @@ TEST_CASE("every conversion leaves the potential unchanged (1e-13) and records i
       CHECK(target.convention == to);
       CHECK(target.history.back().find(describe(to)) != std::string::npos);
       for (const Eigen::Vector3d& x : points) {
-        const double before = potential_in_own_convention(source, x), after = potential_in_own_convention(target, x);
+        const double before = potential_in_own_convention(source, x),
+                     after = potential_in_own_convention(target, x);
         CHECK_THAT(after, WithinRel(before, 1e-13));
         const double central = set.gm / x.norm();
         CHECK_THAT(after - central, WithinRel(before - central, 1e-11));
@@ -208,11 +227,14 @@ TEST_CASE("sigmas scale by |factor| and J_n flips only the zonal column", "[conv
   const CoefficientSet out = convert_convention(set, target);
   for (int n = 2; n <= 6; ++n) {
     CHECK_THAT(out.C(n, 0), WithinRel(-set.C(n, 0) * std::sqrt(2.0 * n + 1.0), 1e-14));
-    CHECK_THAT(out.C(n, 1), WithinRel(-set.C(n, 1) * legendre_normalization(Normalization::fully, n, 1), 1e-14));
+    CHECK_THAT(out.C(n, 1),
+               WithinRel(-set.C(n, 1) * legendre_normalization(Normalization::fully, n, 1), 1e-14));
     CHECK(out.sigma_C(n, 1) > 0);
-    CHECK_THAT(out.sigma_C(n, 1), WithinRel(set.sigma_C(n, 1) * legendre_normalization(Normalization::fully, n, 1), 1e-14));
+    CHECK_THAT(out.sigma_C(n, 1),
+               WithinRel(set.sigma_C(n, 1) * legendre_normalization(Normalization::fully, n, 1), 1e-14));
   }
-  // J2 from fully normalized C20: J2 = -sqrt(5) C20bar (IERS Conventions 2010, eq. 6.2 with the normalization).
+  // J2 from fully normalized C20: J2 = -sqrt(5) C20bar (IERS Conventions 2010, eq. 6.2 with the
+  // normalization).
   CHECK_THAT(out.C(2, 0), WithinRel(-std::sqrt(5.0) * set.C(2, 0), 1e-15));
 }
 
@@ -250,14 +272,15 @@ TEST_CASE("convert CLI: conventions change exactly as the library does, text and
           "[conventions][cli]") {
   const std::string dir = temp_directory();
   const std::string in = written_set(dir, body_set());
-  const CommandResult result = run_cli("convert " + quoted(in) + " -o " + quoted(dir + "/out.txt") + " --json " +
-                                       quoted(dir + "/out.json") +
-                                       " --to-normalization unnormalized --to-condon-shortley on --to-zonal j");
+  const CommandResult result = run_cli(
+      "convert " + quoted(in) + " -o " + quoted(dir + "/out.txt") + " --json " + quoted(dir + "/out.json") +
+      " --to-normalization unnormalized --to-condon-shortley on --to-zonal j");
   CAPTURE(result.output);
   REQUIRE(result.exit_code == 0);
   CHECK(result.output.find("converted from fully normalized") != std::string::npos);
   const CoefficientSet out = read_coefficient_file(dir + "/out.txt");
-  const CoefficientSet expected = convert_convention(body_set(), Convention{Normalization::unnormalized, true, true});
+  const CoefficientSet expected =
+      convert_convention(body_set(), Convention{Normalization::unnormalized, true, true});
   CHECK(out.convention == expected.convention);
   CHECK(out.C == expected.C);
   CHECK(out.S == expected.S);
@@ -268,28 +291,33 @@ TEST_CASE("convert CLI: conventions change exactly as the library does, text and
   CHECK(json.C == out.C);
   // Potential unchanged, by the GSL-sum evaluator in each file's own convention.
   const Eigen::Vector3d x(2500, -1200, 900);
-  CHECK_THAT(potential_in_own_convention(out, x), WithinRel(potential_in_own_convention(body_set(), x), 1e-13));
+  CHECK_THAT(potential_in_own_convention(out, x),
+             WithinRel(potential_in_own_convention(body_set(), x), 1e-13));
 }
 
-TEST_CASE("convert CLI: Euler rotation and its inverse, radius in km and back, return the set", "[conventions][cli]") {
+TEST_CASE("convert CLI: Euler rotation and its inverse, radius in km and back, return the set",
+          "[conventions][cli]") {
   // Inverse of Rz(a) Ry(b) Rz(c) is Rz(-c) Ry(-b) Rz(-a).
   const std::string dir = temp_directory();
   const std::string in = written_set(dir, body_set());
   const std::string there = dir + "/there.txt", back = dir + "/back.txt";
-  REQUIRE(run_cli("convert " + quoted(in) + " -q -o " + quoted(there) + " --rotate-euler 30,20,-75 --to-ref-radius 2.5 --unit km")
+  REQUIRE(run_cli("convert " + quoted(in) + " -q -o " + quoted(there) +
+                  " --rotate-euler 30,20,-75 --to-ref-radius 2.5 --unit km")
               .exit_code == 0);
   const CoefficientSet mid = read_coefficient_file(there);
   CHECK(mid.reference_radius == 2500.0);
   CHECK(mid.frame == "rotated");
   const std::string radius = fmt::format("{}", body_set().reference_radius);
-  REQUIRE(run_cli("convert " + quoted(there) + " -q -o " + quoted(back) + " --rotate-euler 75,-20,-30 --to-ref-radius " +
-                  radius).exit_code == 0);
+  REQUIRE(run_cli("convert " + quoted(there) + " -q -o " + quoted(back) +
+                  " --rotate-euler 75,-20,-30 --to-ref-radius " + radius)
+              .exit_code == 0);
   const CoefficientSet out = read_coefficient_file(back);
   require_sets_close(out, body_set(), body_set().degree, 1e-14);
   CHECK((out.axes_in_mesh - Eigen::Matrix3d::Identity()).cwiseAbs().maxCoeff() < 1e-14);
 }
 
-TEST_CASE("convert CLI: refusals give one error line, exit code 2 or 1, and no output file", "[conventions][cli]") {
+TEST_CASE("convert CLI: refusals give one error line, exit code 2 or 1, and no output file",
+          "[conventions][cli]") {
   const std::string dir = temp_directory();
   const std::string in = written_set(dir, body_set());
   const std::string out = dir + "/out.txt";
@@ -304,10 +332,12 @@ TEST_CASE("convert CLI: refusals give one error line, exit code 2 or 1, and no o
       {"--rotate-euler 1,2,3 --to-principal", "excludes", 1},
       {"--to-normalization full", "fully", 1},
       {"--allow-outside", "--shift", 1},
-      {"--columns n,m,C,S", "--normalization, --condon-shortley or --no-condon-shortley, --ref-radius, --gm are required", 2},
+      {"--columns n,m,C,S",
+       "--normalization, --condon-shortley or --no-condon-shortley, --ref-radius, --gm are required", 2},
   };
   for (const Refusal& refusal : refusals) {
-    const CommandResult result = run_cli("convert " + quoted(in) + " -o " + quoted(out) + " " + refusal.arguments);
+    const CommandResult result =
+        run_cli("convert " + quoted(in) + " -o " + quoted(out) + " " + refusal.arguments);
     CAPTURE(refusal.arguments, result.output);
     CHECK(result.exit_code == refusal.code);
     CHECK(result.output.find(refusal.expected) != std::string::npos);

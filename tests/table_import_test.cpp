@@ -1,15 +1,17 @@
 // Plain coefficient tables: a set written as a table in several layouts reads back bit for bit; declarations
 // that are missing, and every kind of bad row, give a one-line error naming the option or file:line.
+#include "table_import.h"
+
+#include <fmt/format.h>
+
 #include <catch2/catch.hpp>
 #include <cmath>
-#include <fmt/format.h>
 
 #include "coefficient_file.h"
 #include "conventions.h"
 #include "errors.h"
 #include "harmonics.h"
 #include "shapes.h"
-#include "table_import.h"
 #include "test_support.h"
 
 using namespace polystokes;
@@ -21,7 +23,8 @@ const CoefficientSet& body_set() {
   static const CoefficientSet set = [] {
     ComputeOptions options;
     options.degree = 8;
-    CoefficientSet s = compute_coefficients({DensityRegion{make_ellipsoid(2, 900, 600, 450), 1500.0}}, options);
+    CoefficientSet s =
+        compute_coefficients({DensityRegion{make_ellipsoid(2, 900, 600, 450), 1500.0}}, options);
     for (int n = 0; n <= s.degree; ++n)
       for (int m = 0; m <= n; ++m) {
         s.sigma_C(n, m) = 1e-3 * std::abs(s.C(n, m));
@@ -49,8 +52,8 @@ std::string table_text(const CoefficientSet& set, const std::string& separator, 
   std::string text = "Invented team table, body Quillop\nrow n m C S sigmaC sigmaS\n# coefficients follow\n";
   for (int n = first_degree; n <= set.degree; ++n)
     for (int m = 0; m <= n; ++m)
-      text += fmt::format("coef{0}{1}{0}{2}{0}{3}{0}{4}{0}{5}{0}{6}   # row\n", separator, n, m, set.C(n, m), set.S(n, m),
-                          set.sigma_C(n, m), set.sigma_S(n, m));
+      text += fmt::format("coef{0}{1}{0}{2}{0}{3}{0}{4}{0}{5}{0}{6}   # row\n", separator, n, m, set.C(n, m),
+                          set.S(n, m), set.sigma_C(n, m), set.sigma_S(n, m));
   return text;
 }
 
@@ -101,8 +104,8 @@ TEST_CASE("columns may come in any order; absent S and sigma columns are zeros; 
 TEST_CASE("Fortran D exponents and a leading + are read", "[table_import]") {
   const CoefficientSet& set = body_set();
   TableImportOptions options = declared(set, "n,m,C,S");
-  const CoefficientSet read = parse_table("0 0 1.0D+00 0\n1 0 0 0\n1 1 0 0\n2 0 -4.5d-02 0\n2 1 +1E-9 0\n2 2 3.25D-3 -1D-4\n",
-                                          "t", options);
+  const CoefficientSet read = parse_table(
+      "0 0 1.0D+00 0\n1 0 0 0\n1 1 0 0\n2 0 -4.5d-02 0\n2 1 +1E-9 0\n2 2 3.25D-3 -1D-4\n", "t", options);
   CHECK(read.C(2, 0) == -4.5e-2);
   CHECK(read.C(2, 1) == 1e-9);
   CHECK(read.S(2, 2) == -1e-4);
@@ -140,12 +143,14 @@ TEST_CASE("missing declarations are named in one error", "[table_import]") {
   options.normalization = Normalization::fully;
   options.condon_shortley = false;
   options.reference_radius = 1000;
-  CHECK_THROWS_WITH(parse_table("0 0 1 0\n", "t", options), "--gm is required for a table (a plain table does not say it)");
+  CHECK_THROWS_WITH(parse_table("0 0 1 0\n", "t", options),
+                    "--gm is required for a table (a plain table does not say it)");
   options.gm = 1;
   options.normalization.reset();
   options.condon_shortley.reset();
-  CHECK_THROWS_WITH(parse_table("0 0 1 0\n", "t", options),
-                    Catch::StartsWith("--normalization, --condon-shortley or --no-condon-shortley are required"));
+  CHECK_THROWS_WITH(
+      parse_table("0 0 1 0\n", "t", options),
+      Catch::StartsWith("--normalization, --condon-shortley or --no-condon-shortley are required"));
   options = TableImportOptions{};
   CHECK_THROWS_WITH(parse_table("0 0 1 0\n", "t", options), Catch::Contains("--columns"));
   CHECK_THROWS_AS(parse_table("0 0 1 0\n", "t", options), ConventionError);
@@ -186,26 +191,31 @@ TEST_CASE("bad rows give file:line errors", "[table_import]") {
     CHECK_THROWS_WITH(parse_table(bad.text, "t.tab", options), Catch::StartsWith(bad.message));
   }
   TableImportOptions with_sigma = declared(set, "n,m,C,S,sigma_C");
-  CHECK_THROWS_WITH(parse_table("0 0 1 0 -1\n", "t.tab", with_sigma), Catch::StartsWith("t.tab:1: negative sigma"));
+  CHECK_THROWS_WITH(parse_table("0 0 1 0 -1\n", "t.tab", with_sigma),
+                    Catch::StartsWith("t.tab:1: negative sigma"));
 }
 
 TEST_CASE("read_table names a missing file", "[table_import]") {
   const CoefficientSet& set = body_set();
-  CHECK_THROWS_WITH(read_table("/nonexistent/team.tab", declared(set, "n,m,C,S")), Catch::Contains("/nonexistent/team.tab"));
+  CHECK_THROWS_WITH(read_table("/nonexistent/team.tab", declared(set, "n,m,C,S")),
+                    Catch::Contains("/nonexistent/team.tab"));
 }
 
 // ---- polystokes convert of a plain table, end to end ----
 
-TEST_CASE("convert CLI reads a declared table into our format; a missing declaration is named", "[table_import][cli]") {
+TEST_CASE("convert CLI reads a declared table into our format; a missing declaration is named",
+          "[table_import][cli]") {
   const std::string dir = temp_directory();
-  const CoefficientSet set = convert_convention(body_set(), Convention{Normalization::unnormalized, false, true});
+  const CoefficientSet set =
+      convert_convention(body_set(), Convention{Normalization::unnormalized, false, true});
   write_text(dir + "/team.tab", table_text(set, ", "));
   const std::string declarations = fmt::format(
-      " --columns skip,n,m,C,S,sigma_C,sigma_S --skip-lines 2 --normalization unnormalized --no-condon-shortley "
+      " --columns skip,n,m,C,S,sigma_C,sigma_S --skip-lines 2 --normalization unnormalized "
+      "--no-condon-shortley "
       "--zonal-j --ref-radius {} --gm {} --unit km",
       set.reference_radius / 1000.0, set.gm / 1e9);
-  const CommandResult result = run_cli("convert '" + dir + "/team.tab' -o '" + dir + "/team.txt'" + declarations +
-                                       " --to-normalization fully --to-zonal c");
+  const CommandResult result = run_cli("convert '" + dir + "/team.tab' -o '" + dir + "/team.txt'" +
+                                       declarations + " --to-normalization fully --to-zonal c");
   CAPTURE(result.output);
   REQUIRE(result.exit_code == 0);
   const CoefficientSet read = read_coefficient_file(dir + "/team.txt");
@@ -214,13 +224,15 @@ TEST_CASE("convert CLI reads a declared table into our format; a missing declara
   require_sets_close(read, body_set(), body_set().degree, 1e-15);
   CHECK(read.history.front().find("imported from table") != std::string::npos);
 
-  const CommandResult missing = run_cli("convert '" + dir + "/team.tab' -o '" + dir + "/x.txt' --columns n,m,C,S "
+  const CommandResult missing = run_cli("convert '" + dir + "/team.tab' -o '" + dir +
+                                        "/x.txt' --columns n,m,C,S "
                                         "--normalization fully --no-condon-shortley --ref-radius 1");
   CHECK(missing.exit_code == 2);
   CHECK(missing.output.find("--gm is required for a table") != std::string::npos);
   CHECK(!file_exists(dir + "/x.txt"));
   write_text(dir + "/dup.tab", "0 0 1 0\n1 0 0 0\n1 0 0 0\n");
-  const CommandResult duplicate = run_cli("convert '" + dir + "/dup.tab' -o '" + dir + "/x.txt' --columns n,m,C,S "
+  const CommandResult duplicate = run_cli("convert '" + dir + "/dup.tab' -o '" + dir +
+                                          "/x.txt' --columns n,m,C,S "
                                           "--normalization fully --condon-shortley --ref-radius 1 --gm 1");
   CHECK(duplicate.exit_code == 2);
   CHECK(duplicate.output.find("dup.tab:3: row n = 1, m = 0 repeats line 2") != std::string::npos);

@@ -1,6 +1,8 @@
 // Reference radius and GM rescaling, origin shifts and rotations of coefficient sets: against coefficients
 // computed exactly from the shifted or rotated mesh, closed forms, the defining property of the real
 // Wigner-D matrices and round trips.
+#include "transforms.h"
+
 #include <Eigen/Dense>
 #include <Eigen/Geometry>
 #include <catch2/catch.hpp>
@@ -13,7 +15,6 @@
 #include "series.h"
 #include "shapes.h"
 #include "test_support.h"
-#include "transforms.h"
 
 using namespace polystokes;
 using namespace polystokes::test;
@@ -25,7 +26,8 @@ namespace {
 // Lumpy body with no symmetry: distinct principal moments, all orders present.
 Mesh lumpy_body(int subdivisions) {
   return make_deformed_sphere(subdivisions, [](const Eigen::Vector3d& u) {
-    const double r = 1.0 + 0.18 * u.x() * u.y() + 0.12 * u.z() * u.z() * u.x() + 0.1 * std::sin(3 * u.y() + 1);
+    const double r =
+        1.0 + 0.18 * u.x() * u.y() + 0.12 * u.z() * u.z() * u.x() + 0.1 * std::sin(3 * u.y() + 1);
     return Eigen::Vector3d(1700.0 * r * u.x(), 1100.0 * r * u.y(), 800.0 * r * u.z());
   });
 }
@@ -100,9 +102,12 @@ TEST_CASE("real Wigner-D matrices satisfy Y_l(Q x) = D_l(Q) Y_l(x) and are ortho
   // J. Phys. Chem. 100, 6342, eq. 1.4); Y from the Holmes & Featherstone 2002 recursion in harmonics.h.
   // Rotations near the z-y-z singularities (beta ~ 0, pi) are included.
   std::mt19937 rng(7);
-  std::vector<Eigen::Matrix3d> rotations{random_rotation(rng), random_rotation(rng),
-                                         euler_zyz_matrix(0.4, 1e-9, 2.1), euler_zyz_matrix(-2.9, M_PI - 1e-9, 0.3),
-                                         euler_zyz_matrix(1.0, 0.0, 0.0), euler_zyz_matrix(0.0, M_PI, 0.0)};
+  std::vector<Eigen::Matrix3d> rotations{random_rotation(rng),
+                                         random_rotation(rng),
+                                         euler_zyz_matrix(0.4, 1e-9, 2.1),
+                                         euler_zyz_matrix(-2.9, M_PI - 1e-9, 0.3),
+                                         euler_zyz_matrix(1.0, 0.0, 0.0),
+                                         euler_zyz_matrix(0.0, M_PI, 0.0)};
   const int degree = 400;
   for (size_t trial = 0; trial < rotations.size(); ++trial) {
     const Eigen::Matrix3d& Q = rotations[trial];
@@ -151,9 +156,11 @@ std::vector<Eigen::MatrixXd> ivanic_ruedenberg(const Eigen::Matrix3d& rotation, 
       const int am = std::abs(m);
       const double d = m == 0 ? 1.0 : 0.0;
       for (int n = -l; n <= l; ++n) {
-        const double denominator = std::abs(n) == l ? 2.0 * l * (2.0 * l - 1.0) : double(l + n) * double(l - n);
+        const double denominator =
+            std::abs(n) == l ? 2.0 * l * (2.0 * l - 1.0) : double(l + n) * double(l - n);
         const double u = std::sqrt(double(l + m) * double(l - m) / denominator);
-        const double v = 0.5 * std::sqrt((1.0 + d) * (l + am - 1.0) * (l + am) / denominator) * (1.0 - 2.0 * d);
+        const double v =
+            0.5 * std::sqrt((1.0 + d) * (l + am - 1.0) * (l + am) / denominator) * (1.0 - 2.0 * d);
         const double w = -0.5 * std::sqrt(std::max(0.0, (l - am - 1.0) * (l - am)) / denominator) * (1.0 - d);
         double value = 0;
         if (u != 0) value += u * P(0, m, n);
@@ -168,7 +175,8 @@ std::vector<Eigen::MatrixXd> ivanic_ruedenberg(const Eigen::Matrix3d& rotation, 
           }
           value += v * V;
         }
-        if (w != 0) value += w * (m > 0 ? P(1, m + 1, n) + P(-1, -m - 1, n) : P(1, m - 1, n) - P(-1, -m + 1, n));
+        if (w != 0)
+          value += w * (m > 0 ? P(1, m + 1, n) + P(-1, -m - 1, n) : P(1, m - 1, n) - P(-1, -m + 1, n));
         cur(m + l, n + l) = value;
       }
     }
@@ -178,7 +186,8 @@ std::vector<Eigen::MatrixXd> ivanic_ruedenberg(const Eigen::Matrix3d& rotation, 
 
 }  // namespace
 
-TEST_CASE("real Wigner-D matrices equal the Ivanic & Ruedenberg 1996 recursion to degree 20", "[transforms]") {
+TEST_CASE("real Wigner-D matrices equal the Ivanic & Ruedenberg 1996 recursion to degree 20",
+          "[transforms]") {
   std::mt19937 rng(17);
   for (int trial = 0; trial < 3; ++trial) {
     const Eigen::Matrix3d Q = random_rotation(rng);
@@ -191,14 +200,16 @@ TEST_CASE("real Wigner-D matrices equal the Ivanic & Ruedenberg 1996 recursion t
   }
 }
 
-TEST_CASE("rotation about z equals the closed form C' = C cos(m a) - S sin(m a), S' = C sin(m a) + S cos(m a)",
-          "[transforms]") {
+TEST_CASE(
+    "rotation about z equals the closed form C' = C cos(m a) - S sin(m a), S' = C sin(m a) + S cos(m a)",
+    "[transforms]") {
   // x_new = Rz(a) x_old shifts longitudes by +a; trigonometric addition (common practice). Sigmas follow
   // variance propagation of independent errors: s'^2 = cos^2 sC^2 + sin^2 sS^2.
   std::mt19937 rng(3);
   const CoefficientSet set = random_set(30, rng);
   const double a = 0.7321;
-  const CoefficientSet out = rotate_set(set, Eigen::AngleAxisd(a, Eigen::Vector3d::UnitZ()).toRotationMatrix());
+  const CoefficientSet out =
+      rotate_set(set, Eigen::AngleAxisd(a, Eigen::Vector3d::UnitZ()).toRotationMatrix());
   for (int n = 0; n <= 30; ++n)
     for (int m = 0; m <= n; ++m) {
       CAPTURE(n, m);
@@ -207,7 +218,8 @@ TEST_CASE("rotation about z equals the closed form C' = C cos(m a) - S sin(m a),
       const double scale = 1e-15 * (n + 1) * (std::abs(set.C(n, m)) + std::abs(set.S(n, m)));
       CHECK_THAT(out.C(n, m), WithinAbs(set.C(n, m) * c - set.S(n, m) * s, scale));
       CHECK_THAT(out.S(n, m), WithinAbs(set.C(n, m) * s + set.S(n, m) * c, scale));
-      const double sigma_c = std::sqrt(c * c * std::pow(set.sigma_C(n, m), 2) + s * s * std::pow(set.sigma_S(n, m), 2));
+      const double sigma_c =
+          std::sqrt(c * c * std::pow(set.sigma_C(n, m), 2) + s * s * std::pow(set.sigma_S(n, m), 2));
       CHECK_THAT(out.sigma_C(n, m), WithinRel(sigma_c, 1e-12));
     }
   CHECK(out.frame == "rotated");
@@ -228,7 +240,8 @@ TEST_CASE("rotating a set equals the set computed exactly from the rotated mesh 
   const int degree = 20;
   const double R = 2500;
   const CoefficientSet before = compute_about(mesh, degree, R, OriginChoice::mesh);
-  const CoefficientSet expected = compute_about(transformed(mesh, Q, Eigen::Vector3d::Zero()), degree, R, OriginChoice::mesh);
+  const CoefficientSet expected =
+      compute_about(transformed(mesh, Q, Eigen::Vector3d::Zero()), degree, R, OriginChoice::mesh);
   for (const Convention& convention : {Convention{}, Convention{Normalization::schmidt, true, true}}) {
     CAPTURE(describe(convention));
     const CoefficientSet rotated = rotate_set(convert_convention(before, convention), Q);
@@ -239,8 +252,9 @@ TEST_CASE("rotating a set equals the set computed exactly from the rotated mesh 
   }
 }
 
-TEST_CASE("rotation by Q then Q^T returns the set: 1e-14 to degree 30, 1e-12 (relative per degree) to degree 120",
-          "[transforms]") {
+TEST_CASE(
+    "rotation by Q then Q^T returns the set: 1e-14 to degree 30, 1e-12 (relative per degree) to degree 120",
+    "[transforms]") {
   // Round trip (D(Q^T) = D(Q)^T for an orthogonal representation).
   std::mt19937 rng(5);
   const Eigen::Matrix3d Q = random_rotation(rng);
@@ -259,19 +273,22 @@ TEST_CASE("rotation keeps the potential: U_new(Q x) = U_old(x) at exterior point
   const Eigen::Matrix3d Q = random_rotation(rng);
   const CoefficientSet rotated = rotate_set(set, Q);
   for (const Eigen::Vector3d& x : {Eigen::Vector3d(4000, 1000, -500), Eigen::Vector3d(-300, 200, 3100)}) {
-    CHECK_THAT(evaluate_series(rotated, Q * x).potential, WithinRel(evaluate_series(set, x).potential, 1e-14));
+    CHECK_THAT(evaluate_series(rotated, Q * x).potential,
+               WithinRel(evaluate_series(set, x).potential, 1e-14));
     const double disturbing_old = evaluate_series(set, x).potential - set.gm / x.norm();
     const double disturbing_new = evaluate_series(rotated, Q * x).potential - set.gm / x.norm();
     CHECK_THAT(disturbing_new, WithinRel(disturbing_old, 1e-11));
   }
 }
 
-TEST_CASE("Euler angles z-y-z: the matrix equals the textbook product and rotation composes", "[transforms]") {
+TEST_CASE("Euler angles z-y-z: the matrix equals the textbook product and rotation composes",
+          "[transforms]") {
   // Entries of Rz(a) Ry(b) Rz(c) written out (Goldstein, Poole & Safko 2002, Classical Mechanics, 3rd ed.,
   // sec. 4.4, here for the y-convention and active rotations; from memory).
   const double a = 0.3, b = 1.1, c = -0.8;
   const Eigen::Matrix3d Q = euler_zyz_matrix(a, b, c);
-  const double ca = std::cos(a), sa = std::sin(a), cb = std::cos(b), sb = std::sin(b), cc = std::cos(c), sc = std::sin(c);
+  const double ca = std::cos(a), sa = std::sin(a), cb = std::cos(b), sb = std::sin(b), cc = std::cos(c),
+               sc = std::sin(c);
   Eigen::Matrix3d expected;
   expected << ca * cb * cc - sa * sc, -ca * cb * sc - sa * cc, ca * sb,  //
       sa * cb * cc + ca * sc, -sa * cb * sc + ca * cc, sa * sb,          //
@@ -281,12 +298,15 @@ TEST_CASE("Euler angles z-y-z: the matrix equals the textbook product and rotati
   const CoefficientSet set = random_set(12, rng);
   const CoefficientSet in_one = rotate_set(set, Q);
   const CoefficientSet in_three =
-      rotate_set(rotate_set(rotate_set(set, euler_zyz_matrix(0, 0, c)), euler_zyz_matrix(0, b, 0)), euler_zyz_matrix(a, 0, 0));
+      rotate_set(rotate_set(rotate_set(set, euler_zyz_matrix(0, 0, c)), euler_zyz_matrix(0, b, 0)),
+                 euler_zyz_matrix(a, 0, 0));
   require_sets_close(in_one, in_three, 12, 1e-15);
 }
 
-TEST_CASE("principal axes from degree 2 equal compute --frame principal (about the centre of mass and the "
-          "mesh origin)", "[transforms]") {
+TEST_CASE(
+    "principal axes from degree 2 equal compute --frame principal (about the centre of mass and the "
+    "mesh origin)",
+    "[transforms]") {
   // Independent path: mass_properties' eigen-decomposition of the polyhedron's exact inertia tensor.
   std::mt19937 rng(4);
   const Mesh mesh = transformed(lumpy_body(3), random_rotation(rng), Eigen::Vector3d(220, 130, -170));
@@ -318,7 +338,8 @@ TEST_CASE("principal axes are refused for an axisymmetric degree-2 field", "[tra
   CHECK_THROWS_AS(principal_axes_rotation(make_empty_set(1)), ConventionError);
 }
 
-TEST_CASE("shifting the origin to the centre of mass equals computing about the centre of mass", "[transforms]") {
+TEST_CASE("shifting the origin to the centre of mass equals computing about the centre of mass",
+          "[transforms]") {
   // Independent path: the exact polyhedron coefficients about the centre of mass; the shift vector is
   // taken from the degree-1 terms (x_com = sqrt(3) R (C11, S11, C10), fully normalized).
   const Mesh mesh = transformed(lumpy_body(3), Eigen::Matrix3d::Identity(), Eigen::Vector3d(310, -140, 95));
@@ -366,8 +387,9 @@ TEST_CASE("shifting in a rotated frame moves the origin along the set's axes", "
   const CoefficientSet shifted = shift_origin(rotated, d);
   const Eigen::Vector3d mesh_point = Q.transpose() * d;
   CHECK((shifted.origin_in_mesh - mesh_point).norm() < 1e-12);
-  const CoefficientSet expected =
-      rotate_set(compute_about(transformed(mesh, Eigen::Matrix3d::Identity(), -mesh_point), 10, R, OriginChoice::mesh), Q);
+  const CoefficientSet expected = rotate_set(
+      compute_about(transformed(mesh, Eigen::Matrix3d::Identity(), -mesh_point), 10, R, OriginChoice::mesh),
+      Q);
   require_sets_close(shifted, expected, 10, 1e-13);
 }
 
