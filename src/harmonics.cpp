@@ -392,6 +392,19 @@ const char* operational_caution() {
 
 namespace {
 
+// Volume by signed tetrahedra from the mesh origin (common practice), without the higher moments that
+// volume_moments also forms; one pass over the faces.
+double mesh_volume(const Mesh& mesh) {
+  double six_volume = 0;
+  for (Eigen::Index f = 0; f < mesh.faces.rows(); ++f) {
+    const Eigen::Vector3d a = mesh.vertices.row(mesh.faces(f, 0)).transpose();
+    const Eigen::Vector3d b = mesh.vertices.row(mesh.faces(f, 1)).transpose();
+    const Eigen::Vector3d c = mesh.vertices.row(mesh.faces(f, 2)).transpose();
+    six_volume += a.dot(b.cross(c));
+  }
+  return six_volume / 6.0;
+}
+
 std::string utc_now() {
   const std::time_t now = std::time(nullptr);
   std::tm tm{};
@@ -440,7 +453,7 @@ CoefficientSet compute_coefficients(const std::vector<DensityRegion>& regions, c
     info.checksum = region.mesh.checksum;
     info.unit = to_string(region.mesh.unit);
     info.density = region.density;
-    info.volume = volume_moments(region.mesh).volume;
+    info.volume = mesh_volume(region.mesh);
     info.faces = long(region.mesh.faces.rows());
     set.regions.push_back(info);
   }
