@@ -256,8 +256,9 @@ void print_accuracy(int max_degree) {
     const HarmonicMoments reference = harmonic_moments_reference(regions, frame, reference_degree);
     std::vector<long double> ext_re, ext_im;
     extended_precision_sums(body.mesh, frame, max_degree, ext_re, ext_im);
-    for (int low = 0; low <= max_degree; low += low < 10 ? 10 : (low < 100 ? 30 : 50)) {
-      const int high = std::min(max_degree, low < 10 ? 9 : (low < 100 ? low + 29 : low + 49));
+    // Bands 0-9, 10-49, 50-99, 100-150, then 50 degrees each.
+    for (int low = 0; low <= max_degree;) {
+      const int high = std::min(max_degree, low == 0 ? 9 : low == 10 ? 49 : low == 50 ? 99 : low == 100 ? 150 : low + 49);
       double vs_reference = 0, vs_extended = 0;
       for (int n = low; n <= high; ++n) {
         double worst_r = 0, scale_r = 0, worst_e = 0, scale_e = 0;
@@ -278,6 +279,7 @@ void print_accuracy(int max_degree) {
       std::snprintf(range, sizeof range, "%d-%d", low, high);
       std::printf("%-28s %6ld %8s %14s %16.1e\n", body.name, long(body.mesh.faces.rows()), range,
                   low <= reference_degree ? fmt_e(vs_reference).c_str() : "-", vs_extended);
+      low = high + 1;
     }
   }
 }
