@@ -1,6 +1,7 @@
 // polystokes report: one self-contained HTML page describing a coefficient set (and its shape, when given).
-#include <ctime>
 #include <fmt/format.h>
+
+#include <ctime>
 #include <memory>
 
 #include "cli_common.h"
@@ -19,6 +20,8 @@ struct ReportOptions {
   double merge_tolerance = 0;
   double density = 0;
   double map_radius = 1.2;
+  std::string compare;
+  double tolerance = CompareOptions{}.tolerance;
   std::string output;
 };
 
@@ -37,8 +40,14 @@ void run_report(const ReportOptions& options, const GlobalOptions& global) {
   input.set_source = options.set;
   if (options.set != "-") input.set_checksum = sha256_file_hex(options.set);
   if (!options.mesh.empty())
-    input.mesh = load_checked_mesh(options.mesh, parse_unit_option(options.unit), options.merge_tolerance, global);
+    input.mesh =
+        load_checked_mesh(options.mesh, parse_unit_option(options.unit), options.merge_tolerance, global);
   input.mesh_density = options.density;
+  if (!options.compare.empty()) {
+    input.other = read_coefficient_file(options.compare);
+    input.other_source = options.compare;
+    input.compare_options.tolerance = options.tolerance;
+  }
   input.map_radius_factor = options.map_radius;
   input.generated = std::string("polystokes ") + POLYSTOKES_VERSION + " at " + utc_now();
   const std::string html = make_report(input);
@@ -55,13 +64,16 @@ void setup_report(CLI::App& app, const GlobalOptions& global) {
       "report",
       "One self-contained HTML page (inline SVG, no scripts, no network) describing a coefficient set:\n"
       "conventions and provenance, mass properties, degree-variance spectrum with a fitted power law,\n"
-      "low-degree coefficients, a radial-acceleration map and, with --mesh, silhouettes of the body.\n"
+      "low-degree coefficients, a radial-acceleration map, with --mesh silhouettes of the body and, with\n"
+      "--compare, the per-degree differences from a second set and the diagnosis of the mismatch.\n"
       "Example: polystokes report varnek.txt --mesh shapes-demo/varnek.obj --unit km -o varnek.html");
   cmd->add_option("set", options->set, "Coefficient file (our text or JSON format; - for stdin)")->required();
-  cmd->add_option("--mesh", options->mesh, "Shape mesh of the body (.obj, .off, .ply, .stl), same frame as the set")
+  cmd->add_option("--mesh", options->mesh,
+                  "Shape mesh of the body (.obj, .off, .ply, .stl), same frame as the set")
       ->check(CLI::ExistingFile);
   cmd->add_option("--unit", options->unit, "Length unit of the mesh file: m or km")
-      ->check(CLI::IsMember({"m", "km"}))->capture_default_str();
+      ->check(CLI::IsMember({"m", "km"}))
+      ->capture_default_str();
   cmd->add_option("--merge-tolerance", options->merge_tolerance,
                   "Merge mesh vertices closer than this (mesh unit); exact duplicates are always merged")
       ->check(CLI::NonNegativeNumber);
@@ -70,7 +82,14 @@ void setup_report(CLI::App& app, const GlobalOptions& global) {
       ->check(CLI::PositiveNumber);
   cmd->add_option("--map-radius", options->map_radius,
                   "Radius of the field-map sphere as a multiple of the Brillouin radius (> 1)")
-      ->check(CLI::Range(1.0, 1e6))->capture_default_str();
+      ->check(CLI::Range(1.0, 1e6))
+      ->capture_default_str();
+  cmd->add_option("--compare", options->compare, "Second coefficient set to compare with (B; this set is A)")
+      ->check(CLI::ExistingFile);
+  cmd->add_option("--tolerance", options->tolerance,
+                  "Relative RMS difference per degree up to which the two sets agree")
+      ->check(CLI::PositiveNumber)
+      ->capture_default_str();
   cmd->add_option("-o,--output", options->output, "HTML file to write (- for stdout)")->required();
   cmd->callback([options, &global]() { run_report(*options, global); });
 }

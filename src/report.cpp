@@ -1,9 +1,10 @@
 #include "report.h"
 
+#include <fmt/format.h>
+
 #include <Eigen/Geometry>
 #include <algorithm>
 #include <cmath>
-#include <fmt/format.h>
 #include <limits>
 
 #include "conventions.h"
@@ -44,9 +45,10 @@ PowerLaw fit_power_law(const std::vector<double>& variance, int min_degree) {
     y.push_back(std::log(variance[n]));
   }
   if (x.size() < 2)
-    throw ConventionError(fmt::format("power-law fit needs at least two degrees n >= {} with a positive degree "
-                                      "variance, found {}",
-                                      min_degree, x.size()));
+    throw ConventionError(
+        fmt::format("power-law fit needs at least two degrees n >= {} with a positive degree "
+                    "variance, found {}",
+                    min_degree, x.size()));
   // Least squares line y = a + b x through centred data (normal equations of simple linear regression).
   const double count = double(x.size());
   double mean_x = 0, mean_y = 0;
@@ -88,7 +90,8 @@ FieldMap radial_acceleration_map(const CoefficientSet& set, double radius, int c
     for (int col = 0; col < columns; ++col) {
       const double lon = (-180.0 + (col + 0.5) * 360.0 / columns) * pi / 180;
       points.row(long(row) * columns + col) =
-          radius * Eigen::RowVector3d(std::cos(lat) * std::cos(lon), std::cos(lat) * std::sin(lon), std::sin(lat));
+          radius *
+          Eigen::RowVector3d(std::cos(lat) * std::cos(lon), std::cos(lat) * std::sin(lon), std::sin(lat));
     }
   }
   const std::vector<FieldValue> field = model.evaluate(points);
@@ -153,26 +156,29 @@ void check_set(const CoefficientSet& set) {
   const long size = set.degree + 1;
   for (const Eigen::MatrixXd* m : {&set.C, &set.S, &set.sigma_C, &set.sigma_S})
     if (set.degree < 0 || m->rows() != size || m->cols() != size)
-      throw ConventionError(fmt::format("report: coefficient matrices of '{}' are not {} x {}", set.body, size, size));
+      throw ConventionError(
+          fmt::format("report: coefficient matrices of '{}' are not {} x {}", set.body, size, size));
   if (!(set.gm > 0) || !std::isfinite(set.gm))
     throw ConventionError(fmt::format("report: GM of '{}' must be positive, got {}", set.body, set.gm));
   if (!(set.reference_radius > 0) || !std::isfinite(set.reference_radius))
-    throw ConventionError(
-        fmt::format("report: reference radius of '{}' must be positive, got {}", set.body, set.reference_radius));
+    throw ConventionError(fmt::format("report: reference radius of '{}' must be positive, got {}", set.body,
+                                      set.reference_radius));
 }
 
 std::string provenance_section(const ReportInput& input) {
   const CoefficientSet& set = input.set;
-  std::string out = "<section id=\"provenance\">\n<h2>Conventions and provenance</h2>\n<table class=\"fields\">\n";
+  std::string out =
+      "<section id=\"provenance\">\n<h2>Conventions and provenance</h2>\n<table class=\"fields\">\n";
   out += row("body", escape(set.body));
-  out += row("source file", escape(input.set_source) +
-                                (input.set_checksum.empty() ? "" : "<br/>SHA-256 " + num(escape(input.set_checksum))));
+  out += row("source file",
+             escape(input.set_source) +
+                 (input.set_checksum.empty() ? "" : "<br/>SHA-256 " + num(escape(input.set_checksum))));
   out += row("maximum degree", num(std::to_string(set.degree)));
   out += row("GM", num(exact(set.gm)) + " m<sup>3</sup> s<sup>\u22122</sup>");
   out += row("reference radius", num(exact(set.reference_radius)) + " m");
   out += row("normalization and phase", escape(describe(set.convention)));
-  out += row("expansion origin", escape(set.origin) + ", at " + num(vector_text(set.origin_in_mesh)) +
-                                     " m in the mesh frame");
+  out += row("expansion origin",
+             escape(set.origin) + ", at " + num(vector_text(set.origin_in_mesh)) + " m in the mesh frame");
   std::string axes;
   for (int i = 0; i < 3; ++i)
     axes += fmt::format("{}{} = {}", i ? "<br/>" : "", "xyz"[i],
@@ -186,14 +192,17 @@ std::string provenance_section(const ReportInput& input) {
   out += row("created", set.created.empty() ? std::string("not recorded") : escape(set.created));
   out += "</table>\n";
   if (!set.regions.empty()) {
-    out += "<h3>Density regions</h3>\n<table class=\"grid\">\n<tr><th>#</th><th>mesh</th><th>unit</th><th>faces</th>"
-           "<th>density (kg m<sup>\u22123</sup>)</th><th>volume (m<sup>3</sup>)</th><th>SHA-256</th></tr>\n";
+    out +=
+        "<h3>Density regions</h3>\n<table "
+        "class=\"grid\">\n<tr><th>#</th><th>mesh</th><th>unit</th><th>faces</th>"
+        "<th>density (kg m<sup>\u22123</sup>)</th><th>volume (m<sup>3</sup>)</th><th>SHA-256</th></tr>\n";
     for (size_t i = 0; i < set.regions.size(); ++i) {
       const Region& r = set.regions[i];
       out += fmt::format(
           "<tr><td>{}</td><td>{}</td><td>{}</td><td class=\"num\">{}</td><td class=\"num\">{}</td>"
           "<td class=\"num\">{}</td><td class=\"num hash\">{}</td></tr>\n",
-          i + 1, escape(r.mesh), escape(r.unit), r.faces, exact(r.density), exact(r.volume), escape(r.checksum));
+          i + 1, escape(r.mesh), escape(r.unit), r.faces, exact(r.density), exact(r.volume),
+          escape(r.checksum));
     }
     out += "</table>\n";
   }
@@ -237,7 +246,8 @@ MeshFacts mesh_facts(const ReportInput& input) {
   } else {
     const double mass = set.mass > 0 ? set.mass : set.gm / gravitational_constant;
     facts.density = mass / volume;
-    facts.density_source = set.mass > 0 ? "the set's mass over the mesh volume" : "GM / G over the mesh volume";
+    facts.density_source =
+        set.mass > 0 ? "the set's mass over the mesh volume" : "GM / G over the mesh volume";
   }
   facts.props = mass_properties({DensityRegion{mesh, facts.density}});
   facts.brillouin = max_vertex_distance(mesh, set.origin_in_mesh);
@@ -247,13 +257,14 @@ MeshFacts mesh_facts(const ReportInput& input) {
 std::string mass_section(const ReportInput& input, const MeshFacts* facts) {
   const CoefficientSet& set = input.set;
   const bool with_mesh = facts != nullptr;
-  std::string out = "<section id=\"mass\">\n<h2>Mass properties</h2>\n<table class=\"grid\">\n<tr><th>quantity</th>"
-                    "<th>from the set</th>";
+  std::string out =
+      "<section id=\"mass\">\n<h2>Mass properties</h2>\n<table class=\"grid\">\n<tr><th>quantity</th>"
+      "<th>from the set</th>";
   if (with_mesh) out += "<th>from the mesh</th>";
   out += "</tr>\n";
   const auto line = [&](const std::string& what, const std::string& from_set, const std::string& from_mesh) {
-    out += "<tr><th>" + what + "</th><td>" + from_set + "</td>" + (with_mesh ? "<td>" + from_mesh + "</td>" : "") +
-           "</tr>\n";
+    out += "<tr><th>" + what + "</th><td>" + from_set + "</td>" +
+           (with_mesh ? "<td>" + from_mesh + "</td>" : "") + "</tr>\n";
   };
   const auto mesh_value = [&](double v) { return with_mesh ? num(fmt::format("{:.9g}", v)) : std::string(); };
   line("GM (m<sup>3</sup> s<sup>\u22122</sup>)", num(exact(set.gm)),
@@ -271,18 +282,20 @@ std::string mass_section(const ReportInput& input, const MeshFacts* facts) {
     // Degree 1 of a field about an origin offset by d from the centre of mass is, fully normalized,
     // (C11, S11, C10) = (dx, dy, dz) C00 / (sqrt(3) R) (common practice: the dipole term of the expansion).
     const CoefficientSet fully = expressed_in(set, Convention{});
-    const Eigen::Vector3d offset =
-        std::sqrt(3.0) * set.reference_radius / fully.C(0, 0) * Eigen::Vector3d(fully.C(1, 1), fully.S(1, 1), fully.C(1, 0));
+    const Eigen::Vector3d offset = std::sqrt(3.0) * set.reference_radius / fully.C(0, 0) *
+                                   Eigen::Vector3d(fully.C(1, 1), fully.S(1, 1), fully.C(1, 0));
     const Eigen::Vector3d from_degree_one = set.origin_in_mesh + set.axes_in_mesh.transpose() * offset;
-    line("centre of mass implied by the degree-1 terms (m, mesh frame)", num(vector_short(from_degree_one)), "");
+    line("centre of mass implied by the degree-1 terms (m, mesh frame)", num(vector_short(from_degree_one)),
+         "");
   }
   line("Brillouin radius about the expansion origin (m)",
        set.brillouin_radius > 0 ? num(exact(set.brillouin_radius)) : "not known",
        with_mesh ? mesh_value(facts->brillouin) : "");
   out += "</table>\n";
   if (!with_mesh) {
-    out += "<p>Give the shape mesh (<code>--mesh</code>) to add its mass properties, principal axes and "
-           "silhouettes.</p>\n";
+    out +=
+        "<p>Give the shape mesh (<code>--mesh</code>) to add its mass properties, principal axes and "
+        "silhouettes.</p>\n";
     return out + "</section>\n";
   }
   const Mesh& mesh = *input.mesh;
@@ -293,14 +306,15 @@ std::string mass_section(const ReportInput& input, const MeshFacts* facts) {
   if (!mesh.checksum.empty()) {
     std::string match = "matches no region of the set: this may not be the shape the set was computed from";
     for (size_t i = 0; i < input.set.regions.size(); ++i)
-      if (input.set.regions[i].checksum == mesh.checksum) match = fmt::format("matches region {} of the set", i + 1);
+      if (input.set.regions[i].checksum == mesh.checksum)
+        match = fmt::format("matches region {} of the set", i + 1);
     if (input.set.regions.empty()) match = "the set records no region checksums";
     out += row("SHA-256", num(escape(mesh.checksum)) + "<br/>" + escape(match));
   }
   std::string inertia;
   for (int i = 0; i < 3; ++i)
-    inertia += fmt::format("{}[{:>15.9g} {:>15.9g} {:>15.9g}]", i ? "<br/>" : "", p.inertia(i, 0), p.inertia(i, 1),
-                           p.inertia(i, 2));
+    inertia += fmt::format("{}[{:>15.9g} {:>15.9g} {:>15.9g}]", i ? "<br/>" : "", p.inertia(i, 0),
+                           p.inertia(i, 1), p.inertia(i, 2));
   out += row("inertia tensor about the centre of mass (kg m<sup>2</sup>, mesh frame)", num(inertia));
   out += row("principal moments A \u2264 B \u2264 C (kg m<sup>2</sup>)",
              num(fmt::format("{:.9g}, {:.9g}, {:.9g}", p.principal_moments[0], p.principal_moments[1],
@@ -314,13 +328,15 @@ std::string mass_section(const ReportInput& input, const MeshFacts* facts) {
                         component(p.principal_axes(2, k)));
   out += row("principal axes (unit vectors, mesh frame)", num(axes));
   out += "</table>\n";
-  for (const auto& notice : mesh.notices) out += "<p class=\"notice\">Mesh import: " + escape(notice) + "</p>\n";
+  for (const auto& notice : mesh.notices)
+    out += "<p class=\"notice\">Mesh import: " + escape(notice) + "</p>\n";
   return out + "</section>\n";
 }
 
 std::string spectrum_section(const CoefficientSet& set) {
   std::string out = "<section id=\"spectrum\">\n<h2>Degree-variance spectrum</h2>\n";
-  if (set.degree < 2) return out + "<p>The set has no degree above 1: there is no spectrum to show.</p>\n</section>\n";
+  if (set.degree < 2)
+    return out + "<p>The set has no degree above 1: there is no spectrum to show.</p>\n</section>\n";
   const DegreeSpectrum spectrum = degree_spectrum(set);
   std::optional<PowerLaw> law;
   std::string law_text;
@@ -370,7 +386,8 @@ std::string spectrum_section(const CoefficientSet& set) {
   plot.legend(legend);
   out += "<figure>\n" + plot.svg("spectrum", "Degree-variance spectrum of " + set.body) + "\n<figcaption>";
   out += fmt::format(
-      "Degree variances \u03c3\u2099\u00b2 = \u03a3\u2098 (C\u2099\u2098\u00b2 + S\u2099\u2098\u00b2) of the fully "
+      "Degree variances \u03c3\u2099\u00b2 = \u03a3\u2098 (C\u2099\u2098\u00b2 + S\u2099\u2098\u00b2) of the "
+      "fully "
       "normalized coefficients (dimensionless) against degree n, both on logarithmic axes, for n = {} to {}",
       show_one ? 1 : 2, set.degree);
   if (!show_one)
@@ -378,7 +395,10 @@ std::string spectrum_section(const CoefficientSet& set) {
                        set.origin == "com" ? "centre of mass" : "expansion origin");
   out += ".";
   if (spectrum.has_sigmas) out += " Red: the same sum of the squared sigmas.";
-  if (law) out += " Dashed: the power law fitted by least squares to ln \u03c3\u2099\u00b2 against ln n for n \u2265 2.";
+  if (law)
+    out +=
+        " Dashed: the power law fitted by least squares to ln \u03c3\u2099\u00b2 against ln n for n \u2265 "
+        "2.";
   out += "</figcaption>\n</figure>\n";
   if (law) {
     out += fmt::format(
@@ -389,16 +409,19 @@ std::string spectrum_section(const CoefficientSet& set) {
   } else {
     out += law_text;
   }
-  out += "<details>\n<summary>Degree variances, table</summary>\n<table class=\"grid\">\n<tr><th>n</th>"
-         "<th>\u03c3\u2099\u00b2</th><th>RMS per coefficient \u221a(\u03c3\u2099\u00b2/(2n+1))</th>";
+  out +=
+      "<details>\n<summary>Degree variances, table</summary>\n<table class=\"grid\">\n<tr><th>n</th>"
+      "<th>\u03c3\u2099\u00b2</th><th>RMS per coefficient \u221a(\u03c3\u2099\u00b2/(2n+1))</th>";
   if (spectrum.has_sigmas) out += "<th>error variance</th>";
   if (law) out += "<th>fitted law</th>";
   out += "</tr>\n";
   for (int n = 0; n <= set.degree; ++n) {
     out += fmt::format("<tr><td>{}</td><td class=\"num\">{}</td><td class=\"num\">{}</td>", n,
-                       sci(spectrum.variance[size_t(n)]), sci(std::sqrt(spectrum.variance[size_t(n)] / (2 * n + 1))));
+                       sci(spectrum.variance[size_t(n)]),
+                       sci(std::sqrt(spectrum.variance[size_t(n)] / (2 * n + 1))));
     if (spectrum.has_sigmas) out += "<td class=\"num\">" + sci(spectrum.sigma_variance[size_t(n)]) + "</td>";
-    if (law) out += "<td class=\"num\">" + (n >= 1 ? sci(law->k * std::pow(double(n), -law->beta)) : "") + "</td>";
+    if (law)
+      out += "<td class=\"num\">" + (n >= 1 ? sci(law->k * std::pow(double(n), -law->beta)) : "") + "</td>";
     out += "</tr>\n";
   }
   out += "</table>\n</details>\n";
@@ -410,23 +433,29 @@ std::string coefficient_section(const CoefficientSet& set) {
   const bool converted = set.convention != Convention{};
   const int top = std::min(4, set.degree);
   std::string out = "<section id=\"coefficients\">\n<h2>Low-degree coefficients</h2>\n";
-  out += fmt::format("<p>Fully normalized (4\u03c0), no Condon\u2013Shortley phase, zonal terms as C<sub>n0</sub>, "
-                     "reference radius {} m, degrees 0 to {}.{}</p>\n",
-                     num(exact(set.reference_radius)), top,
-                     converted ? " The set stores " + escape(describe(set.convention)) +
-                                     "; its own values are in the last two columns."
-                               : "");
-  out += "<table class=\"grid coefficients\">\n<tr><th>n</th><th>m</th><th>C\u2099\u2098</th><th>S\u2099\u2098</th>"
-         "<th>\u03c3(C\u2099\u2098)</th><th>\u03c3(S\u2099\u2098)</th>";
+  out += fmt::format(
+      "<p>Fully normalized (4\u03c0), no Condon\u2013Shortley phase, zonal terms as C<sub>n0</sub>, "
+      "reference radius {} m, degrees 0 to {}.{}</p>\n",
+      num(exact(set.reference_radius)), top,
+      converted ? " The set stores " + escape(describe(set.convention)) +
+                      "; its own values are in the last two columns."
+                : "");
+  out +=
+      "<table class=\"grid "
+      "coefficients\">\n<tr><th>n</th><th>m</th><th>C\u2099\u2098</th><th>S\u2099\u2098</th>"
+      "<th>\u03c3(C\u2099\u2098)</th><th>\u03c3(S\u2099\u2098)</th>";
   if (converted) out += "<th>stored C</th><th>stored S</th>";
   out += "</tr>\n";
   for (int n = 0; n <= top; ++n) {
     for (int m = 0; m <= n; ++m) {
       out += fmt::format(
-          "<tr><td>{}</td><td>{}</td><td class=\"num\">{}</td><td class=\"num\">{}</td><td class=\"num\">{}</td>"
+          "<tr><td>{}</td><td>{}</td><td class=\"num\">{}</td><td class=\"num\">{}</td><td "
+          "class=\"num\">{}</td>"
           "<td class=\"num\">{}</td>",
           n, m, sci(fully.C(n, m)), sci(fully.S(n, m)), sci(fully.sigma_C(n, m)), sci(fully.sigma_S(n, m)));
-      if (converted) out += fmt::format("<td class=\"num\">{}</td><td class=\"num\">{}</td>", sci(set.C(n, m)), sci(set.S(n, m)));
+      if (converted)
+        out += fmt::format("<td class=\"num\">{}</td><td class=\"num\">{}</td>", sci(set.C(n, m)),
+                           sci(set.S(n, m)));
       out += "</tr>\n";
     }
   }
@@ -453,9 +482,15 @@ std::string silhouette_svg(const ReportInput& input, const MeshFacts& facts, con
   const double cu = set.origin_in_mesh[view.right] / unit.metres;
   const double cv = set.origin_in_mesh[view.up] / unit.metres;
   const std::string axis_names = "xyz";
-  svg::Axis x{cu - half, cu + half, false, std::string(1, axis_names[size_t(view.right)]) + " (" + unit.name + ")", {}};
-  svg::Axis y{cv - half, cv + half, false, std::string(1, axis_names[size_t(view.up)]) + " (" + unit.name + ")", {}};
-  svg::Plot plot(margins.left + margins.right + frame_px, margins.top + margins.bottom + frame_px, x, y, margins);
+  svg::Axis x{cu - half,
+              cu + half,
+              false,
+              std::string(1, axis_names[size_t(view.right)]) + " (" + unit.name + ")",
+              {}};
+  svg::Axis y{
+      cv - half, cv + half, false, std::string(1, axis_names[size_t(view.up)]) + " (" + unit.name + ")", {}};
+  svg::Plot plot(margins.left + margins.right + frame_px, margins.top + margins.bottom + frame_px, x, y,
+                 margins);
 
   // Raster of the projection with a depth buffer: samples every 0.8 px.
   const int samples = int(frame_px / 0.8);
@@ -497,9 +532,9 @@ std::string silhouette_svg(const ReportInput& input, const MeshFacts& facts, con
   }
   svg::Grid coverage{samples, samples, std::vector<float>(front.size())};
   for (size_t s = 0; s < front.size(); ++s) coverage.values[s] = front[s] >= 0 ? 1.0f : 0.0f;
-  const std::string outline = svg::loops_path(svg::contour_loops(coverage, 0.5),
-                                              {plot.left() + 0.5 * spacing, plot.top() + 0.5 * spacing},
-                                              {spacing, spacing});
+  const std::string outline =
+      svg::loops_path(svg::contour_loops(coverage, 0.5),
+                      {plot.left() + 0.5 * spacing, plot.top() + 0.5 * spacing}, {spacing, spacing});
 
   // Shading: Lambert light from the upper left, in front; cells of 3 x 3 samples, runs of equal shade merged.
   Eigen::Vector3d e_right = Eigen::Vector3d::Zero(), e_up = Eigen::Vector3d::Zero();
@@ -516,9 +551,10 @@ std::string silhouette_svg(const ReportInput& input, const MeshFacts& facts, con
       const double level = run_level / 24.0;
       const int r = int(std::lround(60 + 175 * level)), g = int(std::lround(52 + 160 * level)),
                 b = int(std::lround(44 + 130 * level));
-      shading += fmt::format("<rect x=\"{:.1f}\" y=\"{:.1f}\" width=\"{:.1f}\" height=\"{:.1f}\" fill=\"#{:02x}{:02x}{:02x}\"/>",
-                             plot.left() + run_start * cell * spacing, plot.top() + cj * cell * spacing,
-                             (end - run_start) * cell * spacing + 0.4, cell * spacing + 0.4, r, g, b);
+      shading += fmt::format(
+          "<rect x=\"{:.1f}\" y=\"{:.1f}\" width=\"{:.1f}\" height=\"{:.1f}\" fill=\"#{:02x}{:02x}{:02x}\"/>",
+          plot.left() + run_start * cell * spacing, plot.top() + cj * cell * spacing,
+          (end - run_start) * cell * spacing + 0.4, cell * spacing + 0.4, r, g, b);
       run_start = -1;
       run_level = -1;
     };
@@ -546,22 +582,26 @@ std::string silhouette_svg(const ReportInput& input, const MeshFacts& facts, con
     }
     flush(cells);
   }
-  plot.raw(fmt::format("<defs><clipPath id=\"{}-body\"><path d=\"{}\" clip-rule=\"evenodd\"/></clipPath></defs>\n",
-                       view.id, outline));
+  plot.raw(
+      fmt::format("<defs><clipPath id=\"{}-body\"><path d=\"{}\" clip-rule=\"evenodd\"/></clipPath></defs>\n",
+                  view.id, outline));
   plot.raw(fmt::format("<g clip-path=\"url(#{}-body)\">{}</g>\n", view.id, shading));
-  plot.raw(fmt::format("<path d=\"{}\" fill=\"none\" fill-rule=\"evenodd\" stroke=\"#2b2118\" stroke-width=\"1\"/>\n",
-                       outline));
+  plot.raw(fmt::format(
+      "<path d=\"{}\" fill=\"none\" fill-rule=\"evenodd\" stroke=\"#2b2118\" stroke-width=\"1\"/>\n",
+      outline));
 
   // Brillouin sphere and, when different, the reference sphere: circles about the expansion origin.
   const double px_per_unit = (plot.right() - plot.left()) / (2 * half);
   const double ox = plot.to_x(cu), oy = plot.to_y(cv);
-  plot.raw(fmt::format("<circle cx=\"{:.1f}\" cy=\"{:.1f}\" r=\"{:.1f}\" fill=\"none\" stroke=\"#7b3fa0\" "
-                       "stroke-width=\"1.4\"/>\n",
-                       ox, oy, radius / unit.metres * px_per_unit));
+  plot.raw(
+      fmt::format("<circle cx=\"{:.1f}\" cy=\"{:.1f}\" r=\"{:.1f}\" fill=\"none\" stroke=\"#7b3fa0\" "
+                  "stroke-width=\"1.4\"/>\n",
+                  ox, oy, radius / unit.metres * px_per_unit));
   if (std::abs(set.reference_radius - radius) > 1e-6 * radius && set.reference_radius < 1.08 * radius)
-    plot.raw(fmt::format("<circle cx=\"{:.1f}\" cy=\"{:.1f}\" r=\"{:.1f}\" fill=\"none\" stroke=\"#7b3fa0\" "
-                         "stroke-width=\"1\" stroke-dasharray=\"5 4\"/>\n",
-                         ox, oy, set.reference_radius / unit.metres * px_per_unit));
+    plot.raw(
+        fmt::format("<circle cx=\"{:.1f}\" cy=\"{:.1f}\" r=\"{:.1f}\" fill=\"none\" stroke=\"#7b3fa0\" "
+                    "stroke-width=\"1\" stroke-dasharray=\"5 4\"/>\n",
+                    ox, oy, set.reference_radius / unit.metres * px_per_unit));
   // Principal axes through the centre of mass, as long as the body's extent along them.
   const Eigen::Vector3d com = facts.props.center_of_mass;
   const char* colors[3] = {"#d62728", "#2ca02c", "#1f77b4"};
@@ -571,9 +611,11 @@ std::string silhouette_svg(const ReportInput& input, const MeshFacts& facts, con
     for (long v = 0; v < mesh.vertices.rows(); ++v)
       extent = std::max(extent, std::abs((mesh.vertices.row(v).transpose() - com).dot(axis)));
     const Eigen::Vector3d tip = com + 1.12 * extent * axis;
-    const Eigen::Vector2d center(plot.to_x(com[view.right] / unit.metres), plot.to_y(com[view.up] / unit.metres));
+    const Eigen::Vector2d center(plot.to_x(com[view.right] / unit.metres),
+                                 plot.to_y(com[view.up] / unit.metres));
     const Eigen::Vector2d arm =
-        Eigen::Vector2d(plot.to_x(tip[view.right] / unit.metres), plot.to_y(tip[view.up] / unit.metres)) - center;
+        Eigen::Vector2d(plot.to_x(tip[view.right] / unit.metres), plot.to_y(tip[view.up] / unit.metres)) -
+        center;
     // Shortened where needed so that both ends and the label stay inside the frame.
     double t = 1;
     const double inset = 14;
@@ -587,20 +629,23 @@ std::string silhouette_svg(const ReportInput& input, const MeshFacts& facts, con
       }
     t = std::max(t, 0.0);
     const Eigen::Vector2d a = center - t * arm, b = center + t * arm;
-    plot.raw(fmt::format("<line x1=\"{:.1f}\" y1=\"{:.1f}\" x2=\"{:.1f}\" y2=\"{:.1f}\" stroke=\"{}\" "
-                         "stroke-width=\"1.6\"/>\n",
-                         a.x(), a.y(), b.x(), b.y(), colors[k]));
+    plot.raw(
+        fmt::format("<line x1=\"{:.1f}\" y1=\"{:.1f}\" x2=\"{:.1f}\" y2=\"{:.1f}\" stroke=\"{}\" "
+                    "stroke-width=\"1.6\"/>\n",
+                    a.x(), a.y(), b.x(), b.y(), colors[k]));
     if (t * arm.norm() > 6) {
       const Eigen::Vector2d label = b + 9 * arm.normalized();
-      plot.raw(fmt::format("<text x=\"{:.1f}\" y=\"{:.1f}\" fill=\"{}\" font-weight=\"bold\" text-anchor=\"middle\" "
-                           "dominant-baseline=\"middle\">{}</text>\n",
-                           label.x(), label.y(), colors[k], "ABC"[k]));
+      plot.raw(fmt::format(
+          "<text x=\"{:.1f}\" y=\"{:.1f}\" fill=\"{}\" font-weight=\"bold\" text-anchor=\"middle\" "
+          "dominant-baseline=\"middle\">{}</text>\n",
+          label.x(), label.y(), colors[k], "ABC"[k]));
     }
   }
   const double cx = plot.to_x(com[view.right] / unit.metres), cy = plot.to_y(com[view.up] / unit.metres);
-  plot.raw(fmt::format("<circle cx=\"{:.1f}\" cy=\"{:.1f}\" r=\"3.2\" fill=\"#ffffff\" stroke=\"#000000\" "
-                       "stroke-width=\"1.2\"/>\n",
-                       cx, cy));
+  plot.raw(
+      fmt::format("<circle cx=\"{:.1f}\" cy=\"{:.1f}\" r=\"3.2\" fill=\"#ffffff\" stroke=\"#000000\" "
+                  "stroke-width=\"1.2\"/>\n",
+                  cx, cy));
   return plot.svg(view.id, std::string("Silhouette of the body, ") + view.name);
 }
 
@@ -615,17 +660,20 @@ std::string silhouette_section(const ReportInput& input, const MeshFacts& facts)
   out += "</div>\n";
   const LengthDisplay unit = display_unit(facts.brillouin);
   out += fmt::format(
-      "<p class=\"caption\">Orthographic silhouettes of <em>{}</em> ({} faces) in the mesh frame, lengths in {}, "
+      "<p class=\"caption\">Orthographic silhouettes of <em>{}</em> ({} faces) in the mesh frame, lengths in "
+      "{}, "
       "shaded by a light from the upper left. Lines: principal axes of inertia through the centre of mass "
       "(white dot), <span style=\"color:#d62728\">A</span> (smallest moment), "
-      "<span style=\"color:#2ca02c\">B</span>, <span style=\"color:#1f77b4\">C</span> (largest moment), each as "
+      "<span style=\"color:#2ca02c\">B</span>, <span style=\"color:#1f77b4\">C</span> (largest moment), each "
+      "as "
       "long as the body along it. Purple circle: the Brillouin sphere, radius {:.6g} {} about the expansion "
       "origin; the series converges only outside it.{}</p>\n",
-      escape(input.mesh->source), input.mesh->faces.rows(), unit.name, facts.brillouin / unit.metres, unit.name,
+      escape(input.mesh->source), input.mesh->faces.rows(), unit.name, facts.brillouin / unit.metres,
+      unit.name,
       std::abs(input.set.reference_radius - facts.brillouin) > 1e-6 * facts.brillouin &&
               input.set.reference_radius < 1.08 * facts.brillouin
-          ? fmt::format(" Dashed: the reference sphere, radius {:.6g} {}.", input.set.reference_radius / unit.metres,
-                        unit.name)
+          ? fmt::format(" Dashed: the reference sphere, radius {:.6g} {}.",
+                        input.set.reference_radius / unit.metres, unit.name)
           : std::string());
   return out + "</section>\n";
 }
@@ -651,8 +699,10 @@ std::string map_section(const ReportInput& input, double brillouin, const std::s
   std::string out = "<section id=\"field\">\n<h2>Radial acceleration</h2>\n<figure>\n";
   out += plot.svg("map", "Radial acceleration map of " + set.body) + "\n<figcaption>";
   out += fmt::format(
-      "Radial acceleration g\u1d63 = a \u00b7 r\u0302 (m s<sup>\u22122</sup>; negative: toward the body) on the "
-      "sphere of radius {} m = {} \u00d7 the Brillouin radius ({}) about the expansion origin, from the series to "
+      "Radial acceleration g\u1d63 = a \u00b7 r\u0302 (m s<sup>\u22122</sup>; negative: toward the body) on "
+      "the "
+      "sphere of radius {} m = {} \u00d7 the Brillouin radius ({}) about the expansion origin, from the "
+      "series to "
       "degree {}. Equirectangular grid of {} \u00d7 {} cells, latitude and longitude in the set's frame "
       "(z axis north, x axis at longitude 0). Range {} to {} m s<sup>\u22122</sup>; the point-mass value "
       "\u2212GM/r\u00b2 is {} m s<sup>\u22122</sup>.",
@@ -660,6 +710,100 @@ std::string map_section(const ReportInput& input, double brillouin, const std::s
       map.columns, map.rows, num(fmt::format("{:.6e}", map.min)), num(fmt::format("{:.6e}", map.max)),
       num(fmt::format("{:.6e}", -set.gm / (radius * radius))));
   out += "</figcaption>\n</figure>\n";
+  return out + "</section>\n";
+}
+
+std::string comparison_section(const ReportInput& input) {
+  const Comparison c = compare_sets(input.set, *input.other, input.compare_options);
+  const CoefficientSet& b = *input.other;
+  std::string out = "<section id=\"comparison\">\n<h2>Comparison with a second set</h2>\n";
+  out += fmt::format(
+      "<p>A: this set (<em>{}</em>, degree {}). B: <em>{}</em> from {} (degree {}, {}). Compared "
+      "in A's conventions to degree {}, tolerance {} relative to the larger spectrum.</p>\n",
+      escape(input.set.body), c.degree_a, escape(b.body), escape(input.other_source), c.degree_b,
+      escape(describe(b.convention)), c.degree, short_number(c.tolerance));
+  out += std::string("<p class=\"verdict ") + (c.agree ? "agree" : "disagree") + "\">" + escape(c.verdict) +
+         "</p>\n";
+  if (!c.alignment.empty()) {
+    out += "<h3>B brought to A</h3>\n<ul>\n";
+    for (const auto& step : c.alignment) out += "<li>" + escape(step) + "</li>\n";
+    out += "</ul>\n";
+  }
+  if (c.degree >= 2) {
+    std::vector<double> n, rms_a, rms_b, difference, threshold, range;
+    for (const auto& d : c.degrees) {
+      if (d.degree < 2) continue;
+      n.push_back(d.degree);
+      rms_a.push_back(d.rms_a);
+      rms_b.push_back(d.rms_b);
+      difference.push_back(d.rms_difference);
+      threshold.push_back(c.tolerance * std::max(d.rms_a, d.rms_b));
+    }
+    for (const auto* v : {&rms_a, &rms_b, &difference, &threshold})
+      range.insert(range.end(), v->begin(), v->end());
+    const svg::Axis x{1.5, c.degree + 0.5, false, "degree n", {}};
+    const svg::Axis y = svg::axis_for(range, true, "RMS per coefficient (dimensionless)");
+    svg::Plot plot(820, 400, x, y);
+    const svg::Style style_a{"#1f5fa8", 1.8, false, true, true}, style_b{"#e08a1e", 1.6, true, true, true},
+        style_d{"#c0392b", 1.8, false, true, true}, style_t{"#777777", 1.2, true, true, false};
+    plot.series(n, rms_a, style_a);
+    plot.series(n, rms_b, style_b);
+    plot.series(n, difference, style_d);
+    plot.series(n, threshold, style_t);
+    plot.legend({{"A", style_a},
+                 {"B (in A's conventions)", style_b},
+                 {"A \u2212 B", style_d},
+                 {"agreement threshold", style_t}},
+                svg::Plot::Corner::bottom_left);
+    const bool identical = std::all_of(difference.begin(), difference.end(), [](double v) { return v == 0; });
+    out += "<figure>\n" + plot.svg("difference", "Per-degree difference of the two sets") + "\n<figcaption>";
+    out += fmt::format(
+        "RMS per coefficient \u221a(\u03a3\u2098 (C\u2099\u2098\u00b2 + S\u2099\u2098\u00b2) / (2n+1)) of A, "
+        "of B "
+        "and of their difference A \u2212 B, fully normalized, against degree n = 2 to {} (log scale). A "
+        "degree "
+        "agrees where the difference is below the dashed threshold ({} \u00d7 the larger of the two).{}",
+        c.degree, short_number(c.tolerance),
+        identical ? " The two sets are identical at every degree shown." : "");
+    out += "</figcaption>\n</figure>\n";
+  }
+  if (!c.hypotheses.empty()) {
+    out += fmt::format(
+        "<h3>Diagnosis</h3>\n<p>Each usual exchange mistake applied to B as read, ranked by the misfit "
+        "left (RMS over degrees of the relative difference; {} as given).</p>\n",
+        num(fmt::format("{:.3e}", c.misfit)));
+    // The five best in view, the rest folded away.
+    const std::string header =
+        "<table class=\"grid\">\n<tr><th>hypothesis</th><th>what it says</th><th>misfit</th>"
+        "<th>reduced by</th><th>agrees to degree</th><th>explains all</th></tr>\n";
+    out += header;
+    for (size_t i = 0; i < c.hypotheses.size(); ++i) {
+      const Hypothesis& h = c.hypotheses[i];
+      if (i == 5)
+        out += fmt::format("</table>\n<details>\n<summary>{} more hypotheses</summary>\n{}",
+                           c.hypotheses.size() - 5, header);
+      out += fmt::format(
+          "<tr{}><td>{}</td><td>{}</td><td class=\"num\">{:.3e}</td><td class=\"num\">{}</td>"
+          "<td class=\"num\">{}</td><td>{}</td></tr>\n",
+          h.explains ? " class=\"best\"" : "", escape(h.kind), escape(h.description), h.misfit,
+          h.misfit > 0 ? fmt::format("\u00d7{:.3g}", c.misfit / h.misfit) : std::string("all"),
+          h.agree_degree, h.explains ? "yes" : "no");
+    }
+    out += c.hypotheses.size() > 5 ? "</table>\n</details>\n" : "</table>\n";
+  }
+  if (!c.largest.empty()) {
+    out +=
+        "<h3>Largest differences</h3>\n<table class=\"grid\">\n<tr><th>coefficient</th><th>A</th>"
+        "<th>B (in A's conventions)</th><th>A \u2212 B</th></tr>\n";
+    for (const auto& d : c.largest)
+      out += fmt::format(
+          "<tr><td>{}<sub>{},{}</sub></td><td class=\"num\">{}</td><td class=\"num\">{}</td>"
+          "<td class=\"num\">{}</td></tr>\n",
+          d.sine ? "S" : "C", d.n, d.m, sci(d.a), sci(d.b), sci(d.a - d.b));
+    out += "</table>\n";
+  }
+  out += "<details>\n<summary>Comparison, full text</summary>\n<pre>" + escape(comparison_text(c)) +
+         "</pre>\n</details>\n";
   return out + "</section>\n";
 }
 
@@ -686,6 +830,11 @@ figcaption, .caption { font-size: 13px; color: #444; max-width: 900px; }
 .law { font-size: 15px; }
 .notice { font-size: 13px; color: #555; }
 details summary { cursor: pointer; color: #1f5fa8; }
+pre { font-size: 12px; overflow-x: auto; background: #f6f5f1; padding: 8px; }
+.verdict { font-weight: 600; padding: 6px 10px; }
+.verdict.agree { background: #e6f4e6; border-left: 5px solid #2e8b3e; }
+.verdict.disagree { background: #fbe9e7; border-left: 5px solid #c0392b; }
+tr.best td { background: #eef6ee; }
 footer { margin-top: 28px; font-size: 13px; color: #555; }
 .print-caution { display: none; }
 @media print {
@@ -703,9 +852,10 @@ std::string make_report(const ReportInput& input) {
   const CoefficientSet& set = input.set;
   check_set(set);
   if (!(input.map_radius_factor > 1))
-    throw ConventionError(fmt::format("report: the field map must lie outside the Brillouin sphere (radius factor "
-                                      "> 1), got {}",
-                                      input.map_radius_factor));
+    throw ConventionError(
+        fmt::format("report: the field map must lie outside the Brillouin sphere (radius factor "
+                    "> 1), got {}",
+                    input.map_radius_factor));
   std::optional<MeshFacts> facts;
   if (input.mesh) facts = mesh_facts(input);
 
@@ -726,9 +876,10 @@ std::string make_report(const ReportInput& input) {
   out += "<style>" + std::string(kStyle) + "</style>\n</head>\n<body>\n";
   out += "<div class=\"print-caution\">" + escape(operational_caution()) + "</div>\n<main>\n";
   out += "<header>\n<h1>Gravity field report: " + escape(set.body) + "</h1>\n";
-  out += fmt::format("<p>Constant-density Stokes coefficients to degree {}, GM {} m<sup>3</sup> s<sup>\u22122</sup>, "
-                     "reference radius {} m.</p>\n",
-                     set.degree, num(exact(set.gm)), num(exact(set.reference_radius)));
+  out += fmt::format(
+      "<p>Constant-density Stokes coefficients to degree {}, GM {} m<sup>3</sup> s<sup>\u22122</sup>, "
+      "reference radius {} m.</p>\n",
+      set.degree, num(exact(set.gm)), num(exact(set.reference_radius)));
   if (!input.generated.empty()) out += "<p>Report written by " + escape(input.generated) + ".</p>\n";
   out += "</header>\n" + caution_box();
   out += provenance_section(input);
@@ -737,6 +888,7 @@ std::string make_report(const ReportInput& input) {
   out += coefficient_section(set);
   if (facts) out += silhouette_section(input, *facts);
   out += map_section(input, brillouin, brillouin_source);
+  if (input.other) out += comparison_section(input);
   out += "<footer>\n" + caution_box();
   if (!input.generated.empty()) out += "<p>" + escape(input.generated) + "</p>\n";
   out += "</footer>\n</main>\n</body>\n</html>\n";

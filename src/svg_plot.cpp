@@ -1,9 +1,10 @@
 #include "svg_plot.h"
 
+#include <fmt/format.h>
+
 #include <algorithm>
 #include <array>
 #include <cmath>
-#include <fmt/format.h>
 #include <limits>
 
 namespace polystokes::svg {
@@ -29,8 +30,8 @@ std::string tick_markup(double value, bool log) {
   if (log && is_power_of_ten(value)) {
     const int exponent = int(std::lround(std::log10(value)));
     if (exponent >= -2 && exponent <= 3) return tick_label(value);
-    return fmt::format("10<tspan dy=\"-6\" font-size=\"9\">{}</tspan>", exponent < 0 ? "\u2212" + std::to_string(-exponent)
-                                                                                    : std::to_string(exponent));
+    return fmt::format("10<tspan dy=\"-6\" font-size=\"9\">{}</tspan>",
+                       exponent < 0 ? "\u2212" + std::to_string(-exponent) : std::to_string(exponent));
   }
   return escape(tick_label(value));
 }
@@ -42,14 +43,14 @@ std::string stroke_attributes(const Style& style) {
 
 // viridis at t = 0, 1/8, ..., 1 (van der Walt and Smith 2015; values from memory).
 constexpr std::array<std::array<int, 3>, 9> kViridis{{{0x44, 0x01, 0x54},
-                                                       {0x47, 0x2d, 0x7b},
-                                                       {0x3b, 0x52, 0x8b},
-                                                       {0x2c, 0x72, 0x8e},
-                                                       {0x21, 0x91, 0x8c},
-                                                       {0x28, 0xae, 0x80},
-                                                       {0x5e, 0xc9, 0x62},
-                                                       {0xad, 0xdc, 0x30},
-                                                       {0xfd, 0xe7, 0x25}}};
+                                                      {0x47, 0x2d, 0x7b},
+                                                      {0x3b, 0x52, 0x8b},
+                                                      {0x2c, 0x72, 0x8e},
+                                                      {0x21, 0x91, 0x8c},
+                                                      {0x28, 0xae, 0x80},
+                                                      {0x5e, 0xc9, 0x62},
+                                                      {0xad, 0xdc, 0x30},
+                                                      {0xfd, 0xe7, 0x25}}};
 
 }  // namespace
 
@@ -62,11 +63,21 @@ std::string escape(const std::string& text) {
     const unsigned char c = byte(i);
     if (c < 0x80) {
       switch (c) {
-        case '&': out += "&amp;"; break;
-        case '<': out += "&lt;"; break;
-        case '>': out += "&gt;"; break;
-        case '"': out += "&quot;"; break;
-        case '\'': out += "&#39;"; break;
+        case '&':
+          out += "&amp;";
+          break;
+        case '<':
+          out += "&lt;";
+          break;
+        case '>':
+          out += "&gt;";
+          break;
+        case '"':
+          out += "&quot;";
+          break;
+        case '\'':
+          out += "&#39;";
+          break;
         default:
           if ((c < 0x20 && c != '\t' && c != '\n') || c == 0x7f)
             out += fmt::format("\\x{:02x}", c);
@@ -78,15 +89,19 @@ std::string escape(const std::string& text) {
     }
     // Length and smallest code point of the sequence a lead byte starts (RFC 3629: no overlong forms,
     // no surrogates, nothing above U+10FFFF).
-    const size_t length = c >= 0xc2 && c <= 0xdf ? 2 : c >= 0xe0 && c <= 0xef ? 3 : c >= 0xf0 && c <= 0xf4 ? 4 : 0;
+    const size_t length = c >= 0xc2 && c <= 0xdf   ? 2
+                          : c >= 0xe0 && c <= 0xef ? 3
+                          : c >= 0xf0 && c <= 0xf4 ? 4
+                                                   : 0;
     unsigned long code = length == 2 ? c & 0x1f : length == 3 ? c & 0x0f : c & 0x07;
     bool valid = length > 0 && i + length <= text.size();
     for (size_t k = 1; valid && k < length; ++k) {
       valid = (byte(i + k) & 0xc0) == 0x80;
       code = (code << 6) | (byte(i + k) & 0x3f);
     }
-    valid = valid && !(length == 3 && code < 0x800) && !(length == 4 && (code < 0x10000 || code > 0x10ffff)) &&
-            !(code >= 0xd800 && code <= 0xdfff) && code != 0xfffe && code != 0xffff;
+    valid = valid && !(length == 3 && code < 0x800) &&
+            !(length == 4 && (code < 0x10000 || code > 0x10ffff)) && !(code >= 0xd800 && code <= 0xdfff) &&
+            code != 0xfffe && code != 0xffff;
     if (valid) {
       out.append(text, i, length);
       i += length;
@@ -181,7 +196,8 @@ Plot::Plot(double width, double height, const Axis& x, const Axis& y, const Marg
     : width_(width), height_(height), x_(x), y_(y), margins_(margins) {}
 
 double Plot::fraction(const Axis& axis, double value) const {
-  if (axis.log) return (std::log10(value) - std::log10(axis.min)) / (std::log10(axis.max) - std::log10(axis.min));
+  if (axis.log)
+    return (std::log10(value) - std::log10(axis.min)) / (std::log10(axis.max) - std::log10(axis.min));
   return (value - axis.min) / (axis.max - axis.min);
 }
 
@@ -216,8 +232,9 @@ void Plot::series(const std::vector<double>& x, const std::vector<double>& y, co
 void Plot::rect(double x0, double y0, double x1, double y1, const std::string& color) {
   const double a = to_x(x0), b = to_x(x1), c = to_y(y0), d = to_y(y1);
   // Rounded outward by a hair so neighbouring cells leave no anti-aliasing seams.
-  content_ += fmt::format("<rect x=\"{:.2f}\" y=\"{:.2f}\" width=\"{:.2f}\" height=\"{:.2f}\" fill=\"{}\"/>",
-                          std::min(a, b), std::min(c, d), std::abs(b - a) + 0.35, std::abs(d - c) + 0.35, color);
+  content_ +=
+      fmt::format("<rect x=\"{:.2f}\" y=\"{:.2f}\" width=\"{:.2f}\" height=\"{:.2f}\" fill=\"{}\"/>",
+                  std::min(a, b), std::min(c, d), std::abs(b - a) + 0.35, std::abs(d - c) + 0.35, color);
 }
 
 void Plot::label(double x, double y, const std::string& text, const std::string& color) {
@@ -229,8 +246,9 @@ void Plot::legend(const std::vector<LegendEntry>& entries, Corner corner) {
   if (entries.empty()) return;
   size_t longest = 0;  // in code points: UTF-8 continuation bytes do not count
   for (const auto& e : entries)
-    longest = std::max(longest, size_t(std::count_if(e.label.begin(), e.label.end(),
-                                                     [](char c) { return (static_cast<unsigned char>(c) & 0xc0) != 0x80; })));
+    longest = std::max(longest, size_t(std::count_if(e.label.begin(), e.label.end(), [](char c) {
+                         return (static_cast<unsigned char>(c) & 0xc0) != 0x80;
+                       })));
   const double box_w = 44 + 6.4 * double(longest);
   const double line_h = 17;
   const double box_h = 8 + line_h * double(entries.size());
@@ -239,19 +257,21 @@ void Plot::legend(const std::vector<LegendEntry>& entries, Corner corner) {
   const double x0 = on_right ? right() - box_w - 8 : left() + 8;
   const double y0 = on_top ? top() + 8 : bottom() - box_h - 8;
   legend_ += fmt::format(
-      "<g><rect x=\"{:.1f}\" y=\"{:.1f}\" width=\"{:.1f}\" height=\"{:.1f}\" fill=\"#ffffff\" fill-opacity=\"0.9\" "
+      "<g><rect x=\"{:.1f}\" y=\"{:.1f}\" width=\"{:.1f}\" height=\"{:.1f}\" fill=\"#ffffff\" "
+      "fill-opacity=\"0.9\" "
       "stroke=\"#bbbbbb\"/>\n",
       x0, y0, box_w, box_h);
   for (size_t i = 0; i < entries.size(); ++i) {
     const double y = y0 + 4 + line_h * (double(i) + 0.5);
     const Style& s = entries[i].style;
     if (s.line)
-      legend_ += fmt::format("<line x1=\"{:.1f}\" y1=\"{:.1f}\" x2=\"{:.1f}\" y2=\"{:.1f}\" {}/>", x0 + 6, y, x0 + 30,
-                             y, stroke_attributes(s));
+      legend_ += fmt::format("<line x1=\"{:.1f}\" y1=\"{:.1f}\" x2=\"{:.1f}\" y2=\"{:.1f}\" {}/>", x0 + 6, y,
+                             x0 + 30, y, stroke_attributes(s));
     if (s.markers)
-      legend_ += fmt::format("<circle cx=\"{:.1f}\" cy=\"{:.1f}\" r=\"3\" fill=\"{}\"/>", x0 + 18, y, s.color);
-    legend_ += fmt::format("<text x=\"{:.1f}\" y=\"{:.1f}\" dominant-baseline=\"middle\">{}</text>\n", x0 + 36, y + 1,
-                           escape(entries[i].label));
+      legend_ +=
+          fmt::format("<circle cx=\"{:.1f}\" cy=\"{:.1f}\" r=\"3\" fill=\"{}\"/>", x0 + 18, y, s.color);
+    legend_ += fmt::format("<text x=\"{:.1f}\" y=\"{:.1f}\" dominant-baseline=\"middle\">{}</text>\n",
+                           x0 + 36, y + 1, escape(entries[i].label));
   }
   legend_ += "</g>\n";
 }
@@ -265,35 +285,38 @@ std::string Plot::svg(const std::string& id, const std::string& title) const {
   std::string out = fmt::format(
       "<svg xmlns=\"http://www.w3.org/2000/svg\" width=\"{0}\" height=\"{1}\" viewBox=\"0 0 {0} {1}\" "
       "font-family=\"sans-serif\" font-size=\"12\" role=\"img\">\n<title>{2}</title>\n"
-      "<defs><clipPath id=\"{3}-clip\"><rect x=\"{4}\" y=\"{5}\" width=\"{6}\" height=\"{7}\"/></clipPath></defs>\n"
+      "<defs><clipPath id=\"{3}-clip\"><rect x=\"{4}\" y=\"{5}\" width=\"{6}\" "
+      "height=\"{7}\"/></clipPath></defs>\n"
       "<rect x=\"{4}\" y=\"{5}\" width=\"{6}\" height=\"{7}\" fill=\"#ffffff\"/>\n",
       width_, height_, escape(title), id, left(), top(), w, h);
   std::string grid, marks;
   for (double t : ticks(x_)) {
     const double px = to_x(t);
     grid += fmt::format("<line x1=\"{0:.1f}\" y1=\"{1}\" x2=\"{0:.1f}\" y2=\"{2}\"/>", px, top(), bottom());
-    marks += fmt::format("<line x1=\"{0:.1f}\" y1=\"{1}\" x2=\"{0:.1f}\" y2=\"{2}\" stroke=\"#333\"/>", px, bottom(),
-                         bottom() + 5);
+    marks += fmt::format("<line x1=\"{0:.1f}\" y1=\"{1}\" x2=\"{0:.1f}\" y2=\"{2}\" stroke=\"#333\"/>", px,
+                         bottom(), bottom() + 5);
     marks += fmt::format("<text x=\"{:.1f}\" y=\"{}\" text-anchor=\"middle\">{}</text>\n", px, bottom() + 18,
                          tick_markup(t, x_.log));
   }
   for (double t : ticks(y_)) {
     const double py = to_y(t);
     grid += fmt::format("<line x1=\"{1}\" y1=\"{0:.1f}\" x2=\"{2}\" y2=\"{0:.1f}\"/>", py, left(), right());
-    marks += fmt::format("<line x1=\"{1}\" y1=\"{0:.1f}\" x2=\"{2}\" y2=\"{0:.1f}\" stroke=\"#333\"/>", py, left() - 5,
-                         left());
-    marks += fmt::format("<text x=\"{}\" y=\"{:.1f}\" text-anchor=\"end\" dominant-baseline=\"middle\">{}</text>\n",
-                         left() - 8, py, tick_markup(t, y_.log));
+    marks += fmt::format("<line x1=\"{1}\" y1=\"{0:.1f}\" x2=\"{2}\" y2=\"{0:.1f}\" stroke=\"#333\"/>", py,
+                         left() - 5, left());
+    marks += fmt::format(
+        "<text x=\"{}\" y=\"{:.1f}\" text-anchor=\"end\" dominant-baseline=\"middle\">{}</text>\n",
+        left() - 8, py, tick_markup(t, y_.log));
   }
   out += "<g stroke=\"#e3e3e3\" stroke-width=\"1\">" + grid + "</g>\n";
   out += fmt::format("<g clip-path=\"url(#{}-clip)\">\n{}</g>\n", id, content_);
-  out += fmt::format("<rect x=\"{}\" y=\"{}\" width=\"{}\" height=\"{}\" fill=\"none\" stroke=\"#333\"/>\n", left(),
-                     top(), w, h);
+  out += fmt::format("<rect x=\"{}\" y=\"{}\" width=\"{}\" height=\"{}\" fill=\"none\" stroke=\"#333\"/>\n",
+                     left(), top(), w, h);
   out += marks;
   out += fmt::format("<text x=\"{:.1f}\" y=\"{:.1f}\" text-anchor=\"middle\">{}</text>\n", left() + w / 2,
                      height_ - 8, escape(x_.label));
-  out += fmt::format("<text transform=\"translate(16 {:.1f}) rotate(-90)\" text-anchor=\"middle\">{}</text>\n",
-                     top() + h / 2, escape(y_.label));
+  out +=
+      fmt::format("<text transform=\"translate(16 {:.1f}) rotate(-90)\" text-anchor=\"middle\">{}</text>\n",
+                  top() + h / 2, escape(y_.label));
   out += legend_ + overlay_ + "</svg>";
   return out;
 }
@@ -318,8 +341,9 @@ std::string color_bar(double x, double y, double height, double min, double max,
     out += fmt::format("<stop offset=\"{}\" stop-color=\"{}\"/>", t, sequential_color(t));
   }
   out += "</linearGradient></defs>\n";
-  out += fmt::format("<rect x=\"{}\" y=\"{}\" width=\"{}\" height=\"{}\" fill=\"url(#{})\" stroke=\"#333\"/>\n", x, y,
-                     width, height, id);
+  out +=
+      fmt::format("<rect x=\"{}\" y=\"{}\" width=\"{}\" height=\"{}\" fill=\"url(#{})\" stroke=\"#333\"/>\n",
+                  x, y, width, height, id);
   Axis axis{min, max, false, label, {}};
   if (!(max > min)) axis.max = min + 1;
   double widest = 0;
@@ -328,13 +352,14 @@ std::string color_bar(double x, double y, double height, double min, double max,
     if (py < y - 0.5 || py > y + height + 0.5) continue;
     const std::string text = tick_label(t);
     widest = std::max(widest, 6.6 * double(text.size()));
-    out += fmt::format("<line x1=\"{0}\" y1=\"{1:.1f}\" x2=\"{2}\" y2=\"{1:.1f}\" stroke=\"#333\"/>", x + width, py,
-                       x + width + 4);
-    out += fmt::format("<text x=\"{}\" y=\"{:.1f}\" dominant-baseline=\"middle\">{}</text>\n", x + width + 7, py,
-                       escape(text));
+    out += fmt::format("<line x1=\"{0}\" y1=\"{1:.1f}\" x2=\"{2}\" y2=\"{1:.1f}\" stroke=\"#333\"/>",
+                       x + width, py, x + width + 4);
+    out += fmt::format("<text x=\"{}\" y=\"{:.1f}\" dominant-baseline=\"middle\">{}</text>\n", x + width + 7,
+                       py, escape(text));
   }
-  out += fmt::format("<text transform=\"translate({:.1f} {:.1f}) rotate(-90)\" text-anchor=\"middle\">{}</text>\n",
-                     x + width + 16 + widest, y + height / 2, escape(label));
+  out += fmt::format(
+      "<text transform=\"translate({:.1f} {:.1f}) rotate(-90)\" text-anchor=\"middle\">{}</text>\n",
+      x + width + 16 + widest, y + height / 2, escape(label));
   return out;
 }
 
@@ -342,9 +367,7 @@ std::vector<std::vector<Eigen::Vector2d>> contour_loops(const Grid& grid, double
   // Padded point grid: one ring of points below the level around the data.
   const long W = grid.columns + 2;
   const long H = grid.rows + 2;
-  const auto padded = [&](long pc, long pr) {
-    return pc == 0 || pr == 0 || pc == W - 1 || pr == H - 1;
-  };
+  const auto padded = [&](long pc, long pr) { return pc == 0 || pr == 0 || pc == W - 1 || pr == H - 1; };
   const auto value = [&](long pc, long pr) {
     return double(grid.values[size_t((pr - 1) * grid.columns + (pc - 1))]);
   };
@@ -373,7 +396,8 @@ std::vector<std::vector<Eigen::Vector2d>> contour_loops(const Grid& grid, double
   };
   for (long pr = 0; pr + 1 < H; ++pr) {
     for (long pc = 0; pc + 1 < W; ++pc) {
-      const bool a = inside(pc, pr), b = inside(pc + 1, pr), d = inside(pc + 1, pr + 1), e = inside(pc, pr + 1);
+      const bool a = inside(pc, pr), b = inside(pc + 1, pr), d = inside(pc + 1, pr + 1),
+                 e = inside(pc, pr + 1);
       const long top = 2 * (pr * W + pc), left = top + 1;
       const long bottom = 2 * ((pr + 1) * W + pc), right = 2 * (pr * W + pc + 1) + 1;
       std::vector<long> cut;
@@ -384,9 +408,9 @@ std::vector<std::vector<Eigen::Vector2d>> contour_loops(const Grid& grid, double
       if (cut.size() == 2) {
         add(cut[0], cut[1]);
       } else if (cut.size() == 4) {
-        const bool center = !padded(pc, pr) && !padded(pc + 1, pr + 1) && !padded(pc + 1, pr) &&
-                            !padded(pc, pr + 1) &&
-                            (value(pc, pr) + value(pc + 1, pr) + value(pc + 1, pr + 1) + value(pc, pr + 1)) / 4 > level;
+        const bool center =
+            !padded(pc, pr) && !padded(pc + 1, pr + 1) && !padded(pc + 1, pr) && !padded(pc, pr + 1) &&
+            (value(pc, pr) + value(pc + 1, pr) + value(pc + 1, pr + 1) + value(pc, pr + 1)) / 4 > level;
         if (a == center) {  // corners b and e are cut off
           add(top, right);
           add(bottom, left);

@@ -22,7 +22,7 @@ struct Axis {
   double min = 0;
   double max = 1;
   bool log = false;
-  std::string label;  ///< quantity with unit, e.g. "degree n" or "radial acceleration (m s^-2)"
+  std::string label;                ///< quantity with unit, e.g. "degree n" or "radial acceleration (m s^-2)"
   std::vector<double> fixed_ticks;  ///< when non-empty, used instead of the automatic ticks
 };
 
@@ -30,8 +30,9 @@ struct Axis {
 /// step. Log: widened to whole decades. A single value or no value gives a unit-wide (one-decade) range.
 Axis axis_for(const std::vector<double>& values, bool log, const std::string& label);
 
-/// axis.fixed_ticks if given, else tick positions inside [min, max]: 1-2-5 steps giving about `target` ticks on a linear axis; on a log
-/// axis powers of ten, thinned to at most ~8 labels, with 2 and 5 added when the range is under two decades.
+/// axis.fixed_ticks if given, else tick positions inside [min, max]: 1-2-5 steps giving about `target` ticks
+/// on a linear axis; on a log axis powers of ten, thinned to at most ~8 labels, with 2 and 5 added when the
+/// range is under two decades.
 std::vector<double> ticks(const Axis& axis, int target = 6);
 
 /// Stroke and marker style of a data series.
@@ -39,8 +40,8 @@ struct Style {
   std::string color = "#1f5fa8";  ///< any SVG colour
   double width = 1.6;             ///< stroke width, px
   bool dashed = false;
-  bool line = true;               ///< draw the connecting line
-  bool markers = false;           ///< circle at each point
+  bool line = true;      ///< draw the connecting line
+  bool markers = false;  ///< circle at each point
 };
 
 struct LegendEntry {

@@ -1,8 +1,9 @@
 // End-to-end checks of `polystokes report`: a set computed here and its mesh written as OBJ give one
 // well-formed page with every section; bad inputs give a one-line error, exit code 2 and leave the
 // previous output intact.
-#include <catch2/catch.hpp>
 #include <fmt/format.h>
+
+#include <catch2/catch.hpp>
 
 #include "coefficient_file.h"
 #include "harmonics.h"
@@ -21,7 +22,8 @@ std::string quoted(const std::string& path) { return "'" + path + "'"; }
 
 size_t count(const std::string& haystack, const std::string& needle) {
   size_t found = 0;
-  for (size_t at = haystack.find(needle); at != std::string::npos; at = haystack.find(needle, at + needle.size()))
+  for (size_t at = haystack.find(needle); at != std::string::npos;
+       at = haystack.find(needle, at + needle.size()))
     ++found;
   return found;
 }
@@ -54,8 +56,9 @@ const Files& files() {
 
 }  // namespace
 
-TEST_CASE("report with --mesh writes one well-formed page with every section, the set's numbers and checksums",
-          "[report_cli]") {
+TEST_CASE(
+    "report with --mesh writes one well-formed page with every section, the set's numbers and checksums",
+    "[report_cli]") {
   const Files& f = files();
   const std::string out = f.dir + "/orrin.html";
   const CommandResult result =
@@ -87,6 +90,33 @@ TEST_CASE("report without a mesh omits the silhouettes, and - writes the page to
   CHECK(xml_problem(result.output) == "");
   CHECK(count(result.output, "<svg") == 2);
   CHECK(result.output.find("<section id=\"shape\"") == std::string::npos);
+}
+
+TEST_CASE("report --compare adds the per-degree differences and names the mismatch of a mangled copy",
+          "[report_cli]") {
+  // B: the same set with its zonal terms' sign flipped, as when J_n are read as C_n0.
+  const Files& f = files();
+  CoefficientSet flipped = f.computed;
+  for (int n = 1; n <= flipped.degree; ++n) flipped.C(n, 0) = -flipped.C(n, 0);
+  flipped.body = "Orrin (other team)";
+  const std::string other = f.dir + "/orrin_other.txt";
+  write_coefficient_file(flipped, other);
+  const std::string out = f.dir + "/compared.html";
+  const CommandResult result =
+      run_cli("report " + quoted(f.set) + " --compare " + quoted(other) + " -q -o " + quoted(out));
+  CAPTURE(result.output);
+  REQUIRE(result.exit_code == 0);
+  const std::string html = read_bytes(out);
+  CHECK(xml_problem(html) == "");
+  const size_t start = html.find("<section id=\"comparison\"");
+  REQUIRE(start != std::string::npos);
+  const std::string part = html.substr(start);
+  CHECK(count(part, "<svg") == 1);
+  CHECK(part.find("<tr class=\"best\"><td>j_sign</td>") != std::string::npos);
+  CHECK(part.find("Orrin (other team)") != std::string::npos);
+  CHECK(run_cli("report " + quoted(f.set) + " --compare " + quoted(f.dir + "/missing.txt") + " -o " +
+                quoted(out))
+            .exit_code == 1);
 }
 
 TEST_CASE("report refuses bad input with one error line and exit code 2, leaving the previous page intact",

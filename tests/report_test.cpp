@@ -1,19 +1,21 @@
 // Tests of the HTML report and its SVG helpers: the page is well-formed XML with every section, plot, number
 // and caution, and no external reference; degree variances and the power-law fit follow their definitions and
 // agree with GSL; the field map matches the point-mass and degree-2 closed forms; contours match geometry.
+#include "report.h"
+
+#include <fmt/format.h>
 #include <gsl/gsl_fit.h>
 
 #include <Eigen/Geometry>
 #include <catch2/catch.hpp>
 #include <cmath>
 #include <cstdio>
-#include <fmt/format.h>
 
+#include "compare.h"
 #include "conventions.h"
 #include "errors.h"
 #include "harmonics.h"
 #include "mass_properties.h"
-#include "report.h"
 #include "shapes.h"
 #include "svg_plot.h"
 #include "test_support.h"
@@ -47,7 +49,8 @@ CoefficientSet power_law_set(int degree, double k, double beta) {
 
 size_t count(const std::string& haystack, const std::string& needle) {
   size_t found = 0;
-  for (size_t at = haystack.find(needle); at != std::string::npos; at = haystack.find(needle, at + needle.size()))
+  for (size_t at = haystack.find(needle); at != std::string::npos;
+       at = haystack.find(needle, at + needle.size()))
     ++found;
   return found;
 }
@@ -97,7 +100,8 @@ std::string body_report() {
 TEST_CASE("the XML check accepts well-formed documents and rejects broken ones (W3C XML 1.0, 2008)",
           "[report]") {
   using polystokes::test::xml_problem;
-  CHECK(xml_problem("<!DOCTYPE html>\n<html><body a=\"1\" b='2'><br/>x &amp; &#955; &#x3bb;<!-- c --></body></html>")
+  CHECK(xml_problem(
+            "<!DOCTYPE html>\n<html><body a=\"1\" b='2'><br/>x &amp; &#955; &#x3bb;<!-- c --></body></html>")
             .empty());
   CHECK(!xml_problem("<a><b></a></b>").empty());
   CHECK(!xml_problem("<a><b></b>").empty());
@@ -111,9 +115,10 @@ TEST_CASE("the XML check accepts well-formed documents and rejects broken ones (
   CHECK(!xml_problem("<a><!-- a -- b --></a>").empty());
 }
 
-TEST_CASE("degree variances are sums of squared fully normalized coefficients in any stored convention "
-          "(IERS Conventions 2010, ch. 6 normalization)",
-          "[report]") {
+TEST_CASE(
+    "degree variances are sums of squared fully normalized coefficients in any stored convention "
+    "(IERS Conventions 2010, ch. 6 normalization)",
+    "[report]") {
   // A set stored unnormalized: the fully normalized value is C / N with
   // N = sqrt((2 - delta_m0)(2n + 1)(n - m)!/(n + m)!), the 4pi normalization factor.
   CoefficientSet set = make_empty_set(4);
@@ -145,14 +150,17 @@ TEST_CASE("degree variances are sums of squared fully normalized coefficients in
   CHECK(!degree_spectrum(make_empty_set(3)).has_sigmas);
 }
 
-TEST_CASE("the fitted power law recovers K and beta of an exact law sigma_n^2 = K n^-beta "
-          "(least-squares line through exact points, common practice)",
-          "[report]") {
-  for (const auto& [k, beta] : std::vector<std::pair<double, double>>{{1e-3, 2.0}, {7.2e-5, 3.7}, {0.31, 4.5}}) {
+TEST_CASE(
+    "the fitted power law recovers K and beta of an exact law sigma_n^2 = K n^-beta "
+    "(least-squares line through exact points, common practice)",
+    "[report]") {
+  for (const auto& [k, beta] :
+       std::vector<std::pair<double, double>>{{1e-3, 2.0}, {7.2e-5, 3.7}, {0.31, 4.5}}) {
     CAPTURE(k, beta);
     const CoefficientSet set = power_law_set(30, k, beta);
     const DegreeSpectrum spectrum = degree_spectrum(set);
-    for (int n = 2; n <= 30; ++n) CHECK_THAT(spectrum.variance[size_t(n)], WithinRel(k * std::pow(n, -beta), 1e-13));
+    for (int n = 2; n <= 30; ++n)
+      CHECK_THAT(spectrum.variance[size_t(n)], WithinRel(k * std::pow(n, -beta), 1e-13));
     const PowerLaw law = fit_power_law(spectrum.variance, 2);
     CHECK(std::abs(law.beta - beta) <= 1e-10);
     CHECK_THAT(law.k, WithinRel(k, 1e-10));
@@ -163,7 +171,8 @@ TEST_CASE("the fitted power law recovers K and beta of an exact law sigma_n^2 = 
   }
 }
 
-TEST_CASE("the power-law fit equals GSL's linear least squares on scattered data (gsl_fit_linear)", "[report]") {
+TEST_CASE("the power-law fit equals GSL's linear least squares on scattered data (gsl_fit_linear)",
+          "[report]") {
   std::vector<double> variance(41, 0.0);
   std::vector<double> x, y;
   for (int n = 2; n <= 40; ++n) {
@@ -194,11 +203,12 @@ TEST_CASE("the radial-acceleration map of a point mass is -GM/r^2 everywhere (Ne
   CHECK_THROWS_AS(radial_acceleration_map(set, 2000, 0, 6), ConventionError);
 }
 
-TEST_CASE("the radial-acceleration map of a degree-2 field matches the differentiated closed form at each cell "
-          "centre (IERS Conventions 2010, ch. 6 series and normalization)",
-          "[report]") {
-  // U = GM/r [1 + (R/r)^2 (C20 sqrt(5) P2(sin lat) + (sqrt(15)/2) cos^2 lat (C22 cos 2 lon + S22 sin 2 lon))],
-  // so g_r = dU/dr = -GM/r^2 [1 + 3 (R/r)^2 (...)].
+TEST_CASE(
+    "the radial-acceleration map of a degree-2 field matches the differentiated closed form at each cell "
+    "centre (IERS Conventions 2010, ch. 6 series and normalization)",
+    "[report]") {
+  // U = GM/r [1 + (R/r)^2 (C20 sqrt(5) P2(sin lat) + (sqrt(15)/2) cos^2 lat (C22 cos 2 lon + S22 sin 2
+  // lon))], so g_r = dU/dr = -GM/r^2 [1 + 3 (R/r)^2 (...)].
   CoefficientSet set = make_empty_set(2);
   set.gm = 2e5;
   set.reference_radius = 1000;
@@ -216,8 +226,9 @@ TEST_CASE("the radial-acceleration map of a degree-2 field matches the different
       const double lat = (90 - (row + 0.5) * 5) * pi / 180;
       const double lon = (-180 + (col + 0.5) * 5) * pi / 180;
       const double s = std::sin(lat), c = std::cos(lat);
-      const double shape = set.C(2, 0) * std::sqrt(5.0) * (3 * s * s - 1) / 2 +
-                           std::sqrt(15.0) / 2 * c * c * (set.C(2, 2) * std::cos(2 * lon) + set.S(2, 2) * std::sin(2 * lon));
+      const double shape =
+          set.C(2, 0) * std::sqrt(5.0) * (3 * s * s - 1) / 2 +
+          std::sqrt(15.0) / 2 * c * c * (set.C(2, 2) * std::cos(2 * lon) + set.S(2, 2) * std::sin(2 * lon));
       const double expected = -set.gm / (r * r) * (1 + 3 * std::pow(1000 / r, 2) * shape);
       CAPTURE(row, col);
       CHECK_THAT(map.values[size_t(row) * 72 + col], WithinRel(expected, 1e-12));
@@ -229,8 +240,9 @@ TEST_CASE("the radial-acceleration map of a degree-2 field matches the different
   CHECK_THAT(map.max, WithinRel(high, 1e-12));
 }
 
-TEST_CASE("the report of a computed set with its 20k-face mesh is well-formed XML with every section and plot",
-          "[report]") {
+TEST_CASE(
+    "the report of a computed set with its 20k-face mesh is well-formed XML with every section and plot",
+    "[report]") {
   const std::string html = body_report();
   INFO("report size " << html.size() << " bytes");
   CHECK(polystokes::test::xml_problem(html) == "");
@@ -277,9 +289,10 @@ TEST_CASE("the report shows GM, reference radius, C20, the fitted law and mesh m
   for (const auto& note : set.notes) CHECK(html.find(svg::escape(note)) != std::string::npos);
 }
 
-TEST_CASE("the centre of mass implied by the degree-1 terms of a set about the mesh origin is the body's "
-          "(dipole term of the exterior expansion, common practice)",
-          "[report]") {
+TEST_CASE(
+    "the centre of mass implied by the degree-1 terms of a set about the mesh origin is the body's "
+    "(dipole term of the exterior expansion, common practice)",
+    "[report]") {
   ComputeOptions options;
   options.degree = 2;
   options.origin = OriginChoice::mesh;
@@ -339,9 +352,10 @@ TEST_CASE("the report escapes markup and shows bytes that are not UTF-8 in text 
   CHECK(count(html, "<svg") == 2);
 }
 
-TEST_CASE("the coefficient table shows fully normalized values of a set stored unnormalized with J_n "
-          "(IERS Conventions 2010, ch. 6: C20 = -J2 / sqrt(5))",
-          "[report]") {
+TEST_CASE(
+    "the coefficient table shows fully normalized values of a set stored unnormalized with J_n "
+    "(IERS Conventions 2010, ch. 6: C20 = -J2 / sqrt(5))",
+    "[report]") {
   CoefficientSet set = power_law_set(4, 1e-3, 3);
   set.convention.normalization = Normalization::unnormalized;
   set.convention.zonal_as_j = true;
@@ -371,6 +385,36 @@ TEST_CASE("the spectrum shows the sigma spectrum when sigmas are non-zero, and l
   CHECK(section(low, "spectrum").find("no spectrum") != std::string::npos);
 }
 
+TEST_CASE("the comparison section plots per-degree differences and names a known mangling (C and S swapped)",
+          "[report]") {
+  ReportInput input;
+  input.set = test_body().set;
+  CoefficientSet swapped = input.set;
+  for (int n = 1; n <= swapped.degree; ++n)
+    for (int m = 1; m <= n; ++m) std::swap(swapped.C(n, m), swapped.S(n, m));
+  input.other = swapped;
+  input.other_source = "other-team.txt";
+  const std::string html = make_report(input);
+  CHECK(polystokes::test::xml_problem(html) == "");
+  const std::string part = section(html, "comparison");
+  REQUIRE(!part.empty());
+  CHECK(count(part, "<svg") == 1);
+  CHECK(part.find("A \u2212 B") != std::string::npos);
+  CHECK(part.find("other-team.txt") != std::string::npos);
+  CHECK(part.find("verdict disagree") != std::string::npos);
+  CHECK(part.find(svg::escape(compare_sets(input.set, swapped).verdict)) != std::string::npos);
+  // The best explanation is listed first and marked: the swap that was made.
+  const size_t first_row = part.find("<tr", part.find("<th>explains all</th>"));
+  const std::string best_row = "<tr class=\"best\"><td>swapped_cs</td>";
+  CHECK(part.compare(first_row, best_row.size(), best_row) == 0);
+
+  input.other = input.set;
+  const std::string same = section(make_report(input), "comparison");
+  CHECK(same.find("verdict agree") != std::string::npos);
+  CHECK(same.find("identical at every degree") != std::string::npos);
+  CHECK(same.find("<h3>Diagnosis</h3>") == std::string::npos);
+}
+
 TEST_CASE("the report refuses sets it cannot describe", "[report]") {
   ReportInput input;
   input.set = power_law_set(4, 1e-3, 3);
@@ -384,8 +428,9 @@ TEST_CASE("the report refuses sets it cannot describe", "[report]") {
   CHECK_THROWS_AS(make_report(input), ConventionError);
 }
 
-TEST_CASE("contour loops of a rasterized disk and annulus enclose their areas (marching squares, common practice)",
-          "[report][svg_plot]") {
+TEST_CASE(
+    "contour loops of a rasterized disk and annulus enclose their areas (marching squares, common practice)",
+    "[report][svg_plot]") {
   const auto area = [](const std::vector<Eigen::Vector2d>& loop) {  // shoelace formula
     double twice = 0;
     for (size_t i = 0; i < loop.size(); ++i) {
@@ -467,7 +512,7 @@ TEST_CASE("escaping keeps UTF-8, replaces markup characters and shows invalid by
           "[report][svg_plot]") {
   CHECK(svg::escape("a<b>&\"'") == "a&lt;b&gt;&amp;&quot;&#39;");
   CHECK(svg::escape("\xce\xbb \xe2\x88\x92") == "\xce\xbb \xe2\x88\x92");
-  CHECK(svg::escape("\xc0\xaf") == "\\xc0\\xaf");          // overlong
+  CHECK(svg::escape("\xc0\xaf") == "\\xc0\\xaf");           // overlong
   CHECK(svg::escape("\xed\xa0\x80") == "\\xed\\xa0\\x80");  // surrogate
   CHECK(svg::escape("\xef\xbf\xbe") == "\\xef\\xbf\\xbe");  // U+FFFE is not an XML character
   CHECK(svg::escape("tab\tline\n\x1b") == "tab\tline\n\\x1b");

@@ -15,7 +15,9 @@ inline std::string xml_problem(const std::string& text) {
   size_t i = 0;
   const size_t size = text.size();
   const auto fail = [&](const std::string& what) { return what + " at byte " + std::to_string(i); };
-  const auto starts = [&](const char* s) { return text.compare(i, std::char_traits<char>::length(s), s) == 0; };
+  const auto starts = [&](const char* s) {
+    return text.compare(i, std::char_traits<char>::length(s), s) == 0;
+  };
   const auto is_name_start = [](unsigned char c) {
     return (c >= 'A' && c <= 'Z') || (c >= 'a' && c <= 'z') || c == '_' || c == ':' || c >= 0x80;
   };
@@ -35,7 +37,10 @@ inline std::string xml_problem(const std::string& text) {
       ++k;
       continue;
     }
-    const size_t length = c >= 0xc2 && c <= 0xdf ? 2 : c >= 0xe0 && c <= 0xef ? 3 : c >= 0xf0 && c <= 0xf4 ? 4 : 0;
+    const size_t length = c >= 0xc2 && c <= 0xdf   ? 2
+                          : c >= 0xe0 && c <= 0xef ? 3
+                          : c >= 0xf0 && c <= 0xf4 ? 4
+                                                   : 0;
     unsigned long code = length == 2 ? c & 0x1f : length == 3 ? c & 0x0f : c & 0x07;
     bool ok = length > 0 && k + length <= size;
     for (size_t j = 1; ok && j < length; ++j) {
@@ -69,7 +74,9 @@ inline std::string xml_problem(const std::string& text) {
       const bool hex = body[1] == 'x';
       const std::string digits = body.substr(hex ? 2 : 1);
       ok = !digits.empty();
-      for (char c : digits) ok = ok && (hex ? std::isxdigit(static_cast<unsigned char>(c)) : std::isdigit(static_cast<unsigned char>(c)));
+      for (char c : digits)
+        ok = ok && (hex ? std::isxdigit(static_cast<unsigned char>(c))
+                        : std::isdigit(static_cast<unsigned char>(c)));
     }
     if (ok) i = end + 1;
     return ok;
@@ -121,7 +128,8 @@ inline std::string xml_problem(const std::string& text) {
       while (i < size && is_space(text[i])) ++i;
       if (i >= size || text[i] != '>') return fail("bad end tag");
       if (open.empty() || open.back() != name)
-        return fail("end tag </" + name + "> does not match <" + (open.empty() ? std::string() : open.back()) + ">");
+        return fail("end tag </" + name + "> does not match <" +
+                    (open.empty() ? std::string() : open.back()) + ">");
       open.pop_back();
       ++i;
       continue;
