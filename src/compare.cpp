@@ -79,7 +79,22 @@ std::string convention_difference(const Convention& x, const Convention& y) {
 class Comparer {
  public:
   Comparer(const CoefficientSet& a, const CompareOptions& options, int degree)
-      : a_(a), options_(options), degree_(degree), fully_a_(expressed_in(a, Convention{})) {}
+      : a_(a), options_(options), degree_(degree), fully_a_(expressed_in(a, Convention{})) {
+    // floor_n = relative_floor * max over k >= max(n, 1) of RMS_A,k: an upper envelope of A's spectrum from
+    // above (|C00| if A has no terms beyond degree 0).
+    scale_floor_.assign(size_t(degree_ + 1), 0.0);
+    double envelope = 0;
+    for (int n = degree_; n >= 0; --n) {
+      if (n >= 1) {
+        double sum = 0;
+        for (int m = 0; m <= n; ++m)
+          sum += fully_a_.C(n, m) * fully_a_.C(n, m) + fully_a_.S(n, m) * fully_a_.S(n, m);
+        envelope = std::max(envelope, std::sqrt(sum / (2.0 * n + 1.0)));
+      }
+      scale_floor_[size_t(n)] =
+          options_.relative_floor * (envelope > 0 ? envelope : std::abs(fully_a_.C(0, 0)));
+    }
+  }
 
   // B in A's conventions (and frame, if asked); `steps` receives what was done.
   CoefficientSet bring(const CoefficientSet& b, std::vector<std::string>* steps) const {
@@ -137,7 +152,9 @@ class Comparer {
       degree.rms_a = std::sqrt(aa / (2.0 * n + 1.0));
       degree.rms_b = std::sqrt(bb / (2.0 * n + 1.0));
       degree.rms_difference = std::sqrt(dd / (2.0 * n + 1.0));
-      const double scale = std::max(degree.rms_a, degree.rms_b);
+      // Relative to A (the reference), not to max(A, B): then a term that A lacks gives a difference that
+      // grows with B's term instead of saturating at 1, which keeps the diagnosis fits smooth.
+      const double scale = std::max(degree.rms_a, scale_floor_[size_t(n)]);
       degree.relative =
           degree.rms_difference <= options_.absolute_floor ? 0.0 : degree.rms_difference / scale;
       degree.correlation =
@@ -156,8 +173,17 @@ class Comparer {
     return out;
   }
 
+  // Statistics to degree `top` of a raw B. Every step of bring() maps degrees 0..n to degree n only, so
+  // degrees above `top` are dropped first: fits on the low degrees stay cheap at any set degree.
   Stats stats_of_raw(const CoefficientSet& b_raw, int top = -1) const {
-    return stats(bring(b_raw, nullptr), top);
+    if (top < 0 || top >= b_raw.degree) return stats(bring(b_raw, nullptr), top);
+    CoefficientSet low = b_raw;
+    low.degree = top;
+    low.C = b_raw.C.topLeftCorner(top + 1, top + 1);
+    low.S = b_raw.S.topLeftCorner(top + 1, top + 1);
+    low.sigma_C = b_raw.sigma_C.topLeftCorner(top + 1, top + 1);
+    low.sigma_S = b_raw.sigma_S.topLeftCorner(top + 1, top + 1);
+    return stats(bring(low, nullptr), top);
   }
 
   Hypothesis judge(const std::string& kind, const std::string& description, double parameter,
@@ -199,7 +225,8 @@ class Comparer {
     double sum_ny = 0, sum_nn = 0, sum_y = 0;
     int count = 0;
     for (const auto& d : baseline.degrees) {
-      if (d.rms_a <= options_.absolute_floor || d.rms_b <= options_.absolute_floor) continue;
+      const double floor = std::max(options_.absolute_floor, scale_floor_[size_t(d.degree)]);
+      if (d.rms_a <= floor || d.rms_b <= floor) continue;
       const double y = std::log(d.rms_a / d.rms_b);
       sum_ny += d.degree * y;
       sum_nn += double(d.degree) * d.degree;
@@ -212,7 +239,8 @@ class Comparer {
         scaled.reference_radius = b.reference_radius * std::exp(t);
         return scaled;
       };
-      const double t = refine(sum_ny / sum_nn, [&](double x) { return stats_of_raw(with_radius(x)).misfit; });
+      const double t = refine(sum_ny / sum_nn,
+                              [&](double x) { return stats_of_raw(with_radius(x), fit_degree()).misfit; });
       const double k = std::exp(t);
       out.push_back(
           judge("radius",
@@ -227,7 +255,8 @@ class Comparer {
         scaled.gm = b.gm * std::exp(t);
         return scaled;
       };
-      const double t = refine(sum_y / count, [&](double x) { return stats_of_raw(with_gm(x)).misfit; });
+      const double t =
+          refine(sum_y / count, [&](double x) { return stats_of_raw(with_gm(x), fit_degree()).misfit; });
       const double g = std::exp(t);
       out.push_back(
           judge("gm",
@@ -294,6 +323,10 @@ class Comparer {
   }
 
  private:
+  // Parameters are fitted on degrees 0..16 (or the set's degree): the low degrees fix them well, and each
+  // trial then costs little even when bringing B to A involves an O(degree^4) origin shift.
+  int fit_degree() const { return std::min(degree_, 16); }
+
   // Keeps the better of a closed-form estimate and a golden-section refinement around it.
   double refine(double estimate, const std::function<double(double)>& misfit) const {
     const double width = 0.02 + 0.1 * std::abs(estimate);
@@ -302,7 +335,8 @@ class Comparer {
   }
 
   // The angle about z that best matches A: a 0.5-degree grid on the low degrees (smooth in the angle), then
-  // golden-section refinement with more and more degrees in brackets narrower than their oscillation.
+  // golden-section refinement with more and more degrees (up to fit_degree) in brackets narrower than their
+  // oscillation.
   double fit_z_rotation(const CoefficientSet& b) const {
     int top = std::min(degree_, 4);
     auto misfit_at = [&](double angle, int up_to) {
@@ -321,8 +355,8 @@ class Comparer {
     while (true) {
       best =
           golden_minimum([&](double x) { return misfit_at(x, top); }, best - half_width, best + half_width);
-      if (top == degree_) break;
-      top = std::min(degree_, 2 * top);
+      if (top == fit_degree()) break;
+      top = std::min(fit_degree(), 2 * top);
       half_width = M_PI / (4.0 * top);
     }
     return best;
@@ -332,6 +366,7 @@ class Comparer {
   CompareOptions options_;
   int degree_;
   CoefficientSet fully_a_;
+  std::vector<double> scale_floor_;  // per degree, see the constructor
 };
 
 std::string coefficient_name(const CoefficientDifference& d) {
@@ -343,7 +378,7 @@ std::string coefficient_name(const CoefficientDifference& d) {
 Comparison compare_sets(const CoefficientSet& a, const CoefficientSet& b, const CompareOptions& options) {
   check_set(a, "A");
   check_set(b, "B");
-  if (!(options.tolerance >= 0) || !(options.absolute_floor >= 0))
+  if (!(options.tolerance >= 0) || !(options.absolute_floor >= 0) || !(options.relative_floor >= 0))
     throw ConventionError("tolerances must be non-negative");
   Comparison out;
   out.degree_a = a.degree;
@@ -431,7 +466,7 @@ std::string comparison_text(const Comparison& c) {
     out += "B brought to A:\n";
     for (const auto& step : c.alignment) out += "  " + step + "\n";
   }
-  out += "per degree (fully normalized; RMS per coefficient; relative = RMS(A-B) / max(RMS A, RMS B)):\n";
+  out += "per degree (fully normalized; RMS per coefficient; relative = RMS(A-B) / RMS A):\n";
   out += fmt::format("  {:>5} {:>12} {:>12} {:>12} {:>10} {:>12}  {}\n", "n", "RMS A", "RMS B", "RMS A-B",
                      "relative", "correlation", "agree");
   for (const auto& d : c.degrees) {

@@ -10,10 +10,15 @@
 namespace polystokes {
 
 struct CompareOptions {
-  /// A degree agrees when its RMS difference is at most tolerance * max(RMS of A, RMS of B) at that degree.
+  /// A degree agrees when its RMS difference is at most tolerance * (RMS of A at that degree, see below).
   double tolerance = 1e-6;
   /// RMS differences up to this (fully normalized, dimensionless) always agree: rounding of zero terms.
   double absolute_floor = 1e-15;
+  /// A degree's difference is taken relative to max(RMS A_n, relative_floor * E_n), E_n the largest RMS of A
+  /// over degrees k >= max(n, 1) (|C00| if there is none): terms that should vanish (degree 1 about the
+  /// centre of mass, odd degrees of a symmetric body) are judged against the body's following terms, not
+  /// against their own rounding.
+  double relative_floor = 1e-3;
   /// Also bring B to A's origin and axes, using both sets' origin_in_mesh and axes_in_mesh (which assumes the
   /// two sets refer to the same mesh frame).
   bool align_frame = false;
@@ -31,7 +36,7 @@ struct DegreeComparison {
   int degree = 0;
   double rms_a = 0, rms_b = 0;  ///< spectra of A and B
   double rms_difference = 0;    ///< of A - B
-  double relative = 0;          ///< rms_difference / max(rms_a, rms_b); 0 when within the absolute floor
+  double relative = 0;          ///< rms_difference / max(rms_a, floor); 0 within the absolute floor
   double correlation = 0;       ///< sum(Ca Cb + Sa Sb) / sqrt(sum(Ca^2+Sa^2) sum(Cb^2+Sb^2)); NaN if one is 0
   bool agrees = false;
 };

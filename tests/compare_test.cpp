@@ -68,7 +68,8 @@ TEST_CASE("per-degree statistics follow their definitions (RMS per coefficient, 
   CHECK_THAT(d2.rms_difference, WithinRel(std::sqrt(2 * 16e-4 / 5), 1e-15));
   CHECK_THAT(d2.correlation, WithinRel(9e-4 / 25e-4, 1e-15));
   CHECK_THAT(c.degrees[3].correlation, WithinRel(1.0, 1e-15));
-  CHECK_THAT(c.degrees[3].relative, WithinRel(0.5, 1e-15));
+  CHECK_THAT(c.degrees[3].relative, WithinRel(1.0, 1e-15));  // relative to A's RMS
+  CHECK_THAT(d2.relative, WithinRel(d2.rms_difference / d2.rms_a, 1e-15));
   CHECK(std::isnan(c.degrees[1].correlation));
   CHECK(c.degrees[1].agrees);
   CHECK(c.agree_degree == 1);
@@ -182,6 +183,35 @@ TEST_CASE("diagnosis names each injected exchange mistake and the corrected set 
     if (item.parameter != 0) CHECK_THAT(best(c).parameter, WithinRel(item.parameter, 1e-9));
     CHECK(c.verdict.find("most likely " + item.kind) != std::string::npos);
   }
+}
+
+TEST_CASE("at degree 40 parameters fitted on the low degrees explain every degree, also with frame alignment",
+          "[compare]") {
+  const Mesh mesh = make_deformed_sphere(3, [](const Eigen::Vector3d& u) {
+    const double r = 1.0 + 0.2 * u.x() * u.y() + 0.1 * std::sin(2 * u.z() + u.x());
+    return Eigen::Vector3d(1300.0 * r * u.x(), 900.0 * r * u.y(), 700.0 * r * u.z());
+  });
+  ComputeOptions compute;
+  compute.degree = 40;
+  const CoefficientSet a = compute_coefficients({DensityRegion{mesh, 2000.0}}, compute);
+  CompareOptions options;
+  options.tolerance = 1e-10;
+  CoefficientSet turned = rotate_about_z(a, 37.5 * M_PI / 180.0);
+  turned.axes_in_mesh = a.axes_in_mesh;
+  const Comparison c = compare_sets(a, turned, options);
+  CHECK(best(c).kind == "z_rotation");
+  CHECK(best(c).explains);
+  CHECK_THAT(best(c).parameter, WithinAbs(-37.5, 1e-9));
+  // B recorded in another frame and about another origin, with a radius label off by 10%: aligned, diagnosed.
+  CoefficientSet moved =
+      rotate_set(shift_origin(a, Eigen::Vector3d(15, -10, 5)), euler_zyz_matrix(0.3, 0.2, 0.1));
+  moved = rescale_reference_radius(moved, 1500.0);
+  moved.reference_radius = 1650.0;
+  options.align_frame = true;
+  const Comparison aligned = compare_sets(a, moved, options);
+  CHECK(best(aligned).kind == "radius");
+  CHECK(best(aligned).explains);
+  CHECK_THAT(best(aligned).parameter, WithinRel(1500.0 / 1650.0, 1e-9));
 }
 
 TEST_CASE("a phase mistake also fits a 180-degree turn about z, and the verdict says so", "[compare]") {
