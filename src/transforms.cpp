@@ -264,9 +264,9 @@ CoefficientSet shift_origin(const CoefficientSet& set, const Eigen::Vector3d& sh
 //                                          - l sqrt(((l-1)^2-mu^2)((l-1)^2-nu^2)) d^{l-2}
 // (Varshalovich, Moskalev & Khersonskii 1988, Quantum Theory of Angular Momentum, sec. 4.8.2; from memory)
 // from the border values at l = max(|mu|, |nu|),
-//   d^l_{l,nu} = (-1)^(l-nu) B(l,nu),  d^l_{nu,l} = B(l,nu),  d^l_{-l,nu} = B(l,-nu),  d^l_{nu,-l} =
-//   (-1)^(l+nu) B(l,-nu), B(l,nu) = sqrt(binom(2l, l+nu)) cos(beta/2)^(l+nu) sin(beta/2)^(l-nu)  (Wigner's
-//   closed form, ibid. sec. 4.3).
+//   d^l_{l,nu} = (-1)^(l-nu) B(l,nu),   d^l_{nu,l} = B(l,nu),
+//   d^l_{-l,nu} = B(l,-nu),              d^l_{nu,-l} = (-1)^(l+nu) B(l,-nu),
+//   B(l,nu) = sqrt(binom(2l, l+nu)) cos(beta/2)^(l+nu) sin(beta/2)^(l-nu)  (Wigner's form, ibid. 4.3).
 // For fixed orders this is the recurrence of Jacobi polynomials in cos(beta), stable upwards like the
 // Legendre recursions; B is carried from degree to degree by one bounded factor, so nothing overflows.
 // (The Ivanic & Ruedenberg 1996 recursion for real harmonics was tried first; in double precision it
@@ -276,11 +276,12 @@ CoefficientSet shift_origin(const CoefficientSet& set, const Eigen::Vector3d& sh
 // 1 otherwise; the real harmonics are Y_k = (Z_k + Z_-k)/sqrt(2), Y_-k = (Z_k - Z_-k)/(i sqrt(2)), Y_0 = Z_0.
 RealWignerD::RealWignerD(const Eigen::Matrix3d& q) {
   check_rotation(q);
-  // Rz(a) Ry(b) Rz(g): q00 + q11 = (1 + cos b) cos(a + g), q10 - q01 = (1 + cos b) sin(a + g),
-  // q00 - q11 = (cos b - 1) cos(a - g), q10 + q01 = (cos b - 1) sin(a - g), (q02, q12) = sin b (cos a, sin
-  // a), (q20, q21) = sin b (-cos g, sin g). The angle combination that matters near b = 0 (a + g) is taken
-  // from the upper block, the one that matters near b = pi (a - g) likewise, and the other from the third row
-  // and column, whose error is damped by the same small factor; so Q is reproduced to rounding.
+  // Rz(a) Ry(b) Rz(g): q00 + q11 = (1 + cos b) cos(a + g),  q10 - q01 = (1 + cos b) sin(a + g),
+  //                    q00 - q11 = (cos b - 1) cos(a - g),  q10 + q01 = (cos b - 1) sin(a - g),
+  //                    (q02, q12) = sin b (cos a, sin a),   (q20, q21) = sin b (-cos g, sin g).
+  // The angle combination that matters near b = 0 (a + g) is taken from the upper block, the one that
+  // matters near b = pi (a - g) likewise, and the other from the third row and column, whose error is damped
+  // by the same small factor; so Q is reproduced to rounding.
   beta_ = std::atan2(std::hypot(q(0, 2), q(1, 2)), q(2, 2));
   const double a_column = std::atan2(q(1, 2), q(0, 2)), g_row = std::atan2(q(2, 1), -q(2, 0));
   double sum, difference;
@@ -312,7 +313,7 @@ const Eigen::MatrixXd& RealWignerD::next() {
 
 void RealWignerD::advance_wigner_d() {
   const int l = l_;
-  // Border factors B(l, nu), nu = -l..l.
+  // Border factors B(l, nu), nu = -l..l, from those of degree l - 1 by the ratio of the closed forms.
   std::vector<double> border(size_t(2 * l + 1));
   if (l == 0) {
     border[0] = 1;
@@ -383,8 +384,8 @@ void RealWignerD::build_real() {
       sin_block(k, j) = k > 0 && j > 0 ? 0.5 * (dt(k, j) - dt(k, -j) - dt(-k, j) + dt(-k, -j)) : 0.0;
     }
   }
-  // D = Dz(alpha) Dy(beta) Dz(gamma); Dz(t) turns each pair (cos k, sin k) by [cos kt, -sin kt; sin kt, cos
-  // kt].
+  // D = Dz(alpha) Dy(beta) Dz(gamma); Dz(t) turns each pair (cos k, sin k) by
+  // [cos kt, -sin kt; sin kt, cos kt].
   std::vector<double> ca(size_t(l + 1)), sa(size_t(l + 1)), cg(size_t(l + 1)), sg(size_t(l + 1));
   for (int k = 0; k <= l; ++k) {
     ca[size_t(k)] = std::cos(k * alpha_);
