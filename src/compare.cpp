@@ -154,7 +154,8 @@ class Comparer {
       degree.rms_difference = std::sqrt(dd / (2.0 * n + 1.0));
       // Relative to A (the reference), not to max(A, B): then a term that A lacks gives a difference that
       // grows with B's term instead of saturating at 1, which keeps the diagnosis fits smooth.
-      const double scale = std::max(degree.rms_a, scale_floor_[size_t(n)]);
+      degree.scale = std::max(degree.rms_a, scale_floor_[size_t(n)]);
+      const double scale = degree.scale;
       degree.relative =
           degree.rms_difference <= options_.absolute_floor ? 0.0 : degree.rms_difference / scale;
       degree.correlation =
@@ -517,6 +518,7 @@ std::string comparison_json(const Comparison& c) {
                        {"rms_a", d.rms_a},
                        {"rms_b", d.rms_b},
                        {"rms_difference", d.rms_difference},
+                       {"scale", d.scale},
                        {"relative", d.relative},
                        {"correlation", number(d.correlation)},
                        {"agrees", d.agrees}});

@@ -36,7 +36,8 @@ struct DegreeComparison {
   int degree = 0;
   double rms_a = 0, rms_b = 0;  ///< spectra of A and B
   double rms_difference = 0;    ///< of A - B
-  double relative = 0;          ///< rms_difference / max(rms_a, floor); 0 within the absolute floor
+  double scale = 0;             ///< what the difference is measured against: max(rms_a, floor)
+  double relative = 0;          ///< rms_difference / scale; 0 within the absolute floor
   double correlation = 0;       ///< sum(Ca Cb + Sa Sb) / sqrt(sum(Ca^2+Sa^2) sum(Cb^2+Sb^2)); NaN if one is 0
   bool agrees = false;
 };

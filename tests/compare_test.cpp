@@ -70,6 +70,9 @@ TEST_CASE("per-degree statistics follow their definitions (RMS per coefficient, 
   CHECK_THAT(c.degrees[3].correlation, WithinRel(1.0, 1e-15));
   CHECK_THAT(c.degrees[3].relative, WithinRel(1.0, 1e-15));  // relative to A's RMS
   CHECK_THAT(d2.relative, WithinRel(d2.rms_difference / d2.rms_a, 1e-15));
+  CHECK(d2.scale == d2.rms_a);
+  // Degree 1 vanishes in A: measured against 1e-3 of the largest RMS of A at degrees >= 1 (degree 2 here).
+  CHECK_THAT(c.degrees[1].scale, WithinRel(1e-3 * d2.rms_a, 1e-15));
   CHECK(std::isnan(c.degrees[1].correlation));
   CHECK(c.degrees[1].agrees);
   CHECK(c.agree_degree == 1);
