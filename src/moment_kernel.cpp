@@ -96,6 +96,37 @@ POLYSTOKES_INLINE void step_row(double* re, double* im, const double* coefficien
   for (int b = 0; b < blocks; ++b) block(b);
 }
 
+// The centre steps of one degree when rows have `Blocks` blocks: the fan sums are gathered face by face into
+// accumulators that stay in registers, so each rim row pointer and weight is read once per degree.
+template <int Blocks, class After>
+POLYSTOKES_INLINE void centre_steps(const FanDecomposition& fans, double* rows, size_t stride,
+                                    const double* coefficients, const double* weights,
+                                    const double* const* face_edge, int first_centre, After&& after) {
+  const int centres = int(fans.centres.size());
+  for (int c = 0; c < centres; ++c) {
+    v4 acc_re[Blocks], acc_im[Blocks];
+#pragma GCC unroll 8
+    for (int b = 0; b < Blocks; ++b) acc_re[b] = acc_im[b] = v4{0, 0, 0, 0};
+    for (int f = fans.fan_begin[size_t(c)]; f < fans.fan_begin[size_t(c) + 1]; ++f) {
+      const v4 w = load(weights + 4 * size_t(f));
+      const double* rim = face_edge[f] + first;
+#pragma GCC unroll 8
+      for (int b = 0; b < Blocks; ++b) {
+        acc_re[b] = acc_re[b] + w * load(rim + 4 * b);
+        acc_im[b] = acc_im[b] + w * load(rim + stride + 4 * b);
+      }
+    }
+    const size_t e = size_t(first_centre + c);
+    double* r = rows + e * 2 * stride;
+    step_row(r, r + stride, coefficients + 12 * e, Blocks,
+             [&](int b, v4& cre, v4& cim) {
+               cre = acc_re[b];
+               cim = acc_im[b];
+             },
+             after);
+  }
+}
+
 // Aligns the workspace to a cache line and returns its start.
 double* aligned_memory(std::vector<double>& memory, size_t doubles) {
   if (memory.size() < doubles + 8) memory.resize(doubles + 8);
@@ -178,35 +209,45 @@ void accumulate_fan_block(const FanDecomposition& fans, const Eigen::Vector3d* l
     // Centres: sum over the fan of weight * h_n(a, b, c) = sum weight * h_n(a, b) + c * (the same at n - 1).
     double* const t_re = totals + size_t(n) * 2 * stride + first;
     double* const t_im = t_re + stride;
-    for (int c = 0; c < centres; ++c) {
-      const size_t e = size_t(sources + edges + c);
-      double* r = row(e);
-      const int begin = fans.fan_begin[size_t(c)], end = fans.fan_begin[size_t(c) + 1];
-      step_row(r, r + stride, coefficients + 12 * e, blocks,
-               [&](int b, v4& cre, v4& cim) {
-                 // Two partial sums halve the dependency chain through the fan.
-                 v4 re0 = zero, im0 = zero, re1 = zero, im1 = zero;
-                 const size_t offset = size_t(first + 4 * b);
-                 int f = begin;
-                 for (; f + 1 < end; f += 2) {
-                   const v4 w0 = load(weights + 4 * size_t(f)), w1 = load(weights + 4 * size_t(f) + 4);
-                   re0 = re0 + w0 * load(face_edge[f] + offset);
-                   im0 = im0 + w0 * load(face_edge[f] + stride + offset);
-                   re1 = re1 + w1 * load(face_edge[f + 1] + offset);
-                   im1 = im1 + w1 * load(face_edge[f + 1] + stride + offset);
-                 }
-                 if (f < end) {
-                   const v4 w0 = load(weights + 4 * size_t(f));
-                   re0 = re0 + w0 * load(face_edge[f] + offset);
-                   im0 = im0 + w0 * load(face_edge[f] + stride + offset);
-                 }
-                 cre = re0 + re1;
-                 cim = im0 + im1;
-               },
-               [&](int b, v4 cre, v4 cim) {
-                 store(t_re + 4 * b, load(t_re + 4 * b) + cre);
-                 store(t_im + 4 * b, load(t_im + 4 * b) + cim);
-               });
+    auto after = [&](int b, v4 cre, v4 cim) {
+      store(t_re + 4 * b, load(t_re + 4 * b) + cre);
+      store(t_im + 4 * b, load(t_im + 4 * b) + cim);
+    };
+    switch (blocks) {
+      case 1: centre_steps<1>(fans, rows, stride, coefficients, weights, face_edge, sources + edges, after); break;
+      case 2: centre_steps<2>(fans, rows, stride, coefficients, weights, face_edge, sources + edges, after); break;
+      case 3: centre_steps<3>(fans, rows, stride, coefficients, weights, face_edge, sources + edges, after); break;
+      case 4: centre_steps<4>(fans, rows, stride, coefficients, weights, face_edge, sources + edges, after); break;
+      case 5: centre_steps<5>(fans, rows, stride, coefficients, weights, face_edge, sources + edges, after); break;
+      case 6: centre_steps<6>(fans, rows, stride, coefficients, weights, face_edge, sources + edges, after); break;
+      default:
+        for (int c = 0; c < centres; ++c) {
+          const size_t e = size_t(sources + edges + c);
+          double* r = row(e);
+          const int begin = fans.fan_begin[size_t(c)], end = fans.fan_begin[size_t(c) + 1];
+          step_row(r, r + stride, coefficients + 12 * e, blocks,
+                   [&](int b, v4& cre, v4& cim) {
+                     // Two partial sums halve the dependency chain through the fan.
+                     v4 re0 = zero, im0 = zero, re1 = zero, im1 = zero;
+                     const size_t offset = size_t(first + 4 * b);
+                     int f = begin;
+                     for (; f + 1 < end; f += 2) {
+                       const v4 w0 = load(weights + 4 * size_t(f)), w1 = load(weights + 4 * size_t(f) + 4);
+                       re0 = re0 + w0 * load(face_edge[f] + offset);
+                       im0 = im0 + w0 * load(face_edge[f] + stride + offset);
+                       re1 = re1 + w1 * load(face_edge[f + 1] + offset);
+                       im1 = im1 + w1 * load(face_edge[f + 1] + stride + offset);
+                     }
+                     if (f < end) {
+                       const v4 w0 = load(weights + 4 * size_t(f));
+                       re0 = re0 + w0 * load(face_edge[f] + offset);
+                       im0 = im0 + w0 * load(face_edge[f] + stride + offset);
+                     }
+                     cre = re0 + re1;
+                     cim = im0 + im1;
+                   },
+                   after);
+        }
     }
   }
   for (int n = 0; n <= degree; ++n) {
