@@ -37,14 +37,12 @@ POLYSTOKES_INLINE v4 load(const double* p) {
 }
 POLYSTOKES_INLINE void store(double* p, v4 v) { std::memcpy(p, &v, sizeof v); }
 
-// Row layout: order k at index k + first, so blocks of 4 orders are 32-byte aligned; the entry before order
-// 0 holds order -1. Entries past the current degree are exact zeros (zeroed once, and every step computes
-// exact zeros there from zeros), so the steps need no bounds.
-constexpr int first = 4;
-
+// Row layout: order k at index k, rows on cache-line boundaries, so blocks of 4 orders are 32-byte aligned.
+// Entries past the current degree are exact zeros (zeroed once, and every step computes exact zeros there
+// from zeros), so the steps need no bounds.
 int row_stride(int degree) {
   const int blocks = (degree + 4) / 4;
-  return (4 * blocks + 9 + 7) / 8 * 8;  // the last block reads up to 4 blocks + 8; whole cache lines
+  return (4 * blocks + 5 + 7) / 8 * 8;  // after the last block the step loads up to index 4 blocks + 4
 }
 
 // One step of a row, in place: the product by l(v) plus `add`, in the scaled H basis H_k = (-i)^k 2^k G_k:
@@ -52,24 +50,23 @@ int row_stride(int degree) {
 // on real and imaginary parts C, S:
 //   C'_k = add + z C_k + x (C_{k-1} - C_{k+1}/4) - y (S_{k-1} + S_{k+1}/4)
 //   S'_k = add + z S_k + x (S_{k-1} - S_{k+1}/4) + y (C_{k-1} + C_{k+1}/4).
-// Each block's inputs (orders k-1..k+4) are loaded before the previous block is stored over them. After the
-// first block goes the order -1 entry for the next step, from the symmetry f(u + pi) = conj f(u) of every
-// product of l_u's: H_{-1} = -conj(H_1)/4, which keeps S_0 exactly zero and needs no case at k = 0.
+// Each block's inputs (orders k-1..k+4) are loaded before the previous block is stored over them. Order -1,
+// needed by order 0, follows from the symmetry f(u + pi) = conj f(u) of every product of l_u's:
+// H_{-1} = -conj(H_1)/4, which keeps S_0 exactly zero.
 // add_block(b, cre, cim) sets the added term of block b (orders 4b..4b+3); after(b, cre, cim) sees each result.
 template <class Add, class After>
 POLYSTOKES_INLINE void step_row(double* re, double* im, const double* coefficients, int blocks, Add&& add_block,
                                 After&& after) {
   const v4 x = load(coefficients), y = load(coefficients + 4), z = load(coefficients + 8);
   const v4 quarter = {0.25, 0.25, 0.25, 0.25};
-  double* r = re + first;
-  double* s = im + first;
-  // Order -1 from the symmetry f(u + pi) = conj f(u) of every product of l_u's: H_{-1} = -conj(H_1)/4.
-  v4 c0 = load(r), cp = load(r + 1), s0 = load(s), sp = load(s + 1);
-  const v4 mirror_re = {-0.25, 1, 1, 1}, mirror_im = {0.25, 1, 1, 1};
-  const long long order[4] = {1, 0, 1, 2};
+  double* r = re;
+  double* s = im;
+  // Orders -1, 0, 1, 2 of the first block from orders 0..3.
   typedef long long v4i __attribute__((vector_size(32)));
-  const v4i shift = {order[0], order[1], order[2], order[3]};
-  v4 cm = __builtin_shuffle(c0, shift) * mirror_re, sm = __builtin_shuffle(s0, shift) * mirror_im;
+  const v4i previous = {1, 0, 1, 2};
+  const v4 mirror_re = {-0.25, 1, 1, 1}, mirror_im = {0.25, 1, 1, 1};
+  v4 c0 = load(r), cp = load(r + 1), s0 = load(s), sp = load(s + 1);
+  v4 cm = __builtin_shuffle(c0, previous) * mirror_re, sm = __builtin_shuffle(s0, previous) * mirror_im;
   auto block = [&](int b) {
     v4 cre, cim;
     add_block(b, cre, cim);
@@ -109,7 +106,7 @@ POLYSTOKES_INLINE void centre_steps(const FanDecomposition& fans, double* rows, 
     for (int b = 0; b < Blocks; ++b) acc_re[b] = acc_im[b] = v4{0, 0, 0, 0};
     for (int f = fans.fan_begin[size_t(c)]; f < fans.fan_begin[size_t(c) + 1]; ++f) {
       const v4 w = load(weights + 4 * size_t(f));
-      const double* rim = face_edge[f] + first;
+      const double* rim = face_edge[f];
 #pragma GCC unroll 8
       for (int b = 0; b < Blocks; ++b) {
         acc_re[b] = acc_re[b] + w * load(rim + 4 * b);
@@ -176,12 +173,12 @@ void accumulate_fan_block(const FanDecomposition& fans, const Eigen::Vector3d* l
   for (size_t f = 0; f < faces; ++f) face_edge[f] = row(size_t(sources + fans.fan_edges[f]));
 
   // Degree 0: h_0 = 1 for sources and rim edges, the sum of the fan weights for centres.
-  for (size_t e = 0; e < size_t(sources + edges); ++e) row(e)[first] = 1.0;
+  for (size_t e = 0; e < size_t(sources + edges); ++e) row(e)[0] = 1.0;
   for (int c = 0; c < centres; ++c) {
     double weight = 0;
     for (int f = fans.fan_begin[size_t(c)]; f < fans.fan_begin[size_t(c) + 1]; ++f) weight += fan_weights[f];
-    row(size_t(sources + edges + c))[first] = weight;
-    totals[first] += weight;
+    row(size_t(sources + edges + c))[0] = weight;
+    totals[0] += weight;
   }
 
   const v4 zero = {0, 0, 0, 0};
@@ -201,13 +198,13 @@ void accumulate_fan_block(const FanDecomposition& fans, const Eigen::Vector3d* l
       const double* add = edge_source[j];
       step_row(r, r + stride, coefficients + 12 * e, blocks,
                [&](int b, v4& cre, v4& cim) {
-                 cre = load(add + first + 4 * b);
-                 cim = load(add + stride + first + 4 * b);
+                 cre = load(add + 4 * b);
+                 cim = load(add + stride + 4 * b);
                },
                nothing);
     }
     // Centres: sum over the fan of weight * h_n(a, b, c) = sum weight * h_n(a, b) + c * (the same at n - 1).
-    double* const t_re = totals + size_t(n) * 2 * stride + first;
+    double* const t_re = totals + size_t(n) * 2 * stride;
     double* const t_im = t_re + stride;
     auto after = [&](int b, v4 cre, v4 cim) {
       store(t_re + 4 * b, load(t_re + 4 * b) + cre);
@@ -229,7 +226,7 @@ void accumulate_fan_block(const FanDecomposition& fans, const Eigen::Vector3d* l
                    [&](int b, v4& cre, v4& cim) {
                      // Two partial sums halve the dependency chain through the fan.
                      v4 re0 = zero, im0 = zero, re1 = zero, im1 = zero;
-                     const size_t offset = size_t(first + 4 * b);
+                     const size_t offset = size_t(4 * b);
                      int f = begin;
                      for (; f + 1 < end; f += 2) {
                        const v4 w0 = load(weights + 4 * size_t(f)), w1 = load(weights + 4 * size_t(f) + 4);
@@ -251,7 +248,7 @@ void accumulate_fan_block(const FanDecomposition& fans, const Eigen::Vector3d* l
     }
   }
   for (int n = 0; n <= degree; ++n) {
-    const double* t_re = totals + size_t(n) * 2 * stride + first;
+    const double* t_re = totals + size_t(n) * 2 * stride;
     const double* t_im = t_re + stride;
     double* o_re = out_re + size_t(n) * size_t(n + 1) / 2;
     double* o_im = out_im + size_t(n) * size_t(n + 1) / 2;
