@@ -23,6 +23,8 @@
 #include <unordered_map>
 
 #include "errors.h"
+#include "memory_budget.h"
+#include "mesh_preflight.h"
 #include "output_file.h"
 
 namespace polystokes {
@@ -474,11 +476,14 @@ Mesh read_mesh(const std::string& path, const MeshReadOptions& options) {
   if (!(options.merge_tolerance >= 0) || !std::isfinite(options.merge_tolerance))
     throw ConventionError(
         fmt::format("merge tolerance must be finite and >= 0, got {}", options.merge_tolerance));
+  check_file_read_budget(path);
   const std::string bytes = read_file(path);
   const std::string ext = lower_extension(path);
   if (ext != ".obj" && ext != ".off" && ext != ".ply" && ext != ".stl")
     throw mesh_error(path, "unknown mesh format '" + ext + "' (expected .obj, .off, .ply or .stl)");
   if (bytes.find_first_not_of(" \t\r\n") == std::string::npos) throw mesh_error(path, "file is empty");
+  // The CGAL readers size arrays from declared counts before reading them: a lying file is refused here.
+  check_mesh_file(path, bytes, ext);
 
   const Soup soup = ext == ".obj" ? parse_obj(path, bytes) : parse_with_cgal(path, bytes, ext);
   check_soup(path, soup);

@@ -27,8 +27,10 @@ struct MeshReadOptions {
 /// their numbers refer to the welded mesh, not to the file. Sets source = path, unit, checksum = SHA-256 of
 /// the file bytes. Throws MeshError (empty file, unknown extension, no faces, polygon that cannot be split)
 /// or FormatError (missing or unreadable file, unparsable content, non-finite coordinate, face with < 3
-/// vertices, vertex index out of range); the message is one line naming the file and, where the format
-/// allows, the line and face.
+/// vertices, vertex index out of range, or a record the format parsers would mishandle, which
+/// check_mesh_file in mesh_preflight.h refuses before parsing) or ResourceError (the file or the mesh would
+/// not fit in memory); the message is one line naming the file and, where the format allows, the line and
+/// face.
 Mesh read_mesh(const std::string& path, const MeshReadOptions& options = {});
 
 /// Writes `mesh` as OBJ ("v x y z" in `unit`, one-based "f i j k"), coordinates in the shortest form
