@@ -1,8 +1,15 @@
 #include "cli_common.h"
 
+#include <algorithm>
+#include <atomic>
+#include <cerrno>
+#include <csignal>
 #include <cstdio>
+#include <cstring>
+#include <filesystem>
 #include <fmt/format.h>
 #include <sstream>
+#include <unistd.h>
 
 #include "errors.h"
 #include "harmonics.h"
@@ -24,6 +31,33 @@ Mesh load_checked_mesh(const std::string& path, LengthUnit unit, double merge_to
   validate_mesh(mesh);
   for (const auto& notice : mesh.notices) print_notice(global, path + ": " + notice);
   return mesh;
+}
+
+CLI::Validator existing_input() {
+  return CLI::Validator(
+      [](std::string& path) -> std::string {
+        if (path == "-") return {};
+        std::error_code error;
+        const auto status = std::filesystem::status(path, error);
+        if (!std::filesystem::exists(status)) throw format_error(path, 0, std::string("cannot read: ") + std::strerror(ENOENT));
+        if (std::filesystem::is_directory(status)) throw format_error(path, 0, "cannot read: is a directory");
+        return {};
+      },
+      "FILE");
+}
+
+void check_output_path(const std::string& path) {
+  if (path == "-") return;
+  if (path.empty()) throw OutputError("output path is empty");
+  const std::filesystem::path target(path);
+  const std::filesystem::path directory = target.has_parent_path() ? target.parent_path() : ".";
+  std::error_code error;
+  if (std::filesystem::is_directory(target, error))
+    throw OutputError(path + ": cannot write: is a directory");
+  if (!std::filesystem::is_directory(directory, error))
+    throw OutputError(path + ": cannot write: directory '" + directory.string() + "' does not exist");
+  if (::access(directory.c_str(), W_OK | X_OK) != 0)
+    throw OutputError(path + ": cannot write in directory '" + directory.string() + "': " + std::strerror(errno));
 }
 
 LengthUnit parse_unit_option(const std::string& text) { return parse_length_unit(text); }
@@ -49,26 +83,110 @@ Eigen::Vector3d parse_vector3(const std::string& text, const std::string& what) 
   return v;
 }
 
-std::string format_mass_properties(const MassProperties& props, LengthUnit unit) {
+void print_verbose(const GlobalOptions& global, int level, const std::string& text) {
+  if (!global.quiet && global.verbose >= level) std::fprintf(stderr, "polystokes: %s\n", text.c_str());
+}
+
+std::string format_summary(const std::vector<SummaryRow>& rows) {
+  // Remarks line up after the values that are short enough to share a column; a long value (a vector, a
+  // file list) keeps its remark two spaces behind it rather than pushing every remark to the right.
+  constexpr size_t long_value = 40;
+  size_t label_width = 0, value_width = 0;
+  for (const auto& row : rows) {
+    label_width = std::max(label_width, row.label.size());
+    if (!row.remark.empty() && row.value.size() <= long_value) value_width = std::max(value_width, row.value.size());
+  }
+  std::string out;
+  for (const auto& row : rows) {
+    std::string line = fmt::format("  {:<{}}  {}", row.label, label_width, row.value);
+    if (!row.remark.empty())
+      line += std::string(row.value.size() < value_width ? value_width - row.value.size() + 2 : 2, ' ') + row.remark;
+    while (!line.empty() && line.back() == ' ') line.pop_back();
+    out += line + "\n";
+  }
+  return out;
+}
+
+std::vector<SummaryRow> mass_property_rows(const MassProperties& props, LengthUnit unit) {
   const double u = meters_per(unit);
   const std::string name = to_string(unit);
-  std::string out;
-  out += fmt::format("  volume             {:.9g} m^3 ({:.9g} {}^3)\n", props.volume, props.volume / (u * u * u), name);
-  out += fmt::format("  mass               {:.9g} kg\n", props.mass);
-  out += fmt::format("  GM                 {:.9g} m^3 s^-2 (G = {} CODATA 2018)\n",
-                     gravitational_constant * props.mass, gravitational_constant);
-  out += fmt::format("  centre of mass     ({:.9g}, {:.9g}, {:.9g}) m, mesh frame\n", props.center_of_mass.x(),
-                     props.center_of_mass.y(), props.center_of_mass.z());
-  out += "  inertia about COM  kg m^2, mesh frame\n";
+  std::vector<SummaryRow> rows;
+  rows.push_back({"volume", fmt::format("{:.9g} m^3", props.volume),
+                  unit == LengthUnit::meter ? "" : fmt::format("{:.9g} {}^3", props.volume / (u * u * u), name)});
+  rows.push_back({"mass", fmt::format("{:.9g} kg", props.mass), ""});
+  rows.push_back({"GM", fmt::format("{:.9g} m^3 s^-2", gravitational_constant * props.mass),
+                  fmt::format("G = {} m^3 kg^-1 s^-2 (CODATA 2018)", gravitational_constant)});
+  const Eigen::Vector3d& c = props.center_of_mass;
+  rows.push_back({"centre of mass", fmt::format("({:.9g}, {:.9g}, {:.9g}) m", c.x(), c.y(), c.z()), "mesh axes"});
   for (int i = 0; i < 3; ++i)
-    out += fmt::format("                     [{:>16.9g} {:>16.9g} {:>16.9g}]\n", props.inertia(i, 0),
-                       props.inertia(i, 1), props.inertia(i, 2));
-  out += fmt::format("  principal moments  A={:.9g} B={:.9g} C={:.9g} kg m^2 (ascending)\n",
-                     props.principal_moments[0], props.principal_moments[1], props.principal_moments[2]);
+    rows.push_back({i == 0 ? "inertia about COM" : "",
+                    fmt::format("[{:>16.9g} {:>16.9g} {:>16.9g} ]{}", props.inertia(i, 0), props.inertia(i, 1),
+                                props.inertia(i, 2), i == 2 ? " kg m^2" : ""),
+                    i == 0 ? "mesh axes" : ""});
+  rows.push_back({"principal moments",
+                  fmt::format("{:.9g}, {:.9g}, {:.9g} kg m^2", props.principal_moments[0],
+                              props.principal_moments[1], props.principal_moments[2]),
+                  ""});
   for (int k = 0; k < 3; ++k)
-    out += fmt::format("  principal axis {}   ({:+.9f}, {:+.9f}, {:+.9f})\n", "ABC"[k], props.principal_axes(0, k),
-                       props.principal_axes(1, k), props.principal_axes(2, k));
-  return out;
+    rows.push_back({fmt::format("principal axis {}", k + 1),
+                    fmt::format("({:+.9f}, {:+.9f}, {:+.9f})", props.principal_axes(0, k), props.principal_axes(1, k),
+                                props.principal_axes(2, k)),
+                    ""});
+  return rows;
+}
+
+std::string format_mass_properties(const MassProperties& props, LengthUnit unit) {
+  return format_summary(mass_property_rows(props, unit));
+}
+
+namespace {
+
+// Only lock-free atomics may be touched from a signal handler (C++17 [support.signal]).
+std::atomic<int> open_output_sections{0};
+std::atomic<int> deferred_signal{0};
+static_assert(std::atomic<int>::is_always_lock_free, "signal handler state must be lock-free");
+
+constexpr int terminating_signals[] = {SIGINT, SIGTERM, SIGHUP};
+
+/// Ends the process by `signal` with the default action, so the parent sees the usual status (e.g. 130).
+void die_by(int signal) {
+  std::signal(signal, SIG_DFL);
+  std::raise(signal);
+}
+
+extern "C" void on_terminating_signal(int signal) {
+  if (open_output_sections.load() > 0) {
+    deferred_signal.store(signal);
+    return;
+  }
+  die_by(signal);
+}
+
+}  // namespace
+
+void install_signal_handlers() {
+  struct sigaction action {};
+  action.sa_handler = on_terminating_signal;
+  sigemptyset(&action.sa_mask);
+  action.sa_flags = SA_RESTART;  // writes interrupted while deferring resume instead of failing with EINTR
+  for (int signal : terminating_signals) {
+    struct sigaction previous {};
+    // A signal ignored by the parent (nohup, background jobs) stays ignored.
+    if (::sigaction(signal, nullptr, &previous) == 0 && previous.sa_handler == SIG_IGN) continue;
+    ::sigaction(signal, &action, nullptr);
+  }
+}
+
+OutputSection::OutputSection() { open_output_sections.fetch_add(1); }
+
+OutputSection::~OutputSection() {
+  if (open_output_sections.fetch_sub(1) == 1) {
+    const int signal = deferred_signal.exchange(0);
+    if (signal != 0) {
+      std::fflush(nullptr);  // what was printed so far still reaches the terminal or pipe
+      die_by(signal);
+    }
+  }
 }
 
 }  // namespace polystokes::cli

@@ -18,13 +18,57 @@ Mesh load_checked_mesh(const std::string& path, LengthUnit unit, double merge_to
 /// Prints "polystokes: note: TEXT" on stderr unless quiet.
 void print_notice(const GlobalOptions& global, const std::string& text);
 
+/// CLI11 check of an input-file argument: "-" (standard input) or an existing file. A missing file or a
+/// directory throws FormatError "PATH: cannot read: ..." out of parsing, so it exits with code 2 (bad input)
+/// like any other unreadable input, not 1 (usage).
+CLI::Validator existing_input();
+
+/// Refuses, before any work, an output path that cannot be written: OutputError "PATH: cannot write: ..."
+/// when its directory is missing or not writable or the path is a directory. "-" (standard output) passes.
+/// The write itself stays all-or-nothing (write_file_atomically); this only saves a long run that could
+/// not have been saved.
+void check_output_path(const std::string& path);
+
 /// CLI11 validator/transformer for "m" / "km".
 LengthUnit parse_unit_option(const std::string& text);
 
 /// "a,b,c" -> vector; throws ConventionError naming `what` on a malformed list.
 Eigen::Vector3d parse_vector3(const std::string& text, const std::string& what);
 
-/// Mass-properties block for summaries: volume, mass, GM, COM, inertia, principal moments and axes.
+/// Prints "polystokes: TEXT" on stderr when -v was given at least `level` times (and not -q).
+void print_verbose(const GlobalOptions& global, int level, const std::string& text);
+
+/// One line of a summary table: a quantity, its value with unit, and an optional remark.
+struct SummaryRow {
+  std::string label;
+  std::string value;
+  std::string remark;
+};
+
+/// The rows as a table: two-space indent, then label, value and remark columns, each as wide as its widest
+/// entry (rows with an empty label continue the row above).
+std::string format_summary(const std::vector<SummaryRow>& rows);
+
+/// Summary rows of mass properties: volume, mass, GM; COM, inertia about it and principal axes (unit
+/// vectors, moments ascending), all in the mesh frame.
+std::vector<SummaryRow> mass_property_rows(const MassProperties& props, LengthUnit unit);
+
+/// format_summary(mass_property_rows(props, unit)).
 std::string format_mass_properties(const MassProperties& props, LengthUnit unit);
+
+/// Makes SIGINT, SIGTERM and SIGHUP end the process as usual, except while an OutputSection is open: then
+/// the signal waits until the section closes, so a file being written is completed (or, on failure, its
+/// temporary removed) before the process ends. Call once at start-up.
+void install_signal_handlers();
+
+/// Scope around writing output files (write_file_atomically and the writers built on it). Sections nest; a
+/// terminating signal that arrived inside is re-raised when the outermost section closes.
+class OutputSection {
+ public:
+  OutputSection();
+  ~OutputSection();
+  OutputSection(const OutputSection&) = delete;
+  OutputSection& operator=(const OutputSection&) = delete;
+};
 
 }  // namespace polystokes::cli

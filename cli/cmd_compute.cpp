@@ -3,6 +3,7 @@
 #include <cstdio>
 #include <fmt/format.h>
 #include <memory>
+#include <thread>
 #include <unistd.h>
 
 #include "cli_common.h"
@@ -10,6 +11,7 @@
 #include "conventions.h"
 #include "errors.h"
 #include "harmonics.h"
+#include "memory_budget.h"
 
 namespace polystokes::cli {
 namespace {
@@ -57,11 +59,71 @@ std::vector<double> resolve_densities(const ComputeCommandOptions& options, cons
   return {mass / volume};
 }
 
+double elapsed_since(std::chrono::steady_clock::time_point start) {
+  return std::chrono::duration<double>(std::chrono::steady_clock::now() - start).count();
+}
+
+/// The summary printed after a run: what was computed from what, the mass properties and the conventions.
+std::vector<SummaryRow> summary_rows(const ComputeCommandOptions& options, const CoefficientSet& set,
+                                     const MassProperties& props, LengthUnit unit, double seconds) {
+  const double u = meters_per(unit);
+  std::vector<SummaryRow> rows;
+  rows.push_back({"body", set.body, ""});
+  for (size_t i = 0; i < set.regions.size(); ++i) {
+    const Region& region = set.regions[i];
+    rows.push_back({set.regions.size() == 1 ? "mesh" : fmt::format("region {}", i + 1),
+                    fmt::format("{}: {} faces, unit {}, {} kg/m^3", region.mesh, region.faces, region.unit,
+                                region.density),
+                    ""});
+  }
+  for (auto& row : mass_property_rows(props, unit)) rows.push_back(std::move(row));
+  const Eigen::Vector3d& o = set.origin_in_mesh;
+  rows.push_back({"expansion origin",
+                  options.origin == "com" ? std::string("centre of mass")
+                                          : fmt::format("{} ({:.9g}, {:.9g}, {:.9g}) m", set.origin, o.x(), o.y(), o.z()),
+                  options.origin == "com" ? "default" : ""});
+  rows.push_back({"frame", set.frame + " axes", options.frame == "mesh" ? "default" : ""});
+  rows.push_back({"Brillouin radius", fmt::format("{:.9g} m", set.brillouin_radius),
+                  fmt::format("{:.9g} {}, about the origin", set.brillouin_radius / u, to_string(unit))});
+  rows.push_back({"reference radius", fmt::format("{:.9g} m", set.reference_radius),
+                  options.reference_radius > 0 ? fmt::format("{:.9g} {}", set.reference_radius / u, to_string(unit))
+                                               : "default: Brillouin radius"});
+  rows.push_back({"degree", std::to_string(set.degree), ""});
+  const bool default_convention = options.normalization == "fully" && !options.condon_shortley && !options.zonal_as_j;
+  rows.push_back({"normalization", describe(set.convention) + (default_convention ? " (default)" : ""), ""});
+  if (set.degree >= 2) {
+    // Only the degree-2 block is converted: a full copy would double the memory of a large set.
+    CoefficientSet low = make_empty_set(2);
+    low.convention = set.convention;
+    low.gm = set.gm;
+    low.reference_radius = set.reference_radius;
+    low.C = set.C.topLeftCorner(3, 3);
+    low.S = set.S.topLeftCorner(3, 3);
+    const CoefficientSet fully = convert_convention(low, Convention{});
+    rows.push_back({"C20, C22, S22", fmt::format("{:.6e}, {:.6e}, {:.6e}", fully.C(2, 0), fully.C(2, 2), fully.S(2, 2)),
+                    "fully normalized"});
+  }
+  rows.push_back({"written", options.output + (options.json.empty() ? "" : ", " + options.json), ""});
+  rows.push_back({"time", fmt::format("{:.3f} s", seconds), ""});
+  return rows;
+}
+
 void run_compute(const ComputeCommandOptions& options, const GlobalOptions& global) {
   const auto start = std::chrono::steady_clock::now();
   const LengthUnit unit = parse_unit_option(options.unit);
+  check_output_path(options.output);
+  if (!options.json.empty()) check_output_path(options.json);
+  // Refused before any mesh is read: the tables, partial sums and written text of this degree.
+  const int threads = options.threads > 0 ? options.threads : int(std::max(1u, std::thread::hardware_concurrency()));
+  const double run_bytes = coefficient_run_bytes(options.degree, threads, !options.json.empty());
+  require_memory(run_bytes, fmt::format("computing and writing a set of degree {} on {} thread(s)", options.degree,
+                                        threads));
+  print_verbose(global, 1,
+                fmt::format("degree {} needs about {:.3g} GB of memory; {:.3g} GB available", options.degree,
+                            run_bytes / 1e9, available_memory_bytes() / 1e9));
   std::vector<Mesh> meshes;
   for (const auto& path : options.meshes) meshes.push_back(load_checked_mesh(path, unit, options.merge_tolerance, global));
+  print_verbose(global, 1, fmt::format("meshes read and checked in {:.3f} s", elapsed_since(start)));
   const std::vector<double> densities = resolve_densities(options, meshes);
   std::vector<DensityRegion> regions;
   for (size_t i = 0; i < meshes.size(); ++i) regions.push_back({std::move(meshes[i]), densities[i]});
@@ -83,37 +145,23 @@ void run_compute(const ComputeCommandOptions& options, const GlobalOptions& glob
     };
   }
   const MassProperties props = mass_properties(regions);
+  const auto compute_start = std::chrono::steady_clock::now();
   const CoefficientSet set = compute_coefficients(regions, compute);
+  print_verbose(global, 1, fmt::format("coefficients computed in {:.3f} s", elapsed_since(compute_start)));
 
-  write_coefficient_file(set, options.output);
-  if (!options.json.empty()) write_coefficient_json(set, options.json);
-  const double seconds = std::chrono::duration<double>(std::chrono::steady_clock::now() - start).count();
+  {
+    // An interrupt now waits until both files are complete, so it never leaves one half-replaced.
+    const OutputSection writing;
+    print_verbose(global, 1, "writing " + options.output + (options.json.empty() ? "" : " and " + options.json));
+    write_coefficient_file(set, options.output);
+    if (!options.json.empty()) write_coefficient_json(set, options.json);
+  }
+  const double seconds = elapsed_since(start);
   if (global.quiet) return;
 
   std::FILE* out = options.output == "-" ? stderr : stdout;
-  const double u = meters_per(unit);
   fmt::print(out, "polystokes compute: {}\n", set.body);
-  for (const auto& region : set.regions)
-    fmt::print(out, "  region             {} ({} faces, unit {}), density {} kg/m^3, volume {:.9g} m^3\n",
-               region.mesh, region.faces, region.unit, region.density, region.volume);
-  fmt::print(out, "{}", format_mass_properties(props, unit));
-  fmt::print(out, "  expansion origin   {} ({:.9g}, {:.9g}, {:.9g}) m{}\n", set.origin, set.origin_in_mesh.x(),
-             set.origin_in_mesh.y(), set.origin_in_mesh.z(), options.origin == "com" ? " (default)" : "");
-  fmt::print(out, "  frame              {}{}\n", set.frame, options.frame == "mesh" ? " axes (default)" : " axes");
-  fmt::print(out, "  Brillouin radius   {:.9g} m ({:.9g} {})\n", set.brillouin_radius, set.brillouin_radius / u,
-             to_string(unit));
-  fmt::print(out, "  reference radius   {:.9g} m{}\n", set.reference_radius,
-             options.reference_radius > 0 ? "" : " (default: Brillouin radius)");
-  fmt::print(out, "  degree             {}\n", set.degree);
-  fmt::print(out, "  convention         {}{}\n", describe(set.convention),
-             options.normalization == "fully" && !options.condon_shortley && !options.zonal_as_j ? " (default)" : "");
-  if (set.degree >= 2) {
-    const CoefficientSet fully = convert_convention(set, Convention{});
-    fmt::print(out, "  C20 {:.6e}  C22 {:.6e}  S22 {:.6e} (fully normalized)\n", fully.C(2, 0), fully.C(2, 2),
-               fully.S(2, 2));
-  }
-  fmt::print(out, "  written            {}{}\n", options.output, options.json.empty() ? "" : " and " + options.json);
-  fmt::print(out, "  time               {:.3f} s\n", seconds);
+  fmt::print(out, "{}", format_summary(summary_rows(options, set, props, unit, seconds)));
   fmt::print(out, "{}\n", operational_caution());
 }
 
@@ -125,8 +173,9 @@ void setup_compute(CLI::App& app, const GlobalOptions& global) {
       "compute",
       "Exact constant-density Stokes coefficients of one or more shape meshes.\n"
       "Several meshes are superposed, each with its own --density (negative for a void inside the first).\n"
-      "Example: polystokes compute shapes-demo/dumbbell.obj --unit km --density 1900 --degree 16 -o dumbbell.txt");
-  cmd->add_option("meshes", options->meshes, "Shape mesh(es): .obj, .off, .ply, .stl")->required()->check(CLI::ExistingFile);
+      "Example: polystokes compute shapes-demo/varnek.obj --unit km --density 1900 --degree 16 -o varnek.txt\n"
+      "         polystokes compute outer.obj core.obj --density 1800 700 --degree 12 -o layered.txt --json layered.json");
+  cmd->add_option("meshes", options->meshes, "Shape mesh(es): .obj, .off, .ply, .stl")->required()->check(existing_input());
   cmd->add_option("--density", options->densities, "Density per mesh in kg/m^3 (repeat or list, in mesh order)")
       ->expected(1, -1);
   cmd->add_option("--gm", options->gm, "Total GM in m^3 s^-2 instead of a density (single mesh)")->check(CLI::PositiveNumber);

@@ -25,29 +25,43 @@ void run_inspect(const InspectOptions& options, const GlobalOptions& global) {
   Mesh mesh = read_mesh(options.mesh, read);
   for (const auto& notice : mesh.notices) print_notice(global, options.mesh + ": " + notice);
   const MeshCheckReport report = inspect_mesh(mesh);
-  fmt::print("mesh {} ({} vertices, {} faces, unit {}, sha256 {})\n", options.mesh, mesh.vertices.rows(),
-             mesh.faces.rows(), to_string(unit), mesh.checksum);
+  // -q: the exit code alone says whether the mesh is a valid solid; errors still go to stderr.
+  const bool print = !global.quiet;
+  if (print)
+    fmt::print("mesh {} ({} vertices, {} faces, unit {}, sha256 {})\n", options.mesh, mesh.vertices.rows(),
+               mesh.faces.rows(), to_string(unit), mesh.checksum);
+  bool all_passed = true;
   for (const auto& check : report.checks) {
+    all_passed = all_passed && check.passed;
+    if (!print) continue;
     if (check.passed)
       fmt::print("  check {:<24} ok\n", check.name);
     else if (!check.ran)
-      fmt::print("  check {:<24} not run: {}\n", check.name, describe(check));
+      fmt::print("  check {:<24} {}\n", check.name, describe(check));
     else
       fmt::print("  check {:<24} FAILED: {}\n", check.name, describe(check));
   }
-  // validate_mesh throws the one-line error of the first failed check, or repairs an entirely inside-out
-  // mesh (which inspect_mesh reports as not outward oriented) with a notice.
-  const size_t printed = mesh.notices.size();
-  validate_mesh(mesh);
-  for (size_t i = printed; i < mesh.notices.size(); ++i) print_notice(global, options.mesh + ": " + mesh.notices[i]);
+  if (!all_passed) {
+    // validate_mesh throws the one-line error of the first failed check, or repairs an entirely inside-out
+    // mesh (which inspect_mesh reports as not outward oriented) with a notice. A mesh that passed every
+    // check needs no second run of the checks.
+    const size_t printed = mesh.notices.size();
+    validate_mesh(mesh);
+    for (size_t i = printed; i < mesh.notices.size(); ++i) print_notice(global, options.mesh + ": " + mesh.notices[i]);
+  }
+  if (!print) return;
   const MassProperties props = mass_properties({DensityRegion{mesh, options.density}});
   const double brillouin_com = max_vertex_distance(mesh, props.center_of_mass);
   const double brillouin_mesh = max_vertex_distance(mesh, Eigen::Vector3d::Zero());
+  const double u = meters_per(unit);
   fmt::print("mass properties (density {} kg/m^3{}):\n", options.density,
-             options.density == 1000 ? ", default; pass --density" : "");
-  fmt::print("{}", format_mass_properties(props, unit));
-  fmt::print("  Brillouin radius   {:.9g} m about the COM, {:.9g} m about the mesh origin\n", brillouin_com,
-             brillouin_mesh);
+             options.density == 1000 ? ", the default; pass --density" : "");
+  std::vector<SummaryRow> rows = mass_property_rows(props, unit);
+  rows.push_back({"Brillouin radius", fmt::format("{:.9g} m", brillouin_com),
+                  fmt::format("{:.9g} {}, about the COM", brillouin_com / u, to_string(unit))});
+  rows.push_back({"", fmt::format("{:.9g} m", brillouin_mesh),
+                  fmt::format("{:.9g} {}, about the mesh origin", brillouin_mesh / u, to_string(unit))});
+  fmt::print("{}", format_summary(rows));
 }
 
 }  // namespace
@@ -55,8 +69,9 @@ void run_inspect(const InspectOptions& options, const GlobalOptions& global) {
 void setup_inspect(CLI::App& app, const GlobalOptions& global) {
   auto options = std::make_shared<InspectOptions>();
   auto* cmd = app.add_subcommand("inspect", "Check a shape mesh and print its mass properties.\n"
-                                            "Example: polystokes inspect shapes-demo/dumbbell.obj --unit km --density 1900");
-  cmd->add_option("mesh", options->mesh, "Shape mesh (.obj, .off, .ply, .stl)")->required()->check(CLI::ExistingFile);
+                                            "With -q nothing but errors is printed: the exit code says whether the mesh is a valid solid.\n"
+                                            "Example: polystokes inspect shapes-demo/varnek.obj --unit km --density 1900");
+  cmd->add_option("mesh", options->mesh, "Shape mesh (.obj, .off, .ply, .stl)")->required()->check(existing_input());
   cmd->add_option("--unit", options->unit, "Length unit of the mesh file: m or km")
       ->check(CLI::IsMember({"m", "km"}))->capture_default_str();
   cmd->add_option("--merge-tolerance", options->merge_tolerance,
