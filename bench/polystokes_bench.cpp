@@ -1,16 +1,17 @@
 // Benchmark of the exact coefficient computation against its cost floor, and of the exact polyhedron gravity.
-// Prints one table: facets, degree, threads, seconds, floor seconds, ratio, peak memory; then gravity figures.
+// Prints one table: facets, degree, threads, seconds, floor seconds, ratio, peak memory; then gravity
+// figures.
 //
 // The floor: every facet must touch each of the (N+1)^2 coefficients, so a computation needs at least
 // F (N+1)^2 multiply-adds. The floor loop does exactly that many over data read from memory (a per-facet
 // weight times (N+1)^2 table values, the table cycled so it stays in the first-level cache; eight independent
 // vector accumulators), split over the same threads and built with the same instruction-set clones as the
 // kernel; its result is printed so it cannot be removed.
-#include <Eigen/Geometry>
 #include <malloc.h>
 #include <sys/resource.h>
 #include <time.h>
 
+#include <Eigen/Geometry>
 #include <algorithm>
 #include <chrono>
 #include <cmath>
@@ -46,7 +47,8 @@ typedef double v4 __attribute__((vector_size(32)));
 // Sum over f in [begin, end) and j < count of weight[f] * table[j % table_size]: (end - begin) * count
 // multiply-adds, the table small enough to stay in the first-level cache whatever the degree.
 BENCH_CLONES
-double floor_kernel(const double* weight, long begin, long end, const double* table, long table_size, long count) {
+double floor_kernel(const double* weight, long begin, long end, const double* table, long table_size,
+                    long count) {
   v4 acc[8];
   for (auto& a : acc) a = v4{0, 0, 0, 0};
   double tail = 0;
@@ -75,14 +77,15 @@ double floor_kernel(const double* weight, long begin, long end, const double* ta
   return sum[0] + sum[1] + sum[2] + sum[3] + tail;
 }
 
-double floor_run(const std::vector<double>& weight, const std::vector<double>& table, long count, int threads) {
+double floor_run(const std::vector<double>& weight, const std::vector<double>& table, long count,
+                 int threads) {
   const long faces = long(weight.size());
   std::vector<double> result(size_t(threads), 0.0);
   std::vector<std::thread> pool;
   for (int t = 0; t < threads; ++t)
     pool.emplace_back([&, t] {
-      result[size_t(t)] = floor_kernel(weight.data(), faces * t / threads, faces * (t + 1) / threads, table.data(),
-                                       long(table.size()), count);
+      result[size_t(t)] = floor_kernel(weight.data(), faces * t / threads, faces * (t + 1) / threads,
+                                       table.data(), long(table.size()), count);
     });
   for (auto& thread : pool) thread.join();
   return std::accumulate(result.begin(), result.end(), 0.0);
@@ -157,17 +160,20 @@ double products_per_face(const Mesh& mesh, int degree) {
   const Eigen::Index size = moment_block_faces(degree), faces = mesh.faces.rows();
   double products = 0;
   for (Eigen::Index begin = 0; begin < faces; begin += size)
-    products += double(decomposer.decompose(mesh.faces, mesh.vertices.rows(), begin, std::min(faces, begin + size)).products());
+    products +=
+        double(decomposer.decompose(mesh.faces, mesh.vertices.rows(), begin, std::min(faces, begin + size))
+                   .products());
   return products / double(faces);
 }
 
 // --- Accuracy: the fast path against the quadrature reference and against the same recursion in extended
-// precision, face by face (80-bit long double on x86-64: 11 more bits), to see how rounding grows with degree.
+// precision, face by face (80-bit long double on x86-64: 11 more bits), to see how rounding grows with
+// degree.
 
 // Sum over faces of weight * H_nk(h_n(a, b, c)) by the three plain recursions of h_n per face (no fans), in
 // long double; same basis and k = -1 rule as moment_kernel.
-void extended_precision_sums(const Mesh& mesh, const HarmonicFrame& frame, int degree, std::vector<long double>& re,
-                             std::vector<long double>& im) {
+void extended_precision_sums(const Mesh& mesh, const HarmonicFrame& frame, int degree,
+                             std::vector<long double>& re, std::vector<long double>& im) {
   using Real = long double;
   const size_t row = size_t(degree) + 3;  // k = -1 .. degree + 1
   re.assign(size_t(degree + 1) * size_t(degree + 2) / 2, 0);
@@ -176,7 +182,8 @@ void extended_precision_sums(const Mesh& mesh, const HarmonicFrame& frame, int d
   for (Eigen::Index f = 0; f < mesh.faces.rows(); ++f) {
     Eigen::Vector3d v[3];
     for (int k = 0; k < 3; ++k)
-      v[k] = frame.axes * (mesh.vertices.row(mesh.faces(f, k)).transpose() - frame.origin) / frame.scale_radius;
+      v[k] =
+          frame.axes * (mesh.vertices.row(mesh.faces(f, k)).transpose() - frame.origin) / frame.scale_radius;
     const Real weight = Real(v[0].dot(v[1].cross(v[2])));
     std::fill(seq_re.begin(), seq_re.end(), 0);
     std::fill(seq_im.begin(), seq_im.end(), 0);
@@ -198,8 +205,10 @@ void extended_precision_sums(const Mesh& mesh, const HarmonicFrame& frame, int d
         for (int k = 0; k <= n; ++k) {
           const size_t i = size_t(k) + 1;
           // H'_k = add + z H_k + w H_{k-1} - (conj(w)/4) H_{k+1}, w = x + i y.
-          n_re[i] = (a_re ? a_re[i] : 0) + z * o_re[i] + x * o_re[i - 1] - y * o_im[i - 1] - (x * o_re[i + 1] + y * o_im[i + 1]) / 4;
-          n_im[i] = (a_im ? a_im[i] : 0) + z * o_im[i] + x * o_im[i - 1] + y * o_re[i - 1] - (x * o_im[i + 1] - y * o_re[i + 1]) / 4;
+          n_re[i] = (a_re ? a_re[i] : 0) + z * o_re[i] + x * o_re[i - 1] - y * o_im[i - 1] -
+                    (x * o_re[i + 1] + y * o_im[i + 1]) / 4;
+          n_im[i] = (a_im ? a_im[i] : 0) + z * o_im[i] + x * o_im[i - 1] + y * o_re[i - 1] -
+                    (x * o_im[i + 1] - y * o_re[i + 1]) / 4;
         }
         n_re[size_t(n) + 2] = n_im[size_t(n) + 2] = 0;
       }
@@ -239,13 +248,19 @@ void print_accuracy(int max_degree) {
   tetra.faces << 0, 1, 2, 0, 3, 1, 0, 2, 3, 1, 3, 2;
   const std::vector<Body> bodies = {
       {"tetrahedron", tetra, Eigen::Vector3d(0.05, 0.1, 0.15)},
-      {"flat disk (z/10)", transformed(make_geodesic_sphere(2), Eigen::Vector3d(1.0, 0.9, 0.1).asDiagonal(),
-                                       Eigen::Vector3d::Zero()), Eigen::Vector3d(0.2, 0.1, 0.0)},
-      {"cigar, origin near its end", transformed(make_geodesic_sphere(2), Eigen::Vector3d(1.5, 0.5, 0.4).asDiagonal(),
-                                                 Eigen::Vector3d::Zero()), Eigen::Vector3d(1.0, 0.1, 0.05)},
+      {"flat disk (z/10)",
+       transformed(make_geodesic_sphere(2), Eigen::Vector3d(1.0, 0.9, 0.1).asDiagonal(),
+                   Eigen::Vector3d::Zero()),
+       Eigen::Vector3d(0.2, 0.1, 0.0)},
+      {"cigar, origin near its end",
+       transformed(make_geodesic_sphere(2), Eigen::Vector3d(1.5, 0.5, 0.4).asDiagonal(),
+                   Eigen::Vector3d::Zero()),
+       Eigen::Vector3d(1.0, 0.1, 0.05)},
   };
   const int reference_degree = std::min(max_degree, 150);
-  std::printf("\naccuracy: max over orders |fast - other| / max over orders |other|, per degree (worst in each band)\n");
+  std::printf(
+      "\naccuracy: max over orders |fast - other| / max over orders |other|, per degree (worst in each "
+      "band)\n");
   std::printf("%-28s %6s %8s %14s %16s\n", "body", "faces", "degrees", "vs reference", "vs long double");
   for (const Body& body : bodies) {
     const std::vector<DensityRegion> regions{{body.mesh, 1.0}};
@@ -258,17 +273,23 @@ void print_accuracy(int max_degree) {
     extended_precision_sums(body.mesh, frame, max_degree, ext_re, ext_im);
     // Bands 0-9, 10-49, 50-99, 100-150, then 50 degrees each.
     for (int low = 0; low <= max_degree;) {
-      const int high = std::min(max_degree, low == 0 ? 9 : low == 10 ? 49 : low == 50 ? 99 : low == 100 ? 150 : low + 49);
+      const int high = std::min(max_degree, low == 0     ? 9
+                                            : low == 10  ? 49
+                                            : low == 50  ? 99
+                                            : low == 100 ? 150
+                                                         : low + 49);
       double vs_reference = 0, vs_extended = 0;
       for (int n = low; n <= high; ++n) {
         double worst_r = 0, scale_r = 0, worst_e = 0, scale_e = 0;
         for (int m = 0; m <= n; ++m) {
           const size_t i = size_t(n) * size_t(n + 1) / 2 + size_t(m);
           const double er = double(ext_re[i]), ei = double(ext_im[i]);
-          worst_e = std::max({worst_e, std::abs(double(fast.re(n, m) - ext_re[i])), std::abs(double(fast.im(n, m) - ext_im[i]))});
+          worst_e = std::max({worst_e, std::abs(double(fast.re(n, m) - ext_re[i])),
+                              std::abs(double(fast.im(n, m) - ext_im[i]))});
           scale_e = std::max({scale_e, std::abs(er), std::abs(ei)});
           if (n <= reference_degree) {
-            worst_r = std::max({worst_r, std::abs(fast.re(n, m) - reference.re(n, m)), std::abs(fast.im(n, m) - reference.im(n, m))});
+            worst_r = std::max({worst_r, std::abs(fast.re(n, m) - reference.re(n, m)),
+                                std::abs(fast.im(n, m) - reference.im(n, m))});
             scale_r = std::max({scale_r, std::abs(reference.re(n, m)), std::abs(reference.im(n, m))});
           }
         }
@@ -305,11 +326,14 @@ std::vector<int> parse_list(const char* text) {
 
 void usage() {
   std::printf(
-      "usage: polystokes_bench [--quick] [--frequencies K,..] [--degrees N,..] [--threads T,..] [--repeat R]\n"
+      "usage: polystokes_bench [--quick] [--frequencies K,..] [--degrees N,..] [--threads T,..] [--repeat "
+      "R]\n"
       "                        [--gravity-frequency K] [--gravity-points P] [--no-shuffled] [--accuracy N]\n"
       "Meshes are lumpy geodesic spheres with 20 K^2 facets (default K = 71, 100, 224: 1.0e5, 2.0e5, 1.0e6\n"
-      "facets); --quick uses K = 23, 32 and degrees 20, 50 for a run of a few seconds. --accuracy N adds the\n"
-      "error of the fast path against the quadrature reference (to degree 150) and against the same recursion\n"
+      "facets); --quick uses K = 23, 32 and degrees 20, 50 for a run of a few seconds. --accuracy N adds "
+      "the\n"
+      "error of the fast path against the quadrature reference (to degree 150) and against the same "
+      "recursion\n"
       "in extended precision (to degree N) on three small bodies.\n");
 }
 
@@ -364,10 +388,13 @@ int main(int argc, char** argv) {
 
   std::printf("polystokes benchmark: kernel instruction set %s, %d hardware threads, best of %d run(s)\n",
               moment_kernel_isa(), cores, settings.repeat);
-  std::printf("seconds = wall time of compute_coefficients (mass properties + moments + coefficients); floor =\n"
-              "F (N+1)^2 multiply-adds on the same threads; ratio = seconds / floor s; cpu s and cpu ratio: the same\n"
-              "with processor time of all threads (steadier when other programs share the cores); products = operator\n"
-              "products per facet and degree; memory = peak resident increase during the call, and / mesh bytes\n\n");
+  std::printf(
+      "seconds = wall time of compute_coefficients (mass properties + moments + coefficients); floor =\n"
+      "F (N+1)^2 multiply-adds on the same threads; ratio = seconds / floor s; cpu s and cpu ratio: the "
+      "same\n"
+      "with processor time of all threads (steadier when other programs share the cores); products = "
+      "operator\n"
+      "products per facet and degree; memory = peak resident increase during the call, and / mesh bytes\n\n");
   std::printf("%-16s %9s %6s %7s %9s %9s %7s %9s %9s %9s %10s %8s\n", "mesh", "facets", "degree", "threads",
               "seconds", "floor s", "ratio", "cpu s", "cpu ratio", "products", "memory", "x mesh");
   double checksum = 0;
@@ -408,9 +435,9 @@ int main(int argc, char** argv) {
           if (r == 0) memory = peak_reset ? status_bytes("VmHWM") - before : 0;
           checksum += set.C(degree, 0);
         }
-        std::printf("%-16s %9ld %6d %7d %9.3f %9.4f %7.1f %9.3f %9.1f %9.3f %7.1f MB %8.2f\n", mesh.source.c_str(),
-                    faces, degree, threads, best, best_floor, best / best_floor, cpu, cpu / cpu_floor, products,
-                    memory / 1e6, memory / mesh_bytes(mesh));
+        std::printf("%-16s %9ld %6d %7d %9.3f %9.4f %7.1f %9.3f %9.1f %9.3f %7.1f MB %8.2f\n",
+                    mesh.source.c_str(), faces, degree, threads, best, best_floor, best / best_floor, cpu,
+                    cpu / cpu_floor, products, memory / 1e6, memory / mesh_bytes(mesh));
         std::fflush(stdout);
       }
     }
@@ -422,8 +449,8 @@ int main(int argc, char** argv) {
   const PolyhedronGravity gravity(regions);
   std::mt19937_64 random(7);
   std::normal_distribution<double> normal;
-  std::printf("\npolyhedron gravity on %s (%ld facets), %d points per set: ns per facet-point\n", body.source.c_str(),
-              long(body.faces.rows()), settings.gravity_points);
+  std::printf("\npolyhedron gravity on %s (%ld facets), %d points per set: ns per facet-point\n",
+              body.source.c_str(), long(body.faces.rows()), settings.gravity_points);
   std::printf("%-22s %7s %9s %12s %9s\n", "points", "threads", "seconds", "ns/facet-pt", "speedup");
   for (double radius : {1.3e3, 3.0e3, 1.0e5}) {
     Points points(settings.gravity_points, 3);

@@ -1,14 +1,15 @@
 #include "fan_decomposition.h"
 
-#include <algorithm>
 #include <fmt/format.h>
+
+#include <algorithm>
 
 #include "errors.h"
 
 namespace polystokes {
 
-const FanDecomposition& FanDecomposer::decompose(const Faces& faces, Eigen::Index vertex_count, Eigen::Index begin,
-                                                 Eigen::Index end) {
+const FanDecomposition& FanDecomposer::decompose(const Faces& faces, Eigen::Index vertex_count,
+                                                 Eigen::Index begin, Eigen::Index end) {
   FanDecomposition& out = result_;
   const int count = int(end - begin);
   out.vertices.clear();
@@ -32,8 +33,8 @@ const FanDecomposition& FanDecomposer::decompose(const Faces& faces, Eigen::Inde
     for (int k = 0; k < 3; ++k) {
       const int vertex = faces(begin + f, k);
       if (vertex < 0 || vertex >= vertex_count)
-        throw MeshError(fmt::format("face {} refers to vertex {}, but the mesh has {} vertices", begin + f, vertex,
-                                    vertex_count));
+        throw MeshError(fmt::format("face {} refers to vertex {}, but the mesh has {} vertices", begin + f,
+                                    vertex, vertex_count));
       int& local = local_of_[size_t(vertex)];
       if (local < 0) {
         local = int(out.vertices.size());
@@ -56,7 +57,8 @@ const FanDecomposition& FanDecomposer::decompose(const Faces& faces, Eigen::Inde
     wedges_[size_t(unassigned_[size_t(c[1])]++)] = {f, c[2], c[0]};
     wedges_[size_t(unassigned_[size_t(c[2])]++)] = {f, c[0], c[1]};
   }
-  for (int v = 0; v < locals; ++v) unassigned_[size_t(v)] = wedge_begin_[size_t(v) + 1] - wedge_begin_[size_t(v)];
+  for (int v = 0; v < locals; ++v)
+    unassigned_[size_t(v)] = wedge_begin_[size_t(v) + 1] - wedge_begin_[size_t(v)];
   face_edge_.assign(size_t(count), -1);
   face_centre_.resize(size_t(count));
 
@@ -136,7 +138,8 @@ void FanDecomposer::choose_sources() {
   side_.assign(locals, 0);         // 1 once the vertex was the other end of an edge
   for (size_t e = 0; e < edges; ++e) {
     int s = edge_a_[e], t = edge_b_[e];
-    if (unassigned_[size_t(s)] < 0 && (unassigned_[size_t(t)] >= 0 || (side_[size_t(s)] && !side_[size_t(t)])))
+    if (unassigned_[size_t(s)] < 0 &&
+        (unassigned_[size_t(t)] >= 0 || (side_[size_t(s)] && !side_[size_t(t)])))
       std::swap(s, t);
     int& source = unassigned_[size_t(s)];
     if (source < 0) {

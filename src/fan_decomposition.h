@@ -10,13 +10,13 @@
 namespace polystokes {
 
 /// Faces [begin, end) of a mesh arranged for the fan recursion of complete homogeneous symmetric polynomials:
-///   each face {c, a, b} has a centre vertex c and a rim edge {a, b}:  h_n(a,b,c) = h_n(a,b) + c h_{n-1}(a,b,c),
-///   so a fan of faces around c needs one product by c per degree for all its faces together;
+///   each face {c, a, b} has a centre vertex c and a rim edge {a, b}:  h_n(a,b,c) = h_n(a,b) + c
+///   h_{n-1}(a,b,c), so a fan of faces around c needs one product by c per degree for all its faces together;
 ///   each rim edge {s, t} has a source endpoint s:                     h_n(s,t) = s^n + t h_{n-1}(s,t),
 ///   and rim edges shared by two faces, or sources shared by several rim edges, are computed once.
-/// Any assignment is exact; the sharing only sets the cost: sources + rim edges + centres products per degree,
-/// which for a regular triangulation in a compact patch approaches 5/6 per face (one vertex colour class as
-/// centres, a second as sources). Vertex ids below are local: positions in `vertices`.
+/// Any assignment is exact; the sharing only sets the cost: sources + rim edges + centres products per
+/// degree, which for a regular triangulation in a compact patch approaches 5/6 per face (one vertex colour
+/// class as centres, a second as sources). Vertex ids below are local: positions in `vertices`.
 struct FanDecomposition {
   std::vector<int> vertices;     ///< mesh vertex id of each local vertex
   std::vector<int> sources;      ///< local vertex of each source (its powers s^n are computed)
@@ -26,7 +26,8 @@ struct FanDecomposition {
   std::vector<int> fan_begin;    ///< per centre: first position in fan_faces / fan_edges; size centres + 1
   std::vector<int> fan_faces;    ///< mesh face ids, grouped by centre
   std::vector<int> fan_edges;    ///< rim edge of each entry of fan_faces
-  std::vector<int> fan_corners;  ///< 3 local vertices per entry of fan_faces, in the face's own (oriented) order
+  std::vector<int>
+      fan_corners;  ///< 3 local vertices per entry of fan_faces, in the face's own (oriented) order
 
   /// Operator products per degree: sources + rim edges + centres.
   size_t products() const { return sources.size() + edge_source.size() + centres.size(); }
@@ -49,21 +50,21 @@ class FanDecomposer {
   void choose_sources();
 
   FanDecomposition result_;
-  std::vector<int> local_of_;      // mesh vertex -> local id, -1 when not in the block
+  std::vector<int> local_of_;  // mesh vertex -> local id, -1 when not in the block
   struct Wedge {
-    int face, next, after;         // a block face and its two corners after the wedge's vertex
+    int face, next, after;  // a block face and its two corners after the wedge's vertex
   };
-  std::vector<int> corners_;       // 3 local ids per block face
-  std::vector<int> wedge_begin_;   // local vertex -> its wedges (CSR)
+  std::vector<int> corners_;      // 3 local ids per block face
+  std::vector<int> wedge_begin_;  // local vertex -> its wedges (CSR)
   std::vector<Wedge> wedges_;
-  std::vector<int> unassigned_;    // per local vertex: its faces without a centre yet
-  std::vector<int> face_edge_;     // per block face: its rim edge, -1 while unassigned
-  std::vector<int> face_centre_;   // per assigned block face: its centre
+  std::vector<int> unassigned_;       // per local vertex: its faces without a centre yet
+  std::vector<int> face_edge_;        // per block face: its rim edge, -1 while unassigned
+  std::vector<int> face_centre_;      // per assigned block face: its centre
   std::vector<int> edge_a_, edge_b_;  // rim edge endpoints (local)
-  std::vector<int> candidates_;    // proposed centres, first in first out
-  std::vector<char> side_;         // per local vertex: used as the non-source end of a rim edge
+  std::vector<int> candidates_;       // proposed centres, first in first out
+  std::vector<char> side_;            // per local vertex: used as the non-source end of a rim edge
   Eigen::Index begin_ = 0;
-  size_t assigned_ = 0;             // fan faces written so far
+  size_t assigned_ = 0;  // fan faces written so far
 };
 
 }  // namespace polystokes

@@ -1,12 +1,13 @@
 #include "harmonics.h"
 
+#include <fmt/format.h>
+
 #include <Eigen/Dense>
 #include <algorithm>
 #include <cmath>
 #include <condition_variable>
 #include <ctime>
 #include <exception>
-#include <fmt/format.h>
 #include <mutex>
 #include <thread>
 
@@ -22,15 +23,18 @@ namespace {
 // Factors of the standard forward column recursion (Holmes & Featherstone 2002, J. Geodesy 76, eqs. 11-13),
 // computed once per degree: sectorial seeds s_m, the first step c_m and the column factors a_nm, b_nm.
 struct LegendreRecursion {
-  explicit LegendreRecursion(int degree) : degree(degree), a(degree + 1, degree + 1), b(degree + 1, degree + 1) {
+  explicit LegendreRecursion(int degree)
+      : degree(degree), a(degree + 1, degree + 1), b(degree + 1, degree + 1) {
     sectorial.resize(size_t(degree + 1));
     first_step.resize(size_t(degree + 1));
-    for (int m = 1; m <= degree; ++m) sectorial[size_t(m)] = m == 1 ? std::sqrt(3.0) : std::sqrt((2.0 * m + 1.0) / (2.0 * m));
+    for (int m = 1; m <= degree; ++m)
+      sectorial[size_t(m)] = m == 1 ? std::sqrt(3.0) : std::sqrt((2.0 * m + 1.0) / (2.0 * m));
     for (int m = 0; m <= degree; ++m) {
       first_step[size_t(m)] = std::sqrt(2.0 * m + 3.0);
       for (int n = m + 2; n <= degree; ++n) {
         a(n, m) = std::sqrt((2.0 * n - 1.0) * (2.0 * n + 1.0) / ((n - m) * double(n + m)));
-        b(n, m) = std::sqrt((2.0 * n + 1.0) * (n + m - 1.0) * (n - m - 1.0) / ((n - m) * double(n + m) * (2.0 * n - 3.0)));
+        b(n, m) = std::sqrt((2.0 * n + 1.0) * (n + m - 1.0) * (n - m - 1.0) /
+                            ((n - m) * double(n + m) * (2.0 * n - 3.0)));
       }
     }
   }
@@ -81,7 +85,8 @@ void for_each_scaled_face(const DensityRegion& region, const HarmonicFrame& fram
   for (Eigen::Index f = begin; f < end; ++f) {
     ScaledFace face;
     for (int k = 0; k < 3; ++k)
-      face.v[k] = frame.axes * (mesh.vertices.row(mesh.faces(f, k)).transpose() - frame.origin) / frame.scale_radius;
+      face.v[k] =
+          frame.axes * (mesh.vertices.row(mesh.faces(f, k)).transpose() - frame.origin) / frame.scale_radius;
     face.det = region.density * face.v[0].dot(face.v[1].cross(face.v[2]));
     visit(face);
   }
@@ -110,13 +115,13 @@ struct FaceBlock {
   Eigen::Index begin, end;
 };
 
-
 std::vector<FaceBlock> make_blocks(const std::vector<DensityRegion>& regions, int degree) {
   const Eigen::Index size = moment_block_faces(degree);
   std::vector<FaceBlock> blocks;
   for (size_t r = 0; r < regions.size(); ++r) {
     const Eigen::Index faces = regions[r].mesh.faces.rows();
-    for (Eigen::Index begin = 0; begin < faces; begin += size) blocks.push_back({r, begin, std::min(faces, begin + size)});
+    for (Eigen::Index begin = 0; begin < faces; begin += size)
+      blocks.push_back({r, begin, std::min(faces, begin + size)});
   }
   return blocks;
 }
@@ -156,7 +161,14 @@ void accumulate_face_block(const DensityRegion& region, const HarmonicFrame& fra
 
 // Runs block_work(block, worker, re, im) over all blocks on a pool of threads and returns the sums added in
 // block order. A thread starts block b only while b is within a window of the next block to be added, so the
-// partial sums held at once stay bounded (2 per thread) whatever the relative speed of the threads.
+// partial sums held at once stay bounded whatever the relative speed of the threads; the window holds about
+// 4 MB of partial sums (at least 2, at most 32 per thread), so a thread the system pauses for a while does
+// not stop the others at once.
+size_t sum_window(size_t size, int threads) {
+  const double slot_bytes = 2.0 * sizeof(double) * double(size);
+  return size_t(std::clamp(4e6 / slot_bytes, 2.0 * threads, 32.0 * threads));
+}
+
 template <class Work>
 void sum_blocks_in_order(size_t blocks, size_t size, const MomentOptions& options, Work&& block_work,
                          std::vector<double>& total_re, std::vector<double>& total_im) {
@@ -164,7 +176,7 @@ void sum_blocks_in_order(size_t blocks, size_t size, const MomentOptions& option
   total_re.assign(size + slack, 0.0);
   total_im.assign(size + slack, 0.0);
   const int threads = thread_count(options.threads, blocks);
-  const size_t window = 2 * size_t(threads);
+  const size_t window = sum_window(size, threads);
   std::vector<std::vector<double>> slot_re(window), slot_im(window);
   std::vector<char> ready(window, 0);
   size_t next_block = 0, next_to_add = 0;
@@ -178,7 +190,8 @@ void sum_blocks_in_order(size_t blocks, size_t size, const MomentOptions& option
       size_t b;
       {
         std::unique_lock<std::mutex> lock(mutex);
-        changed.wait(lock, [&] { return failure || next_block >= blocks || next_block < next_to_add + window; });
+        changed.wait(lock,
+                     [&] { return failure || next_block >= blocks || next_block < next_to_add + window; });
         if (failure || next_block >= blocks) return;
         b = next_block++;
       }
@@ -225,12 +238,14 @@ void sum_blocks_in_order(size_t blocks, size_t size, const MomentOptions& option
   total_im.resize(size);
 }
 
-// Bytes the fast path and the result need for `degree` on `threads` threads: four (degree+1)^2 tables (moments
-// and coefficients), the per-thread partial sums and the per-thread recursion rows.
+// Bytes the fast path and the result need for `degree` on `threads` threads: four (degree+1)^2 tables
+// (moments and coefficients), the per-thread partial sums and the per-thread recursion rows.
 double moment_bytes(int degree, int threads) {
   const double triangle = double(triangle_size(degree));
-  const double rows = double(fan_workspace_bytes(degree, size_t(1.3 * double(moment_block_faces(degree))), size_t(moment_block_faces(degree))));
-  return 4.0 * 8.0 * double(degree + 1) * double(degree + 1) + threads * (2.0 * 2.0 * 16.0 * triangle + rows);
+  const double rows = double(fan_workspace_bytes(degree, size_t(1.3 * double(moment_block_faces(degree))),
+                                                 size_t(moment_block_faces(degree))));
+  return 4.0 * 8.0 * double(degree + 1) * double(degree + 1) +
+         double(sum_window(size_t(triangle), threads)) * 16.0 * triangle + threads * rows;
 }
 
 void check_degree(int degree, int threads) {
@@ -238,8 +253,10 @@ void check_degree(int degree, int threads) {
   constexpr double limit = 8e9;
   const double bytes = degree > 20000 ? limit * 2 : moment_bytes(degree, threads);
   if (bytes > limit)
-    throw ResourceError(fmt::format("degree {} would need about {:.1f} GB for the coefficient tables; "
-                                    "refusing (limit {:.0f} GB)", degree, bytes / 1e9, limit / 1e9));
+    throw ResourceError(
+        fmt::format("degree {} would need about {:.1f} GB for the coefficient tables; "
+                    "refusing (limit {:.0f} GB)",
+                    degree, bytes / 1e9, limit / 1e9));
 }
 
 HarmonicMoments unpack_moments(int degree, double scale_radius, const std::vector<double>& re,
@@ -286,7 +303,10 @@ void gauss_legendre_unit(int q, std::vector<double>& nodes, std::vector<double>&
         p0 = p1;
         p1 = p2;
       }
-      if (q == 1) { p1 = x; p0 = 1; }
+      if (q == 1) {
+        p1 = x;
+        p0 = 1;
+      }
       dp = q * (x * p1 - p0) / (x * x - 1.0);
       const double step = p1 / dp;
       x -= step;
@@ -313,22 +333,23 @@ HarmonicMoments harmonic_moments(const std::vector<DensityRegion>& regions, cons
   check_frame(frame, regions);
   const auto blocks = make_blocks(regions, degree);
   std::vector<double> re, im;
-  sum_blocks_in_order(blocks.size(), triangle_size(degree), options,
-                      [&](size_t b, BlockWorker& worker, double* acc_re, double* acc_im) {
-                        const FaceBlock& block = blocks[b];
-                        accumulate_face_block(regions[block.region], frame, block, degree, worker, acc_re, acc_im);
-                      },
-                      re, im);
+  sum_blocks_in_order(
+      blocks.size(), triangle_size(degree), options,
+      [&](size_t b, BlockWorker& worker, double* acc_re, double* acc_im) {
+        const FaceBlock& block = blocks[b];
+        accumulate_face_block(regions[block.region], frame, block, degree, worker, acc_re, acc_im);
+      },
+      re, im);
   return unpack_moments(degree, frame.scale_radius, re, im);
 }
 
-HarmonicMoments harmonic_moments_reference(const std::vector<DensityRegion>& regions, const HarmonicFrame& frame,
-                                           int degree) {
+HarmonicMoments harmonic_moments_reference(const std::vector<DensityRegion>& regions,
+                                           const HarmonicFrame& frame, int degree) {
   check_degree(degree, 1);
   check_frame(frame, regions);
-  // int_T f dV = det/(n+3) int_{w1,w2>=0, w1+w2<=1} f(w1 a + w2 b + (1-w1-w2) c) dw for f homogeneous of degree n
-  // (radial integration of the cone over the face). The face integral uses the collapsed (Duffy) square
-  // w1 = s, w2 = (1-s) t with q-point Gauss-Legendre in s and t, exact for degree 2q-1 >= n+1.
+  // int_T f dV = det/(n+3) int_{w1,w2>=0, w1+w2<=1} f(w1 a + w2 b + (1-w1-w2) c) dw for f homogeneous of
+  // degree n (radial integration of the cone over the face). The face integral uses the collapsed (Duffy)
+  // square w1 = s, w2 = (1-s) t with q-point Gauss-Legendre in s and t, exact for degree 2q-1 >= n+1.
   const int q = degree / 2 + 1;
   std::vector<double> nodes, weights;
   gauss_legendre_unit(q, nodes, weights);
@@ -343,7 +364,8 @@ HarmonicMoments harmonic_moments_reference(const std::vector<DensityRegion>& reg
         for (int j = 0; j < q; ++j) {
           const double s = nodes[size_t(i)], t = nodes[size_t(j)];
           const double w = weights[size_t(i)] * weights[size_t(j)] * (1.0 - s);
-          const Eigen::Vector3d x = s * face.v[0] + (1.0 - s) * t * face.v[1] + (1.0 - s) * (1.0 - t) * face.v[2];
+          const Eigen::Vector3d x =
+              s * face.v[0] + (1.0 - s) * t * face.v[1] + (1.0 - s) * (1.0 - t) * face.v[2];
           const double r = x.norm();
           if (r == 0) continue;
           const double lon = std::atan2(x.y(), x.x());
@@ -386,7 +408,8 @@ void moments_to_coefficients(const HarmonicMoments& moments, double mass, double
 }
 
 const char* operational_caution() {
-  return "CAUTION: this is a constant-density, shape-derived gravity model. Validate it against tracking data "
+  return "CAUTION: this is a constant-density, shape-derived gravity model. Validate it against tracking "
+         "data "
          "and review it under the mission's own procedures before any operational use.";
 }
 
@@ -416,7 +439,8 @@ std::string utc_now() {
 
 }  // namespace
 
-CoefficientSet compute_coefficients(const std::vector<DensityRegion>& regions, const ComputeOptions& options) {
+CoefficientSet compute_coefficients(const std::vector<DensityRegion>& regions,
+                                    const ComputeOptions& options) {
   check_degree(options.degree, thread_count(options.execution.threads, SIZE_MAX));
   if (regions.empty()) throw ConventionError("no mesh given");
   if (options.reference_radius < 0 || !std::isfinite(options.reference_radius))
@@ -424,7 +448,8 @@ CoefficientSet compute_coefficients(const std::vector<DensityRegion>& regions, c
   const MassProperties props = mass_properties(regions);
 
   HarmonicFrame frame;
-  frame.origin = options.origin == OriginChoice::center_of_mass ? props.center_of_mass : Eigen::Vector3d::Zero();
+  frame.origin =
+      options.origin == OriginChoice::center_of_mass ? props.center_of_mass : Eigen::Vector3d::Zero();
   if (options.frame == FrameChoice::principal) frame.axes = props.principal_axes.transpose();
   const double brillouin = brillouin_radius(regions, frame.origin);
   frame.scale_radius = brillouin;
@@ -458,12 +483,14 @@ CoefficientSet compute_coefficients(const std::vector<DensityRegion>& regions, c
     set.regions.push_back(info);
   }
   set.created = std::string("polystokes ") + POLYSTOKES_VERSION + " at " + utc_now();
-  set.history.push_back(fmt::format("computed exactly from {} region(s), degree {}, G = {} m^3 kg^-1 s^-2 (CODATA 2018)",
-                                    regions.size(), options.degree, gravitational_constant));
+  set.history.push_back(
+      fmt::format("computed exactly from {} region(s), degree {}, G = {} m^3 kg^-1 s^-2 (CODATA 2018)",
+                  regions.size(), options.degree, gravitational_constant));
   set.notes.push_back(operational_caution());
-  set.notes.push_back(fmt::format("Homogeneous interior assumed within each region. The series converges only "
-                                  "outside the Brillouin sphere (radius {} m about the expansion origin).",
-                                  brillouin));
+  set.notes.push_back(
+      fmt::format("Homogeneous interior assumed within each region. The series converges only "
+                  "outside the Brillouin sphere (radius {} m about the expansion origin).",
+                  brillouin));
   if (options.convention.normalization != Normalization::fully || options.convention.condon_shortley ||
       options.convention.zonal_as_j)
     set = convert_convention(set, options.convention);

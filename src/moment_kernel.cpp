@@ -53,10 +53,11 @@ int row_stride(int degree) {
 // Each block's inputs (orders k-1..k+4) are loaded before the previous block is stored over them. Order -1,
 // needed by order 0, follows from the symmetry f(u + pi) = conj f(u) of every product of l_u's:
 // H_{-1} = -conj(H_1)/4, which keeps S_0 exactly zero.
-// add_block(b, cre, cim) sets the added term of block b (orders 4b..4b+3); after(b, cre, cim) sees each result.
+// add_block(b, cre, cim) sets the added term of block b (orders 4b..4b+3); after(b, cre, cim) sees each
+// result.
 template <class Add, class After>
-POLYSTOKES_INLINE void step_row(double* re, double* im, const double* coefficients, int blocks, Add&& add_block,
-                                After&& after) {
+POLYSTOKES_INLINE void step_row(double* re, double* im, const double* coefficients, int blocks,
+                                Add&& add_block, After&& after) {
   const v4 x = load(coefficients), y = load(coefficients + 4), z = load(coefficients + 8);
   const v4 quarter = {0.25, 0.25, 0.25, 0.25};
   double* r = re;
@@ -115,12 +116,13 @@ POLYSTOKES_INLINE void centre_steps(const FanDecomposition& fans, double* rows, 
     }
     const size_t e = size_t(first_centre + c);
     double* r = rows + e * 2 * stride;
-    step_row(r, r + stride, coefficients + 12 * e, Blocks,
-             [&](int b, v4& cre, v4& cim) {
-               cre = acc_re[b];
-               cim = acc_im[b];
-             },
-             after);
+    step_row(
+        r, r + stride, coefficients + 12 * e, Blocks,
+        [&](int b, v4& cre, v4& cim) {
+          cre = acc_re[b];
+          cim = acc_im[b];
+        },
+        after);
   }
 }
 
@@ -143,23 +145,25 @@ size_t fan_workspace_bytes(int degree, size_t entities, size_t faces) {
 }
 
 POLYSTOKES_KERNEL_CLONES
-void accumulate_fan_block(const FanDecomposition& fans, const Eigen::Vector3d* local, const double* fan_weights,
-                          int degree, FanWorkspace& workspace, double* out_re, double* out_im) {
+void accumulate_fan_block(const FanDecomposition& fans, const Eigen::Vector3d* local,
+                          const double* fan_weights, int degree, FanWorkspace& workspace, double* out_re,
+                          double* out_im) {
   const size_t stride = size_t(row_stride(degree));
   const int sources = int(fans.sources.size()), edges = int(fans.edge_source.size());
   const int centres = int(fans.centres.size());
   const size_t entities = size_t(sources + edges + centres), faces = fans.fan_faces.size();
   double* const rows = aligned_memory(workspace.memory, workspace_doubles(degree, entities, faces));
-  double* const totals = rows + entities * 2 * stride;                  // per degree: real row, imaginary row
+  double* const totals = rows + entities * 2 * stride;  // per degree: real row, imaginary row
   double* const coefficients = totals + size_t(degree + 1) * 2 * stride;  // per entity: x, y, z splatted
-  double* const weights = coefficients + 12 * entities;                 // per fan face: weight splatted
+  double* const weights = coefficients + 12 * entities;                   // per fan face: weight splatted
   auto row = [rows, stride](size_t e) { return rows + e * 2 * stride; };
 
   std::fill(rows, rows + entities * 2 * stride + size_t(degree + 1) * 2 * stride, 0.0);
   // Each entity's multiplying vertex: the source itself, the rim edge's other endpoint, the fan centre.
   auto splat = [&](size_t e, int vertex) {
     const Eigen::Vector3d& p = local[vertex];
-    for (int c = 0; c < 3; ++c) std::fill(coefficients + 12 * e + 4 * size_t(c), coefficients + 12 * e + 4 * size_t(c) + 4, p[c]);
+    for (int c = 0; c < 3; ++c)
+      std::fill(coefficients + 12 * e + 4 * size_t(c), coefficients + 12 * e + 4 * size_t(c) + 4, p[c]);
   };
   for (int j = 0; j < sources; ++j) splat(size_t(j), fans.sources[size_t(j)]);
   for (int j = 0; j < edges; ++j) splat(size_t(sources + j), fans.edge_other[size_t(j)]);
@@ -188,20 +192,22 @@ void accumulate_fan_block(const FanDecomposition& fans, const Eigen::Vector3d* l
     // Sources: s^n = s * s^{n-1}.
     for (int e = 0; e < sources; ++e) {
       double* r = row(size_t(e));
-      step_row(r, r + stride, coefficients + 12 * size_t(e), blocks,
-               [&](int, v4& cre, v4& cim) { cre = cim = zero; }, nothing);
+      step_row(
+          r, r + stride, coefficients + 12 * size_t(e), blocks,
+          [&](int, v4& cre, v4& cim) { cre = cim = zero; }, nothing);
     }
     // Rim edges: h_n(s, t) = s^n + t h_{n-1}(s, t).
     for (int j = 0; j < edges; ++j) {
       const size_t e = size_t(sources + j);
       double* r = row(e);
       const double* add = edge_source[j];
-      step_row(r, r + stride, coefficients + 12 * e, blocks,
-               [&](int b, v4& cre, v4& cim) {
-                 cre = load(add + 4 * b);
-                 cim = load(add + stride + 4 * b);
-               },
-               nothing);
+      step_row(
+          r, r + stride, coefficients + 12 * e, blocks,
+          [&](int b, v4& cre, v4& cim) {
+            cre = load(add + 4 * b);
+            cim = load(add + stride + 4 * b);
+          },
+          nothing);
     }
     // Centres: sum over the fan of weight * h_n(a, b, c) = sum weight * h_n(a, b) + c * (the same at n - 1).
     double* const t_re = totals + size_t(n) * 2 * stride;
@@ -211,39 +217,52 @@ void accumulate_fan_block(const FanDecomposition& fans, const Eigen::Vector3d* l
       store(t_im + 4 * b, load(t_im + 4 * b) + cim);
     };
     switch (blocks) {
-      case 1: centre_steps<1>(fans, rows, stride, coefficients, weights, face_edge, sources + edges, after); break;
-      case 2: centre_steps<2>(fans, rows, stride, coefficients, weights, face_edge, sources + edges, after); break;
-      case 3: centre_steps<3>(fans, rows, stride, coefficients, weights, face_edge, sources + edges, after); break;
-      case 4: centre_steps<4>(fans, rows, stride, coefficients, weights, face_edge, sources + edges, after); break;
-      case 5: centre_steps<5>(fans, rows, stride, coefficients, weights, face_edge, sources + edges, after); break;
-      case 6: centre_steps<6>(fans, rows, stride, coefficients, weights, face_edge, sources + edges, after); break;
+      case 1:
+        centre_steps<1>(fans, rows, stride, coefficients, weights, face_edge, sources + edges, after);
+        break;
+      case 2:
+        centre_steps<2>(fans, rows, stride, coefficients, weights, face_edge, sources + edges, after);
+        break;
+      case 3:
+        centre_steps<3>(fans, rows, stride, coefficients, weights, face_edge, sources + edges, after);
+        break;
+      case 4:
+        centre_steps<4>(fans, rows, stride, coefficients, weights, face_edge, sources + edges, after);
+        break;
+      case 5:
+        centre_steps<5>(fans, rows, stride, coefficients, weights, face_edge, sources + edges, after);
+        break;
+      case 6:
+        centre_steps<6>(fans, rows, stride, coefficients, weights, face_edge, sources + edges, after);
+        break;
       default:
         for (int c = 0; c < centres; ++c) {
           const size_t e = size_t(sources + edges + c);
           double* r = row(e);
           const int begin = fans.fan_begin[size_t(c)], end = fans.fan_begin[size_t(c) + 1];
-          step_row(r, r + stride, coefficients + 12 * e, blocks,
-                   [&](int b, v4& cre, v4& cim) {
-                     // Two partial sums halve the dependency chain through the fan.
-                     v4 re0 = zero, im0 = zero, re1 = zero, im1 = zero;
-                     const size_t offset = size_t(4 * b);
-                     int f = begin;
-                     for (; f + 1 < end; f += 2) {
-                       const v4 w0 = load(weights + 4 * size_t(f)), w1 = load(weights + 4 * size_t(f) + 4);
-                       re0 = re0 + w0 * load(face_edge[f] + offset);
-                       im0 = im0 + w0 * load(face_edge[f] + stride + offset);
-                       re1 = re1 + w1 * load(face_edge[f + 1] + offset);
-                       im1 = im1 + w1 * load(face_edge[f + 1] + stride + offset);
-                     }
-                     if (f < end) {
-                       const v4 w0 = load(weights + 4 * size_t(f));
-                       re0 = re0 + w0 * load(face_edge[f] + offset);
-                       im0 = im0 + w0 * load(face_edge[f] + stride + offset);
-                     }
-                     cre = re0 + re1;
-                     cim = im0 + im1;
-                   },
-                   after);
+          step_row(
+              r, r + stride, coefficients + 12 * e, blocks,
+              [&](int b, v4& cre, v4& cim) {
+                // Two partial sums halve the dependency chain through the fan.
+                v4 re0 = zero, im0 = zero, re1 = zero, im1 = zero;
+                const size_t offset = size_t(4 * b);
+                int f = begin;
+                for (; f + 1 < end; f += 2) {
+                  const v4 w0 = load(weights + 4 * size_t(f)), w1 = load(weights + 4 * size_t(f) + 4);
+                  re0 = re0 + w0 * load(face_edge[f] + offset);
+                  im0 = im0 + w0 * load(face_edge[f] + stride + offset);
+                  re1 = re1 + w1 * load(face_edge[f + 1] + offset);
+                  im1 = im1 + w1 * load(face_edge[f + 1] + stride + offset);
+                }
+                if (f < end) {
+                  const v4 w0 = load(weights + 4 * size_t(f));
+                  re0 = re0 + w0 * load(face_edge[f] + offset);
+                  im0 = im0 + w0 * load(face_edge[f] + stride + offset);
+                }
+                cre = re0 + re1;
+                cim = im0 + im1;
+              },
+              after);
         }
     }
   }

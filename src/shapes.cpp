@@ -90,8 +90,8 @@ Mesh make_geodesic_sphere(int frequency) {
   std::vector<Eigen::Vector3d> v;
   v.reserve(size_t(10) * k * k + 2);
   for (Eigen::Index i = 0; i < base.vertices.rows(); ++i) v.push_back(base.vertices.row(i).transpose());
-  // Grid points on an icosahedron edge are shared by its two faces: keyed by (lower corner, upper corner, step
-  // from the lower corner).
+  // Grid points on an icosahedron edge are shared by its two faces: keyed by (lower corner, upper corner,
+  // step from the lower corner).
   std::map<std::tuple<int, int, int>, int> edge_points;
   std::vector<Eigen::Vector3i> faces;
   faces.reserve(size_t(20) * k * k);
@@ -132,7 +132,8 @@ Mesh make_geodesic_sphere(int frequency) {
         // Same orientation as the icosahedron face (a, b, c): outward.
         cells.push_back({2 * morton(uint32_t(i), uint32_t(j)), {at(i, j), at(i + 1, j), at(i, j + 1)}});
         if (i + j + 1 < k)
-          cells.push_back({2 * morton(uint32_t(i), uint32_t(j)) + 1, {at(i + 1, j), at(i + 1, j + 1), at(i, j + 1)}});
+          cells.push_back(
+              {2 * morton(uint32_t(i), uint32_t(j)) + 1, {at(i + 1, j), at(i + 1, j + 1), at(i, j + 1)}});
       }
     std::sort(cells.begin(), cells.end(), [](const auto& x, const auto& y) { return x.first < y.first; });
     for (const auto& cell : cells) faces.push_back(cell.second);
@@ -142,7 +143,8 @@ Mesh make_geodesic_sphere(int frequency) {
   mesh.vertices.resize(static_cast<Eigen::Index>(v.size()), 3);
   for (size_t i = 0; i < v.size(); ++i) mesh.vertices.row(static_cast<Eigen::Index>(i)) = v[i].transpose();
   mesh.faces.resize(static_cast<Eigen::Index>(faces.size()), 3);
-  for (size_t i = 0; i < faces.size(); ++i) mesh.faces.row(static_cast<Eigen::Index>(i)) = faces[i].transpose();
+  for (size_t i = 0; i < faces.size(); ++i)
+    mesh.faces.row(static_cast<Eigen::Index>(i)) = faces[i].transpose();
   return mesh;
 }
 

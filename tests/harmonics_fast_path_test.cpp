@@ -53,7 +53,8 @@ Mesh bent_body(int frequency) {
 Mesh skew_octahedron() {
   Mesh mesh;
   mesh.vertices.resize(6, 3);
-  mesh.vertices << 1.1, 0.1, -0.05, -0.9, 0.2, 0.1, 0.05, 1.2, 0.15, -0.1, -0.8, 0.05, 0.1, -0.1, 1.3, 0.2, 0.15, -0.7;
+  mesh.vertices << 1.1, 0.1, -0.05, -0.9, 0.2, 0.1, 0.05, 1.2, 0.15, -0.1, -0.8, 0.05, 0.1, -0.1, 1.3, 0.2,
+      0.15, -0.7;
   mesh.faces.resize(8, 3);
   mesh.faces << 0, 2, 4, 2, 1, 4, 1, 3, 4, 3, 0, 4, 2, 0, 5, 1, 2, 5, 3, 1, 5, 0, 3, 5;
   return mesh;
@@ -80,14 +81,16 @@ TEST_CASE("fast path equals the quadrature reference at every degree 0..40 on th
   // Two independent exact schemes: Whittaker's representation (Whittaker & Watson 1927, sec. 18.3) with the
   // simplex closed form (Baldoni et al. 2011, Math. Comp. 80) in fans, against Gauss-Legendre product
   // quadrature on the collapsed triangle (Duffy 1982, SIAM J. Numer. Anal. 19) of the Legendre recursion
-  // (Holmes & Featherstone 2002), exact for these polynomial integrands. Every maximum degree gives a different
-  // block size and so a different fan decomposition. The bodies are far from round about their origins, so
-  // no degree is small through cancellation between faces (which would limit both paths alike).
-  const Mesh box = transformed(make_box(1.3, 0.8, 0.5), Eigen::Matrix3d::Identity(), Eigen::Vector3d(0.2, -0.1, 0.15));
+  // (Holmes & Featherstone 2002), exact for these polynomial integrands. Every maximum degree gives a
+  // different block size and so a different fan decomposition. The bodies are far from round about their
+  // origins, so no degree is small through cancellation between faces (which would limit both paths alike).
+  const Mesh box =
+      transformed(make_box(1.3, 0.8, 0.5), Eigen::Matrix3d::Identity(), Eigen::Vector3d(0.2, -0.1, 0.15));
   const std::vector<std::pair<Mesh, Eigen::Vector3d>> bodies = {
       {bent_body(4), Eigen::Vector3d(0.1, -0.4, 0.05)},  // origin outside the bent body
       {box, Eigen::Vector3d::Zero()},
-      {transformed(make_geodesic_sphere(4), Eigen::Vector3d(1.4, 0.7, 0.45).asDiagonal(), Eigen::Vector3d::Zero()),
+      {transformed(make_geodesic_sphere(4), Eigen::Vector3d(1.4, 0.7, 0.45).asDiagonal(),
+                   Eigen::Vector3d::Zero()),
        Eigen::Vector3d(0.6, 0.1, 0.0)},  // a cigar seen from near one end
   };
   for (const auto& [mesh, origin] : bodies) {
@@ -116,7 +119,8 @@ TEST_CASE("degrees 100 and 150 on small bodies match the reference to 1e-12 rela
   };
   const std::vector<Case> cases = {
       {skew_octahedron(), Eigen::Vector3d(0.05, 0.1, 0.15), 150},
-      {transformed(make_icosphere(0), Eigen::Vector3d(1.0, 0.7, 0.5).asDiagonal(), Eigen::Vector3d(0.1, 0, 0)),
+      {transformed(make_icosphere(0), Eigen::Vector3d(1.0, 0.7, 0.5).asDiagonal(),
+                   Eigen::Vector3d(0.1, 0, 0)),
        Eigen::Vector3d(0.12, -0.05, 0.02), 100},
   };
   for (const Case& c : cases) {
@@ -136,10 +140,11 @@ TEST_CASE("degrees 100 and 150 on small bodies match the reference to 1e-12 rela
 TEST_CASE("results are bit-identical for 1, 2 and 3 threads (fixed blocks, block-order reduction)",
           "[harmonics_fast_path]") {
   // 32000 + 2000 faces at degree 12 make several dozen blocks, so threads finish them out of order.
-  const std::vector<DensityRegion> regions{{bent_body(40), 2100.0},
-                                           {transformed(make_geodesic_sphere(10), 0.3 * Eigen::Matrix3d::Identity(),
-                                                        Eigen::Vector3d(0.2, -0.3, 0.0)),
-                                            -600.0}};
+  const std::vector<DensityRegion> regions{
+      {bent_body(40), 2100.0},
+      {transformed(make_geodesic_sphere(10), 0.3 * Eigen::Matrix3d::Identity(),
+                   Eigen::Vector3d(0.2, -0.3, 0.0)),
+       -600.0}};
   REQUIRE(regions[0].mesh.faces.rows() / moment_block_faces(12) >= 10);
   const HarmonicFrame frame = frame_about(regions, Eigen::Vector3d(0.05, -0.3, 0.0));
   MomentOptions options;
@@ -215,8 +220,10 @@ TEST_CASE("on a regular triangulation the fans cost at most one product per face
   FanDecomposer decomposer;
   double products = 0;
   for (Eigen::Index begin = 0; begin < mesh.faces.rows(); begin += 4096)
-    products += double(decomposer.decompose(mesh.faces, mesh.vertices.rows(), begin,
-                                            std::min(mesh.faces.rows(), begin + 4096)).products());
+    products += double(
+        decomposer
+            .decompose(mesh.faces, mesh.vertices.rows(), begin, std::min(mesh.faces.rows(), begin + 4096))
+            .products());
   const double per_face = products / double(mesh.faces.rows());
   CAPTURE(per_face);
   CHECK(per_face >= 0.75);  // centres >= F/6 and rim edges >= F/2 for valence <= 6 and two faces per edge
@@ -238,12 +245,14 @@ TEST_CASE("a face with a repeated vertex contributes nothing; a vertex index out
   Mesh broken = body;
   broken.faces(3, 1) = int(body.vertices.rows());
   FanDecomposer decomposer;
-  CHECK_THROWS_AS(decomposer.decompose(broken.faces, broken.vertices.rows(), 0, broken.faces.rows()), MeshError);
+  CHECK_THROWS_AS(decomposer.decompose(broken.faces, broken.vertices.rows(), 0, broken.faces.rows()),
+                  MeshError);
   CHECK_THROWS_WITH(decomposer.decompose(broken.faces, broken.vertices.rows(), 0, broken.faces.rows()),
                     Catch::Contains("face 3"));
 }
 
-TEST_CASE("progress is reported in order, at most about a thousand times, ending at 1", "[harmonics_fast_path]") {
+TEST_CASE("progress is reported in order, at most about a thousand times, ending at 1",
+          "[harmonics_fast_path]") {
   const std::vector<DensityRegion> regions{{make_geodesic_sphere(60), 1.0}};
   HarmonicFrame frame;
   frame.scale_radius = 1.0;
@@ -258,7 +267,8 @@ TEST_CASE("progress is reported in order, at most about a thousand times, ending
   CHECK(reported.back() == 1.0);
 }
 
-TEST_CASE("geodesic sphere: 20 k^2 outward faces, 10 k^2 + 2 vertices, volume tending to 4 pi / 3", "[shapes]") {
+TEST_CASE("geodesic sphere: 20 k^2 outward faces, 10 k^2 + 2 vertices, volume tending to 4 pi / 3",
+          "[shapes]") {
   // Euler's formula V - E + F = 2 for a closed genus-0 surface; inscribed polyhedra converge to the ball's
   // volume 4 pi / 3 with an error proportional to the squared edge length (common practice).
   double previous = 1;
