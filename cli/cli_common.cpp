@@ -33,17 +33,12 @@ Mesh load_checked_mesh(const std::string& path, LengthUnit unit, double merge_to
   return mesh;
 }
 
-CLI::Validator existing_input() {
-  return CLI::Validator(
-      [](std::string& path) -> std::string {
-        if (path == "-") return {};
-        std::error_code error;
-        const auto status = std::filesystem::status(path, error);
-        if (!std::filesystem::exists(status)) throw format_error(path, 0, std::string("cannot read: ") + std::strerror(ENOENT));
-        if (std::filesystem::is_directory(status)) throw format_error(path, 0, "cannot read: is a directory");
-        return {};
-      },
-      "FILE");
+void check_input_path(const std::string& path) {
+  if (path == "-") return;
+  std::error_code error;
+  const auto status = std::filesystem::status(path, error);
+  if (!std::filesystem::exists(status)) throw format_error(path, 0, std::string("cannot read: ") + std::strerror(ENOENT));
+  if (std::filesystem::is_directory(status)) throw format_error(path, 0, "cannot read: is a directory");
 }
 
 void check_output_path(const std::string& path) {

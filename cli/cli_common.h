@@ -18,10 +18,10 @@ Mesh load_checked_mesh(const std::string& path, LengthUnit unit, double merge_to
 /// Prints "polystokes: note: TEXT" on stderr unless quiet.
 void print_notice(const GlobalOptions& global, const std::string& text);
 
-/// CLI11 check of an input-file argument: "-" (standard input) or an existing file. A missing file or a
-/// directory throws FormatError "PATH: cannot read: ..." out of parsing, so it exits with code 2 (bad input)
-/// like any other unreadable input, not 1 (usage).
-CLI::Validator existing_input();
+/// Refuses, before any work, an input path that cannot be read: FormatError "PATH: cannot read: ..." when
+/// it is missing or a directory ("-", standard input, passes). Called from a command's run, after parsing,
+/// so that a mistyped option is still reported as a usage error first.
+void check_input_path(const std::string& path);
 
 /// Refuses, before any work, an output path that cannot be written: OutputError "PATH: cannot write: ..."
 /// when its directory is missing or not writable or the path is a directory. "-" (standard output) passes.

@@ -111,6 +111,7 @@ std::vector<SummaryRow> summary_rows(const ComputeCommandOptions& options, const
 void run_compute(const ComputeCommandOptions& options, const GlobalOptions& global) {
   const auto start = std::chrono::steady_clock::now();
   const LengthUnit unit = parse_unit_option(options.unit);
+  for (const auto& path : options.meshes) check_input_path(path);
   check_output_path(options.output);
   if (!options.json.empty()) check_output_path(options.json);
   // Refused before any mesh is read: the tables, partial sums and written text of this degree.
@@ -175,7 +176,7 @@ void setup_compute(CLI::App& app, const GlobalOptions& global) {
       "Several meshes are superposed, each with its own --density (negative for a void inside the first).\n"
       "Example: polystokes compute shapes-demo/varnek.obj --unit km --density 1900 --degree 16 -o varnek.txt\n"
       "         polystokes compute outer.obj core.obj --density 1800 700 --degree 12 -o layered.txt --json layered.json");
-  cmd->add_option("meshes", options->meshes, "Shape mesh(es): .obj, .off, .ply, .stl")->required()->check(existing_input());
+  cmd->add_option("meshes", options->meshes, "Shape mesh(es): .obj, .off, .ply, .stl")->required();
   cmd->add_option("--density", options->densities, "Density per mesh in kg/m^3 (repeat or list, in mesh order)")
       ->expected(1, -1);
   cmd->add_option("--gm", options->gm, "Total GM in m^3 s^-2 instead of a density (single mesh)")->check(CLI::PositiveNumber);

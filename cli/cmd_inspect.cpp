@@ -71,7 +71,7 @@ void setup_inspect(CLI::App& app, const GlobalOptions& global) {
   auto* cmd = app.add_subcommand("inspect", "Check a shape mesh and print its mass properties.\n"
                                             "With -q nothing but errors is printed: the exit code says whether the mesh is a valid solid.\n"
                                             "Example: polystokes inspect shapes-demo/varnek.obj --unit km --density 1900");
-  cmd->add_option("mesh", options->mesh, "Shape mesh (.obj, .off, .ply, .stl)")->required()->check(existing_input());
+  cmd->add_option("mesh", options->mesh, "Shape mesh (.obj, .off, .ply, .stl)")->required();
   cmd->add_option("--unit", options->unit, "Length unit of the mesh file: m or km")
       ->check(CLI::IsMember({"m", "km"}))->capture_default_str();
   cmd->add_option("--merge-tolerance", options->merge_tolerance,

@@ -204,6 +204,11 @@ TEST_CASE("usage errors exit 1, bad input exits 2 with a one-line message naming
     CHECK(run_split("compute " + cube + " --density 1000 --no-such-option -o " + quoted(dir + "/a.txt")).exit_code == 1);
     CHECK(run_split("compute " + cube + " --density 1000").exit_code == 1);
     CHECK(run_split("compute " + cube + " --density 1000 --degree seven -o " + quoted(dir + "/a.txt")).exit_code == 1);
+    // A mistyped option leaves its value as a stray positional: still a usage error, not a missing file.
+    const SplitResult typo = run_split("compute " + cube + " --density 1000 --degre 16 -o " + quoted(dir + "/a.txt"));
+    CAPTURE(typo.err);
+    CHECK(typo.exit_code == 1);
+    CHECK(typo.err.find("--degre") != std::string::npos);
     CHECK(!file_exists(dir + "/a.txt"));
   }
   SECTION("a missing input file is bad input, for every command that reads a mesh") {
