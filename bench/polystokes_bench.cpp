@@ -24,7 +24,6 @@
 #include <thread>
 #include <vector>
 
-#include "fan_decomposition.h"
 #include "harmonics.h"
 #include "moment_kernel.h"
 #include "polyhedron_gravity.h"
@@ -152,18 +151,6 @@ Mesh shuffled(const Mesh& mesh) {
   for (size_t i = 0; i < order.size(); ++i) out.faces.row(Eigen::Index(i)) = mesh.faces.row(order[i]);
   out.source = mesh.source + "-shuffled";
   return out;
-}
-
-// Operator products per face of the fan decomposition with the kernel's block size at `degree`.
-double products_per_face(const Mesh& mesh, int degree) {
-  FanDecomposer decomposer;
-  const Eigen::Index size = moment_block_faces(degree), faces = mesh.faces.rows();
-  double products = 0;
-  for (Eigen::Index begin = 0; begin < faces; begin += size)
-    products +=
-        double(decomposer.decompose(mesh.faces, mesh.vertices.rows(), begin, std::min(faces, begin + size))
-                   .products());
-  return products / double(faces);
 }
 
 // --- Accuracy: the fast path against the quadrature reference and against the same recursion in extended
@@ -412,7 +399,7 @@ int main(int argc, char** argv) {
       const long count = long(degree + 1) * long(degree + 1);
       std::vector<double> table(size_t(std::min(count, 1024L)));
       for (size_t j = 0; j < table.size(); ++j) table[j] = 1.0 / double(j + 1);
-      const double products = products_per_face(mesh, degree);
+      const double products = moment_products_per_face(mesh, degree);
       for (int threads : settings.threads) {
         ComputeOptions options;
         options.degree = degree;

@@ -9,7 +9,7 @@
 namespace polystokes {
 
 const FanDecomposition& FanDecomposer::decompose(const Faces& faces, Eigen::Index vertex_count,
-                                                 Eigen::Index begin, Eigen::Index end) {
+                                                 Eigen::Index begin, Eigen::Index end, const int* order) {
   FanDecomposition& out = result_;
   const int count = int(end - begin);
   out.vertices.clear();
@@ -24,17 +24,20 @@ const FanDecomposition& FanDecomposer::decompose(const Faces& faces, Eigen::Inde
   assigned_ = 0;
   edge_a_.clear();
   edge_b_.clear();
-  begin_ = begin;
   if (local_of_.size() < size_t(vertex_count)) local_of_.resize(size_t(vertex_count), -1);
+  mesh_face_.resize(size_t(count));
+  for (int f = 0; f < count; ++f) mesh_face_[size_t(f)] = order ? order[begin + f] : int(begin + f);
 
   // Local vertex ids in order of first use.
   corners_.resize(3 * size_t(count));
   for (int f = 0; f < count; ++f)
     for (int k = 0; k < 3; ++k) {
-      const int vertex = faces(begin + f, k);
-      if (vertex < 0 || vertex >= vertex_count)
-        throw MeshError(fmt::format("face {} refers to vertex {}, but the mesh has {} vertices", begin + f,
-                                    vertex, vertex_count));
+      const int vertex = faces(mesh_face_[size_t(f)], k);
+      if (vertex < 0 || vertex >= vertex_count) {
+        for (int used : out.vertices) local_of_[size_t(used)] = -1;  // leave the scratch map clean
+        throw MeshError(fmt::format("face {} refers to vertex {}, but the mesh has {} vertices",
+                                    mesh_face_[size_t(f)], vertex, vertex_count));
+      }
       int& local = local_of_[size_t(vertex)];
       if (local < 0) {
         local = int(out.vertices.size());
@@ -98,7 +101,7 @@ void FanDecomposer::make_centre(int centre) {
     const int edge = rim_edge(f, wedge.next, wedge.after);
     face_edge_[size_t(f)] = edge;
     face_centre_[size_t(f)] = centre;
-    out.fan_faces[assigned_] = int(begin_) + f;
+    out.fan_faces[assigned_] = mesh_face_[size_t(f)];
     out.fan_edges[assigned_] = edge;
     std::copy_n(&corners_[size_t(3 * f)], 3, &out.fan_corners[3 * assigned_]);
     ++assigned_;

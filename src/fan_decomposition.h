@@ -40,9 +40,10 @@ struct FanDecomposition {
 /// O(block size) for bounded vertex valence; faces with repeated vertices are handled like any other.
 class FanDecomposer {
  public:
-  /// `faces` rows index vertices [0, vertex_count). Throws MeshError for an index outside that range.
+  /// `faces` rows index vertices [0, vertex_count). With `order`, the block is the faces order[begin..end)
+  /// (mesh face ids), else faces begin..end. Throws MeshError for a vertex index outside the range.
   const FanDecomposition& decompose(const Faces& faces, Eigen::Index vertex_count, Eigen::Index begin,
-                                    Eigen::Index end);
+                                    Eigen::Index end, const int* order = nullptr);
 
  private:
   void make_centre(int centre);
@@ -55,6 +56,7 @@ class FanDecomposer {
     int face, next, after;  // a block face and its two corners after the wedge's vertex
   };
   std::vector<int> corners_;      // 3 local ids per block face
+  std::vector<int> mesh_face_;    // mesh face id per block face
   std::vector<int> wedge_begin_;  // local vertex -> its wedges (CSR)
   std::vector<Wedge> wedges_;
   std::vector<int> unassigned_;       // per local vertex: its faces without a centre yet
@@ -63,8 +65,7 @@ class FanDecomposer {
   std::vector<int> edge_a_, edge_b_;  // rim edge endpoints (local)
   std::vector<int> candidates_;       // proposed centres, first in first out
   std::vector<char> side_;            // per local vertex: used as the non-source end of a rim edge
-  Eigen::Index begin_ = 0;
-  size_t assigned_ = 0;  // fan faces written so far
+  size_t assigned_ = 0;               // fan faces written so far
 };
 
 }  // namespace polystokes

@@ -161,10 +161,13 @@ TEST_CASE("results are bit-identical for 1, 2 and 3 threads (fixed blocks, block
 
 TEST_CASE("face order, corner rotation and block boundaries change results only by rounding",
           "[harmonics_fast_path]") {
-  // A shuffled face list shares almost nothing within blocks (about three products per face instead of one),
-  // so the two runs use entirely different fans; the moments are the same integrals.
+  // A shuffled face list has no locality: in its own order the fans share almost nothing (about three
+  // products per face), so the fast path blocks it in Morton order of the face centroids instead; either way
+  // the two runs use entirely different fans, and the moments are the same integrals.
   const std::vector<DensityRegion> ordered{{bent_body(20), 1.0}};
   const std::vector<DensityRegion> shuffled{{shuffled_faces(ordered[0].mesh, 99), 1.0}};
+  CHECK(moment_products_per_face(ordered[0].mesh, 30) < 1.0);
+  CHECK(moment_products_per_face(shuffled[0].mesh, 30) < 1.1);
   const HarmonicFrame frame = frame_about(ordered, Eigen::Vector3d(0.0, -0.4, 0.0));
   const HarmonicMoments a = harmonic_moments(ordered, frame, 30);
   const HarmonicMoments b = harmonic_moments(shuffled, frame, 30);
@@ -178,19 +181,27 @@ TEST_CASE("every face lies in exactly one fan, centred on one of its corners wit
           "[harmonics_fast_path]") {
   const Mesh mesh = shuffled_faces(bent_body(12), 5);
   FanDecomposer decomposer;
-  for (const Eigen::Index size : {Eigen::Index(1), Eigen::Index(7), Eigen::Index(500), mesh.faces.rows()}) {
+  // Blocks of consecutive faces, and blocks through an explicit face order (here: reversed).
+  std::vector<int> reversed_order(size_t(mesh.faces.rows()));
+  std::iota(reversed_order.rbegin(), reversed_order.rend(), 0);
+  for (const Eigen::Index size :
+       {Eigen::Index(1), Eigen::Index(7), Eigen::Index(500), mesh.faces.rows(), -Eigen::Index(300)}) {
+    const Eigen::Index step = std::abs(size);
+    const int* order = size < 0 ? reversed_order.data() : nullptr;
     std::vector<int> seen(size_t(mesh.faces.rows()), 0);
-    for (Eigen::Index begin = 0; begin < mesh.faces.rows(); begin += size) {
-      const Eigen::Index end = std::min(mesh.faces.rows(), begin + size);
-      const FanDecomposition& fans = decomposer.decompose(mesh.faces, mesh.vertices.rows(), begin, end);
+    for (Eigen::Index begin = 0; begin < mesh.faces.rows(); begin += step) {
+      const Eigen::Index end = std::min(mesh.faces.rows(), begin + step);
+      const FanDecomposition& fans =
+          decomposer.decompose(mesh.faces, mesh.vertices.rows(), begin, end, order);
       REQUIRE(fans.fan_begin.size() == fans.centres.size() + 1);
       REQUIRE(fans.fan_begin.back() == int(fans.fan_faces.size()));
       REQUIRE(fans.edge_source.size() == fans.edge_other.size());
       for (size_t c = 0; c < fans.centres.size(); ++c)
         for (int i = fans.fan_begin[c]; i < fans.fan_begin[c + 1]; ++i) {
           const int face = fans.fan_faces[size_t(i)];
-          REQUIRE(face >= begin);
-          REQUIRE(face < end);
+          const Eigen::Index position = order ? mesh.faces.rows() - 1 - face : face;
+          REQUIRE(position >= begin);
+          REQUIRE(position < end);
           ++seen[size_t(face)];
           std::multiset<int> corners, used;
           for (int k = 0; k < 3; ++k) {
