@@ -235,7 +235,7 @@ TEST_CASE("usage errors exit 1, bad input exits 2 with a one-line message naming
   }
 }
 
-TEST_CASE("-q prints nothing on success, -v adds detail on stderr", "[cli_behaviour]") {
+TEST_CASE("quiet (-q) prints nothing on success, verbose (-v) adds detail on stderr", "[cli_behaviour]") {
   const std::string dir = temp_directory();
   const std::string cube = quoted(source_path("shapes-demo/unit_cube.obj"));
   const SplitResult quiet = run_split("-q compute " + cube + " --density 1000 --degree 4 -o " + quoted(dir + "/q.txt"));
