@@ -288,7 +288,7 @@ TEST_CASE("compute prints an aligned summary table with the quantities a user ch
   CHECK(result.out.find("CAUTION") != std::string::npos);
 }
 
-TEST_CASE("-o - writes the set to standard output and the summary to standard error", "[cli_behaviour]") {
+TEST_CASE("output \"-\" writes the set to standard output and the summary to standard error", "[cli_behaviour]") {
   const SplitResult result =
       run_split("compute " + quoted(source_path("shapes-demo/unit_cube.obj")) + " --density 1000 --degree 4 -o -");
   REQUIRE(result.exit_code == 0);
