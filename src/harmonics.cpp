@@ -105,9 +105,11 @@ void for_each_scaled_face(const DensityRegion& region, const HarmonicFrame& fram
 // each product being a 3-term operator on Fourier coefficients: O(n) per step, O(N^2) per face. The faces are
 // grouped into vertex fans (fan_decomposition.h) so that the three recursions are shared between faces, and
 // the products run vectorized over orders (moment_kernel.h), in the scaled basis H_m = (-i)^m 2^m G_m:
-// every product of l_u's satisfies f(u) = conj f(u + pi), so only m >= 0 is stored; the exact power-of-two
-// scaling keeps every stored value O(r^n) and turns the normalization factor into K_nm / 2^m <= 1, so no
-// degree overflows and no order is extracted from numbers 2^m times larger than itself.
+// every product of l_u's satisfies f(u) = conj f(u + pi), so only m >= 0 is stored. The power-of-two scaling
+// is exact (rounding as unscaled), keeps the sectorial orders (2^-n r^n unscaled) from underflowing and turns
+// the normalization factor into K_nm / 2^m <= 1; no order is ever extracted from numbers 2^m times larger
+// than itself, as a transform from sampled values of u would. Scaled orders of equatorial points reach
+// 2^(0.32 n), hence max_moment_degree (docs/performance.md, "Accuracy and stability").
 
 // Faces are cut into blocks whose size depends only on the degree, and block sums are added in block order,
 // so results are bit-identical for any number of threads.
@@ -305,8 +307,15 @@ double moment_bytes(int degree, int threads) {
 
 void check_degree(int degree, int threads) {
   if (degree < 0) throw ConventionError("degree must be >= 0, got " + std::to_string(degree));
+  // The scaled orders of a point on the equator reach about 2^(0.32 n) (2^-2j C(n, j) at order n - 2j), so
+  // beyond degree 3200 they overflow doubles; 3000 leaves room for the sums over a million faces.
+  if (degree > max_moment_degree)
+    throw ResourceError(
+        fmt::format("degree {} is beyond {}, the largest the moment recursion's floating-point "
+                    "range supports",
+                    degree, max_moment_degree));
   constexpr double limit = 8e9;
-  const double bytes = degree > 20000 ? limit * 2 : moment_bytes(degree, threads);
+  const double bytes = moment_bytes(degree, threads);
   if (bytes > limit)
     throw ResourceError(
         fmt::format("degree {} would need about {:.1f} GB for the coefficient tables; "

@@ -43,6 +43,10 @@ struct MomentOptions {
                                                   ///< serialized, at most about 1000 times, last with 1)
 };
 
+/// Largest degree harmonic_moments and compute_coefficients accept (the floating-point range of the scaled
+/// recursion; higher degrees throw ResourceError).
+constexpr int max_moment_degree = 3000;
+
 /// Faces per block of the fast path at `degree` (blocks are the unit of threading and of the ordered
 /// reduction; the size depends on the degree only, never on the thread count).
 Eigen::Index moment_block_faces(int degree);

@@ -135,7 +135,7 @@ double* aligned_memory(std::vector<double>& memory, size_t doubles) {
 
 size_t workspace_doubles(int degree, size_t entities, size_t faces) {
   const size_t stride = size_t(row_stride(degree));
-  return entities * 2 * stride + size_t(degree + 1) * 2 * stride + 12 * entities + 4 * faces;
+  return entities * 2 * stride + 12 * entities + 4 * faces;
 }
 
 }  // namespace
@@ -153,12 +153,11 @@ void accumulate_fan_block(const FanDecomposition& fans, const Eigen::Vector3d* l
   const int centres = int(fans.centres.size());
   const size_t entities = size_t(sources + edges + centres), faces = fans.fan_faces.size();
   double* const rows = aligned_memory(workspace.memory, workspace_doubles(degree, entities, faces));
-  double* const totals = rows + entities * 2 * stride;  // per degree: real row, imaginary row
-  double* const coefficients = totals + size_t(degree + 1) * 2 * stride;  // per entity: x, y, z splatted
-  double* const weights = coefficients + 12 * entities;                   // per fan face: weight splatted
+  double* const coefficients = rows + entities * 2 * stride;  // per entity: x, y, z splatted
+  double* const weights = coefficients + 12 * entities;       // per fan face: weight splatted
   auto row = [rows, stride](size_t e) { return rows + e * 2 * stride; };
 
-  std::fill(rows, rows + entities * 2 * stride + size_t(degree + 1) * 2 * stride, 0.0);
+  std::fill(rows, rows + entities * 2 * stride, 0.0);
   // Each entity's multiplying vertex: the source itself, the rim edge's other endpoint, the fan centre.
   auto splat = [&](size_t e, int vertex) {
     const Eigen::Vector3d& p = local[vertex];
@@ -182,7 +181,7 @@ void accumulate_fan_block(const FanDecomposition& fans, const Eigen::Vector3d* l
     double weight = 0;
     for (int f = fans.fan_begin[size_t(c)]; f < fans.fan_begin[size_t(c) + 1]; ++f) weight += fan_weights[f];
     row(size_t(sources + edges + c))[0] = weight;
-    totals[0] += weight;
+    out_re[0] += weight;
   }
 
   const v4 zero = {0, 0, 0, 0};
@@ -210,8 +209,10 @@ void accumulate_fan_block(const FanDecomposition& fans, const Eigen::Vector3d* l
           nothing);
     }
     // Centres: sum over the fan of weight * h_n(a, b, c) = sum weight * h_n(a, b) + c * (the same at n - 1).
-    double* const t_re = totals + size_t(n) * 2 * stride;
-    double* const t_im = t_re + stride;
+    // Each centre's row is added to the degree-n row of the output; the lanes past order n add exact zeros
+    // to the next row (or the slack after the last).
+    double* const t_re = out_re + size_t(n) * size_t(n + 1) / 2;
+    double* const t_im = out_im + size_t(n) * size_t(n + 1) / 2;
     auto after = [&](int b, v4 cre, v4 cim) {
       store(t_re + 4 * b, load(t_re + 4 * b) + cre);
       store(t_im + 4 * b, load(t_im + 4 * b) + cim);
@@ -264,16 +265,6 @@ void accumulate_fan_block(const FanDecomposition& fans, const Eigen::Vector3d* l
               },
               after);
         }
-    }
-  }
-  for (int n = 0; n <= degree; ++n) {
-    const double* t_re = totals + size_t(n) * 2 * stride;
-    const double* t_im = t_re + stride;
-    double* o_re = out_re + size_t(n) * size_t(n + 1) / 2;
-    double* o_im = out_im + size_t(n) * size_t(n + 1) / 2;
-    for (int k = 0; k <= n; ++k) {
-      o_re[k] += t_re[k];
-      o_im[k] += t_im[k];
     }
   }
 }

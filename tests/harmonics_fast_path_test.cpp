@@ -159,6 +159,29 @@ TEST_CASE("results are bit-identical for 1, 2 and 3 threads (fixed blocks, block
   }
 }
 
+TEST_CASE("degrees beyond the recursion's floating-point range are refused before any work",
+          "[harmonics_fast_path]") {
+  const std::vector<DensityRegion> regions{{make_geodesic_sphere(1), 1.0}};
+  HarmonicFrame frame;
+  CHECK_THROWS_AS(harmonic_moments(regions, frame, max_moment_degree + 1), ResourceError);
+  CHECK_THROWS_WITH(harmonic_moments(regions, frame, max_moment_degree + 1),
+                    Catch::Contains(std::to_string(max_moment_degree + 1)));
+}
+
+TEST_CASE("at the largest degree a flat body on the equator plane stays finite", "[harmonics_fast_path]") {
+  // The worst case for the range: every vertex at z = 0, where the scaled orders peak at about 2^(0.32 n)
+  // (2^-2j C(n, j) at order n - 2j, from the binomial expansion of (i x cos u)^n; common practice).
+  const std::vector<DensityRegion> regions{
+      {transformed(make_geodesic_sphere(1), Eigen::Vector3d(1.0, 0.9, 0.05).asDiagonal(),
+                   Eigen::Vector3d::Zero()),
+       1.0}};
+  HarmonicFrame frame;
+  frame.scale_radius = brillouin_radius(regions, frame.origin);
+  const HarmonicMoments moments = harmonic_moments(regions, frame, max_moment_degree);
+  CHECK(moments.re.allFinite());
+  CHECK(moments.im.allFinite());
+}
+
 TEST_CASE("face order, corner rotation and block boundaries change results only by rounding",
           "[harmonics_fast_path]") {
   // A shuffled face list has no locality: in its own order the fans share almost nothing (about three
