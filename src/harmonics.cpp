@@ -309,11 +309,15 @@ void check_degree(int degree, int threads) {
   if (degree < 0) throw ConventionError("degree must be >= 0, got " + std::to_string(degree));
   // The scaled orders of a point on the equator reach about 2^(0.32 n) (2^-2j C(n, j) at order n - 2j), so
   // beyond degree 3200 they overflow doubles; 3000 leaves room for the sums over a million faces.
-  if (degree > max_moment_degree)
-    throw ResourceError(
-        fmt::format("degree {} is beyond {}, the largest the moment recursion's floating-point "
-                    "range supports",
-                    degree, max_moment_degree));
+  if (degree > max_moment_degree) {
+    // The memory estimate's integer arithmetic is only meant for degrees a machine could hold.
+    const std::string memory = degree <= 1000000
+                                   ? fmt::format("about {:.1f} GB", moment_bytes(degree, threads) / 1e9)
+                                   : std::string("more than 10000 GB");
+    throw ResourceError(fmt::format("degree {} is beyond {}, the largest the moment recursion's floating-point "
+                                    "range supports (it would also need {} of memory)",
+                                    degree, max_moment_degree, memory));
+  }
   constexpr double limit = 8e9;
   const double bytes = moment_bytes(degree, threads);
   if (bytes > limit)
