@@ -314,9 +314,10 @@ void check_degree(int degree, int threads) {
     const std::string memory = degree <= 1000000
                                    ? fmt::format("about {:.1f} GB", moment_bytes(degree, threads) / 1e9)
                                    : std::string("more than 10000 GB");
-    throw ResourceError(fmt::format("degree {} is beyond {}, the largest the moment recursion's floating-point "
-                                    "range supports (it would also need {} of memory)",
-                                    degree, max_moment_degree, memory));
+    throw ResourceError(
+        fmt::format("degree {} is beyond {}, the largest the moment recursion's floating-point "
+                    "range supports (it would also need {} of memory)",
+                    degree, max_moment_degree, memory));
   }
   constexpr double limit = 8e9;
   const double bytes = moment_bytes(degree, threads);
