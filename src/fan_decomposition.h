@@ -9,11 +9,13 @@
 
 namespace polystokes {
 
-/// Faces [begin, end) of a mesh arranged for the fan recursion of complete homogeneous symmetric polynomials:
-///   each face {c, a, b} has a centre vertex c and a rim edge {a, b}:  h_n(a,b,c) = h_n(a,b) + c
-///   h_{n-1}(a,b,c), so a fan of faces around c needs one product by c per degree for all its faces together;
-///   each rim edge {s, t} has a source endpoint s:                     h_n(s,t) = s^n + t h_{n-1}(s,t),
-///   and rim edges shared by two faces, or sources shared by several rim edges, are computed once.
+/// Faces [begin, end) of a mesh arranged for the fan recursion of complete homogeneous symmetric polynomials.
+/// Each face {c, a, b} has a centre vertex c and a rim edge {a, b}, and
+///   h_n(a,b,c) = h_n(a,b) + c h_{n-1}(a,b,c),
+/// so a fan of faces around c needs one product by c per degree for all its faces together. Each rim edge
+/// {s, t} has a source endpoint s, and
+///   h_n(s,t) = s^n + t h_{n-1}(s,t);
+/// rim edges shared by two faces, and sources shared by several rim edges, are computed once.
 /// Any assignment is exact; the sharing only sets the cost: sources + rim edges + centres products per
 /// degree, which for a regular triangulation in a compact patch approaches 5/6 per face (one vertex colour
 /// class as centres, a second as sources). Vertex ids below are local: positions in `vertices`.
@@ -26,8 +28,8 @@ struct FanDecomposition {
   std::vector<int> fan_begin;    ///< per centre: first position in fan_faces / fan_edges; size centres + 1
   std::vector<int> fan_faces;    ///< mesh face ids, grouped by centre
   std::vector<int> fan_edges;    ///< rim edge of each entry of fan_faces
-  std::vector<int>
-      fan_corners;  ///< 3 local vertices per entry of fan_faces, in the face's own (oriented) order
+  /// 3 local vertices per entry of fan_faces, in the face's own (oriented) order
+  std::vector<int> fan_corners;
 
   /// Operator products per degree: sources + rim edges + centres.
   size_t products() const { return sources.size() + edge_source.size() + centres.size(); }

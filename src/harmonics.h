@@ -82,7 +82,8 @@ struct ComputeOptions {
 
 /// Coefficients of the superposed constant-density regions with GM = G * mass, provenance filled in and the
 /// operational caution in the notes. Regions must already be checked (mesh_check). Throws ConventionError on
-/// negative degree or non-positive radius, ResourceError when the degree would exceed memory.
+/// negative degree or non-positive radius, ResourceError when the degree would exceed memory or
+/// max_moment_degree.
 CoefficientSet compute_coefficients(const std::vector<DensityRegion>& regions, const ComputeOptions& options);
 
 /// Fully normalized coefficients from moments: C + iS = Q_nm (Rs/R)^n / (M (2n+1)).
