@@ -15,7 +15,8 @@ int main(int argc, char** argv) {
       "Exit codes: 0 ok; 1 usage error (unknown option, missing or malformed argument); 2 bad input (a mesh,\n"
       "file, convention or parameter that cannot be used, or a request that would exceed memory); 3 internal\n"
       "error. Output files are written whole or not at all: a failed or interrupted run leaves the previous\n"
-      "file as it was. \"-\" as a file name means standard output (or standard input where a set is read).\n\n"
+      "file as it was. \"-\" as an output file means standard output; as an input, standard input where the\n"
+      "command's help says so.\n\n"
       "Caution: a constant-density, shape-derived gravity field is a model. Validate it against tracking data\n"
       "and review it under the mission's own procedures before any operational use.");
   app.require_subcommand(1);
