@@ -500,19 +500,6 @@ const char* operational_caution() {
 
 namespace {
 
-// Volume by signed tetrahedra from the mesh origin (common practice), without the higher moments that
-// volume_moments also forms; one pass over the faces.
-double mesh_volume(const Mesh& mesh) {
-  double six_volume = 0;
-  for (Eigen::Index f = 0; f < mesh.faces.rows(); ++f) {
-    const Eigen::Vector3d a = mesh.vertices.row(mesh.faces(f, 0)).transpose();
-    const Eigen::Vector3d b = mesh.vertices.row(mesh.faces(f, 1)).transpose();
-    const Eigen::Vector3d c = mesh.vertices.row(mesh.faces(f, 2)).transpose();
-    six_volume += a.dot(b.cross(c));
-  }
-  return six_volume / 6.0;
-}
-
 std::string utc_now() {
   const std::time_t now = std::time(nullptr);
   std::tm tm{};
@@ -530,7 +517,7 @@ CoefficientSet compute_coefficients(const std::vector<DensityRegion>& regions,
   if (regions.empty()) throw ConventionError("no mesh given");
   if (options.reference_radius < 0 || !std::isfinite(options.reference_radius))
     throw ConventionError("reference radius must be positive");
-  const MassProperties props = mass_properties(regions);
+  const MassProperties props = mass_properties(regions, options.execution.threads);
 
   HarmonicFrame frame;
   frame.origin =
@@ -557,13 +544,14 @@ CoefficientSet compute_coefficients(const std::vector<DensityRegion>& regions,
   set.volume = props.volume;
   set.brillouin_radius = brillouin;
   set.length_unit = to_string(regions.front().mesh.unit);
-  for (const auto& region : regions) {
+  for (size_t r = 0; r < regions.size(); ++r) {
+    const DensityRegion& region = regions[r];
     Region info;
     info.mesh = region.mesh.source;
     info.checksum = region.mesh.checksum;
     info.unit = to_string(region.mesh.unit);
     info.density = region.density;
-    info.volume = mesh_volume(region.mesh);
+    info.volume = props.region_volumes[r];
     info.faces = long(region.mesh.faces.rows());
     set.regions.push_back(info);
   }

@@ -5,34 +5,73 @@
 #include <cmath>
 
 #include "errors.h"
+#include "parallel_rows.h"
 
 namespace polystokes {
 
-VolumeMoments volume_moments(const Mesh& mesh) {
-  VolumeMoments moments;
-  for (Eigen::Index f = 0; f < mesh.faces.rows(); ++f) {
+namespace {
+
+// Moments of faces [begin, end). The second moment keeps its six distinct entries: per face,
+//   int x x^T dV = V/20 (sum_k v_k v_k^T + s s^T), s = a + b + c
+// (Tonon 2004, "Explicit exact formulas for the 3-D tetrahedron inertia tensor in terms of its vertex
+// coordinates", J. Math. Stat. 1(1); equivalent covariance form of the uniform simplex), the fourth vertex
+// being the origin, whose centroid is the mean of the four vertices.
+VolumeMoments face_range_moments(const Mesh& mesh, Eigen::Index begin, Eigen::Index end) {
+  double six_volume = 0;
+  Eigen::Vector3d first = Eigen::Vector3d::Zero();
+  Eigen::Vector3d diagonal = Eigen::Vector3d::Zero(), off = Eigen::Vector3d::Zero();  // xx yy zz; xy xz yz
+  for (Eigen::Index f = begin; f < end; ++f) {
     const Eigen::Vector3d a = mesh.vertices.row(mesh.faces(f, 0)).transpose();
     const Eigen::Vector3d b = mesh.vertices.row(mesh.faces(f, 1)).transpose();
     const Eigen::Vector3d c = mesh.vertices.row(mesh.faces(f, 2)).transpose();
-    const double tet_volume = a.dot(b.cross(c)) / 6.0;
-    const Eigen::Vector3d sum = a + b + c;  // the fourth vertex is the origin
-    moments.volume += tet_volume;
-    // Centroid of a tetrahedron is the mean of its four vertices.
-    moments.first += tet_volume * sum / 4.0;
-    // Second moment of a simplex: int x x^T dV = V/20 (sum_k v_k v_k^T + s s^T), s = sum of vertices
-    // (Tonon 2004, "Explicit exact formulas for the 3-D tetrahedron inertia tensor in terms of its vertex
-    // coordinates", J. Math. Stat. 1(1); equivalent covariance form of the uniform simplex).
-    moments.second += tet_volume / 20.0 * (a * a.transpose() + b * b.transpose() + c * c.transpose() + sum * sum.transpose());
+    const double w = a.dot(b.cross(c));  // 6 V
+    const Eigen::Vector3d s = a + b + c;
+    six_volume += w;
+    first += w * s;
+    diagonal += w * (a.cwiseAbs2() + b.cwiseAbs2() + c.cwiseAbs2() + s.cwiseAbs2());
+    const Eigen::Vector3d ra(a.x(), a.x(), a.y()), rb(b.x(), b.x(), b.y()), rc(c.x(), c.x(), c.y());
+    const Eigen::Vector3d rs(s.x(), s.x(), s.y());
+    const Eigen::Vector3d ca(a.y(), a.z(), a.z()), cb(b.y(), b.z(), b.z()), cc(c.y(), c.z(), c.z());
+    const Eigen::Vector3d cs(s.y(), s.z(), s.z());
+    off += w * (ra.cwiseProduct(ca) + rb.cwiseProduct(cb) + rc.cwiseProduct(cc) + rs.cwiseProduct(cs));
+  }
+  VolumeMoments moments;
+  moments.volume = six_volume / 6.0;
+  moments.first = first / 24.0;
+  moments.second.diagonal() = diagonal / 120.0;
+  moments.second(0, 1) = moments.second(1, 0) = off[0] / 120.0;
+  moments.second(0, 2) = moments.second(2, 0) = off[1] / 120.0;
+  moments.second(1, 2) = moments.second(2, 1) = off[2] / 120.0;
+  return moments;
+}
+
+}  // namespace
+
+VolumeMoments volume_moments(const Mesh& mesh, int threads) {
+  // Fixed chunks summed in chunk order: the result is the same for any thread count.
+  constexpr Eigen::Index chunk = 1 << 16;
+  const Eigen::Index faces = mesh.faces.rows();
+  const long chunks = long((faces + chunk - 1) / chunk);
+  std::vector<VolumeMoments> partial(size_t(std::max(1L, chunks)));
+  parallel_rows(chunks, threads, [&](long i) {
+    partial[size_t(i)] = face_range_moments(mesh, i * chunk, std::min(faces, (i + 1) * chunk));
+  });
+  VolumeMoments moments;
+  for (const auto& p : partial) {
+    moments.volume += p.volume;
+    moments.first += p.first;
+    moments.second += p.second;
   }
   return moments;
 }
 
-MassProperties mass_properties(const std::vector<DensityRegion>& regions) {
+MassProperties mass_properties(const std::vector<DensityRegion>& regions, int threads) {
   MassProperties props;
   Eigen::Vector3d first = Eigen::Vector3d::Zero();
   Eigen::Matrix3d second = Eigen::Matrix3d::Zero();
   for (const auto& region : regions) {
-    const VolumeMoments m = volume_moments(region.mesh);
+    const VolumeMoments m = volume_moments(region.mesh, threads);
+    props.region_volumes.push_back(m.volume);
     if (region.density > 0) props.volume += m.volume;
     props.mass += region.density * m.volume;
     first += region.density * m.first;

@@ -23,8 +23,9 @@ struct VolumeMoments {
   Eigen::Matrix3d second = Eigen::Matrix3d::Zero();         ///< integral of x x^T dV
 };
 
-/// Exact moments by signed tetrahedra (origin, a, b, c); valid for any closed outward mesh. O(F).
-VolumeMoments volume_moments(const Mesh& mesh);
+/// Exact moments by signed tetrahedra (origin, a, b, c); valid for any closed outward mesh. O(F), split over
+/// `threads` (0 = all hardware threads); the result does not depend on the thread count.
+VolumeMoments volume_moments(const Mesh& mesh, int threads = 1);
 
 /// Mass properties of the superposed regions, about the centre of mass, mesh frame.
 struct MassProperties {
@@ -36,10 +37,12 @@ struct MassProperties {
   /// Columns are the principal axes (mesh frame) in the order of principal_moments. Sign rule: the first two
   /// axes have their largest-magnitude component positive; the third is their cross product (right-handed).
   Eigen::Matrix3d principal_axes = Eigen::Matrix3d::Identity();
+  std::vector<double> region_volumes;  ///< m^3, volume of each region's mesh, in the order given
 };
 
-/// Throws ConventionError if the total mass is not positive. O(total F).
-MassProperties mass_properties(const std::vector<DensityRegion>& regions);
+/// Throws ConventionError if the total mass is not positive. O(total F), split over `threads` (0 = all
+/// hardware threads) with a result that does not depend on the thread count.
+MassProperties mass_properties(const std::vector<DensityRegion>& regions, int threads = 1);
 
 /// Largest vertex distance from `origin` over all regions (m): the radius of the Brillouin sphere.
 double brillouin_radius(const std::vector<DensityRegion>& regions, const Eigen::Vector3d& origin);

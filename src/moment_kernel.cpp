@@ -55,7 +55,8 @@ int row_stride(int degree) {
 // H_{-1} = -conj(H_1)/4, which keeps S_0 exactly zero.
 // add_block(b, cre, cim) sets the added term of block b (orders 4b..4b+3); after(b, cre, cim) sees each
 // result.
-template <class Add, class After>
+// With Blocks > 0, `blocks` equals Blocks and the block loop unrolls completely.
+template <int Blocks, class Add, class After>
 POLYSTOKES_INLINE void step_row(double* re, double* im, const double* coefficients, int blocks,
                                 Add&& add_block, After&& after) {
   const v4 x = load(coefficients), y = load(coefficients + 4), z = load(coefficients + 8);
@@ -91,38 +92,115 @@ POLYSTOKES_INLINE void step_row(double* re, double* im, const double* coefficien
     r += 4;
     s += 4;
   };
-  for (int b = 0; b < blocks; ++b) block(b);
+  if constexpr (Blocks > 0) {
+#pragma GCC unroll 8
+    for (int b = 0; b < Blocks; ++b) block(b);
+  } else {
+    for (int b = 0; b < blocks; ++b) block(b);
+  }
 }
 
-// The centre steps of one degree when rows have `Blocks` blocks: the fan sums are gathered face by face into
-// accumulators that stay in registers, so each rim row pointer and weight is read once per degree.
-template <int Blocks, class After>
-POLYSTOKES_INLINE void centre_steps(const FanDecomposition& fans, double* rows, size_t stride,
-                                    const double* coefficients, const double* weights,
-                                    const double* const* face_edge, int first_centre, After&& after) {
-  const int centres = int(fans.centres.size());
+// The rows of one accumulate_fan_block call, laid out in schedule order: fan by fan, the sources and rim
+// edges that fan is the first to need, then its centre. Each row is then read (as a rim edge's source, or in
+// a centre's fan sum) soon after it is written, while it is still in the first-level cache.
+struct FanRows {
+  const FanDecomposition& fans;
+  double* rows;                    // per slot: real row, then imaginary row, `stride` apart
+  size_t stride;                   // doubles per row
+  const double* coefficients;      // per slot: x, y, z of its multiplying vertex, splatted
+  const double* weights;           // per fan face: weight splatted
+  const double* const* edge_add;   // per rim edge in schedule order: its source's row
+  const double* const* face_edge;  // per fan face: its rim edge's row
+  const int* group;                // per centre: number of new sources, number of new rim edges
+};
+
+// All products of degree n: sources, then rim edges, then centres, each centre's row added to the degree-n
+// output row (`t_re`, `t_im`); the lanes past order n add exact zeros to the next row (or the slack after the
+// last). With Blocks > 0 the rows have exactly that many blocks, known at compile time, so every block loop
+// unrolls and a centre's fan sums stay in registers; Blocks == 0 takes the count from n.
+template <int Blocks>
+POLYSTOKES_INLINE void degree_step(const FanRows& g, int n, double* t_re, double* t_im) {
+  const int blocks = Blocks > 0 ? Blocks : (n + 4) / 4;
+  const size_t stride = g.stride;
+  const v4 zero = {0, 0, 0, 0};
+  auto nothing = [](int, v4, v4) {};
+  auto after = [&](int b, v4 cre, v4 cim) {
+    store(t_re + 4 * b, load(t_re + 4 * b) + cre);
+    store(t_im + 4 * b, load(t_im + 4 * b) + cim);
+  };
+  double* r = g.rows;
+  const double* coefficients = g.coefficients;
+  const double* const* add = g.edge_add;
+  const int centres = int(g.fans.centres.size());
   for (int c = 0; c < centres; ++c) {
-    v4 acc_re[Blocks], acc_im[Blocks];
-#pragma GCC unroll 8
-    for (int b = 0; b < Blocks; ++b) acc_re[b] = acc_im[b] = v4{0, 0, 0, 0};
-    for (int f = fans.fan_begin[size_t(c)]; f < fans.fan_begin[size_t(c) + 1]; ++f) {
-      const v4 w = load(weights + 4 * size_t(f));
-      const double* rim = face_edge[f];
-#pragma GCC unroll 8
-      for (int b = 0; b < Blocks; ++b) {
-        acc_re[b] = acc_re[b] + w * load(rim + 4 * b);
-        acc_im[b] = acc_im[b] + w * load(rim + stride + 4 * b);
-      }
+    // Sources: s^n = s * s^{n-1}.
+    for (int j = 0; j < g.group[2 * c]; ++j, r += 2 * stride, coefficients += 12)
+      step_row<Blocks>(
+          r, r + stride, coefficients, blocks, [&](int, v4& cre, v4& cim) { cre = cim = zero; }, nothing);
+    // Rim edges: h_n(s, t) = s^n + t h_{n-1}(s, t).
+    for (int j = 0; j < g.group[2 * c + 1]; ++j, r += 2 * stride, coefficients += 12, ++add) {
+      const double* source = *add;
+      step_row<Blocks>(
+          r, r + stride, coefficients, blocks,
+          [&](int b, v4& cre, v4& cim) {
+            cre = load(source + 4 * b);
+            cim = load(source + stride + 4 * b);
+          },
+          nothing);
     }
-    const size_t e = size_t(first_centre + c);
-    double* r = rows + e * 2 * stride;
-    step_row(
-        r, r + stride, coefficients + 12 * e, Blocks,
-        [&](int b, v4& cre, v4& cim) {
-          cre = acc_re[b];
-          cim = acc_im[b];
-        },
-        after);
+    // The centre: sum over the fan of weight * h_n(a, b, c) = sum weight * h_n(a, b) + c * (the same at
+    // n - 1), added to the degree-n output row; the lanes past order n add exact zeros to the next row (or
+    // the slack after the last).
+    const int begin = g.fans.fan_begin[size_t(c)], end = g.fans.fan_begin[size_t(c) + 1];
+    if constexpr (Blocks > 0) {
+      // The fan sums are gathered face by face into accumulators that stay in registers, so each rim row
+      // pointer and weight is read once per degree.
+      v4 acc_re[Blocks], acc_im[Blocks];
+#pragma GCC unroll 8
+      for (int b = 0; b < Blocks; ++b) acc_re[b] = acc_im[b] = zero;
+      for (int f = begin; f < end; ++f) {
+        const v4 w = load(g.weights + 4 * size_t(f));
+        const double* rim = g.face_edge[f];
+#pragma GCC unroll 8
+        for (int b = 0; b < Blocks; ++b) {
+          acc_re[b] = acc_re[b] + w * load(rim + 4 * b);
+          acc_im[b] = acc_im[b] + w * load(rim + stride + 4 * b);
+        }
+      }
+      step_row<Blocks>(
+          r, r + stride, coefficients, blocks,
+          [&](int b, v4& cre, v4& cim) {
+            cre = acc_re[b];
+            cim = acc_im[b];
+          },
+          after);
+    } else {
+      step_row<Blocks>(
+          r, r + stride, coefficients, blocks,
+          [&](int b, v4& cre, v4& cim) {
+            // Two partial sums halve the dependency chain through the fan.
+            v4 re0 = zero, im0 = zero, re1 = zero, im1 = zero;
+            const size_t offset = size_t(4 * b);
+            int f = begin;
+            for (; f + 1 < end; f += 2) {
+              const v4 w0 = load(g.weights + 4 * size_t(f)), w1 = load(g.weights + 4 * size_t(f) + 4);
+              re0 = re0 + w0 * load(g.face_edge[f] + offset);
+              im0 = im0 + w0 * load(g.face_edge[f] + stride + offset);
+              re1 = re1 + w1 * load(g.face_edge[f + 1] + offset);
+              im1 = im1 + w1 * load(g.face_edge[f + 1] + stride + offset);
+            }
+            if (f < end) {
+              const v4 w0 = load(g.weights + 4 * size_t(f));
+              re0 = re0 + w0 * load(g.face_edge[f] + offset);
+              im0 = im0 + w0 * load(g.face_edge[f] + stride + offset);
+            }
+            cre = re0 + re1;
+            cim = im0 + im1;
+          },
+          after);
+    }
+    r += 2 * stride;
+    coefficients += 12;
   }
 }
 
@@ -153,118 +231,85 @@ void accumulate_fan_block(const FanDecomposition& fans, const Eigen::Vector3d* l
   const int centres = int(fans.centres.size());
   const size_t entities = size_t(sources + edges + centres), faces = fans.fan_faces.size();
   double* const rows = aligned_memory(workspace.memory, workspace_doubles(degree, entities, faces));
-  double* const coefficients = rows + entities * 2 * stride;  // per entity: x, y, z splatted
+  double* const coefficients = rows + entities * 2 * stride;  // per slot: x, y, z splatted
   double* const weights = coefficients + 12 * entities;       // per fan face: weight splatted
   auto row = [rows, stride](size_t e) { return rows + e * 2 * stride; };
 
   std::fill(rows, rows + entities * 2 * stride, 0.0);
-  // Each entity's multiplying vertex: the source itself, the rim edge's other endpoint, the fan centre.
-  auto splat = [&](size_t e, int vertex) {
-    const Eigen::Vector3d& p = local[vertex];
-    for (int c = 0; c < 3; ++c)
-      std::fill(coefficients + 12 * e + 4 * size_t(c), coefficients + 12 * e + 4 * size_t(c) + 4, p[c]);
-  };
-  for (int j = 0; j < sources; ++j) splat(size_t(j), fans.sources[size_t(j)]);
-  for (int j = 0; j < edges; ++j) splat(size_t(sources + j), fans.edge_other[size_t(j)]);
-  for (int j = 0; j < centres; ++j) splat(size_t(sources + edges + j), fans.centres[size_t(j)]);
-  for (size_t f = 0; f < faces; ++f) std::fill(weights + 4 * f, weights + 4 * f + 4, fan_weights[f]);
-  // Rows never move, so each rim edge's source and each fan face's rim edge are fixed pointers.
+  // The schedule (FanRows): the slot of each source and rim edge, and per centre how many of each it adds.
+  std::vector<int>& slots = workspace.schedule;
+  slots.assign(size_t(sources + edges) + 2 * size_t(centres), -1);
+  int* const source_slot = slots.data();
+  int* const edge_slot = source_slot + sources;
+  int* const group = edge_slot + edges;
   workspace.pointers.resize(size_t(edges) + faces);
-  const double** const edge_source = workspace.pointers.data();
-  const double** const face_edge = edge_source + edges;
-  for (int j = 0; j < edges; ++j) edge_source[j] = row(size_t(fans.edge_source[size_t(j)]));
-  for (size_t f = 0; f < faces; ++f) face_edge[f] = row(size_t(sources + fans.fan_edges[f]));
-
-  // Degree 0: h_0 = 1 for sources and rim edges, the sum of the fan weights for centres.
-  for (size_t e = 0; e < size_t(sources + edges); ++e) row(e)[0] = 1.0;
+  const double** const edge_add = workspace.pointers.data();
+  const double** const face_edge = edge_add + edges;
+  // Each slot's multiplying vertex: the source itself, the rim edge's other endpoint, the fan centre.
+  auto splat = [&](int slot, int vertex) {
+    const Eigen::Vector3d& p = local[vertex];
+    for (int c = 0; c < 3; ++c) std::fill_n(coefficients + 12 * size_t(slot) + 4 * size_t(c), 4, p[c]);
+  };
+  int next = 0, scheduled_edges = 0;
   for (int c = 0; c < centres; ++c) {
+    const int begin = fans.fan_begin[size_t(c)], end = fans.fan_begin[size_t(c) + 1];
+    int new_sources = 0, new_edges = 0;
+    for (int f = begin; f < end; ++f) {
+      const int e = fans.fan_edges[size_t(f)], s = fans.edge_source[size_t(e)];
+      if (edge_slot[e] < 0 && source_slot[s] < 0) {
+        source_slot[s] = next;
+        splat(next++, fans.sources[size_t(s)]);
+        ++new_sources;
+      }
+    }
+    for (int f = begin; f < end; ++f) {
+      const int e = fans.fan_edges[size_t(f)];
+      if (edge_slot[e] >= 0) continue;
+      edge_slot[e] = next;
+      splat(next++, fans.edge_other[size_t(e)]);
+      edge_add[scheduled_edges++] = row(size_t(source_slot[fans.edge_source[size_t(e)]]));
+      ++new_edges;
+    }
+    group[2 * c] = new_sources;
+    group[2 * c + 1] = new_edges;
+    // Degree 0: h_0 = 1 for sources and rim edges, the sum of the fan weights for the centre.
+    for (int j = next - new_sources - new_edges; j < next; ++j) row(size_t(j))[0] = 1.0;
     double weight = 0;
-    for (int f = fans.fan_begin[size_t(c)]; f < fans.fan_begin[size_t(c) + 1]; ++f) weight += fan_weights[f];
-    row(size_t(sources + edges + c))[0] = weight;
+    for (int f = begin; f < end; ++f) {
+      weight += fan_weights[f];
+      face_edge[f] = row(size_t(edge_slot[fans.fan_edges[size_t(f)]]));
+    }
+    row(size_t(next))[0] = weight;
     out_re[0] += weight;
+    splat(next++, fans.centres[size_t(c)]);
   }
+  for (size_t f = 0; f < faces; ++f) std::fill_n(weights + 4 * f, 4, fan_weights[f]);
 
-  const v4 zero = {0, 0, 0, 0};
-  auto nothing = [](int, v4, v4) {};
+  const FanRows g{fans, rows, stride, coefficients, weights, edge_add, face_edge, group};
   for (int n = 1; n <= degree; ++n) {
-    const int blocks = (n + 4) / 4;
-    // Sources: s^n = s * s^{n-1}.
-    for (int e = 0; e < sources; ++e) {
-      double* r = row(size_t(e));
-      step_row(
-          r, r + stride, coefficients + 12 * size_t(e), blocks,
-          [&](int, v4& cre, v4& cim) { cre = cim = zero; }, nothing);
-    }
-    // Rim edges: h_n(s, t) = s^n + t h_{n-1}(s, t).
-    for (int j = 0; j < edges; ++j) {
-      const size_t e = size_t(sources + j);
-      double* r = row(e);
-      const double* add = edge_source[j];
-      step_row(
-          r, r + stride, coefficients + 12 * e, blocks,
-          [&](int b, v4& cre, v4& cim) {
-            cre = load(add + 4 * b);
-            cim = load(add + stride + 4 * b);
-          },
-          nothing);
-    }
-    // Centres: sum over the fan of weight * h_n(a, b, c) = sum weight * h_n(a, b) + c * (the same at n - 1).
-    // Each centre's row is added to the degree-n row of the output; the lanes past order n add exact zeros
-    // to the next row (or the slack after the last).
     double* const t_re = out_re + size_t(n) * size_t(n + 1) / 2;
     double* const t_im = out_im + size_t(n) * size_t(n + 1) / 2;
-    auto after = [&](int b, v4 cre, v4 cim) {
-      store(t_re + 4 * b, load(t_re + 4 * b) + cre);
-      store(t_im + 4 * b, load(t_im + 4 * b) + cim);
-    };
-    switch (blocks) {
+    switch ((n + 4) / 4) {
       case 1:
-        centre_steps<1>(fans, rows, stride, coefficients, weights, face_edge, sources + edges, after);
+        degree_step<1>(g, n, t_re, t_im);
         break;
       case 2:
-        centre_steps<2>(fans, rows, stride, coefficients, weights, face_edge, sources + edges, after);
+        degree_step<2>(g, n, t_re, t_im);
         break;
       case 3:
-        centre_steps<3>(fans, rows, stride, coefficients, weights, face_edge, sources + edges, after);
+        degree_step<3>(g, n, t_re, t_im);
         break;
       case 4:
-        centre_steps<4>(fans, rows, stride, coefficients, weights, face_edge, sources + edges, after);
+        degree_step<4>(g, n, t_re, t_im);
         break;
       case 5:
-        centre_steps<5>(fans, rows, stride, coefficients, weights, face_edge, sources + edges, after);
+        degree_step<5>(g, n, t_re, t_im);
         break;
       case 6:
-        centre_steps<6>(fans, rows, stride, coefficients, weights, face_edge, sources + edges, after);
+        degree_step<6>(g, n, t_re, t_im);
         break;
       default:
-        for (int c = 0; c < centres; ++c) {
-          const size_t e = size_t(sources + edges + c);
-          double* r = row(e);
-          const int begin = fans.fan_begin[size_t(c)], end = fans.fan_begin[size_t(c) + 1];
-          step_row(
-              r, r + stride, coefficients + 12 * e, blocks,
-              [&](int b, v4& cre, v4& cim) {
-                // Two partial sums halve the dependency chain through the fan.
-                v4 re0 = zero, im0 = zero, re1 = zero, im1 = zero;
-                const size_t offset = size_t(4 * b);
-                int f = begin;
-                for (; f + 1 < end; f += 2) {
-                  const v4 w0 = load(weights + 4 * size_t(f)), w1 = load(weights + 4 * size_t(f) + 4);
-                  re0 = re0 + w0 * load(face_edge[f] + offset);
-                  im0 = im0 + w0 * load(face_edge[f] + stride + offset);
-                  re1 = re1 + w1 * load(face_edge[f + 1] + offset);
-                  im1 = im1 + w1 * load(face_edge[f + 1] + stride + offset);
-                }
-                if (f < end) {
-                  const v4 w0 = load(weights + 4 * size_t(f));
-                  re0 = re0 + w0 * load(face_edge[f] + offset);
-                  im0 = im0 + w0 * load(face_edge[f] + stride + offset);
-                }
-                cre = re0 + re1;
-                cim = im0 + im1;
-              },
-              after);
-        }
+        degree_step<0>(g, n, t_re, t_im);
     }
   }
 }

@@ -14,6 +14,7 @@ namespace polystokes {
 struct FanWorkspace {
   std::vector<double> memory;
   std::vector<const double*> pointers;
+  std::vector<int> schedule;
 };
 
 /// Bytes of scratch memory accumulate_fan_block needs at `degree` for `entities` entities (sources, rim edges
