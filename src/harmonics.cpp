@@ -351,9 +351,9 @@ HarmonicMoments unpack_moments(int degree, double scale_radius, const std::vecto
   return moments;
 }
 
-void check_frame(const HarmonicFrame& frame, const std::vector<DensityRegion>& regions) {
+void check_frame(const HarmonicFrame& frame, const std::vector<DensityRegion>& regions, int threads = 1) {
   if (!(frame.scale_radius > 0)) throw ConventionError("scale radius must be positive");
-  if (!(frame.scale_radius >= brillouin_radius(regions, frame.origin) * (1 - 1e-12)))
+  if (!(frame.scale_radius >= brillouin_radius(regions, frame.origin, threads) * (1 - 1e-12)))
     throw ConventionError("scale radius is smaller than the largest vertex distance");
 }
 
@@ -409,10 +409,11 @@ double moment_products_per_face(const Mesh& mesh, int degree) {
   return faces > 0 ? products / double(faces) : 0.0;
 }
 
-HarmonicMoments harmonic_moments(const std::vector<DensityRegion>& regions, const HarmonicFrame& frame,
-                                 int degree, const MomentOptions& options) {
-  check_degree(degree, thread_count(options.threads, SIZE_MAX));
-  check_frame(frame, regions);
+namespace {
+
+// harmonic_moments for a frame already known to be valid.
+HarmonicMoments fast_moments(const std::vector<DensityRegion>& regions, const HarmonicFrame& frame,
+                             int degree, const MomentOptions& options) {
   std::vector<std::vector<int>> orders;
   for (const auto& region : regions)
     orders.push_back(blocking_order(region.mesh, moment_block_faces(degree)));
@@ -426,6 +427,15 @@ HarmonicMoments harmonic_moments(const std::vector<DensityRegion>& regions, cons
       },
       re, im);
   return unpack_moments(degree, frame.scale_radius, re, im);
+}
+
+}  // namespace
+
+HarmonicMoments harmonic_moments(const std::vector<DensityRegion>& regions, const HarmonicFrame& frame,
+                                 int degree, const MomentOptions& options) {
+  check_degree(degree, thread_count(options.threads, SIZE_MAX));
+  check_frame(frame, regions, options.threads);
+  return fast_moments(regions, frame, degree, options);
 }
 
 HarmonicMoments harmonic_moments_reference(const std::vector<DensityRegion>& regions,
@@ -523,11 +533,12 @@ CoefficientSet compute_coefficients(const std::vector<DensityRegion>& regions,
   frame.origin =
       options.origin == OriginChoice::center_of_mass ? props.center_of_mass : Eigen::Vector3d::Zero();
   if (options.frame == FrameChoice::principal) frame.axes = props.principal_axes.transpose();
-  const double brillouin = brillouin_radius(regions, frame.origin);
+  const double brillouin = brillouin_radius(regions, frame.origin, options.execution.threads);
   frame.scale_radius = brillouin;
   const double reference = options.reference_radius > 0 ? options.reference_radius : brillouin;
 
-  const HarmonicMoments moments = harmonic_moments(regions, frame, options.degree, options.execution);
+  // The frame is valid by construction: its scale radius is the Brillouin radius just measured.
+  const HarmonicMoments moments = fast_moments(regions, frame, options.degree, options.execution);
 
   CoefficientSet set = make_empty_set(options.degree);
   // Normalizing by the kernel's own degree-0 moment (the same mass to rounding) makes C00 exactly 1.

@@ -77,7 +77,8 @@ MassProperties mass_properties(const std::vector<DensityRegion>& regions, int th
     first += region.density * m.first;
     second += region.density * m.second;
   }
-  if (!(props.mass > 0)) throw ConventionError("total mass is not positive; check densities and region meshes");
+  if (!(props.mass > 0))
+    throw ConventionError("total mass is not positive; check densities and region meshes");
   props.center_of_mass = first / props.mass;
   const Eigen::Matrix3d J = second - props.mass * props.center_of_mass * props.center_of_mass.transpose();
   props.inertia = J.trace() * Eigen::Matrix3d::Identity() - J;
@@ -95,16 +96,26 @@ MassProperties mass_properties(const std::vector<DensityRegion>& regions, int th
   return props;
 }
 
-double max_vertex_distance(const Mesh& mesh, const Eigen::Vector3d& origin) {
-  double radius = 0;
-  for (Eigen::Index i = 0; i < mesh.vertices.rows(); ++i)
-    radius = std::max(radius, (mesh.vertices.row(i).transpose() - origin).norm());
-  return radius;
+double max_vertex_distance(const Mesh& mesh, const Eigen::Vector3d& origin, int threads) {
+  // A maximum is exact in any order, so the chunks only share the work.
+  constexpr Eigen::Index chunk = 1 << 16;
+  const Eigen::Index count = mesh.vertices.rows();
+  const long chunks = long((count + chunk - 1) / chunk);
+  std::vector<double> partial(size_t(std::max(1L, chunks)), 0.0);
+  parallel_rows(chunks, threads, [&](long i) {
+    double radius = 0;
+    for (Eigen::Index v = i * chunk; v < std::min(count, (i + 1) * chunk); ++v)
+      radius = std::max(radius, (mesh.vertices.row(v).transpose() - origin).squaredNorm());
+    partial[size_t(i)] = radius;
+  });
+  return std::sqrt(*std::max_element(partial.begin(), partial.end()));
 }
 
-double brillouin_radius(const std::vector<DensityRegion>& regions, const Eigen::Vector3d& origin) {
+double brillouin_radius(const std::vector<DensityRegion>& regions, const Eigen::Vector3d& origin,
+                        int threads) {
   double radius = 0;
-  for (const auto& region : regions) radius = std::max(radius, max_vertex_distance(region.mesh, origin));
+  for (const auto& region : regions)
+    radius = std::max(radius, max_vertex_distance(region.mesh, origin, threads));
   return radius;
 }
 

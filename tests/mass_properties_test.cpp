@@ -74,3 +74,27 @@ TEST_CASE("Brillouin radius is the largest vertex distance from the origin", "[m
   const std::vector<DensityRegion> regions{{make_box(2, 3, 6), 1.0}};
   CHECK_THAT(brillouin_radius(regions, Eigen::Vector3d::Zero()), WithinRel(3.5, 1e-15));
 }
+
+TEST_CASE("moments of a large mesh are identical for any thread count and match the sphere's closed form",
+          "[mass_properties]") {
+  // Over 65536 faces, so the faces are summed in several chunks. The inscribed polyhedron's volume is below
+  // 4 pi / 3 and approaches it (ball volume, common practice); its second moment approaches
+  // int x^2 dV = 4 pi / 15 (handbook integral over the unit ball).
+  const Mesh sphere = make_geodesic_sphere(64);
+  REQUIRE(sphere.faces.rows() > 65536);
+  const VolumeMoments one = volume_moments(sphere, 1);
+  for (int threads : {2, 3, 0}) {
+    const VolumeMoments many = volume_moments(sphere, threads);
+    CHECK(many.volume == one.volume);
+    CHECK(many.first == one.first);
+    CHECK(many.second == one.second);
+  }
+  CHECK(one.volume < 4.0 * M_PI / 3.0);
+  CHECK(one.volume == Approx(4.0 * M_PI / 3.0).epsilon(1e-3));
+  CHECK(one.second(0, 0) == Approx(4.0 * M_PI / 15.0).epsilon(2e-3));
+  CHECK(one.second(0, 1) == Approx(0.0).margin(1e-12));
+  const std::vector<DensityRegion> regions{{sphere, 1.0}};
+  CHECK(brillouin_radius(regions, Eigen::Vector3d(0.1, 0, 0), 2) ==
+        brillouin_radius(regions, Eigen::Vector3d(0.1, 0, 0), 1));
+  CHECK(mass_properties(regions, 2).region_volumes.at(0) == one.volume);
+}
