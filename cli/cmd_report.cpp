@@ -1,7 +1,6 @@
 // polystokes report: one self-contained HTML page describing a coefficient set (and its shape, when given).
 #include <fmt/format.h>
 
-#include <ctime>
 #include <memory>
 
 #include "cli_common.h"
@@ -25,15 +24,6 @@ struct ReportOptions {
   std::string output;
 };
 
-std::string utc_now() {
-  const std::time_t now = std::time(nullptr);
-  std::tm tm{};
-  gmtime_r(&now, &tm);
-  char buffer[32];
-  std::strftime(buffer, sizeof buffer, "%Y-%m-%dT%H:%M:%SZ", &tm);
-  return buffer;
-}
-
 void run_report(const ReportOptions& options, const GlobalOptions& global) {
   ReportInput input;
   input.set = read_coefficient_file(options.set);
@@ -49,7 +39,7 @@ void run_report(const ReportOptions& options, const GlobalOptions& global) {
     input.compare_options.tolerance = options.tolerance;
   }
   input.map_radius_factor = options.map_radius;
-  input.generated = std::string("polystokes ") + POLYSTOKES_VERSION + " at " + utc_now();
+  input.generated = std::string("polystokes ") + POLYSTOKES_VERSION + " at " + utc_timestamp();
   const std::string html = make_report(input);
   write_file_atomically(options.output, html);
   if (!global.quiet && options.output != "-")

@@ -1,5 +1,7 @@
 #include "coefficient_set.h"
 
+#include <ctime>
+
 #include "errors.h"
 
 namespace polystokes {
@@ -33,6 +35,15 @@ CoefficientSet make_empty_set(int degree) {
   set.sigma_C = Eigen::MatrixXd::Zero(size, size);
   set.sigma_S = Eigen::MatrixXd::Zero(size, size);
   return set;
+}
+
+std::string utc_timestamp() {
+  const std::time_t now = std::time(nullptr);
+  std::tm tm{};
+  gmtime_r(&now, &tm);  // the reentrant form: std::gmtime shares one buffer between threads
+  char buffer[32];
+  std::strftime(buffer, sizeof buffer, "%Y-%m-%dT%H:%M:%SZ", &tm);
+  return buffer;
 }
 
 }  // namespace polystokes

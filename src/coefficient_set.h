@@ -68,4 +68,8 @@ struct CoefficientSet {
 /// Zero-filled set of the given degree (all four matrices sized).
 CoefficientSet make_empty_set(int degree);
 
+/// The current time in UTC as ISO 8601 "YYYY-MM-DDTHH:MM:SSZ" (whole seconds), for the `created` line of a
+/// set and the provenance of reports.
+std::string utc_timestamp();
+
 }  // namespace polystokes

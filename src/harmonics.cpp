@@ -508,19 +508,6 @@ const char* operational_caution() {
          "and review it under the mission's own procedures before any operational use.";
 }
 
-namespace {
-
-std::string utc_now() {
-  const std::time_t now = std::time(nullptr);
-  std::tm tm{};
-  gmtime_r(&now, &tm);
-  char buffer[32];
-  std::strftime(buffer, sizeof buffer, "%Y-%m-%dT%H:%M:%SZ", &tm);
-  return buffer;
-}
-
-}  // namespace
-
 CoefficientSet compute_coefficients(const std::vector<DensityRegion>& regions,
                                     const ComputeOptions& options) {
   check_degree(options.degree, thread_count(options.execution.threads, SIZE_MAX));
@@ -566,7 +553,7 @@ CoefficientSet compute_coefficients(const std::vector<DensityRegion>& regions,
     info.faces = long(region.mesh.faces.rows());
     set.regions.push_back(info);
   }
-  set.created = std::string("polystokes ") + POLYSTOKES_VERSION + " at " + utc_now();
+  set.created = std::string("polystokes ") + POLYSTOKES_VERSION + " at " + utc_timestamp();
   set.history.push_back(
       fmt::format("computed exactly from {} region(s), degree {}, G = {} m^3 kg^-1 s^-2 (CODATA 2018)",
                   regions.size(), options.degree, gravitational_constant));
