@@ -50,30 +50,42 @@ int row_stride(int degree) {
 // on real and imaginary parts C, S:
 //   C'_k = add + z C_k + x (C_{k-1} - C_{k+1}/4) - y (S_{k-1} + S_{k+1}/4)
 //   S'_k = add + z S_k + x (S_{k-1} - S_{k+1}/4) + y (C_{k-1} + C_{k+1}/4).
+// Balanced: the same step in the basis K_k = H_k / 2^k, where the neighbours enter with equal weights,
+//   C'_k = add + z C_k + (x/2) (C_{k-1} - C_{k+1}) - (y/2) (S_{k-1} + S_{k+1})   (S' likewise),
+// so four of the ten vector operations are plain additions (which some processors issue on a port of their
+// own) instead of multiply-adds. Every intermediate is the H-basis one times an exact power of two, so the
+// results are bit for bit those of the H basis, as long as nothing leaves the normal floating-point range
+// (accumulate_fan_block uses it only at moderate degree).
 // Each block's inputs (orders k-1..k+4) are loaded before the previous block is stored over them. Order -1,
 // needed by order 0, follows from the symmetry f(u + pi) = conj f(u) of every product of l_u's:
-// H_{-1} = -conj(H_1)/4, which keeps S_0 exactly zero.
+// H_{-1} = -conj(H_1)/4 (K_{-1} = -conj(K_1)), which keeps S_0 exactly zero. The row's vertex comes in
+// `coefficients` as x, y, z splatted (x/2, y/2, z when balanced).
 // add_block(b, cre, cim) sets the added term of block b (orders 4b..4b+3); after(b, cre, cim) sees each
 // result.
 // With Blocks > 0, `blocks` equals Blocks and the block loop unrolls completely.
-template <int Blocks, class Add, class After>
+template <int Blocks, bool Balanced, class Add, class After>
 POLYSTOKES_INLINE void step_row(double* re, double* im, const double* coefficients, int blocks,
                                 Add&& add_block, After&& after) {
   const v4 x = load(coefficients), y = load(coefficients + 4), z = load(coefficients + 8);
+  const double weight = Balanced ? 1.0 : 0.25;  // of order k+1 against order k-1
   const v4 quarter = {0.25, 0.25, 0.25, 0.25};
   double* r = re;
   double* s = im;
   // Orders -1, 0, 1, 2 of the first block from orders 0..3.
   typedef long long v4i __attribute__((vector_size(32)));
   const v4i previous = {1, 0, 1, 2};
-  const v4 mirror_re = {-0.25, 1, 1, 1}, mirror_im = {0.25, 1, 1, 1};
+  const v4 mirror_re = {-weight, 1, 1, 1}, mirror_im = {weight, 1, 1, 1};
   v4 c0 = load(r), cp = load(r + 1), s0 = load(s), sp = load(s + 1);
   v4 cm = __builtin_shuffle(c0, previous) * mirror_re, sm = __builtin_shuffle(s0, previous) * mirror_im;
   auto block = [&](int b) {
     v4 cre, cim;
     add_block(b, cre, cim);
-    const v4 p = cm - quarter * cp, t = cm + quarter * cp;
-    const v4 q = sm + quarter * sp, u = sm - quarter * sp;
+    v4 p, t, q, u;
+    if constexpr (Balanced) {
+      p = cm - cp, t = cm + cp, q = sm + sp, u = sm - sp;
+    } else {
+      p = cm - quarter * cp, t = cm + quarter * cp, q = sm + quarter * sp, u = sm - quarter * sp;
+    }
     cre = cre + z * c0;
     cre = cre + x * p;
     cre = cre - y * q;
@@ -118,7 +130,7 @@ struct FanRows {
 // output row (`t_re`, `t_im`); the lanes past order n add exact zeros to the next row (or the slack after the
 // last). With Blocks > 0 the rows have exactly that many blocks, known at compile time, so every block loop
 // unrolls and a centre's fan sums stay in registers; Blocks == 0 takes the count from n.
-template <int Blocks>
+template <int Blocks, bool Balanced>
 POLYSTOKES_INLINE void degree_step(const FanRows& g, int n, double* t_re, double* t_im) {
   const int blocks = Blocks > 0 ? Blocks : (n + 4) / 4;
   const size_t stride = g.stride;
@@ -135,12 +147,12 @@ POLYSTOKES_INLINE void degree_step(const FanRows& g, int n, double* t_re, double
   for (int c = 0; c < centres; ++c) {
     // Sources: s^n = s * s^{n-1}.
     for (int j = 0; j < g.group[2 * c]; ++j, r += 2 * stride, coefficients += 12)
-      step_row<Blocks>(
+      step_row<Blocks, Balanced>(
           r, r + stride, coefficients, blocks, [&](int, v4& cre, v4& cim) { cre = cim = zero; }, nothing);
     // Rim edges: h_n(s, t) = s^n + t h_{n-1}(s, t).
     for (int j = 0; j < g.group[2 * c + 1]; ++j, r += 2 * stride, coefficients += 12, ++add) {
       const double* source = *add;
-      step_row<Blocks>(
+      step_row<Blocks, Balanced>(
           r, r + stride, coefficients, blocks,
           [&](int b, v4& cre, v4& cim) {
             cre = load(source + 4 * b);
@@ -167,7 +179,7 @@ POLYSTOKES_INLINE void degree_step(const FanRows& g, int n, double* t_re, double
           acc_im[b] = acc_im[b] + w * load(rim + stride + 4 * b);
         }
       }
-      step_row<Blocks>(
+      step_row<Blocks, Balanced>(
           r, r + stride, coefficients, blocks,
           [&](int b, v4& cre, v4& cim) {
             cre = acc_re[b];
@@ -175,7 +187,7 @@ POLYSTOKES_INLINE void degree_step(const FanRows& g, int n, double* t_re, double
           },
           after);
     } else {
-      step_row<Blocks>(
+      step_row<Blocks, Balanced>(
           r, r + stride, coefficients, blocks,
           [&](int b, v4& cre, v4& cim) {
             // Two partial sums halve the dependency chain through the fan.
@@ -204,6 +216,37 @@ POLYSTOKES_INLINE void degree_step(const FanRows& g, int n, double* t_re, double
   }
 }
 
+// Degrees 1..degree, each row of sums added to the degree's row of out_re/out_im (triangle layout).
+template <bool Balanced>
+POLYSTOKES_INLINE void degree_loop(const FanRows& g, int degree, double* out_re, double* out_im) {
+  for (int n = 1; n <= degree; ++n) {
+    double* const t_re = out_re + size_t(n) * size_t(n + 1) / 2;
+    double* const t_im = out_im + size_t(n) * size_t(n + 1) / 2;
+    switch ((n + 4) / 4) {
+      case 1:
+        degree_step<1, Balanced>(g, n, t_re, t_im);
+        break;
+      case 2:
+        degree_step<2, Balanced>(g, n, t_re, t_im);
+        break;
+      case 3:
+        degree_step<3, Balanced>(g, n, t_re, t_im);
+        break;
+      case 4:
+        degree_step<4, Balanced>(g, n, t_re, t_im);
+        break;
+      case 5:
+        degree_step<5, Balanced>(g, n, t_re, t_im);
+        break;
+      case 6:
+        degree_step<6, Balanced>(g, n, t_re, t_im);
+        break;
+      default:
+        degree_step<0, Balanced>(g, n, t_re, t_im);
+    }
+  }
+}
+
 // Aligns the workspace to a cache line and returns its start.
 double* aligned_memory(std::vector<double>& memory, size_t doubles) {
   if (memory.size() < doubles + 8) memory.resize(doubles + 8);
@@ -211,9 +254,15 @@ double* aligned_memory(std::vector<double>& memory, size_t doubles) {
   return memory.data() + ((64 - address % 64) % 64) / sizeof(double);
 }
 
+// Up to this degree the rows use the balanced basis (step_row): its smallest entries, about 2^-n times the
+// H-basis ones, stay far inside the normal floating-point range.
+constexpr int balanced_max_degree = 256;
+
+size_t triangle_doubles(int degree) { return size_t(degree + 1) * size_t(degree + 2) / 2 + 8; }
+
 size_t workspace_doubles(int degree, size_t entities, size_t faces) {
   const size_t stride = size_t(row_stride(degree));
-  return entities * 2 * stride + 12 * entities + 4 * faces;
+  return entities * 2 * stride + 12 * entities + 4 * faces + 2 * triangle_doubles(degree);
 }
 
 }  // namespace
@@ -234,6 +283,11 @@ void accumulate_fan_block(const FanDecomposition& fans, const Eigen::Vector3d* l
   double* const coefficients = rows + entities * 2 * stride;  // per slot: x, y, z splatted
   double* const weights = coefficients + 12 * entities;       // per fan face: weight splatted
   auto row = [rows, stride](size_t e) { return rows + e * 2 * stride; };
+  const bool balanced = degree <= balanced_max_degree;
+  // Sums of the centre rows in the balanced basis (unused otherwise).
+  double* const sum_re = weights + 4 * faces;
+  double* const sum_im = sum_re + triangle_doubles(degree);
+  if (balanced) std::fill(sum_re, sum_im + triangle_doubles(degree), 0.0);
 
   std::fill(rows, rows + entities * 2 * stride, 0.0);
   // The schedule (FanRows): the slot of each source and rim edge, and per centre how many of each it adds.
@@ -246,9 +300,11 @@ void accumulate_fan_block(const FanDecomposition& fans, const Eigen::Vector3d* l
   const double** const edge_add = workspace.pointers.data();
   const double** const face_edge = edge_add + edges;
   // Each slot's multiplying vertex: the source itself, the rim edge's other endpoint, the fan centre.
+  const double half = balanced ? 0.5 : 1.0;
   auto splat = [&](int slot, int vertex) {
     const Eigen::Vector3d& p = local[vertex];
-    for (int c = 0; c < 3; ++c) std::fill_n(coefficients + 12 * size_t(slot) + 4 * size_t(c), 4, p[c]);
+    const double xyz[3] = {half * p.x(), half * p.y(), p.z()};
+    for (int c = 0; c < 3; ++c) std::fill_n(coefficients + 12 * size_t(slot) + 4 * size_t(c), 4, xyz[c]);
   };
   int next = 0, scheduled_edges = 0;
   for (int c = 0; c < centres; ++c) {
@@ -280,36 +336,24 @@ void accumulate_fan_block(const FanDecomposition& fans, const Eigen::Vector3d* l
       face_edge[f] = row(size_t(edge_slot[fans.fan_edges[size_t(f)]]));
     }
     row(size_t(next))[0] = weight;
-    out_re[0] += weight;
+    (balanced ? sum_re : out_re)[0] += weight;
     splat(next++, fans.centres[size_t(c)]);
   }
   for (size_t f = 0; f < faces; ++f) std::fill_n(weights + 4 * f, 4, fan_weights[f]);
 
   const FanRows g{fans, rows, stride, coefficients, weights, edge_add, face_edge, group};
-  for (int n = 1; n <= degree; ++n) {
-    double* const t_re = out_re + size_t(n) * size_t(n + 1) / 2;
-    double* const t_im = out_im + size_t(n) * size_t(n + 1) / 2;
-    switch ((n + 4) / 4) {
-      case 1:
-        degree_step<1>(g, n, t_re, t_im);
-        break;
-      case 2:
-        degree_step<2>(g, n, t_re, t_im);
-        break;
-      case 3:
-        degree_step<3>(g, n, t_re, t_im);
-        break;
-      case 4:
-        degree_step<4>(g, n, t_re, t_im);
-        break;
-      case 5:
-        degree_step<5>(g, n, t_re, t_im);
-        break;
-      case 6:
-        degree_step<6>(g, n, t_re, t_im);
-        break;
-      default:
-        degree_step<0>(g, n, t_re, t_im);
+  if (!balanced) {
+    degree_loop<false>(g, degree, out_re, out_im);
+    return;
+  }
+  degree_loop<true>(g, degree, sum_re, sum_im);
+  // Back to the H basis: exact scaling by 2^k.
+  for (int n = 0; n <= degree; ++n) {
+    const size_t offset = size_t(n) * size_t(n + 1) / 2;
+    double scale = 1;
+    for (int k = 0; k <= n; ++k, scale *= 2) {
+      out_re[offset + size_t(k)] += scale * sum_re[offset + size_t(k)];
+      out_im[offset + size_t(k)] += scale * sum_im[offset + size_t(k)];
     }
   }
 }

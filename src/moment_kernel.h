@@ -28,8 +28,8 @@ size_t fan_workspace_bytes(int degree, size_t entities, size_t faces);
 /// rotated, divided by the scale radius: inside the unit ball); `weights` one number per fan face, in
 /// fan_faces order (density * v0 . (v1 x v2), six signed tetrahedron volumes).
 /// re/im need 8 doubles of slack after the last row (lanes past order n add exact zeros there).
-/// Cost per degree n: about 10 (n+1) multiply-adds per product (FanDecomposition::products) plus 2 (n+1) per
-/// face, vectorized over orders.
+/// Cost per degree n: about 10 (n+1) operations per product (FanDecomposition::products; up to degree 256, 4 of
+/// the 10 are additions rather than multiply-adds) plus 2 (n+1) multiply-adds per face, vectorized over orders.
 void accumulate_fan_block(const FanDecomposition& fans, const Eigen::Vector3d* local, const double* weights,
                           int degree, FanWorkspace& workspace, double* re, double* im);
 

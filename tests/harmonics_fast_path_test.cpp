@@ -137,6 +137,24 @@ TEST_CASE("degrees 100 and 150 on small bodies match the reference to 1e-12 rela
   }
 }
 
+TEST_CASE("the two row bases of the kernel agree bit for bit where they meet (degree 256 against 257)",
+          "[harmonics_fast_path]") {
+  // Up to degree 256 the kernel keeps its rows in a basis scaled by 2^-k against the one used above; every
+  // intermediate differs by an exact power of two, so degrees 0..256 of a degree-257 run (the other basis)
+  // must equal a degree-256 run exactly (floating-point scaling by 2^k is exact: IEEE 754, common practice).
+  // The mesh has fewer faces than a block, so both runs sum the same faces in the same order.
+  const Mesh mesh = transformed(make_icosphere(1), Eigen::Vector3d(1.0, 0.8, 0.6).asDiagonal(),
+                                Eigen::Vector3d(0.05, -0.02, 0.01));
+  REQUIRE(mesh.faces.rows() < moment_block_faces(257));
+  std::vector<DensityRegion> regions{{mesh, 1.0}};
+  const HarmonicFrame frame = frame_about(regions, Eigen::Vector3d(0.03, 0.02, -0.01));
+  const HarmonicMoments low = harmonic_moments(regions, frame, 256);
+  const HarmonicMoments high = harmonic_moments(regions, frame, 257);
+  REQUIRE(low.re.allFinite());
+  CHECK(high.re.topLeftCorner(257, 257) == low.re);
+  CHECK(high.im.topLeftCorner(257, 257) == low.im);
+}
+
 TEST_CASE("results are bit-identical for 1, 2 and 3 threads (fixed blocks, block-order reduction)",
           "[harmonics_fast_path]") {
   // 32000 + 2000 faces at degree 12 make several dozen blocks, so threads finish them out of order.
