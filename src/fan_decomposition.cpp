@@ -112,9 +112,9 @@ void FanDecomposer::make_centre(int centre) {
 
 // The rim edge {a, b} of face f: reused when another face through a and b already has it as its rim edge
 // (its centre is its corner other than a and b); the third corners of open faces through a and b are
-// proposed as centres (the next centres of the colour class).
+// proposed as centres (the next centres of the colour class). The scan stops at the first other face: on a
+// manifold mesh it is the only one, and on any other the rest could only add sharing, never change a result.
 inline int FanDecomposer::rim_edge(int face, int a, int b) {
-  int found = -1;
   for (int i = wedge_begin_[size_t(a)]; i < wedge_begin_[size_t(a) + 1]; ++i) {
     const Wedge wedge = wedges_[size_t(i)];
     if (wedge.face == face || (wedge.next != b && wedge.after != b)) continue;
@@ -122,10 +122,10 @@ inline int FanDecomposer::rim_edge(int face, int a, int b) {
     const int edge = face_edge_[size_t(wedge.face)];
     if (edge < 0)
       candidates_.push_back(third);
-    else if (found < 0 && face_centre_[size_t(wedge.face)] == third)
-      found = edge;
+    else if (face_centre_[size_t(wedge.face)] == third)
+      return edge;
+    break;
   }
-  if (found >= 0) return found;
   edge_a_.push_back(a);
   edge_b_.push_back(b);
   return int(edge_a_.size()) - 1;
