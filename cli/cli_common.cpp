@@ -1,5 +1,8 @@
 #include "cli_common.h"
 
+#include <fmt/format.h>
+#include <unistd.h>
+
 #include <algorithm>
 #include <atomic>
 #include <cerrno>
@@ -7,10 +10,9 @@
 #include <cstdio>
 #include <cstring>
 #include <filesystem>
-#include <fmt/format.h>
 #include <sstream>
-#include <unistd.h>
 
+#include "coefficient_file.h"
 #include "errors.h"
 #include "harmonics.h"
 #include "mesh_check.h"
@@ -56,6 +58,83 @@ void check_output_path(const std::string& path) {
 }
 
 LengthUnit parse_unit_option(const std::string& text) { return parse_length_unit(text); }
+
+MeshListOptions add_mesh_list_options(CLI::App* cmd, MeshInputOptions& input) {
+  MeshListOptions added;
+  added.meshes =
+      cmd->add_option("meshes", input.meshes, "Shape mesh(es): .obj, .off, .ply, .stl")->required();
+  added.densities = cmd->add_option("--density", input.densities,
+                                    "Density per mesh in kg/m^3 (repeat or list, in mesh order)")
+                        ->expected(1, -1);
+  return added;
+}
+
+void add_mesh_file_options(CLI::App* cmd, std::string& unit, double& merge_tolerance,
+                           const std::string& unit_help) {
+  cmd->add_option("--unit", unit, unit_help)->check(CLI::IsMember({"m", "km"}))->capture_default_str();
+  add_merge_tolerance_option(cmd, merge_tolerance);
+}
+
+void add_merge_tolerance_option(CLI::App* cmd, double& merge_tolerance) {
+  cmd->add_option("--merge-tolerance", merge_tolerance,
+                  "Merge vertices closer than this (mesh unit); exact duplicates are always merged")
+      ->check(CLI::NonNegativeNumber);
+}
+
+void add_degree_option(CLI::App* cmd, int& degree) {
+  cmd->add_option("--degree", degree, "Maximum degree")->check(CLI::NonNegativeNumber)->capture_default_str();
+}
+
+void add_expansion_options(CLI::App* cmd, ExpansionOptions& expansion) {
+  cmd->add_option("--ref-radius", expansion.reference_radius,
+                  "Reference radius in the mesh unit (default: Brillouin radius about the origin)")
+      ->check(CLI::PositiveNumber);
+  cmd->add_option("--origin", expansion.origin,
+                  "Expansion origin: com (centre of mass) or mesh (mesh origin)")
+      ->check(CLI::IsMember({"com", "mesh"}))
+      ->capture_default_str();
+  cmd->add_option("--frame", expansion.frame, "Axes: mesh or principal (principal axes of inertia)")
+      ->check(CLI::IsMember({"mesh", "principal"}))
+      ->capture_default_str();
+  cmd->add_option("--normalization", expansion.normalization,
+                  "fully (4pi), unnormalized, schmidt or orthonormal")
+      ->check(CLI::IsMember({"fully", "unnormalized", "schmidt", "orthonormal"}))
+      ->capture_default_str();
+  cmd->add_flag("--condon-shortley", expansion.condon_shortley, "Include the (-1)^m Condon-Shortley phase");
+  cmd->add_flag("--zonal-j", expansion.zonal_as_j, "Write zonal terms as J_n = -C_n0");
+  cmd->add_option("--body", expansion.body,
+                  "Body label written into the set (default: first mesh file name)");
+}
+
+ComputeOptions compute_options(const ExpansionOptions& expansion, LengthUnit unit,
+                               const std::string& first_mesh) {
+  ComputeOptions compute;
+  compute.degree = expansion.degree;
+  compute.reference_radius = expansion.reference_radius * meters_per(unit);
+  compute.origin = expansion.origin == "mesh" ? OriginChoice::mesh : OriginChoice::center_of_mass;
+  compute.frame = expansion.frame == "principal" ? FrameChoice::principal : FrameChoice::mesh;
+  compute.convention.normalization = parse_normalization(expansion.normalization);
+  compute.convention.condon_shortley = expansion.condon_shortley;
+  compute.convention.zonal_as_j = expansion.zonal_as_j;
+  compute.body = expansion.body.empty() ? first_mesh : expansion.body;
+  return compute;
+}
+
+void add_set_output_options(CLI::App* cmd, SetOutputOptions& files, const std::string& output_help) {
+  cmd->add_option("-o,--output", files.output, output_help)->required();
+  cmd->add_option("--json", files.json, "Also write the set as JSON to this file");
+}
+
+void write_set_files(const CoefficientSet& set, const SetOutputOptions& files) {
+  write_coefficient_file(set, files.output);
+  if (!files.json.empty()) write_coefficient_json(set, files.json);
+}
+
+void add_threads_option(CLI::App* cmd, int& threads, const std::string& remark) {
+  cmd->add_option("--threads", threads, "Worker threads (0 = all cores)" + remark)
+      ->check(CLI::NonNegativeNumber)
+      ->capture_default_str();
+}
 
 Eigen::Vector3d parse_vector3(const std::string& text, const std::string& what) {
   Eigen::Vector3d v;

@@ -5,11 +5,80 @@
 #include <string>
 #include <vector>
 
+#include "coefficient_set.h"
 #include "commands.h"
+#include "harmonics.h"
 #include "mass_properties.h"
 #include "mesh.h"
 
 namespace polystokes::cli {
+
+// Option groups several commands share: each add_*_options registers its options with one help text, so a
+// shared option reads the same in every command. Options are listed in --help in registration order.
+
+/// Shape meshes given on the command line, one density each, and how their files are read.
+struct MeshInputOptions {
+  std::vector<std::string> meshes;
+  std::vector<double> densities;  ///< kg/m^3, in mesh order
+  std::string unit = "m";         ///< "m" or "km"
+  double merge_tolerance = 0;     ///< in `unit`
+};
+
+/// The options just registered, for a command's own requirements (required(), check()).
+struct MeshListOptions {
+  CLI::Option* meshes;
+  CLI::Option* densities;
+};
+
+/// Registers the positional mesh files "meshes" (required) and --density (a list, one per mesh).
+MeshListOptions add_mesh_list_options(CLI::App* cmd, MeshInputOptions& input);
+
+/// Registers --unit (m or km, default m) with `unit_help`, then --merge-tolerance.
+void add_mesh_file_options(CLI::App* cmd, std::string& unit, double& merge_tolerance,
+                           const std::string& unit_help = "Length unit of the mesh files: m or km");
+
+/// Registers --merge-tolerance alone (for a command whose --unit means something else).
+void add_merge_tolerance_option(CLI::App* cmd, double& merge_tolerance);
+
+/// How an expansion is made from meshes: compute and uncertainty.
+struct ExpansionOptions {
+  int degree = 8;
+  double reference_radius = 0;  ///< mesh unit; 0 = Brillouin radius about the origin
+  std::string origin = "com";   ///< "com" or "mesh"
+  std::string frame = "mesh";   ///< "mesh" or "principal"
+  std::string normalization = "fully";
+  bool condon_shortley = false;
+  bool zonal_as_j = false;
+  std::string body;  ///< empty = the first mesh's file name
+};
+
+/// Registers --degree (the maximum degree of a computed set).
+void add_degree_option(CLI::App* cmd, int& degree);
+
+/// Registers --ref-radius, --origin, --frame, --normalization, --condon-shortley, --zonal-j and --body.
+void add_expansion_options(CLI::App* cmd, ExpansionOptions& expansion);
+
+/// The library's options for `expansion` (lengths given in `unit`; body defaults to `first_mesh`), with the
+/// default execution settings.
+ComputeOptions compute_options(const ExpansionOptions& expansion, LengthUnit unit,
+                               const std::string& first_mesh);
+
+/// A coefficient set to write: -o in our text format, optionally --json as well.
+struct SetOutputOptions {
+  std::string output;
+  std::string json;  ///< empty = none
+};
+
+/// Registers -o,--output (required) with `output_help`, then --json.
+void add_set_output_options(
+    CLI::App* cmd, SetOutputOptions& files,
+    const std::string& output_help = "Coefficient file to write (our text format; - for stdout)");
+
+/// Writes the set to files.output and, if given, as JSON to files.json (each all-or-nothing).
+void write_set_files(const CoefficientSet& set, const SetOutputOptions& files);
+
+/// Registers --threads (0 = all cores, the default); `remark` is appended to the help text.
+void add_threads_option(CLI::App* cmd, int& threads, const std::string& remark = "");
 
 /// Reads a mesh (unit, merge tolerance in the file's unit), runs every mesh check (throws MeshError on the
 /// first failure) and prints the import/check notices on stderr unless quiet.

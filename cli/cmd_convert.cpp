@@ -18,7 +18,8 @@ namespace polystokes::cli {
 namespace {
 
 struct ConvertOptions {
-  std::string input, output, json;
+  std::string input;
+  SetOutputOptions files;
   std::string unit = "m";  // of every length (and GM) given on the command line
   // Target conventions; empty = keep.
   std::string to_normalization, to_condon_shortley, to_zonal;
@@ -111,11 +112,11 @@ void run_convert(const ConvertOptions& options, const GlobalOptions& global) {
   if (!options.to_zonal.empty()) target.zonal_as_j = options.to_zonal == "j";
   if (target != set.convention) set = convert_convention(set, target);
 
-  write_coefficient_file(set, options.output);
-  if (!options.json.empty()) write_coefficient_json(set, options.json);
+  write_set_files(set, options.files);
   for (size_t i = first_new_note; i < set.notes.size(); ++i) print_notice(global, set.notes[i]);
   if (global.quiet) return;
-  std::FILE* out = options.output == "-" || options.json == "-" ? stderr : stdout;
+  const SetOutputOptions& files = options.files;
+  std::FILE* out = files.output == "-" || files.json == "-" ? stderr : stdout;
   fmt::print(out, "polystokes convert: {} ({}, degree {})\n", options.input, set.body, set.degree);
   for (size_t i = first_new_history + 1; i < set.history.size(); ++i)
     fmt::print(out, "  {}\n", set.history[i]);
@@ -125,8 +126,8 @@ void run_convert(const ConvertOptions& options, const GlobalOptions& global) {
   fmt::print(out, "  reference radius   {:.9g} m, GM {:.9g} m^3 s^-2\n", set.reference_radius, set.gm);
   fmt::print(out, "  origin             {} ({:.9g}, {:.9g}, {:.9g}) m in the mesh frame, axes {}\n",
              set.origin, set.origin_in_mesh.x(), set.origin_in_mesh.y(), set.origin_in_mesh.z(), set.frame);
-  fmt::print(out, "  written            {}{}\n", options.output,
-             options.json.empty() ? "" : " and " + options.json);
+  fmt::print(out, "  written            {}{}\n", files.output,
+             files.json.empty() ? "" : " and " + files.json);
 }
 
 }  // namespace
@@ -149,8 +150,7 @@ void setup_convert(CLI::App& app, const GlobalOptions& global) {
   cmd->add_option("input", options->input, "Coefficient set or plain table (- for stdin)")
       ->required()
       ->check(CLI::ExistingFile | CLI::IsMember({"-"}));
-  cmd->add_option("-o,--output", options->output, "Set to write (our text format; - for stdout)")->required();
-  cmd->add_option("--json", options->json, "Also write the set as JSON to this file");
+  add_set_output_options(cmd, options->files);
   cmd->add_option("--unit", options->unit, "Unit of lengths given here (m or km); GM in unit^3 s^-2")
       ->check(CLI::IsMember({"m", "km"}))
       ->capture_default_str();

@@ -147,12 +147,7 @@ void setup_field(CLI::App& app, const GlobalOptions& global) {
       ->required();
   cmd->add_option("--density", options->densities, "Density per mesh in kg/m^3, in mesh order (meshes only)")
       ->expected(1, -1);
-  cmd->add_option("--unit", options->unit, "Length unit of the mesh files: m or km")
-      ->check(CLI::IsMember({"m", "km"}))
-      ->capture_default_str();
-  cmd->add_option("--merge-tolerance", options->merge_tolerance,
-                  "Merge mesh vertices closer than this (mesh unit); exact duplicates are always merged")
-      ->check(CLI::NonNegativeNumber);
+  add_mesh_file_options(cmd, options->unit, options->merge_tolerance);
   cmd->add_option("--degree", options->degree,
                   "Truncate the series at this degree (default: the set's degree)")
       ->check(CLI::NonNegativeNumber);
@@ -161,9 +156,7 @@ void setup_field(CLI::App& app, const GlobalOptions& global) {
       "Points and output vectors in the set's own frame about its expansion origin (default: mesh frame)");
   cmd->add_flag("--gradient", options->gradient,
                 "Add the gravity-gradient columns Txx,Txy,Txz,Tyy,Tyz,Tzz (s^-2)");
-  cmd->add_option("--threads", options->threads, "Worker threads (0 = all cores)")
-      ->check(CLI::NonNegativeNumber)
-      ->capture_default_str();
+  add_threads_option(cmd, options->threads);
   cmd->callback([options, &global]() { run_field(*options, global); });
 }
 

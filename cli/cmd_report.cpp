@@ -61,12 +61,8 @@ void setup_report(CLI::App& app, const GlobalOptions& global) {
   cmd->add_option("--mesh", options->mesh,
                   "Shape mesh of the body (.obj, .off, .ply, .stl), same frame as the set")
       ->check(CLI::ExistingFile);
-  cmd->add_option("--unit", options->unit, "Length unit of the mesh file: m or km")
-      ->check(CLI::IsMember({"m", "km"}))
-      ->capture_default_str();
-  cmd->add_option("--merge-tolerance", options->merge_tolerance,
-                  "Merge mesh vertices closer than this (mesh unit); exact duplicates are always merged")
-      ->check(CLI::NonNegativeNumber);
+  add_mesh_file_options(cmd, options->unit, options->merge_tolerance,
+                        "Length unit of the mesh file: m or km");
   cmd->add_option("--density", options->density,
                   "Density for the mesh's mass properties in kg/m^3 (default: from the set)")
       ->check(CLI::PositiveNumber);

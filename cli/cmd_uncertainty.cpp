@@ -8,7 +8,6 @@
 #include <memory>
 
 #include "cli_common.h"
-#include "coefficient_file.h"
 #include "conventions.h"
 #include "errors.h"
 #include "output_file.h"
@@ -25,18 +24,8 @@ struct InclusionOptions {
 };
 
 struct UncertaintyCommandOptions {
-  std::vector<std::string> meshes;
-  std::vector<double> densities;
-  int degree = 8;
-  std::string unit = "m";
-  double merge_tolerance = 0;
-  double reference_radius = 0;  // mesh unit
-  std::string origin = "com";
-  std::string frame = "mesh";
-  std::string normalization = "fully";
-  bool condon_shortley = false;
-  bool zonal_as_j = false;
-  std::string body;
+  MeshInputOptions input;
+  ExpansionOptions expansion;
   long samples = 100;
   std::uint64_t seed = 1;
   double shape_sigma = 0;         // mesh unit
@@ -47,15 +36,13 @@ struct UncertaintyCommandOptions {
   int lateral_sectors = 42;
   bool preserve_mass = false;
   std::string shard;
-  std::string output;
-  std::string json;
+  SetOutputOptions files;
   int threads = 0;
 };
 
 struct MergeCommandOptions {
   std::vector<std::string> shards;
-  std::string output;
-  std::string json;
+  SetOutputOptions files;
 };
 
 std::function<void(long, long)> progress_printer(const GlobalOptions& global) {
@@ -134,37 +121,26 @@ void print_summary(std::FILE* out, const UncertaintyResult& result) {
              isolated.empty() ? std::string() : "; also degree(s)" + isolated + " (small coefficients)");
 }
 
-void write_outputs(const UncertaintyResult& result, const std::string& output, const std::string& json) {
-  write_coefficient_file(result.set, output);
-  if (!json.empty()) write_coefficient_json(result.set, json);
-}
-
 void run_uncertainty_command(const UncertaintyCommandOptions& options, const GlobalOptions& global) {
   const auto start = std::chrono::steady_clock::now();
-  const LengthUnit unit = parse_unit_option(options.unit);
+  const MeshInputOptions& input = options.input;
+  const SetOutputOptions& files = options.files;
+  const LengthUnit unit = parse_unit_option(input.unit);
   const double u = meters_per(unit);
-  if (options.densities.size() != options.meshes.size())
+  if (input.densities.size() != input.meshes.size())
     throw ConventionError(fmt::format("{} meshes but {} densities: give one --density per mesh, in order",
-                                      options.meshes.size(), options.densities.size()));
+                                      input.meshes.size(), input.densities.size()));
   std::vector<DensityRegion> regions;
-  for (size_t i = 0; i < options.meshes.size(); ++i) {
-    const double density = options.densities[i];
+  for (size_t i = 0; i < input.meshes.size(); ++i) {
+    const double density = input.densities[i];
     if (!std::isfinite(density) || density == 0 || (i == 0 && density < 0))
       throw ConventionError(
           fmt::format("density {} for {} must be finite and non-zero (positive for the first mesh)", density,
-                      options.meshes[i]));
-    regions.push_back({load_checked_mesh(options.meshes[i], unit, options.merge_tolerance, global), density});
+                      input.meshes[i]));
+    regions.push_back({load_checked_mesh(input.meshes[i], unit, input.merge_tolerance, global), density});
   }
 
-  ComputeOptions compute;
-  compute.degree = options.degree;
-  compute.reference_radius = options.reference_radius * u;
-  compute.origin = options.origin == "mesh" ? OriginChoice::mesh : OriginChoice::center_of_mass;
-  compute.frame = options.frame == "principal" ? FrameChoice::principal : FrameChoice::mesh;
-  compute.convention.normalization = parse_normalization(options.normalization);
-  compute.convention.condon_shortley = options.condon_shortley;
-  compute.convention.zonal_as_j = options.zonal_as_j;
-  compute.body = options.body.empty() ? regions.front().mesh.source : options.body;
+  ComputeOptions compute = compute_options(options.expansion, unit, regions.front().mesh.source);
   compute.execution.threads = options.threads;
 
   UncertaintySettings settings;
@@ -181,7 +157,7 @@ void run_uncertainty_command(const UncertaintyCommandOptions& options, const Glo
   std::optional<Shard> shard;
   if (!options.shard.empty()) {
     shard = parse_shard(options.shard);
-    if (!options.json.empty())
+    if (!files.json.empty())
       throw ConventionError("--json needs the merged set: give it to uncertainty-merge");
   }
 
@@ -189,25 +165,25 @@ void run_uncertainty_command(const UncertaintyCommandOptions& options, const Glo
   SampleOptions execution;
   execution.threads = options.threads;
   execution.progress = progress_printer(global);
-  std::FILE* out = options.output == "-" ? stderr : stdout;
+  std::FILE* out = files.output == "-" ? stderr : stdout;
 
   if (shard) {
     const UncertaintyShard part = run_shard(plan, *shard, execution);
-    write_file_atomically(options.output, format_shard_text(part));
+    write_file_atomically(files.output, format_shard_text(part));
     if (global.quiet) return;
     print_settings(out, plan.settings, plan.nominal.body, plan.nominal.degree);
     fmt::print(out, "  shard              {}/{}: {} of the {} samples\n", shard->index, shard->count,
                part.samples.size(), settings.samples);
     fmt::print(out, "  written            {} (combine all {} shards with polystokes uncertainty-merge)\n",
-               options.output, shard->count);
+               files.output, shard->count);
   } else {
     const UncertaintyResult result = run_uncertainty(plan, execution);
-    write_outputs(result, options.output, options.json);
+    write_set_files(result.set, files);
     if (global.quiet) return;
     print_settings(out, plan.settings, plan.nominal.body, plan.nominal.degree);
     print_summary(out, result);
-    fmt::print(out, "  written            {}{}\n", options.output,
-               options.json.empty() ? "" : " and " + options.json);
+    fmt::print(out, "  written            {}{}\n", files.output,
+               files.json.empty() ? "" : " and " + files.json);
   }
   const double seconds = std::chrono::duration<double>(std::chrono::steady_clock::now() - start).count();
   fmt::print(out, "  time               {:.3f} s\n", seconds);
@@ -218,14 +194,15 @@ void run_merge_command(const MergeCommandOptions& options, const GlobalOptions& 
   std::vector<UncertaintyShard> shards;
   for (const auto& path : options.shards) shards.push_back(parse_shard_text(read_file(path), path));
   const UncertaintyResult result = merge_shards(shards, options.shards);
-  write_outputs(result, options.output, options.json);
+  const SetOutputOptions& files = options.files;
+  write_set_files(result.set, files);
   if (global.quiet) return;
-  std::FILE* out = options.output == "-" ? stderr : stdout;
+  std::FILE* out = files.output == "-" ? stderr : stdout;
   print_settings(out, shards.front().settings, result.set.body, result.set.degree);
   fmt::print(out, "  merged             {} shard file(s)\n", shards.size());
   print_summary(out, result);
-  fmt::print(out, "  written            {}{}\n", options.output,
-             options.json.empty() ? "" : " and " + options.json);
+  fmt::print(out, "  written            {}{}\n", files.output,
+             files.json.empty() ? "" : " and " + files.json);
   fmt::print(out, "{}\n", operational_caution());
 }
 
@@ -258,39 +235,14 @@ void setup_uncertainty(CLI::App& app, const GlobalOptions& global) {
       "shard file is written; uncertainty-merge combines all k into the same set as one run.\n"
       "Example: polystokes uncertainty body.obj --unit km --density 1900 --degree 12 --samples 200 --seed 7\n"
       "         --shape-sigma 0.02 --correlation-length 0.3 -o body_sigma.txt");
-  cmd->add_option("meshes", options->meshes, "Shape mesh(es): .obj, .off, .ply, .stl")
-      ->required()
-      ->check(CLI::ExistingFile);
-  cmd->add_option("--density", options->densities,
-                  "Density per mesh in kg/m^3 (repeat or list, in mesh order)")
-      ->required()
-      ->expected(1, -1);
-  cmd->add_option("--degree", options->degree, "Maximum degree")
-      ->check(CLI::NonNegativeNumber)
-      ->capture_default_str();
-  cmd->add_option("--unit", options->unit,
-                  "Length unit of the mesh files and of every length option: m or km")
-      ->check(CLI::IsMember({"m", "km"}))
-      ->capture_default_str();
-  cmd->add_option("--merge-tolerance", options->merge_tolerance,
-                  "Merge vertices closer than this (mesh unit); exact duplicates are always merged")
-      ->check(CLI::NonNegativeNumber);
-  cmd->add_option("--ref-radius", options->reference_radius,
-                  "Reference radius in the mesh unit (default: Brillouin radius about the origin)")
-      ->check(CLI::PositiveNumber);
-  cmd->add_option("--origin", options->origin, "Expansion origin: com (centre of mass) or mesh (mesh origin)")
-      ->check(CLI::IsMember({"com", "mesh"}))
-      ->capture_default_str();
-  cmd->add_option("--frame", options->frame, "Axes: mesh or principal (principal axes of inertia)")
-      ->check(CLI::IsMember({"mesh", "principal"}))
-      ->capture_default_str();
-  cmd->add_option("--normalization", options->normalization,
-                  "fully (4pi), unnormalized, schmidt or orthonormal")
-      ->check(CLI::IsMember({"fully", "unnormalized", "schmidt", "orthonormal"}))
-      ->capture_default_str();
-  cmd->add_flag("--condon-shortley", options->condon_shortley, "Include the (-1)^m Condon-Shortley phase");
-  cmd->add_flag("--zonal-j", options->zonal_as_j, "Write zonal terms as J_n = -C_n0");
-  cmd->add_option("--body", options->body, "Body label written into the set (default: first mesh file name)");
+  // There is no --gm/--mass alternative here: every mesh needs its density.
+  const MeshListOptions mesh_list = add_mesh_list_options(cmd, options->input);
+  mesh_list.meshes->check(CLI::ExistingFile);
+  mesh_list.densities->required();
+  add_degree_option(cmd, options->expansion.degree);
+  add_mesh_file_options(cmd, options->input.unit, options->input.merge_tolerance,
+                        "Length unit of the mesh files and of every length option: m or km");
+  add_expansion_options(cmd, options->expansion);
   cmd->add_option("--samples", options->samples, "Number of Monte Carlo samples (>= 2)")
       ->check(CLI::Range(2L, 100000000L))
       ->capture_default_str();
@@ -316,13 +268,8 @@ void setup_uncertainty(CLI::App& app, const GlobalOptions& global) {
   cmd->add_flag("--preserve-mass", options->preserve_mass,
                 "Keep each sample's mass: the density outside cores and voids is rescaled (GM known)");
   cmd->add_option("--shard", options->shard, "Run only shard i of k (i = 1..k) and write a shard file to -o");
-  cmd->add_option("-o,--output", options->output, "Coefficient file (or shard file with --shard) to write")
-      ->required();
-  cmd->add_option("--json", options->json, "Also write the set as JSON to this file");
-  cmd->add_option("--threads", options->threads,
-                  "Worker threads (0 = all cores); results do not depend on it")
-      ->check(CLI::NonNegativeNumber)
-      ->capture_default_str();
+  add_set_output_options(cmd, options->files, "Coefficient file (or shard file with --shard) to write");
+  add_threads_option(cmd, options->threads, "; results do not depend on it");
   cmd->callback([options, &global]() { run_uncertainty_command(*options, global); });
 
   auto merge_options = std::make_shared<MergeCommandOptions>();
@@ -335,11 +282,7 @@ void setup_uncertainty(CLI::App& app, const GlobalOptions& global) {
   merge->add_option("shards", merge_options->shards, "Shard files, in any order")
       ->required()
       ->check(CLI::ExistingFile);
-  merge
-      ->add_option("-o,--output", merge_options->output,
-                   "Coefficient file to write (our text format; - for stdout)")
-      ->required();
-  merge->add_option("--json", merge_options->json, "Also write the set as JSON to this file");
+  add_set_output_options(merge, merge_options->files);
   merge->callback([merge_options, &global]() { run_merge_command(*merge_options, global); });
 }
 

@@ -110,9 +110,7 @@ void setup_validate(CLI::App& app, const GlobalOptions& global) {
       cmd->add_option("--unit", options->unit,
                       "Length unit of the mesh file: m or km (default: the unit recorded in the set)")
           ->check(CLI::IsMember({"m", "km"}));
-  cmd->add_option("--merge-tolerance", options->merge_tolerance,
-                  "Merge vertices closer than this (mesh unit); exact duplicates are always merged")
-      ->check(CLI::NonNegativeNumber);
+  add_merge_tolerance_option(cmd, options->merge_tolerance);
   cmd->add_option("--radii", options->radii, "Sphere radii as multiples of R_B, comma-separated")
       ->delimiter(',')
       ->capture_default_str();
@@ -125,9 +123,7 @@ void setup_validate(CLI::App& app, const GlobalOptions& global) {
       ->check(CLI::PositiveNumber)
       ->capture_default_str();
   cmd->add_option("--json", options->json, "Also write the report as JSON to this file ('-' for stdout)");
-  cmd->add_option("--threads", options->threads, "Worker threads (0 = all cores)")
-      ->check(CLI::NonNegativeNumber)
-      ->capture_default_str();
+  add_threads_option(cmd, options->threads);
   cmd->callback([options, unit, &global]() { run_validate(*options, unit->count() > 0, global); });
 }
 
