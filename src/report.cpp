@@ -719,7 +719,8 @@ std::string comparison_section(const ReportInput& input) {
   std::string out = "<section id=\"comparison\">\n<h2>Comparison with a second set</h2>\n";
   out += fmt::format(
       "<p>A: this set (<em>{}</em>, degree {}). B: <em>{}</em> from {} (degree {}, {}). Compared "
-      "in A's conventions to degree {}, tolerance {} relative to the larger spectrum.</p>\n",
+      "in A's conventions to degree {}, tolerance {} relative to A's spectrum at each degree (A being the "
+      "reference).</p>\n",
       escape(input.set.body), c.degree_a, escape(b.body), escape(input.other_source), c.degree_b,
       escape(describe(b.convention)), c.degree, short_number(c.tolerance));
   out += std::string("<p class=\"verdict ") + (c.agree ? "agree" : "disagree") + "\">" + escape(c.verdict) +
@@ -737,7 +738,9 @@ std::string comparison_section(const ReportInput& input) {
       rms_a.push_back(d.rms_a);
       rms_b.push_back(d.rms_b);
       difference.push_back(d.rms_difference);
-      threshold.push_back(c.tolerance * std::max(d.rms_a, d.rms_b));
+      // The scale compare_sets judged the degree by, so the line crosses A - B exactly where the verdict
+      // changes (rounding-level differences aside, which agree regardless).
+      threshold.push_back(c.tolerance * d.scale);
     }
     for (const auto* v : {&rms_a, &rms_b, &difference, &threshold})
       range.insert(range.end(), v->begin(), v->end());
@@ -762,8 +765,12 @@ std::string comparison_section(const ReportInput& input) {
         "of B "
         "and of their difference A \u2212 B, fully normalized, against degree n = 2 to {} (log scale). A "
         "degree "
-        "agrees where the difference is below the dashed threshold ({} \u00d7 the larger of the two).{}",
-        c.degree, short_number(c.tolerance),
+        "agrees where the difference is below the dashed threshold, {} \u00d7 the scale it is measured "
+        "against: the RMS of A at that degree, or {} \u00d7 the largest RMS of A from that degree on where "
+        "that is larger (so terms that should vanish are judged against the body's following terms). "
+        "Differences up to {} are rounding and always agree.{}",
+        c.degree, short_number(c.tolerance), short_number(input.compare_options.relative_floor),
+        short_number(input.compare_options.absolute_floor),
         identical ? " The two sets are identical at every degree shown." : "");
     out += "</figcaption>\n</figure>\n";
   }

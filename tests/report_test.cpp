@@ -6,6 +6,7 @@
 #include <fmt/format.h>
 #include <gsl/gsl_fit.h>
 
+#include <Eigen/Dense>
 #include <Eigen/Geometry>
 #include <catch2/catch.hpp>
 #include <cmath>
@@ -60,6 +61,23 @@ std::string section(const std::string& html, const std::string& id) {
   const size_t start = html.find("<section id=\"" + id + "\"");
   if (start == std::string::npos) return {};
   return html.substr(start, html.find("</section>", start) - start);
+}
+
+// Pixel points (x, y) of the plotted series drawn in `color`: the path "M x y L x y ..." the SVG plot writes.
+std::vector<Eigen::Vector2d> series_points(const std::string& svg, const std::string& color) {
+  const size_t style = svg.find("\" fill=\"none\" stroke=\"" + color + "\"");
+  if (style == std::string::npos) return {};
+  const size_t start = svg.rfind("<path d=\"", style) + 9;
+  std::vector<Eigen::Vector2d> points;
+  for (const char* at = svg.c_str() + start; at < svg.c_str() + style;) {
+    while (*at == ' ' || *at == 'M' || *at == 'L') ++at;
+    Eigen::Vector2d p;
+    int used = 0;
+    if (std::sscanf(at, "%lf %lf%n", &p.x(), &p.y(), &used) != 2) break;
+    points.push_back(p);
+    at += used;
+  }
+  return points;
 }
 
 // A lumpy-free but tilted triaxial body with 20480 faces, away from the mesh origin, and its set.
@@ -413,6 +431,77 @@ TEST_CASE("the comparison section plots per-degree differences and names a known
   CHECK(same.find("verdict agree") != std::string::npos);
   CHECK(same.find("identical at every degree") != std::string::npos);
   CHECK(same.find("<h3>Diagnosis</h3>") == std::string::npos);
+}
+
+TEST_CASE(
+    "the comparison plot draws the agreement threshold at tolerance x the scale compare_sets measures each "
+    "degree against, so the difference is below it exactly where compare says the degree agrees",
+    "[report]") {
+  // Consistency between two outputs of the program: the report's plot and compare's per-degree verdicts
+  // (the scale in compare.h). The tilted ellipsoid about its centre of mass has odd degrees at rounding
+  // level, where the scale is the spectrum floor rather than the RMS of A or of B.
+  ReportInput input;
+  input.set = test_body().set;
+  input.other_source = "perturbed.txt";
+  CoefficientSet other = input.set;
+  other.C(3, 1) = 1e-5;       // a term A lacks: differs
+  other.C(5, 1) += 1e-14;     // above rounding, far below tolerance x floor of a vanishing degree: agrees
+  other.C(6, 0) *= 1 + 1e-3;  // differs
+  other.C(8, 4) *= 1 + 1e-9;  // agrees
+  input.other = other;
+  const Comparison c = compare_sets(input.set, other, input.compare_options);
+  const std::string part = section(make_report(input), "comparison");
+  REQUIRE(!part.empty());
+  const auto threshold = series_points(part, "#777777");
+  const auto a = series_points(part, "#1f5fa8");
+  const auto difference = series_points(part, "#c0392b");
+  REQUIRE(threshold.size() == size_t(c.degree - 1));  // degrees 2..degree, every scale is positive
+  REQUIRE(a.size() >= 3);
+  // Degree n at threshold[n - 2]; the other series share its x positions (the same plot's to_x).
+  const auto degree_at = [&](double x) {
+    for (size_t i = 0; i < threshold.size(); ++i)
+      if (std::abs(threshold[i].x() - x) < 0.05) return int(i) + 2;
+    return -1;
+  };
+  // A log axis maps log10(value) linearly to pixels (common practice): the map is fitted by least squares
+  // on A's points, drawn by the same plot and rounded to 0.1 px like the threshold.
+  Eigen::MatrixXd design(a.size(), 2);
+  Eigen::VectorXd pixels(a.size());
+  for (size_t i = 0; i < a.size(); ++i) {
+    const int n = degree_at(a[i].x());
+    REQUIRE(n >= 2);
+    design.row(Eigen::Index(i)) << 1.0, std::log10(c.degrees[size_t(n)].rms_a);
+    pixels(Eigen::Index(i)) = a[i].y();
+  }
+  const Eigen::Vector2d map = design.colPivHouseholderQr().solve(pixels);
+  const auto pixel_of = [&](double value) { return map(0) + map(1) * std::log10(value); };
+  REQUIRE(map(1) < -1);  // pixels grow downwards, more than a pixel per decade
+  bool scale_is_not_the_larger_spectrum = false;
+  for (int n = 2; n <= c.degree; ++n) {
+    const DegreeComparison& d = c.degrees[size_t(n)];
+    const double y = threshold[size_t(n - 2)].y();
+    CAPTURE(n, d.rms_a, d.rms_b, d.scale, y);
+    CHECK(std::abs(y - pixel_of(c.tolerance * d.scale)) < 0.25);
+    if (std::abs(y - pixel_of(c.tolerance * std::max(d.rms_a, d.rms_b))) > 2)
+      scale_is_not_the_larger_spectrum = true;
+  }
+  // The check tells this rule from tolerance x max(RMS A, RMS B): at some degree that one is off the line.
+  CHECK(scale_is_not_the_larger_spectrum);
+  // What the caption says: a degree agrees where A - B is below the dashed line.
+  int agreeing = 0, differing = 0;
+  for (const auto& point : difference) {
+    const int n = degree_at(point.x());
+    REQUIRE(n >= 2);
+    const double line = threshold[size_t(n - 2)].y();
+    CAPTURE(n, point.y(), line);
+    if (std::abs(point.y() - line) < 1) continue;  // too close to tell in pixels
+    CHECK((point.y() > line) == c.degrees[size_t(n)].agrees);
+    ++(c.degrees[size_t(n)].agrees ? agreeing : differing);
+  }
+  CHECK(agreeing >= 1);
+  CHECK(differing >= 1);
+  CHECK(part.find(fmt::format("{:.6g} \u00d7 the scale it is measured against", c.tolerance)) !=
+        std::string::npos);
 }
 
 TEST_CASE("the report refuses sets it cannot describe", "[report]") {
