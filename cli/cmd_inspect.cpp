@@ -1,5 +1,6 @@
 // polystokes inspect: mesh checks and mass properties of one shape.
 #include <fmt/format.h>
+
 #include <memory>
 
 #include "cli_common.h"
@@ -47,7 +48,8 @@ void run_inspect(const InspectOptions& options, const GlobalOptions& global) {
     // check needs no second run of the checks.
     const size_t printed = mesh.notices.size();
     validate_mesh(mesh);
-    for (size_t i = printed; i < mesh.notices.size(); ++i) print_notice(global, options.mesh + ": " + mesh.notices[i]);
+    for (size_t i = printed; i < mesh.notices.size(); ++i)
+      print_notice(global, options.mesh + ": " + mesh.notices[i]);
   }
   if (!print) return;
   const MassProperties props = mass_properties({DensityRegion{mesh, options.density}});
@@ -68,16 +70,17 @@ void run_inspect(const InspectOptions& options, const GlobalOptions& global) {
 
 void setup_inspect(CLI::App& app, const GlobalOptions& global) {
   auto options = std::make_shared<InspectOptions>();
-  auto* cmd = app.add_subcommand("inspect", "Check a shape mesh and print its mass properties.\n"
-                                            "With -q nothing but errors is printed: the exit code says whether the mesh is a valid solid.\n"
-                                            "Example: polystokes inspect shapes-demo/varnek.obj --unit km --density 1900");
+  auto* cmd = app.add_subcommand(
+      "inspect",
+      "Check a shape mesh and print its mass properties.\n"
+      "With -q nothing but errors is printed: the exit code says whether the mesh is a valid solid.\n"
+      "Example: polystokes inspect shapes-demo/varnek.obj --unit km --density 1900");
   cmd->add_option("mesh", options->mesh, "Shape mesh (.obj, .off, .ply, .stl)")->required();
-  cmd->add_option("--unit", options->unit, "Length unit of the mesh file: m or km")
-      ->check(CLI::IsMember({"m", "km"}))->capture_default_str();
-  cmd->add_option("--merge-tolerance", options->merge_tolerance,
-                  "Merge vertices closer than this (mesh unit); exact duplicates are always merged")
-      ->check(CLI::NonNegativeNumber)->capture_default_str();
-  cmd->add_option("--density", options->density, "Bulk density in kg/m^3")->check(CLI::PositiveNumber)->capture_default_str();
+  add_mesh_file_options(cmd, options->unit, options->merge_tolerance,
+                        "Length unit of the mesh file: m or km");
+  cmd->add_option("--density", options->density, "Bulk density in kg/m^3")
+      ->check(CLI::PositiveNumber)
+      ->capture_default_str();
   cmd->callback([options, &global]() { run_inspect(*options, global); });
 }
 

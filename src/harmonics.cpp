@@ -7,7 +7,6 @@
 #include <cmath>
 #include <condition_variable>
 #include <cstdint>
-#include <ctime>
 #include <exception>
 #include <mutex>
 #include <thread>
