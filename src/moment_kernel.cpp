@@ -216,35 +216,24 @@ POLYSTOKES_INLINE void degree_step(const FanRows& g, int n, double* t_re, double
   }
 }
 
+// degree_step with the block count fixed at compile time where it is at most 6 (Blocks tries 1, 2, ...).
+template <bool Balanced, int Blocks = 1>
+POLYSTOKES_INLINE void dispatch_degree_step(const FanRows& g, int n, double* t_re, double* t_im) {
+  if constexpr (Blocks > 6) {
+    degree_step<0, Balanced>(g, n, t_re, t_im);
+  } else if ((n + 4) / 4 == Blocks) {
+    degree_step<Blocks, Balanced>(g, n, t_re, t_im);
+  } else {
+    dispatch_degree_step<Balanced, Blocks + 1>(g, n, t_re, t_im);
+  }
+}
+
 // Degrees 1..degree, each row of sums added to the degree's row of out_re/out_im (triangle layout).
 template <bool Balanced>
 POLYSTOKES_INLINE void degree_loop(const FanRows& g, int degree, double* out_re, double* out_im) {
-  for (int n = 1; n <= degree; ++n) {
-    double* const t_re = out_re + size_t(n) * size_t(n + 1) / 2;
-    double* const t_im = out_im + size_t(n) * size_t(n + 1) / 2;
-    switch ((n + 4) / 4) {
-      case 1:
-        degree_step<1, Balanced>(g, n, t_re, t_im);
-        break;
-      case 2:
-        degree_step<2, Balanced>(g, n, t_re, t_im);
-        break;
-      case 3:
-        degree_step<3, Balanced>(g, n, t_re, t_im);
-        break;
-      case 4:
-        degree_step<4, Balanced>(g, n, t_re, t_im);
-        break;
-      case 5:
-        degree_step<5, Balanced>(g, n, t_re, t_im);
-        break;
-      case 6:
-        degree_step<6, Balanced>(g, n, t_re, t_im);
-        break;
-      default:
-        degree_step<0, Balanced>(g, n, t_re, t_im);
-    }
-  }
+  for (int n = 1; n <= degree; ++n)
+    dispatch_degree_step<Balanced>(g, n, out_re + size_t(n) * size_t(n + 1) / 2,
+                                   out_im + size_t(n) * size_t(n + 1) / 2);
 }
 
 // Aligns the workspace to a cache line and returns its start.
