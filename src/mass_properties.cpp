@@ -11,6 +11,18 @@ namespace polystokes {
 
 namespace {
 
+// range(begin, end) for fixed chunks of [0, count), split over `threads`, results in chunk order: the
+// chunks do not depend on the thread count, so neither does anything summed from them in that order.
+template <class Result, class Range>
+std::vector<Result> chunk_results(Eigen::Index count, int threads, Range&& range) {
+  constexpr Eigen::Index chunk = 1 << 16;
+  const long chunks = long((count + chunk - 1) / chunk);
+  std::vector<Result> results(static_cast<size_t>(chunks));
+  parallel_rows(chunks, threads,
+                [&](long i) { results[size_t(i)] = range(i * chunk, std::min(count, (i + 1) * chunk)); });
+  return results;
+}
+
 // Moments of faces [begin, end). The second moment keeps its six distinct entries: per face,
 //   int x x^T dV = V/20 (sum_k v_k v_k^T + s s^T), s = a + b + c
 // (Tonon 2004, "Explicit exact formulas for the 3-D tetrahedron inertia tensor in terms of its vertex
@@ -48,16 +60,10 @@ VolumeMoments face_range_moments(const Mesh& mesh, Eigen::Index begin, Eigen::In
 }  // namespace
 
 VolumeMoments volume_moments(const Mesh& mesh, int threads) {
-  // Fixed chunks summed in chunk order: the result is the same for any thread count.
-  constexpr Eigen::Index chunk = 1 << 16;
-  const Eigen::Index faces = mesh.faces.rows();
-  const long chunks = long((faces + chunk - 1) / chunk);
-  std::vector<VolumeMoments> partial(size_t(std::max(1L, chunks)));
-  parallel_rows(chunks, threads, [&](long i) {
-    partial[size_t(i)] = face_range_moments(mesh, i * chunk, std::min(faces, (i + 1) * chunk));
-  });
   VolumeMoments moments;
-  for (const auto& p : partial) {
+  for (const auto& p : chunk_results<VolumeMoments>(
+           mesh.faces.rows(), threads,
+           [&](Eigen::Index begin, Eigen::Index end) { return face_range_moments(mesh, begin, end); })) {
     moments.volume += p.volume;
     moments.first += p.first;
     moments.second += p.second;
@@ -97,18 +103,16 @@ MassProperties mass_properties(const std::vector<DensityRegion>& regions, int th
 }
 
 double max_vertex_distance(const Mesh& mesh, const Eigen::Vector3d& origin, int threads) {
-  // A maximum is exact in any order, so the chunks only share the work.
-  constexpr Eigen::Index chunk = 1 << 16;
-  const Eigen::Index count = mesh.vertices.rows();
-  const long chunks = long((count + chunk - 1) / chunk);
-  std::vector<double> partial(size_t(std::max(1L, chunks)), 0.0);
-  parallel_rows(chunks, threads, [&](long i) {
-    double radius = 0;
-    for (Eigen::Index v = i * chunk; v < std::min(count, (i + 1) * chunk); ++v)
-      radius = std::max(radius, (mesh.vertices.row(v).transpose() - origin).squaredNorm());
-    partial[size_t(i)] = radius;
-  });
-  return std::sqrt(*std::max_element(partial.begin(), partial.end()));
+  double radius = 0;  // a maximum is exact in any order
+  for (double r :
+       chunk_results<double>(mesh.vertices.rows(), threads, [&](Eigen::Index begin, Eigen::Index end) {
+         double largest = 0;
+         for (Eigen::Index v = begin; v < end; ++v)
+           largest = std::max(largest, (mesh.vertices.row(v).transpose() - origin).squaredNorm());
+         return largest;
+       }))
+    radius = std::max(radius, r);
+  return std::sqrt(radius);
 }
 
 double brillouin_radius(const std::vector<DensityRegion>& regions, const Eigen::Vector3d& origin,
