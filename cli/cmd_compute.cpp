@@ -95,7 +95,8 @@ std::vector<SummaryRow> summary_rows(const ComputeCommandOptions& options, const
     low.C = set.C.topLeftCorner(3, 3);
     low.S = set.S.topLeftCorner(3, 3);
     const CoefficientSet fully = convert_convention(low, Convention{});
-    rows.push_back({"C20, C22, S22", fmt::format("{:.6e}, {:.6e}, {:.6e}", fully.C(2, 0), fully.C(2, 2), fully.S(2, 2)),
+    rows.push_back({"C20, C22, S22",
+                    fmt::format("{:.6e}, {:.6e}, {:.6e}", fully.C(2, 0), fully.C(2, 2), fully.S(2, 2)),
                     "fully normalized"});
   }
   const SetOutputOptions& files = options.files;
@@ -114,7 +115,8 @@ void run_compute(const ComputeCommandOptions& options, const GlobalOptions& glob
   check_output_path(files.output);
   if (!files.json.empty()) check_output_path(files.json);
   // Refused before any mesh is read: the tables, partial sums and written text of this degree.
-  const int threads = options.threads > 0 ? options.threads : int(std::max(1u, std::thread::hardware_concurrency()));
+  const int threads =
+      options.threads > 0 ? options.threads : int(std::max(1u, std::thread::hardware_concurrency()));
   const double run_bytes = coefficient_run_bytes(degree, threads, !files.json.empty());
   require_memory(run_bytes,
                  fmt::format("computing and writing a set of degree {} on {} thread(s)", degree, threads));
@@ -137,9 +139,9 @@ void run_compute(const ComputeCommandOptions& options, const GlobalOptions& glob
       if (fraction >= 1.0) std::fprintf(stderr, "\n");
     };
   }
-  const MassProperties props = mass_properties(regions);
   const auto compute_start = std::chrono::steady_clock::now();
-  const CoefficientSet set = compute_coefficients(regions, compute);
+  const MassProperties props = mass_properties(regions, compute.execution.threads);
+  const CoefficientSet set = compute_coefficients(regions, props, compute);
   print_verbose(global, 1, fmt::format("coefficients computed in {:.3f} s", elapsed_since(compute_start)));
 
   {
@@ -165,12 +167,16 @@ void setup_compute(CLI::App& app, const GlobalOptions& global) {
       "compute",
       "Exact constant-density Stokes coefficients of one or more shape meshes.\n"
       "Several meshes are superposed, each with its own --density (negative for a void inside the first).\n"
-      "Example: polystokes compute shapes-demo/varnek.obj --unit km --density 1900 --degree 16 -o varnek.txt\n"
-      "         polystokes compute outer.obj core.obj --density 1800 700 --degree 12 -o layered.txt --json layered.json");
+      "Example: polystokes compute shapes-demo/varnek.obj --unit km --density 1900 --degree 16 -o "
+      "varnek.txt\n"
+      "         polystokes compute outer.obj core.obj --density 1800 700 --degree 12 -o layered.txt --json "
+      "layered.json");
   // Missing mesh files are refused in run_compute, as bad input rather than a usage error.
   add_mesh_list_options(cmd, options->input);
-  cmd->add_option("--gm", options->gm, "Total GM in m^3 s^-2 instead of a density (single mesh)")->check(CLI::PositiveNumber);
-  cmd->add_option("--mass", options->mass, "Total mass in kg instead of a density (single mesh)")->check(CLI::PositiveNumber);
+  cmd->add_option("--gm", options->gm, "Total GM in m^3 s^-2 instead of a density (single mesh)")
+      ->check(CLI::PositiveNumber);
+  cmd->add_option("--mass", options->mass, "Total mass in kg instead of a density (single mesh)")
+      ->check(CLI::PositiveNumber);
   add_degree_option(cmd, options->expansion.degree);
   add_mesh_file_options(cmd, options->input.unit, options->input.merge_tolerance);
   add_expansion_options(cmd, options->expansion);

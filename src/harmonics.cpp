@@ -507,14 +507,19 @@ const char* operational_caution() {
          "and review it under the mission's own procedures before any operational use.";
 }
 
-CoefficientSet compute_coefficients(const std::vector<DensityRegion>& regions,
-                                    const ComputeOptions& options) {
+namespace {
+
+// Refuses a request before any pass over the meshes.
+void check_compute_request(const std::vector<DensityRegion>& regions, const ComputeOptions& options) {
   check_degree(options.degree, thread_count(options.execution.threads, SIZE_MAX));
   if (regions.empty()) throw ConventionError("no mesh given");
   if (options.reference_radius < 0 || !std::isfinite(options.reference_radius))
     throw ConventionError("reference radius must be positive");
-  const MassProperties props = mass_properties(regions, options.execution.threads);
+}
 
+// compute_coefficients for a checked request and the regions' mass properties.
+CoefficientSet coefficients_with(const std::vector<DensityRegion>& regions, const MassProperties& props,
+                                 const ComputeOptions& options) {
   HarmonicFrame frame;
   frame.origin =
       options.origin == OriginChoice::center_of_mass ? props.center_of_mass : Eigen::Vector3d::Zero();
@@ -565,6 +570,22 @@ CoefficientSet compute_coefficients(const std::vector<DensityRegion>& regions,
       options.convention.zonal_as_j)
     set = convert_convention(set, options.convention);
   return set;
+}
+
+}  // namespace
+
+CoefficientSet compute_coefficients(const std::vector<DensityRegion>& regions,
+                                    const ComputeOptions& options) {
+  check_compute_request(regions, options);
+  return coefficients_with(regions, mass_properties(regions, options.execution.threads), options);
+}
+
+CoefficientSet compute_coefficients(const std::vector<DensityRegion>& regions, const MassProperties& props,
+                                    const ComputeOptions& options) {
+  check_compute_request(regions, options);
+  if (props.region_volumes.size() != regions.size())
+    throw ConventionError("mass properties given for a different number of regions");
+  return coefficients_with(regions, props, options);
 }
 
 }  // namespace polystokes

@@ -86,6 +86,12 @@ struct ComputeOptions {
 /// max_moment_degree.
 CoefficientSet compute_coefficients(const std::vector<DensityRegion>& regions, const ComputeOptions& options);
 
+/// The same with the regions' mass properties already computed (mass_properties(regions)), for a caller that
+/// needs them too: saves one pass over the meshes. Throws ConventionError if `props` has not one volume per
+/// region.
+CoefficientSet compute_coefficients(const std::vector<DensityRegion>& regions, const MassProperties& props,
+                                    const ComputeOptions& options);
+
 /// Fully normalized coefficients from moments: C + iS = Q_nm (Rs/R)^n / (M (2n+1)).
 void moments_to_coefficients(const HarmonicMoments& moments, double mass, double reference_radius,
                              CoefficientSet& set);

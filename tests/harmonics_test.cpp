@@ -289,6 +289,24 @@ TEST_CASE("a concentric spherical void leaves only degree 0 and reduces GM by th
     for (int m = 0; m <= n; ++m) CHECK_THAT(shell.C(n, m), WithinAbs(0.0, 2e-4));
 }
 
+TEST_CASE("given mass properties give the same set as computing them, and must match the regions",
+          "[harmonics]") {
+  // The superposed pair of the test above (superposition of the Newtonian potential, common practice).
+  const std::vector<DensityRegion> regions{
+      {make_ellipsoid(3, 1.0, 0.8, 0.6), 1500.0},
+      {transformed(make_ellipsoid(3, 0.7, 0.5, 0.5), Eigen::Matrix3d::Identity(), Eigen::Vector3d(2.5, 0.4, -0.3)),
+       1500.0}};
+  ComputeOptions options;
+  options.degree = 8;
+  const CoefficientSet own = compute_coefficients(regions, options);
+  const CoefficientSet given = compute_coefficients(regions, mass_properties(regions), options);
+  CHECK(given.C == own.C);
+  CHECK(given.S == own.S);
+  CHECK(given.gm == own.gm);
+  CHECK(given.regions.at(1).volume == own.regions.at(1).volume);
+  CHECK_THROWS_AS(compute_coefficients(regions, mass_properties({regions.front()}), options), ConventionError);
+}
+
 TEST_CASE("results do not depend on the thread count (fixed chunking and reduction order)", "[harmonics]") {
   const std::vector<DensityRegion> regions{{make_ellipsoid(5, 3, 2, 1), 1.0}};
   HarmonicFrame frame;
