@@ -234,38 +234,32 @@ class Comparer {
       sum_y += y;
       ++count;
     }
-    if (sum_nn > 0) {
-      auto with_radius = [&](double t) {
+    // A candidate that scales one declared number of B by e^t, t fitted from `start`.
+    auto scale_candidate = [&](const char* kind, double CoefficientSet::*field, double start, auto describe) {
+      auto with_factor = [&](double t) {
         CoefficientSet scaled = b;
-        scaled.reference_radius = b.reference_radius * std::exp(t);
-        return scaled;
-      };
-      const double t = refine(sum_ny / sum_nn,
-                              [&](double x) { return stats_of_raw(with_radius(x), fit_degree()).misfit; });
-      const double k = std::exp(t);
-      out.push_back(
-          judge("radius",
-                fmt::format("B's coefficients refer to a reference radius {:.9g} times the declared one, "
-                            "i.e. {:.9g} m instead of {:.9g} m",
-                            k, k * b.reference_radius, b.reference_radius),
-                k, with_radius(t)));
-    }
-    if (count > 0) {
-      auto with_gm = [&](double t) {
-        CoefficientSet scaled = b;
-        scaled.gm = b.gm * std::exp(t);
+        scaled.*field = b.*field * std::exp(t);
         return scaled;
       };
       const double t =
-          refine(sum_y / count, [&](double x) { return stats_of_raw(with_gm(x), fit_degree()).misfit; });
-      const double g = std::exp(t);
-      out.push_back(
-          judge("gm",
-                fmt::format("B's coefficients are scaled for a GM {:.9g} times the declared one, i.e. "
-                            "{:.9g} instead of {:.9g} m^3 s^-2",
-                            g, g * b.gm, b.gm),
-                g, with_gm(t)));
-    }
+          refine(start, [&](double x) { return stats_of_raw(with_factor(x), fit_degree()).misfit; });
+      const double factor = std::exp(t);
+      out.push_back(judge(kind, describe(factor), factor, with_factor(t)));
+    };
+    if (sum_nn > 0)
+      scale_candidate("radius", &CoefficientSet::reference_radius, sum_ny / sum_nn, [&](double k) {
+        return fmt::format(
+            "B's coefficients refer to a reference radius {:.9g} times the declared one, "
+            "i.e. {:.9g} m instead of {:.9g} m",
+            k, k * b.reference_radius, b.reference_radius);
+      });
+    if (count > 0)
+      scale_candidate("gm", &CoefficientSet::gm, sum_y / count, [&](double g) {
+        return fmt::format(
+            "B's coefficients are scaled for a GM {:.9g} times the declared one, i.e. "
+            "{:.9g} instead of {:.9g} m^3 s^-2",
+            g, g * b.gm, b.gm);
+      });
     {
       CoefficientSet flipped = b;
       flipped.S = -b.S;
