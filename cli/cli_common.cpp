@@ -24,12 +24,17 @@ void print_notice(const GlobalOptions& global, const std::string& text) {
   if (!global.quiet) std::fprintf(stderr, "polystokes: note: %s\n", text.c_str());
 }
 
-Mesh load_checked_mesh(const std::string& path, LengthUnit unit, double merge_tolerance,
-                       const GlobalOptions& global) {
-  MeshReadOptions options;
-  options.unit = unit;
-  options.merge_tolerance = merge_tolerance;
-  Mesh mesh = read_mesh(path, options);
+void print_warning(const std::string& text) { std::fprintf(stderr, "polystokes: warning: %s\n", text.c_str()); }
+
+void record_warnings(CoefficientSet& set, const std::vector<std::string>& warnings) {
+  for (const std::string& warning : warnings) {
+    set.notes.push_back("Warning: " + warning);
+    print_warning(warning);
+  }
+}
+
+Mesh load_checked_mesh(const std::string& path, const MeshReadOptions& read, const GlobalOptions& global) {
+  Mesh mesh = read_mesh(path, read);
   validate_mesh(mesh);
   for (const auto& notice : mesh.notices) print_notice(global, path + ": " + notice);
   return mesh;
@@ -59,39 +64,89 @@ void check_output_path(const std::string& path) {
 
 LengthUnit parse_unit_option(const std::string& text) { return parse_length_unit(text); }
 
+MeshReadOptions mesh_read_options(const MeshInputOptions& input) {
+  MeshReadOptions read;
+  read.unit = parse_unit_option(input.unit);
+  read.merge_tolerance =
+      option_quantity(input.merge_tolerance, QuantityKind::length, read.unit, "--merge-tolerance",
+                      Bound::non_negative)
+          .value /
+      meters_per(read.unit);
+  return read;
+}
+
+std::vector<Quantity> mesh_densities(const MeshInputOptions& input) {
+  if (input.densities.size() != input.meshes.size())
+    throw ConventionError(fmt::format("{} meshes but {} densities: give one --density per mesh, in order",
+                                      input.meshes.size(), input.densities.size()));
+  std::vector<Quantity> densities;
+  for (size_t i = 0; i < input.densities.size(); ++i) {
+    const Quantity density =
+        option_quantity(input.densities[i], QuantityKind::density, LengthUnit::meter, "--density");
+    if (density.value == 0)
+      throw ConventionError(fmt::format("--density: density 0 for {} is not allowed (a region needs a "
+                                        "non-zero density or contrast)",
+                                        input.meshes[i]));
+    if (i == 0 && density.value < 0)
+      throw ConventionError(fmt::format("--density: the first (outer) mesh {} needs a positive density, got {}",
+                                        input.meshes[i], describe_quantity(density, QuantityKind::density)));
+    densities.push_back(density);
+  }
+  return densities;
+}
+
+std::vector<DensityRegion> load_regions(const MeshInputOptions& input, const GlobalOptions& global) {
+  const std::vector<Quantity> densities = mesh_densities(input);
+  const MeshReadOptions read = mesh_read_options(input);
+  std::vector<DensityRegion> regions;
+  for (size_t i = 0; i < input.meshes.size(); ++i)
+    regions.push_back({load_checked_mesh(input.meshes[i], read, global), densities[i].value});
+  return regions;
+}
+
 MeshListOptions add_mesh_list_options(CLI::App* cmd, MeshInputOptions& input) {
   MeshListOptions added;
   added.meshes =
       cmd->add_option("meshes", input.meshes, "Shape mesh(es): .obj, .off, .ply, .stl")->required();
   added.densities = cmd->add_option("--density", input.densities,
-                                    "Density per mesh in kg/m^3 (repeat or list, in mesh order)")
+                                    "Density per mesh (repeat or list, in mesh order; bare: kg/m^3, or with "
+                                    "kg/m3, g/cm3)")
+                        ->check(quantity_syntax(QuantityKind::density))
                         ->expected(1, -1);
   return added;
 }
 
-void add_mesh_file_options(CLI::App* cmd, std::string& unit, double& merge_tolerance,
+void add_mesh_file_options(CLI::App* cmd, std::string& unit, std::string& merge_tolerance,
                            const std::string& unit_help) {
   cmd->add_option("--unit", unit, unit_help)->check(CLI::IsMember({"m", "km"}))->capture_default_str();
   add_merge_tolerance_option(cmd, merge_tolerance);
 }
 
-void add_merge_tolerance_option(CLI::App* cmd, double& merge_tolerance) {
-  cmd->add_option("--merge-tolerance", merge_tolerance,
-                  "Merge vertices closer than this (mesh unit); exact duplicates are always merged")
-      ->check(CLI::NonNegativeNumber);
+void add_merge_tolerance_option(CLI::App* cmd, std::string& merge_tolerance) {
+  add_quantity_option(cmd, "--merge-tolerance", merge_tolerance, QuantityKind::length,
+                      "Merge vertices closer than this; exact duplicates are always merged")
+      ->capture_default_str();
 }
 
 void add_degree_option(CLI::App* cmd, int& degree) {
-  cmd->add_option("--degree", degree, "Maximum degree")->check(CLI::NonNegativeNumber)->capture_default_str();
+  cmd->add_option("--degree", degree, "Maximum degree")
+      ->check(strict_integer())
+      ->check(CLI::NonNegativeNumber)
+      ->capture_default_str();
 }
 
 void add_expansion_options(CLI::App* cmd, ExpansionOptions& expansion) {
-  cmd->add_option("--ref-radius", expansion.reference_radius,
-                  "Reference radius in the mesh unit (default: Brillouin radius about the origin)")
-      ->check(CLI::PositiveNumber);
+  add_quantity_option(cmd, "--ref-radius", expansion.reference_radius, QuantityKind::length,
+                      "Reference radius (default: Brillouin radius about the origin)");
   cmd->add_option("--origin", expansion.origin,
-                  "Expansion origin: com (centre of mass) or mesh (mesh origin)")
-      ->check(CLI::IsMember({"com", "mesh"}))
+                  "Expansion origin: com (centre of mass), mesh (mesh origin) or a point x,y,z in the mesh "
+                  "frame (bare: --unit; or each with m, km)")
+      ->check(CLI::Validator(
+          [](std::string& text) {
+            return text == "com" || text == "mesh" ? std::string()
+                                                   : quantity_syntax_error(text, QuantityKind::length, true);
+          },
+          "com|mesh|X,Y,Z", "origin"))
       ->capture_default_str();
   cmd->add_option("--frame", expansion.frame, "Axes: mesh or principal (principal axes of inertia)")
       ->check(CLI::IsMember({"mesh", "principal"}))
@@ -110,8 +165,18 @@ ComputeOptions compute_options(const ExpansionOptions& expansion, LengthUnit uni
                                const std::string& first_mesh) {
   ComputeOptions compute;
   compute.degree = expansion.degree;
-  compute.reference_radius = expansion.reference_radius * meters_per(unit);
-  compute.origin = expansion.origin == "mesh" ? OriginChoice::mesh : OriginChoice::center_of_mass;
+  if (!expansion.reference_radius.empty())
+    compute.reference_radius =
+        option_quantity(expansion.reference_radius, QuantityKind::length, unit, "--ref-radius", Bound::positive)
+            .value;
+  if (expansion.origin == "com") {
+    compute.origin = OriginChoice::center_of_mass;
+  } else if (expansion.origin == "mesh") {
+    compute.origin = OriginChoice::mesh;
+  } else {
+    compute.origin = OriginChoice::point;
+    compute.origin_point = option_point(expansion.origin, unit, "--origin");
+  }
   compute.frame = expansion.frame == "principal" ? FrameChoice::principal : FrameChoice::mesh;
   compute.convention.normalization = parse_normalization(expansion.normalization);
   compute.convention.condon_shortley = expansion.condon_shortley;
@@ -132,29 +197,9 @@ void write_set_files(const CoefficientSet& set, const SetOutputOptions& files) {
 
 void add_threads_option(CLI::App* cmd, int& threads, const std::string& remark) {
   cmd->add_option("--threads", threads, "Worker threads (0 = all cores)" + remark)
+      ->check(strict_integer())
       ->check(CLI::NonNegativeNumber)
       ->capture_default_str();
-}
-
-Eigen::Vector3d parse_vector3(const std::string& text, const std::string& what) {
-  Eigen::Vector3d v;
-  std::stringstream stream(text);
-  std::string item;
-  int count = 0;
-  while (std::getline(stream, item, ',')) {
-    if (count >= 3) break;
-    try {
-      size_t used = 0;
-      v[count] = std::stod(item, &used);
-      if (used != item.size()) throw std::invalid_argument(item);
-    } catch (const std::exception&) {
-      throw ConventionError(what + ": '" + text + "' is not three comma-separated numbers");
-    }
-    ++count;
-  }
-  if (count != 3 || std::getline(stream, item, ','))
-    throw ConventionError(what + ": '" + text + "' is not three comma-separated numbers");
-  return v;
 }
 
 void print_verbose(const GlobalOptions& global, int level, const std::string& text) {

@@ -10,6 +10,8 @@
 #include "harmonics.h"
 #include "mass_properties.h"
 #include "mesh.h"
+#include "mesh_io.h"
+#include "quantity_options.h"
 
 namespace polystokes::cli {
 
@@ -19,10 +21,21 @@ namespace polystokes::cli {
 /// Shape meshes given on the command line, one density each, and how their files are read.
 struct MeshInputOptions {
   std::vector<std::string> meshes;
-  std::vector<double> densities;  ///< kg/m^3, in mesh order
-  std::string unit = "m";         ///< "m" or "km"
-  double merge_tolerance = 0;     ///< in `unit`
+  std::vector<std::string> densities;  ///< density quantities as given, in mesh order
+  std::string unit = "m";              ///< "m" or "km"
+  std::string merge_tolerance = "0";   ///< length quantity as given
 };
+
+/// The mesh unit and merge tolerance of `input` interpreted.
+MeshReadOptions mesh_read_options(const MeshInputOptions& input);
+
+/// The densities of `input` interpreted: one per mesh, finite and non-zero, the first (outer) one positive;
+/// throws ConventionError otherwise.
+std::vector<Quantity> mesh_densities(const MeshInputOptions& input);
+
+/// Reads and checks every mesh of `input` (load_checked_mesh) and pairs it with its density.
+std::vector<DensityRegion> load_regions(const MeshInputOptions& input, const GlobalOptions& global);
+
 
 /// The options just registered, for a command's own requirements (required(), check()).
 struct MeshListOptions {
@@ -34,17 +47,18 @@ struct MeshListOptions {
 MeshListOptions add_mesh_list_options(CLI::App* cmd, MeshInputOptions& input);
 
 /// Registers --unit (m or km, default m) with `unit_help`, then --merge-tolerance.
-void add_mesh_file_options(CLI::App* cmd, std::string& unit, double& merge_tolerance,
-                           const std::string& unit_help = "Length unit of the mesh files: m or km");
+void add_mesh_file_options(CLI::App* cmd, std::string& unit, std::string& merge_tolerance,
+                           const std::string& unit_help = "Length unit of the mesh files and of every bare "
+                                                          "length given here: m or km");
 
 /// Registers --merge-tolerance alone (for a command whose --unit means something else).
-void add_merge_tolerance_option(CLI::App* cmd, double& merge_tolerance);
+void add_merge_tolerance_option(CLI::App* cmd, std::string& merge_tolerance);
 
 /// How an expansion is made from meshes: compute and uncertainty.
 struct ExpansionOptions {
   int degree = 8;
-  double reference_radius = 0;  ///< mesh unit; 0 = Brillouin radius about the origin
-  std::string origin = "com";   ///< "com" or "mesh"
+  std::string reference_radius;  ///< length quantity as given; empty = Brillouin radius about the origin
+  std::string origin = "com";    ///< "com", "mesh" or a point x,y,z (lengths)
   std::string frame = "mesh";   ///< "mesh" or "principal"
   std::string normalization = "fully";
   bool condon_shortley = false;
@@ -82,10 +96,16 @@ void add_threads_option(CLI::App* cmd, int& threads, const std::string& remark =
 
 /// Reads a mesh (unit, merge tolerance in the file's unit), runs every mesh check (throws MeshError on the
 /// first failure) and prints the import/check notices on stderr unless quiet.
-Mesh load_checked_mesh(const std::string& path, LengthUnit unit, double merge_tolerance, const GlobalOptions& global);
+Mesh load_checked_mesh(const std::string& path, const MeshReadOptions& read, const GlobalOptions& global);
 
 /// Prints "polystokes: note: TEXT" on stderr unless quiet.
 void print_notice(const GlobalOptions& global, const std::string& text);
+
+/// Prints "polystokes: warning: TEXT" on stderr, even when quiet: a warning is never silent.
+void print_warning(const std::string& text);
+
+/// Records each warning in the set's notes ("Warning: TEXT") and prints it (print_warning).
+void record_warnings(CoefficientSet& set, const std::vector<std::string>& warnings);
 
 /// Refuses, before any work, an input path that cannot be read: FormatError "PATH: cannot read: ..." when
 /// it is missing or a directory ("-", standard input, passes). Called from a command's run, after parsing,
@@ -101,8 +121,6 @@ void check_output_path(const std::string& path);
 /// CLI11 validator/transformer for "m" / "km".
 LengthUnit parse_unit_option(const std::string& text);
 
-/// "a,b,c" -> vector; throws ConventionError naming `what` on a malformed list.
-Eigen::Vector3d parse_vector3(const std::string& text, const std::string& what);
 
 /// Prints "polystokes: TEXT" on stderr when -v was given at least `level` times (and not -q).
 void print_verbose(const GlobalOptions& global, int level, const std::string& text);

@@ -70,14 +70,17 @@ void setup_compare(CLI::App& app, const GlobalOptions& global) {
   cmd->add_option("b", options->b, "Set B, compared with A")->required()->check(CLI::ExistingFile);
   cmd->add_option("--tolerance", options->tolerance,
                   "Relative RMS difference per degree counted as agreement")
+      ->check(strict_number())
       ->check(CLI::NonNegativeNumber)
       ->capture_default_str();
   cmd->add_flag("--frame", options->frame,
                 "Also bring B to A's origin and axes (both recorded against the same mesh)");
   cmd->add_option("--max-degree", options->max_degree,
                   "Highest degree compared (default: the smaller degree)")
+      ->check(strict_integer())
       ->check(CLI::NonNegativeNumber);
   cmd->add_option("--largest", options->largest, "How many largest single differences to list")
+      ->check(strict_integer())
       ->check(CLI::NonNegativeNumber)
       ->capture_default_str();
   cmd->add_flag("--no-diagnosis", options->no_diagnosis, "Do not test explanations of a difference");

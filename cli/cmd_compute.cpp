@@ -12,55 +12,99 @@
 #include "errors.h"
 #include "harmonics.h"
 #include "memory_budget.h"
+#include "plausibility.h"
 
 namespace polystokes::cli {
 namespace {
 
 struct ComputeCommandOptions {
   MeshInputOptions input;
-  double gm = 0;
-  double mass = 0;
+  std::string gm;    ///< GM quantity as given; empty = not given
+  std::string mass;  ///< mass quantity as given; empty = not given
   ExpansionOptions expansion;
   SetOutputOptions files;
   int threads = 0;
 };
 
-std::vector<double> resolve_densities(const ComputeCommandOptions& options, const std::vector<Mesh>& meshes) {
-  const std::vector<double>& densities = options.input.densities;
-  const int given = int(!densities.empty()) + int(options.gm > 0) + int(options.mass > 0);
+/// The density of every region, from --density or (one mesh) from --gm or --mass, with the inputs as
+/// interpreted appended to `echo` for the summary and the set's history.
+std::vector<double> resolve_densities(const ComputeCommandOptions& options, const std::vector<Mesh>& meshes,
+                                      std::vector<SummaryRow>& echo) {
+  const MeshInputOptions& input = options.input;
+  const int given = int(!input.densities.empty()) + int(!options.gm.empty()) + int(!options.mass.empty());
   if (given != 1) throw ConventionError("give exactly one of --density, --gm, --mass");
-  if (!densities.empty()) {
-    if (densities.size() != meshes.size())
-      throw ConventionError(fmt::format("{} meshes but {} densities: give one --density per mesh, in order",
-                                        meshes.size(), densities.size()));
-    for (size_t i = 0; i < meshes.size(); ++i) {
-      if (!std::isfinite(densities[i]) || densities[i] == 0)
-        throw ConventionError(
-            fmt::format("density {} for {} is not a finite non-zero number", densities[i], meshes[i].source));
-      if (i == 0 && densities[i] < 0)
-        throw ConventionError(
-            fmt::format("density of the first (outer) mesh {} must be positive, got {} kg/m^3",
-                        meshes[i].source, densities[i]));
+  if (!input.densities.empty()) {
+    std::vector<double> densities;
+    const std::vector<Quantity> quantities = mesh_densities(input);
+    for (size_t i = 0; i < quantities.size(); ++i) {
+      echo.push_back({fmt::format("density {}", i + 1), describe_quantity(quantities[i], QuantityKind::density),
+                      meshes[i].source});
+      densities.push_back(quantities[i].value);
     }
     return densities;
   }
   if (meshes.size() != 1) throw ConventionError("--gm/--mass need a single mesh; give --density per region");
-  const double mass = options.mass > 0 ? options.mass : options.gm / gravitational_constant;
-  const double volume = volume_moments(meshes.front()).volume;
-  return {mass / volume};
+  double mass = 0;
+  if (!options.gm.empty()) {
+    const Quantity gm = option_quantity(options.gm, QuantityKind::gm, LengthUnit::meter, "--gm", Bound::positive);
+    echo.push_back({"GM", describe_quantity(gm, QuantityKind::gm), ""});
+    mass = gm.value / gravitational_constant;
+  } else {
+    const Quantity given_mass =
+        option_quantity(options.mass, QuantityKind::mass, LengthUnit::meter, "--mass", Bound::positive);
+    echo.push_back({"mass", describe_quantity(given_mass, QuantityKind::mass), ""});
+    mass = given_mass.value;
+  }
+  const double density = mass / volume_moments(meshes.front()).volume;
+  echo.push_back({"density 1", fmt::format("{} kg m^-3", density), "implied: mass / volume"});
+  return {density};
 }
 
 double elapsed_since(std::chrono::steady_clock::time_point start) {
   return std::chrono::duration<double>(std::chrono::steady_clock::now() - start).count();
 }
 
+/// The options as interpreted, for the summary and the set's history: the bare-length unit and every length
+/// given (mesh unit m or km; GM, mass and density are SI unless they carry a unit).
+std::vector<SummaryRow> interpreted_inputs(const ComputeCommandOptions& options, const ComputeOptions& compute,
+                                           const MeshReadOptions& read) {
+  std::vector<SummaryRow> echo;
+  echo.push_back({"unit", to_string(read.unit), "of the mesh files and of bare lengths given here"});
+  const ExpansionOptions& expansion = options.expansion;
+  if (!expansion.reference_radius.empty())
+    echo.push_back({"reference radius",
+                    describe_quantity(parse_quantity(expansion.reference_radius, QuantityKind::length, read.unit,
+                                                     "--ref-radius"),
+                                      QuantityKind::length),
+                    ""});
+  if (compute.origin == OriginChoice::point) {
+    const Eigen::Vector3d& p = compute.origin_point;
+    echo.push_back({"origin point", fmt::format("({}, {}, {}) m", p.x(), p.y(), p.z()),
+                    "given as " + expansion.origin + (read.unit == LengthUnit::meter ? "" : " (bare: km)")});
+  }
+  if (read.merge_tolerance > 0)
+    echo.push_back({"merge tolerance",
+                    fmt::format("{} m", read.merge_tolerance * meters_per(read.unit)), ""});
+  return echo;
+}
+
+/// "LABEL VALUE; ..." of interpreted inputs, for the set's history.
+std::string history_line(const std::vector<SummaryRow>& echo) {
+  std::string line = "inputs as interpreted:";
+  for (size_t i = 0; i < echo.size(); ++i)
+    line += fmt::format("{} {} {}", i == 0 ? "" : ";", echo[i].label, echo[i].value);
+  return line;
+}
+
 /// The summary printed after a run: what was computed from what, the mass properties and the conventions.
 std::vector<SummaryRow> summary_rows(const ComputeCommandOptions& options, const CoefficientSet& set,
-                                     const MassProperties& props, LengthUnit unit, double seconds) {
+                                     const MassProperties& props, LengthUnit unit,
+                                     const std::vector<SummaryRow>& echo, double seconds) {
   const ExpansionOptions& expansion = options.expansion;
   const double u = meters_per(unit);
   std::vector<SummaryRow> rows;
   rows.push_back({"body", set.body, ""});
+  for (const SummaryRow& row : echo) rows.push_back({"given " + row.label, row.value, row.remark});
   for (size_t i = 0; i < set.regions.size(); ++i) {
     const Region& region = set.regions[i];
     rows.push_back({set.regions.size() == 1 ? "mesh" : fmt::format("region {}", i + 1),
@@ -79,7 +123,7 @@ std::vector<SummaryRow> summary_rows(const ComputeCommandOptions& options, const
   rows.push_back({"Brillouin radius", fmt::format("{:.9g} m", set.brillouin_radius),
                   fmt::format("{:.9g} {}, about the origin", set.brillouin_radius / u, to_string(unit))});
   rows.push_back({"reference radius", fmt::format("{:.9g} m", set.reference_radius),
-                  expansion.reference_radius > 0
+                  !expansion.reference_radius.empty()
                       ? fmt::format("{:.9g} {}", set.reference_radius / u, to_string(unit))
                       : "default: Brillouin radius"});
   rows.push_back({"degree", std::to_string(set.degree), ""});
@@ -110,7 +154,8 @@ void run_compute(const ComputeCommandOptions& options, const GlobalOptions& glob
   const MeshInputOptions& input = options.input;
   const SetOutputOptions& files = options.files;
   const int degree = options.expansion.degree;
-  const LengthUnit unit = parse_unit_option(input.unit);
+  const MeshReadOptions read = mesh_read_options(input);
+  const LengthUnit unit = read.unit;
   for (const auto& path : input.meshes) check_input_path(path);
   check_output_path(files.output);
   if (!files.json.empty()) check_output_path(files.json);
@@ -123,15 +168,16 @@ void run_compute(const ComputeCommandOptions& options, const GlobalOptions& glob
   print_verbose(global, 1,
                 fmt::format("degree {} needs about {:.3g} GB of memory; {:.3g} GB available", degree,
                             run_bytes / 1e9, available_memory_bytes() / 1e9));
+  // Every option is interpreted before the first mesh is read, so a slip costs no reading time.
+  ComputeOptions compute = compute_options(options.expansion, unit, input.meshes.front());
+  std::vector<SummaryRow> echo = interpreted_inputs(options, compute, read);
   std::vector<Mesh> meshes;
-  for (const auto& path : input.meshes)
-    meshes.push_back(load_checked_mesh(path, unit, input.merge_tolerance, global));
+  for (const auto& path : input.meshes) meshes.push_back(load_checked_mesh(path, read, global));
   print_verbose(global, 1, fmt::format("meshes read and checked in {:.3f} s", elapsed_since(start)));
-  const std::vector<double> densities = resolve_densities(options, meshes);
+  const std::vector<double> densities = resolve_densities(options, meshes, echo);
   std::vector<DensityRegion> regions;
   for (size_t i = 0; i < meshes.size(); ++i) regions.push_back({std::move(meshes[i]), densities[i]});
 
-  ComputeOptions compute = compute_options(options.expansion, unit, regions.front().mesh.source);
   compute.execution.threads = options.threads;
   if (!global.quiet && ::isatty(STDERR_FILENO)) {
     compute.execution.progress = [](double fraction) {
@@ -141,7 +187,9 @@ void run_compute(const ComputeCommandOptions& options, const GlobalOptions& glob
   }
   const auto compute_start = std::chrono::steady_clock::now();
   const MassProperties props = mass_properties(regions, compute.execution.threads);
-  const CoefficientSet set = compute_coefficients(regions, props, compute);
+  CoefficientSet set = compute_coefficients(regions, props, compute);
+  set.history.push_back(history_line(echo));
+  record_warnings(set, computation_warnings(regions, props, degree, set.reference_radius, set.brillouin_radius));
   print_verbose(global, 1, fmt::format("coefficients computed in {:.3f} s", elapsed_since(compute_start)));
 
   {
@@ -155,7 +203,7 @@ void run_compute(const ComputeCommandOptions& options, const GlobalOptions& glob
 
   std::FILE* out = files.output == "-" ? stderr : stdout;
   fmt::print(out, "polystokes compute: {}\n", set.body);
-  fmt::print(out, "{}", format_summary(summary_rows(options, set, props, unit, seconds)));
+  fmt::print(out, "{}", format_summary(summary_rows(options, set, props, unit, echo, seconds)));
   fmt::print(out, "{}\n", operational_caution());
 }
 
@@ -173,10 +221,9 @@ void setup_compute(CLI::App& app, const GlobalOptions& global) {
       "layered.json");
   // Missing mesh files are refused in run_compute, as bad input rather than a usage error.
   add_mesh_list_options(cmd, options->input);
-  cmd->add_option("--gm", options->gm, "Total GM in m^3 s^-2 instead of a density (single mesh)")
-      ->check(CLI::PositiveNumber);
-  cmd->add_option("--mass", options->mass, "Total mass in kg instead of a density (single mesh)")
-      ->check(CLI::PositiveNumber);
+  add_quantity_option(cmd, "--gm", options->gm, QuantityKind::gm, "Total GM instead of a density (single mesh)");
+  add_quantity_option(cmd, "--mass", options->mass, QuantityKind::mass,
+                      "Total mass instead of a density (single mesh)");
   add_degree_option(cmd, options->expansion.degree);
   add_mesh_file_options(cmd, options->input.unit, options->input.merge_tolerance);
   add_expansion_options(cmd, options->expansion);

@@ -11,6 +11,7 @@
 #include "coefficient_file.h"
 #include "conventions.h"
 #include "errors.h"
+#include "plausibility.h"
 #include "table_import.h"
 #include "transforms.h"
 
@@ -20,10 +21,10 @@ namespace {
 struct ConvertOptions {
   std::string input;
   SetOutputOptions files;
-  std::string unit = "m";  // of every length (and GM) given on the command line
-  // Target conventions; empty = keep.
+  std::string unit = "m";  // of every bare length given on the command line
+  // Target conventions; empty = keep. Quantities as given.
   std::string to_normalization, to_condon_shortley, to_zonal;
-  double to_ref_radius = 0, to_gm = 0;
+  std::string to_ref_radius, to_gm;
   std::string shift;  // "dx,dy,dz" or "com"
   bool allow_outside = false;
   std::string rotate_matrix, rotate_euler;
@@ -36,24 +37,21 @@ struct ConvertOptions {
   bool condon_shortley = false;
   bool condon_shortley_given = false;
   bool zonal_j = false;
-  double ref_radius = 0, gm = 0;
+  std::string ref_radius, gm;
 };
 
 Eigen::Matrix3d parse_matrix(const std::string& text) {
-  std::stringstream stream(text);
-  std::string item;
   std::vector<double> values;
-  while (std::getline(stream, item, ',')) {
-    try {
-      size_t used = 0;
-      values.push_back(std::stod(item, &used));
-      if (used != item.size()) throw std::invalid_argument(item);
-    } catch (const std::exception&) {
-      values.clear();
-      break;
-    }
+  size_t start = 0;
+  for (;;) {
+    const size_t comma = text.find(',', start);
+    const auto value = parse_strict_number(std::string_view(text).substr(start, comma == std::string::npos ? comma : comma - start));
+    if (!value) break;
+    values.push_back(*value);
+    if (comma == std::string::npos) break;
+    start = comma + 1;
   }
-  if (values.size() != 9)
+  if (values.size() != 9 || text.find(',', start) != std::string::npos)
     throw ConventionError("--rotate-matrix: '" + text + "' is not nine comma-separated numbers (row by row)");
   Eigen::Matrix3d q;
   for (int i = 0; i < 9; ++i) q(i / 3, i % 3) = values[size_t(i)];
@@ -62,7 +60,7 @@ Eigen::Matrix3d parse_matrix(const std::string& text) {
 
 CoefficientSet read_input(const ConvertOptions& options, const GlobalOptions& global, const LengthUnit unit) {
   const bool table = !options.columns.empty() || !options.normalization.empty() ||
-                     options.condon_shortley_given || options.ref_radius > 0 || options.gm > 0 ||
+                     options.condon_shortley_given || !options.ref_radius.empty() || !options.gm.empty() ||
                      options.zonal_j || options.skip_lines > 0;
   if (!table) return read_coefficient_file(options.input);
   TableImportOptions import;
@@ -72,8 +70,11 @@ CoefficientSet read_input(const ConvertOptions& options, const GlobalOptions& gl
   if (!options.normalization.empty()) import.normalization = parse_normalization(options.normalization);
   if (options.condon_shortley_given) import.condon_shortley = options.condon_shortley;
   import.zonal_as_j = options.zonal_j;
-  if (options.ref_radius > 0) import.reference_radius = options.ref_radius;
-  if (options.gm > 0) import.gm = options.gm;
+  if (!options.ref_radius.empty())
+    import.reference_radius =
+        option_quantity(options.ref_radius, QuantityKind::length, unit, "--ref-radius", Bound::positive).value;
+  if (!options.gm.empty())
+    import.gm = option_quantity(options.gm, QuantityKind::gm, unit, "--gm", Bound::positive).value;
   import.unit = unit;
   import.body = options.body;
   CoefficientSet set = read_table(options.input, import);
@@ -84,43 +85,74 @@ CoefficientSet read_input(const ConvertOptions& options, const GlobalOptions& gl
 
 void run_convert(const ConvertOptions& options, const GlobalOptions& global) {
   const LengthUnit unit = parse_unit_option(options.unit);
-  const double u = meters_per(unit);
   CoefficientSet set = read_input(options, global, unit);
   if (!options.body.empty()) set.body = options.body;
   const size_t first_new_history = set.history.size();
   const size_t first_new_note = set.notes.size();
   set.history.push_back(fmt::format("polystokes convert of {}", options.input));
 
-  if (!options.shift.empty()) {
-    const Eigen::Vector3d shift = options.shift == "com"
-                                      ? center_of_mass_offset(set)
-                                      : Eigen::Vector3d(parse_vector3(options.shift, "--shift") * u);
-    set = shift_origin(set, shift, ShiftOptions{options.allow_outside});
+  // Every quantity is interpreted before any step runs; the history records each as read.
+  std::vector<std::string> echo{"unit " + to_string(unit) + " (bare lengths)"};
+  const auto length = [&](const std::string& text, const char* option) {
+    const Quantity q = option_quantity(text, QuantityKind::length, unit, option, Bound::positive);
+    echo.push_back(fmt::format("{} {}", option, describe_quantity(q, QuantityKind::length)));
+    return q.value;
+  };
+  std::optional<Eigen::Vector3d> shift;
+  if (!options.shift.empty() && options.shift != "com") {
+    shift = option_point(options.shift, unit, "--shift");
+    echo.push_back(fmt::format("--shift ({}, {}, {}) m", shift->x(), shift->y(), shift->z()));
   }
-  if (!options.rotate_matrix.empty()) set = rotate_set(set, parse_matrix(options.rotate_matrix));
+  std::optional<Eigen::Vector3d> euler_degrees;
   if (!options.rotate_euler.empty()) {
-    const Eigen::Vector3d angles = parse_vector3(options.rotate_euler, "--rotate-euler") * (M_PI / 180.0);
+    const auto angles = parse_quantity_list(options.rotate_euler, QuantityKind::angle, unit, "--rotate-euler", 3);
+    euler_degrees = Eigen::Vector3d(angles[0].value, angles[1].value, angles[2].value);
+  }
+  const std::optional<double> to_radius =
+      options.to_ref_radius.empty() ? std::nullopt : std::optional(length(options.to_ref_radius, "--to-ref-radius"));
+  std::optional<double> to_gm;
+  if (!options.to_gm.empty()) {
+    const Quantity q = option_quantity(options.to_gm, QuantityKind::gm, unit, "--to-gm", Bound::positive);
+    echo.push_back("--to-gm " + describe_quantity(q, QuantityKind::gm));
+    to_gm = q.value;
+  }
+  set.history.push_back("inputs as interpreted: " + fmt::format("{}", fmt::join(echo, "; ")));
+  const double gm_before = set.gm;
+
+  if (!options.shift.empty())
+    set = shift_origin(set, shift ? *shift : center_of_mass_offset(set), ShiftOptions{options.allow_outside});
+  if (!options.rotate_matrix.empty()) set = rotate_set(set, parse_matrix(options.rotate_matrix));
+  if (euler_degrees) {
+    const Eigen::Vector3d angles = *euler_degrees * (M_PI / 180.0);
     set = rotate_set(set, euler_zyz_matrix(angles.x(), angles.y(), angles.z()));
-    set.history.back() += fmt::format(" (z-y-z Euler angles {} deg)", options.rotate_euler);
+    set.history.back() += fmt::format(" (z-y-z Euler angles {}, {}, {} deg)", euler_degrees->x(),
+                                      euler_degrees->y(), euler_degrees->z());
   }
   if (options.to_principal) set = rotate_to_principal_axes(set);
-  if (options.to_ref_radius > 0) set = rescale_reference_radius(set, options.to_ref_radius * u);
-  if (options.to_gm > 0) set = rescale_gm(set, options.to_gm * u * u * u);
+  if (to_radius) set = rescale_reference_radius(set, *to_radius);
+  if (to_gm) set = rescale_gm(set, *to_gm);
+
   Convention target = set.convention;
   if (!options.to_normalization.empty()) target.normalization = parse_normalization(options.to_normalization);
   if (!options.to_condon_shortley.empty()) target.condon_shortley = options.to_condon_shortley == "on";
   if (!options.to_zonal.empty()) target.zonal_as_j = options.to_zonal == "j";
   if (target != set.convention) set = convert_convention(set, target);
+  for (size_t i = first_new_note; i < set.notes.size(); ++i) print_notice(global, set.notes[i]);
+  std::vector<std::string> warnings;
+  if (auto warning = gm_change_warning(gm_before, set.gm)) warnings.push_back(*warning);
+  if (to_radius)
+    if (auto warning = reference_radius_warning(set.reference_radius, set.brillouin_radius))
+      warnings.push_back(*warning);
+  record_warnings(set, warnings);
 
   write_set_files(set, options.files);
-  for (size_t i = first_new_note; i < set.notes.size(); ++i) print_notice(global, set.notes[i]);
   if (global.quiet) return;
   const SetOutputOptions& files = options.files;
   std::FILE* out = files.output == "-" || files.json == "-" ? stderr : stdout;
   fmt::print(out, "polystokes convert: {} ({}, degree {})\n", options.input, set.body, set.degree);
   for (size_t i = first_new_history + 1; i < set.history.size(); ++i)
     fmt::print(out, "  {}\n", set.history[i]);
-  if (set.history.size() == first_new_history + 1)
+  if (set.history.size() == first_new_history + 2)
     fmt::print(out, "  no change requested: set rewritten as is\n");
   fmt::print(out, "  convention         {}\n", describe(set.convention));
   fmt::print(out, "  reference radius   {:.9g} m, GM {:.9g} m^3 s^-2\n", set.reference_radius, set.gm);
@@ -140,18 +172,20 @@ void setup_convert(CLI::App& app, const GlobalOptions& global) {
       "Steps run in this order: --shift, rotation, --to-ref-radius, --to-gm, conventions; each is exact and\n"
       "recorded in the output's history. IN is a polystokes set (text or JSON) or, with the table options, "
       "a\n"
-      "plain table of another tool. Lengths on the command line are in --unit; GM in --unit^3 s^-2.\n"
+      "plain table of another tool. Bare lengths on the command line are in --unit; a bare GM is in m^3 s^-2\n"
+      "in every command (or give a unit: 5.08e-7km3/s2); angles are in degrees (docs/units.md).\n"
       "Examples:\n"
       "  polystokes convert varnek.txt -o varnek_schmidt.txt --to-normalization schmidt --to-condon-shortley "
       "on\n"
       "  polystokes convert varnek.txt -o varnek_p.txt --to-principal --to-ref-radius 2.5 --unit km\n"
       "  polystokes convert team.tab --columns n,m,C,S,sigma_C,sigma_S --normalization unnormalized\n"
-      "      --no-condon-shortley --zonal-j --ref-radius 2 --gm 1.1e-4 --unit km --skip-lines 3 -o team.txt");
+      "      --no-condon-shortley --zonal-j --ref-radius 2 --gm 1.1e-4km3/s2 --unit km --skip-lines 3 -o team.txt");
   cmd->add_option("input", options->input, "Coefficient set or plain table (- for stdin)")
       ->required()
       ->check(CLI::ExistingFile | CLI::IsMember({"-"}));
   add_set_output_options(cmd, options->files);
-  cmd->add_option("--unit", options->unit, "Unit of lengths given here (m or km); GM in unit^3 s^-2")
+  cmd->add_option("--unit", options->unit,
+                  "Unit of bare lengths given here: m or km (GM is m^3 s^-2 unless it carries a unit)")
       ->check(CLI::IsMember({"m", "km"}))
       ->capture_default_str();
   cmd->add_option("--body", options->body, "New body label");
@@ -164,9 +198,9 @@ void setup_convert(CLI::App& app, const GlobalOptions& global) {
       ->check(CLI::IsMember({"on", "off"}));
   group->add_option("--to-zonal", options->to_zonal, "Zonal terms as c (C_n0) or j (J_n = -C_n0)")
       ->check(CLI::IsMember({"c", "j"}));
-  group->add_option("--to-ref-radius", options->to_ref_radius, "New reference radius (--unit)")
-      ->check(CLI::PositiveNumber);
-  group->add_option("--to-gm", options->to_gm, "New GM (--unit^3 s^-2)")->check(CLI::PositiveNumber);
+  add_quantity_option(group, "--to-ref-radius", options->to_ref_radius, QuantityKind::length,
+                      "New reference radius");
+  add_quantity_option(group, "--to-gm", options->to_gm, QuantityKind::gm, "New GM");
   auto* shift =
       group->add_option("--shift", options->shift,
                         "Move the expansion origin by dx,dy,dz (--unit, the set's axes), or 'com' to the "
@@ -197,9 +231,9 @@ void setup_convert(CLI::App& app, const GlobalOptions& global) {
       table->add_flag("--condon-shortley,!--no-condon-shortley", options->condon_shortley,
                       "Whether the table's functions carry the Condon-Shortley phase (one is required)");
   table->add_flag("--zonal-j", options->zonal_j, "The table's m = 0 values are J_n = -C_n0");
-  table->add_option("--ref-radius", options->ref_radius, "The table's reference radius (--unit)")
-      ->check(CLI::PositiveNumber);
-  table->add_option("--gm", options->gm, "The table's GM (--unit^3 s^-2)")->check(CLI::PositiveNumber);
+  add_quantity_option(table, "--ref-radius", options->ref_radius, QuantityKind::length,
+                      "The table's reference radius");
+  add_quantity_option(table, "--gm", options->gm, QuantityKind::gm, "The table's GM");
   cmd->callback([options, phase, &global]() {
     options->condon_shortley_given = phase->count() > 0;
     run_convert(*options, global);

@@ -18,12 +18,9 @@ namespace polystokes::cli {
 namespace {
 
 struct FieldOptions {
-  std::vector<std::string> inputs;
+  MeshInputOptions input;  ///< meshes: the inputs (a set or meshes); densities for meshes only
   std::string points;
   std::string output;
-  std::vector<double> densities;
-  std::string unit = "m";
-  double merge_tolerance = 0;
   int degree = -1;
   bool set_frame = false;
   bool gradient = false;
@@ -40,23 +37,9 @@ bool is_mesh_path(const std::string& path) {
 
 std::vector<FieldValue> exact_field(const FieldOptions& options, const Points& points,
                                     const GlobalOptions& global, std::string& model) {
-  if (options.densities.size() != options.inputs.size())
-    throw ConventionError(
-        fmt::format("{} meshes but {} densities: give one --density (kg/m^3) per mesh, in order",
-                    options.inputs.size(), options.densities.size()));
   if (options.degree >= 0) throw ConventionError("--degree applies to coefficient sets, not to meshes");
   if (options.set_frame) throw ConventionError("--set-frame applies to coefficient sets, not to meshes");
-  const LengthUnit unit = parse_unit_option(options.unit);
-  std::vector<DensityRegion> regions;
-  for (size_t i = 0; i < options.inputs.size(); ++i) {
-    const double density = options.densities[i];
-    if (!std::isfinite(density) || density == 0 || (i == 0 && density < 0))
-      throw ConventionError(
-          fmt::format("density {} for {} must be a finite non-zero number (positive for the "
-                      "first mesh)",
-                      density, options.inputs[i]));
-    regions.push_back({load_checked_mesh(options.inputs[i], unit, options.merge_tolerance, global), density});
-  }
+  const std::vector<DensityRegion> regions = load_regions(options.input, global);
   const PolyhedronGravity gravity(regions);
   std::vector<FieldValue> values = gravity.evaluate(points, options.threads);
   long inside = 0;
@@ -72,11 +55,11 @@ std::vector<FieldValue> exact_field(const FieldOptions& options, const Points& p
 
 std::vector<FieldValue> series_field(const FieldOptions& options, const Points& points,
                                      const GlobalOptions& global, std::string& model) {
-  if (options.inputs.size() != 1)
-    throw ConventionError("give one coefficient set (or meshes with --density)");
-  if (!options.densities.empty())
-    throw ConventionError(options.inputs[0] + " is a coefficient set: --density applies to meshes only");
-  const CoefficientSet set = read_coefficient_file(options.inputs[0]);
+  const std::vector<std::string>& inputs = options.input.meshes;
+  if (inputs.size() != 1) throw ConventionError("give one coefficient set (or meshes with --density)");
+  if (!options.input.densities.empty())
+    throw ConventionError(inputs[0] + " is a coefficient set: --density applies to meshes only");
+  const CoefficientSet set = read_coefficient_file(inputs[0]);
   const SeriesModel series(set, options.degree);
   std::vector<FieldValue> values;
   if (options.set_frame) {
@@ -104,15 +87,19 @@ std::vector<FieldValue> series_field(const FieldOptions& options, const Points& 
   } else {
     print_notice(global, "the set records no Brillouin radius; points inside it cannot be flagged");
   }
-  model = fmt::format("series of {} to degree {} ({} frame)", options.inputs[0], series.degree(),
+  model = fmt::format("series of {} to degree {} ({} frame)", inputs[0], series.degree(),
                       options.set_frame ? "set" : "mesh");
   return values;
 }
 
 void run_field(const FieldOptions& options, const GlobalOptions& global) {
-  const Points points = read_points(options.points);
-  const bool mesh = is_mesh_path(options.inputs.front());
-  for (const auto& input : options.inputs)
+  const PointList list = read_points(options.points, parse_unit_option(options.input.unit));
+  const Points& points = list.points;
+  print_notice(global, fmt::format("{}: {} points read in {} ({})", options.points, points.rows(),
+                                   to_string(list.unit),
+                                   list.unit_declared ? "declared by its header" : "bare: --unit"));
+  const bool mesh = is_mesh_path(options.input.meshes.front());
+  for (const auto& input : options.input.meshes)
     if (is_mesh_path(input) != mesh)
       throw ConventionError("give either meshes (with --density) or one coefficient set, not both");
   std::string model;
@@ -122,8 +109,7 @@ void run_field(const FieldOptions& options, const GlobalOptions& global) {
   if (global.quiet) return;
   std::FILE* out = options.output == "-" ? stderr : stdout;
   fmt::print(out, "polystokes field: {} points, {}\n", points.rows(), model);
-  fmt::print(out, "  columns  {} (m, m^2 s^-2, m s^-2{})\n", field_table_header(options.gradient),
-             options.gradient ? ", s^-2" : "");
+  fmt::print(out, "  columns  {}\n", field_table_header(options.gradient));
   fmt::print(out, "  written  {}\n", options.output);
 }
 
@@ -135,21 +121,28 @@ void setup_field(CLI::App& app, const GlobalOptions& global) {
       "field",
       "Potential and acceleration at points, from a coefficient set (series) or from meshes (exact "
       "polyhedron).\n"
-      "Points: CSV x,y,z in metres, mesh frame (optional header x,y,z; '#' comments).\n"
+      "Points: CSV x,y,z in the mesh frame, in --unit unless a header x_m,y_m,z_m or x_km,y_km,z_km declares\n"
+      "the file's unit ('#' comments). Output columns carry their SI units in the header.\n"
       "Examples: polystokes field body.txt --points pts.csv -o series.csv\n"
       "          polystokes field body.obj --unit km --density 1900 --points pts.csv -o exact.csv");
-  cmd->add_option("input", options->inputs, "Coefficient set, or mesh(es) .obj/.off/.ply/.stl with --density")
+  cmd->add_option("input", options->input.meshes,
+                  "Coefficient set, or mesh(es) .obj/.off/.ply/.stl with --density")
       ->required()
       ->check(CLI::ExistingFile);
-  cmd->add_option("--points", options->points, "CSV file of points x,y,z in metres ('-' for stdin)")
+  cmd->add_option("--points", options->points,
+                  "CSV file of points x,y,z (bare: --unit; or a header declaring m or km; '-' for stdin)")
       ->required();
-  cmd->add_option("-o,--output", options->output, "CSV to write: x,y,z,U,ax,ay,az ('-' for stdout)")
+  cmd->add_option("-o,--output", options->output,
+                  "CSV to write: x_m,y_m,z_m,U_m2_s2,ax_m_s2,ay_m_s2,az_m_s2 ('-' for stdout)")
       ->required();
-  cmd->add_option("--density", options->densities, "Density per mesh in kg/m^3, in mesh order (meshes only)")
+  cmd->add_option("--density", options->input.densities,
+                  "Density per mesh, in mesh order (meshes only; bare: kg/m^3, or with kg/m3, g/cm3)")
+      ->check(quantity_syntax(QuantityKind::density))
       ->expected(1, -1);
-  add_mesh_file_options(cmd, options->unit, options->merge_tolerance);
+  add_mesh_file_options(cmd, options->input.unit, options->input.merge_tolerance);
   cmd->add_option("--degree", options->degree,
                   "Truncate the series at this degree (default: the set's degree)")
+      ->check(strict_integer())
       ->check(CLI::NonNegativeNumber);
   cmd->add_flag(
       "--set-frame", options->set_frame,

@@ -14,15 +14,15 @@ namespace {
 struct InspectOptions {
   std::string mesh;
   std::string unit = "m";
-  double merge_tolerance = 0;
-  double density = 1000;
+  std::string merge_tolerance = "0";
+  std::string density = "1000";
 };
 
 void run_inspect(const InspectOptions& options, const GlobalOptions& global) {
-  const LengthUnit unit = parse_unit_option(options.unit);
-  MeshReadOptions read;
-  read.unit = unit;
-  read.merge_tolerance = options.merge_tolerance;
+  const MeshReadOptions read = mesh_read_options({{options.mesh}, {}, options.unit, options.merge_tolerance});
+  const LengthUnit unit = read.unit;
+  const Quantity density =
+      option_quantity(options.density, QuantityKind::density, unit, "--density", Bound::positive);
   Mesh mesh = read_mesh(options.mesh, read);
   for (const auto& notice : mesh.notices) print_notice(global, options.mesh + ": " + notice);
   const MeshCheckReport report = inspect_mesh(mesh);
@@ -52,12 +52,12 @@ void run_inspect(const InspectOptions& options, const GlobalOptions& global) {
       print_notice(global, options.mesh + ": " + mesh.notices[i]);
   }
   if (!print) return;
-  const MassProperties props = mass_properties({DensityRegion{mesh, options.density}});
+  const MassProperties props = mass_properties({DensityRegion{mesh, density.value}});
   const double brillouin_com = max_vertex_distance(mesh, props.center_of_mass);
   const double brillouin_mesh = max_vertex_distance(mesh, Eigen::Vector3d::Zero());
   const double u = meters_per(unit);
-  fmt::print("mass properties (density {} kg/m^3{}):\n", options.density,
-             options.density == 1000 ? ", the default; pass --density" : "");
+  fmt::print("mass properties (density {}{}):\n", describe_quantity(density, QuantityKind::density),
+             options.density == "1000" ? ", the default; pass --density" : "");
   std::vector<SummaryRow> rows = mass_property_rows(props, unit);
   rows.push_back({"Brillouin radius", fmt::format("{:.9g} m", brillouin_com),
                   fmt::format("{:.9g} {}, about the COM", brillouin_com / u, to_string(unit))});
@@ -78,8 +78,7 @@ void setup_inspect(CLI::App& app, const GlobalOptions& global) {
   cmd->add_option("mesh", options->mesh, "Shape mesh (.obj, .off, .ply, .stl)")->required();
   add_mesh_file_options(cmd, options->unit, options->merge_tolerance,
                         "Length unit of the mesh file: m or km");
-  cmd->add_option("--density", options->density, "Bulk density in kg/m^3")
-      ->check(CLI::PositiveNumber)
+  add_quantity_option(cmd, "--density", options->density, QuantityKind::density, "Bulk density")
       ->capture_default_str();
   cmd->callback([options, &global]() { run_inspect(*options, global); });
 }

@@ -16,8 +16,8 @@ struct ReportOptions {
   std::string set;
   std::string mesh;
   std::string unit = "m";
-  double merge_tolerance = 0;
-  double density = 0;
+  std::string merge_tolerance = "0";
+  std::string density;  ///< empty: from the set
   double map_radius = 1.2;
   std::string compare;
   double tolerance = CompareOptions{}.tolerance;
@@ -30,9 +30,12 @@ void run_report(const ReportOptions& options, const GlobalOptions& global) {
   input.set_source = options.set;
   if (options.set != "-") input.set_checksum = sha256_file_hex(options.set);
   if (!options.mesh.empty())
-    input.mesh =
-        load_checked_mesh(options.mesh, parse_unit_option(options.unit), options.merge_tolerance, global);
-  input.mesh_density = options.density;
+    input.mesh = load_checked_mesh(
+        options.mesh, mesh_read_options({{options.mesh}, {}, options.unit, options.merge_tolerance}), global);
+  if (!options.density.empty())
+    input.mesh_density = option_quantity(options.density, QuantityKind::density, LengthUnit::meter, "--density",
+                                         Bound::positive)
+                             .value;
   if (!options.compare.empty()) {
     input.other = read_coefficient_file(options.compare);
     input.other_source = options.compare;
@@ -63,17 +66,18 @@ void setup_report(CLI::App& app, const GlobalOptions& global) {
       ->check(CLI::ExistingFile);
   add_mesh_file_options(cmd, options->unit, options->merge_tolerance,
                         "Length unit of the mesh file: m or km");
-  cmd->add_option("--density", options->density,
-                  "Density for the mesh's mass properties in kg/m^3 (default: from the set)")
-      ->check(CLI::PositiveNumber);
+  add_quantity_option(cmd, "--density", options->density, QuantityKind::density,
+                      "Density for the mesh's mass properties (default: from the set)");
   cmd->add_option("--map-radius", options->map_radius,
                   "Radius of the field-map sphere as a multiple of the Brillouin radius (> 1)")
+      ->check(strict_number())
       ->check(CLI::Range(1.0, 1e6))
       ->capture_default_str();
   cmd->add_option("--compare", options->compare, "Second coefficient set to compare with (B; this set is A)")
       ->check(CLI::ExistingFile);
   cmd->add_option("--tolerance", options->tolerance,
                   "Relative RMS difference per degree up to which the two sets agree")
+      ->check(strict_number())
       ->check(CLI::PositiveNumber)
       ->capture_default_str();
   cmd->add_option("-o,--output", options->output, "HTML file to write (- for stdout)")->required();

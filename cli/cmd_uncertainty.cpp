@@ -16,11 +16,12 @@
 namespace polystokes::cli {
 namespace {
 
+// Quantities as given; empty = not given.
 struct InclusionOptions {
-  double radius = 0;    // mesh unit
-  double contrast = 0;  // kg/m^3
-  std::string center;   // "x,y,z" in the mesh unit
-  double offset = 0;    // mesh unit
+  std::string radius;    // length
+  std::string contrast;  // density
+  std::string center;    // "x,y,z" lengths
+  std::string offset;    // length
 };
 
 struct UncertaintyCommandOptions {
@@ -28,8 +29,8 @@ struct UncertaintyCommandOptions {
   ExpansionOptions expansion;
   long samples = 100;
   std::uint64_t seed = 1;
-  double shape_sigma = 0;         // mesh unit
-  double correlation_length = 0;  // mesh unit
+  std::string shape_sigma = "0";         // length
+  std::string correlation_length = "0";  // length
   double density_sigma = 0;
   InclusionOptions core, cavity;
   double lateral_sigma = 0;
@@ -53,24 +54,31 @@ std::function<void(long, long)> progress_printer(const GlobalOptions& global) {
   };
 }
 
-std::optional<Inclusion> make_inclusion(const InclusionOptions& given, bool empty, double u) {
-  const char* name = empty ? "void" : "core";
-  if (given.radius == 0) {
-    if (!given.center.empty() || given.offset != 0 || given.contrast != 0)
+std::optional<Inclusion> make_inclusion(const InclusionOptions& given, bool empty, LengthUnit unit) {
+  const std::string name = empty ? "void" : "core";
+  if (given.radius.empty()) {
+    if (!given.center.empty() || !given.offset.empty() || !given.contrast.empty())
       throw ConventionError(fmt::format("--{0}-center/--{0}-offset{1} need --{0}-radius", name,
                                         empty ? "" : "/--core-contrast"));
     return std::nullopt;
   }
   Inclusion inclusion;
   inclusion.empty = empty;
-  inclusion.radius = given.radius * u;
+  inclusion.radius =
+      option_quantity(given.radius, QuantityKind::length, unit, "--" + name + "-radius", Bound::positive).value;
   if (!empty) {
-    if (given.contrast == 0) throw ConventionError("--core-radius needs --core-contrast (kg/m^3, non-zero)");
-    inclusion.contrast = given.contrast;
+    const double contrast =
+        given.contrast.empty()
+            ? 0
+            : option_quantity(given.contrast, QuantityKind::density, unit, "--core-contrast").value;
+    if (contrast == 0) throw ConventionError("--core-radius needs --core-contrast (kg/m^3, non-zero)");
+    inclusion.contrast = contrast;
   }
-  if (!given.center.empty())
-    inclusion.center = parse_vector3(given.center, fmt::format("--{}-center", name)) * u;
-  inclusion.offset = given.offset * u;
+  if (!given.center.empty()) inclusion.center = option_point(given.center, unit, "--" + name + "-center");
+  if (!given.offset.empty())
+    inclusion.offset =
+        option_quantity(given.offset, QuantityKind::length, unit, "--" + name + "-offset", Bound::non_negative)
+            .value;
   return inclusion;
 }
 
@@ -126,31 +134,21 @@ void run_uncertainty_command(const UncertaintyCommandOptions& options, const Glo
   const MeshInputOptions& input = options.input;
   const SetOutputOptions& files = options.files;
   const LengthUnit unit = parse_unit_option(input.unit);
-  const double u = meters_per(unit);
-  if (input.densities.size() != input.meshes.size())
-    throw ConventionError(fmt::format("{} meshes but {} densities: give one --density per mesh, in order",
-                                      input.meshes.size(), input.densities.size()));
-  std::vector<DensityRegion> regions;
-  for (size_t i = 0; i < input.meshes.size(); ++i) {
-    const double density = input.densities[i];
-    if (!std::isfinite(density) || density == 0 || (i == 0 && density < 0))
-      throw ConventionError(
-          fmt::format("density {} for {} must be finite and non-zero (positive for the first mesh)", density,
-                      input.meshes[i]));
-    regions.push_back({load_checked_mesh(input.meshes[i], unit, input.merge_tolerance, global), density});
-  }
-
-  ComputeOptions compute = compute_options(options.expansion, unit, regions.front().mesh.source);
+  // Every option is interpreted before the first mesh is read, so a slip costs no reading time.
+  ComputeOptions compute = compute_options(options.expansion, unit, input.meshes.front());
   compute.execution.threads = options.threads;
-
   UncertaintySettings settings;
   settings.samples = options.samples;
   settings.seed = options.seed;
-  settings.shape.sigma = options.shape_sigma * u;
-  settings.shape.correlation_length = options.correlation_length * u;
+  settings.shape.sigma =
+      option_quantity(options.shape_sigma, QuantityKind::length, unit, "--shape-sigma", Bound::non_negative).value;
+  settings.shape.correlation_length = option_quantity(options.correlation_length, QuantityKind::length, unit,
+                                                      "--correlation-length", Bound::non_negative)
+                                          .value;
   settings.density_sigma = options.density_sigma;
-  if (auto core = make_inclusion(options.core, false, u)) settings.inclusions.push_back(*core);
-  if (auto cavity = make_inclusion(options.cavity, true, u)) settings.inclusions.push_back(*cavity);
+  if (auto core = make_inclusion(options.core, false, unit)) settings.inclusions.push_back(*core);
+  if (auto cavity = make_inclusion(options.cavity, true, unit)) settings.inclusions.push_back(*cavity);
+  const std::vector<DensityRegion> regions = load_regions(input, global);
   settings.lateral.sigma = options.lateral_sigma;
   settings.lateral.sectors = options.lateral_sectors;
   settings.preserve_mass = options.preserve_mass;
@@ -208,19 +206,18 @@ void run_merge_command(const MergeCommandOptions& options, const GlobalOptions& 
 
 void add_inclusion_options(CLI::App* cmd, InclusionOptions& inclusion, bool empty) {
   const std::string name = empty ? "void" : "core";
-  cmd->add_option(
-         "--" + name + "-radius", inclusion.radius,
-         "Radius of a " + std::string(empty ? "spherical void (empty)" : "spherical core") + " (mesh unit)")
-      ->check(CLI::PositiveNumber);
+  add_quantity_option(cmd, "--" + name + "-radius", inclusion.radius, QuantityKind::length,
+                      "Radius of a " + std::string(empty ? "spherical void (empty)" : "spherical core"));
   if (!empty)
-    cmd->add_option("--core-contrast", inclusion.contrast,
-                    "Density added inside the core, kg/m^3 (negative: a lighter core)");
+    add_quantity_option(cmd, "--core-contrast", inclusion.contrast, QuantityKind::density,
+                        "Density added inside the core (negative: a lighter core)");
   cmd->add_option("--" + name + "-center", inclusion.center,
-                  "Centre x,y,z in the mesh frame and unit (default: the centre of mass)");
-  cmd->add_option("--" + name + "-offset", inclusion.offset,
-                  "Draw the centre anywhere within this distance of --" + name +
-                      "-center in each sample (mesh unit; always inside the body)")
-      ->check(CLI::NonNegativeNumber);
+                  "Centre x,y,z in the mesh frame (bare: --unit; or each with m, km; default: the centre of "
+                  "mass)")
+      ->check(quantity_syntax(QuantityKind::length, true));
+  add_quantity_option(cmd, "--" + name + "-offset", inclusion.offset, QuantityKind::length,
+                      "Draw the centre anywhere within this distance of --" + name +
+                          "-center in each sample (always inside the body)");
 }
 
 }  // namespace
@@ -244,23 +241,28 @@ void setup_uncertainty(CLI::App& app, const GlobalOptions& global) {
                         "Length unit of the mesh files and of every length option: m or km");
   add_expansion_options(cmd, options->expansion);
   cmd->add_option("--samples", options->samples, "Number of Monte Carlo samples (>= 2)")
+      ->check(strict_integer())
       ->check(CLI::Range(2L, 100000000L))
       ->capture_default_str();
-  cmd->add_option("--seed", options->seed, "Random seed (recorded in the set)")->capture_default_str();
-  cmd->add_option("--shape-sigma", options->shape_sigma,
-                  "Standard deviation of each vertex's displacement along its normal (mesh unit)")
-      ->check(CLI::NonNegativeNumber);
-  cmd->add_option("--correlation-length", options->correlation_length,
-                  "Correlation length L of the shape noise, covariance sigma^2 exp(-d^2/(2L^2)) (mesh unit; "
-                  "0 = independent vertices)")
-      ->check(CLI::NonNegativeNumber);
+  cmd->add_option("--seed", options->seed, "Random seed (recorded in the set)")
+      ->check(strict_integer())
+      ->capture_default_str();
+  add_quantity_option(cmd, "--shape-sigma", options->shape_sigma, QuantityKind::length,
+                      "Standard deviation of each vertex's displacement along its normal")
+      ->capture_default_str();
+  add_quantity_option(cmd, "--correlation-length", options->correlation_length, QuantityKind::length,
+                      "Correlation length L of the shape noise, covariance sigma^2 exp(-d^2/(2L^2)); 0 = "
+                      "independent vertices")
+      ->capture_default_str();
   cmd->add_option("--density-sigma", options->density_sigma,
                   "Relative standard deviation of the density scale, hence of GM (< 0.25)")
+      ->check(strict_number())
       ->check(CLI::NonNegativeNumber);
   add_inclusion_options(cmd, options->core, false);
   add_inclusion_options(cmd, options->cavity, true);
   cmd->add_option("--lateral-sigma", options->lateral_sigma,
                   "Relative density sigma of each cone from the origin (random lateral variation, < 0.25)")
+      ->check(strict_number())
       ->check(CLI::NonNegativeNumber);
   cmd->add_option("--lateral-sectors", options->lateral_sectors, "Number of cones: 12, 42, 162, 642 or 2562")
       ->check(CLI::IsMember({12, 42, 162, 642, 2562}))

@@ -19,33 +19,45 @@ namespace {
 struct ValidateOptions {
   std::string mesh;
   std::string set;
-  double density = 0;
+  std::string density;  ///< empty: the densities recorded in the set
   std::string unit = "m";
-  double merge_tolerance = 0;
+  std::string merge_tolerance = "0";
   std::vector<double> radii = ValidationOptions{}.radius_factors;
-  std::vector<double> altitudes;
+  std::vector<std::string> altitudes;  ///< length quantities as given
   double target = ValidationOptions{}.target;
   int samples = ValidationOptions{}.samples;
   std::string json;
   int threads = 0;
 };
 
+// The unit of the mesh file and of bare lengths: --unit, or the unit the set records for its first region.
+LengthUnit command_unit(const ValidateOptions& options, bool unit_given, const CoefficientSet& set) {
+  return !unit_given && !set.regions.empty() ? parse_length_unit(set.regions.front().unit)
+                                             : parse_unit_option(options.unit);
+}
+
 // The region meshes: MESH with --density, or MESH as the first of the set's recorded regions with their
 // densities (further region meshes are looked up by their recorded names, as given or next to the set file).
 std::vector<DensityRegion> load_regions(const ValidateOptions& options, bool unit_given,
                                         const CoefficientSet& set, const GlobalOptions& global) {
-  const LengthUnit unit = !unit_given && !set.regions.empty() ? parse_length_unit(set.regions.front().unit)
-                                                              : parse_unit_option(options.unit);
+  const LengthUnit unit = command_unit(options, unit_given, set);
+  const double tolerance =
+      option_quantity(options.merge_tolerance, QuantityKind::length, unit, "--merge-tolerance", Bound::non_negative)
+          .value;
+  // The tolerance in a mesh file's own unit, as the reader takes it.
+  const auto read_options = [tolerance](LengthUnit mesh_unit) {
+    return MeshReadOptions{mesh_unit, tolerance / meters_per(mesh_unit)};
+  };
   std::vector<DensityRegion> regions;
-  if (options.density != 0) {
-    regions.push_back(
-        {load_checked_mesh(options.mesh, unit, options.merge_tolerance, global), options.density});
+  if (!options.density.empty()) {
+    const Quantity density =
+        option_quantity(options.density, QuantityKind::density, unit, "--density", Bound::positive);
+    regions.push_back({load_checked_mesh(options.mesh, read_options(unit), global), density.value});
     return regions;
   }
   if (set.regions.empty())
     throw ConventionError(options.set + " records no density regions: give --density for " + options.mesh);
-  regions.push_back(
-      {load_checked_mesh(options.mesh, unit, options.merge_tolerance, global), set.regions[0].density});
+  regions.push_back({load_checked_mesh(options.mesh, read_options(unit), global), set.regions[0].density});
   const std::filesystem::path set_dir = std::filesystem::path(options.set).parent_path();
   for (size_t i = 1; i < set.regions.size(); ++i) {
     const Region& region = set.regions[i];
@@ -58,7 +70,7 @@ std::vector<DensityRegion> load_regions(const ValidateOptions& options, bool uni
                       "give --density to validate {} alone",
                       options.set, i + 1, region.mesh, options.mesh));
     regions.push_back(
-        {load_checked_mesh(path.string(), parse_length_unit(region.unit), options.merge_tolerance, global),
+        {load_checked_mesh(path.string(), read_options(parse_length_unit(region.unit)), global),
          region.density});
   }
   print_notice(global, fmt::format("densities taken from {} ({} region(s))", options.set, regions.size()));
@@ -70,7 +82,14 @@ void run_validate(const ValidateOptions& options, bool unit_given, const GlobalO
   const std::vector<DensityRegion> regions = load_regions(options, unit_given, set, global);
   ValidationOptions validation;
   validation.radius_factors = options.radii;
-  validation.altitudes = options.altitudes;
+  const LengthUnit unit = command_unit(options, unit_given, set);
+  for (const std::string& altitude : options.altitudes)
+    validation.altitudes.push_back(
+        option_quantity(altitude, QuantityKind::length, unit, "--altitudes", Bound::positive).value);
+  if (!validation.altitudes.empty())
+    print_notice(global, fmt::format("altitudes read in {} (bare lengths follow {}): {} m",
+                                     to_string(unit), unit_given ? "--unit" : "the unit recorded in the set",
+                                     fmt::join(validation.altitudes, ", ")));
   validation.target = options.target;
   validation.samples = options.samples;
   validation.threads = options.threads;
@@ -103,23 +122,28 @@ void setup_validate(CLI::App& app, const GlobalOptions& global) {
   cmd->add_option("set", options->set, "Coefficient set (text or JSON)")
       ->required()
       ->check(CLI::ExistingFile);
-  cmd->add_option("--density", options->density,
-                  "Density in kg/m^3 (default: the densities recorded in the set, with their region meshes)")
-      ->check(CLI::PositiveNumber);
+  add_quantity_option(cmd, "--density", options->density, QuantityKind::density,
+                      "Density (default: the densities recorded in the set, with their region meshes)");
   auto* unit =
       cmd->add_option("--unit", options->unit,
-                      "Length unit of the mesh file: m or km (default: the unit recorded in the set)")
+                      "Length unit of the mesh file and of bare lengths given here: m or km (default: the unit "
+                      "recorded in the set)")
           ->check(CLI::IsMember({"m", "km"}));
   add_merge_tolerance_option(cmd, options->merge_tolerance);
   cmd->add_option("--radii", options->radii, "Sphere radii as multiples of R_B, comma-separated")
       ->delimiter(',')
+      ->check(strict_number())
       ->capture_default_str();
-  cmd->add_option("--altitudes", options->altitudes, "Altitudes above the surface in metres, comma-separated")
-      ->delimiter(',');
+  cmd->add_option("--altitudes", options->altitudes,
+                  "Altitudes above the surface, comma-separated (bare: --unit; or each with m, km)")
+      ->delimiter(',')
+      ->check(quantity_syntax(QuantityKind::length));
   cmd->add_option("--target", options->target, "Relative acceleration error to meet")
+      ->check(strict_number())
       ->check(CLI::PositiveNumber)
       ->capture_default_str();
   cmd->add_option("--samples", options->samples, "Sample directions per shell")
+      ->check(strict_integer())
       ->check(CLI::PositiveNumber)
       ->capture_default_str();
   cmd->add_option("--json", options->json, "Also write the report as JSON to this file ('-' for stdout)");

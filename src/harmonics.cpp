@@ -515,14 +515,17 @@ void check_compute_request(const std::vector<DensityRegion>& regions, const Comp
   if (regions.empty()) throw ConventionError("no mesh given");
   if (options.reference_radius < 0 || !std::isfinite(options.reference_radius))
     throw ConventionError("reference radius must be positive");
+  if (options.origin == OriginChoice::point && !options.origin_point.allFinite())
+    throw ConventionError("expansion origin must be a finite point");
 }
 
 // compute_coefficients for a checked request and the regions' mass properties.
 CoefficientSet coefficients_with(const std::vector<DensityRegion>& regions, const MassProperties& props,
                                  const ComputeOptions& options) {
   HarmonicFrame frame;
-  frame.origin =
-      options.origin == OriginChoice::center_of_mass ? props.center_of_mass : Eigen::Vector3d::Zero();
+  frame.origin = options.origin == OriginChoice::center_of_mass ? props.center_of_mass
+                 : options.origin == OriginChoice::point        ? options.origin_point
+                                                                : Eigen::Vector3d::Zero();
   if (options.frame == FrameChoice::principal) frame.axes = props.principal_axes.transpose();
   const double brillouin = brillouin_radius(regions, frame.origin, options.execution.threads);
   frame.scale_radius = brillouin;
@@ -537,7 +540,7 @@ CoefficientSet coefficients_with(const std::vector<DensityRegion>& regions, cons
   set.body = options.body;
   set.gm = gravitational_constant * props.mass;
   set.reference_radius = reference;
-  set.origin = options.origin == OriginChoice::center_of_mass ? "com" : "mesh";
+  set.origin = to_string(options.origin);
   set.frame = options.frame == FrameChoice::principal ? "principal" : "mesh";
   set.origin_in_mesh = frame.origin;
   set.axes_in_mesh = frame.axes;
@@ -573,6 +576,15 @@ CoefficientSet coefficients_with(const std::vector<DensityRegion>& regions, cons
 }
 
 }  // namespace
+
+std::string to_string(OriginChoice origin) {
+  switch (origin) {
+    case OriginChoice::center_of_mass: return "com";
+    case OriginChoice::mesh: return "mesh";
+    case OriginChoice::point: return "point";
+  }
+  return "";
+}
 
 CoefficientSet compute_coefficients(const std::vector<DensityRegion>& regions,
                                     const ComputeOptions& options) {

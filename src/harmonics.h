@@ -66,7 +66,10 @@ HarmonicMoments harmonic_moments(const std::vector<DensityRegion>& regions, cons
 HarmonicMoments harmonic_moments_reference(const std::vector<DensityRegion>& regions, const HarmonicFrame& frame,
                                            int degree);
 
-enum class OriginChoice { center_of_mass, mesh };
+/// Expansion origin of a computed set: the centre of mass, the mesh origin, or a given point.
+enum class OriginChoice { center_of_mass, mesh, point };
+/// The set's origin label: "com", "mesh", "point".
+std::string to_string(OriginChoice origin);
 enum class FrameChoice { mesh, principal };
 
 /// What `compute` does; every default is printed by the CLI.
@@ -74,6 +77,7 @@ struct ComputeOptions {
   int degree = 8;
   double reference_radius = 0;   ///< m; 0 = Brillouin radius about the chosen origin
   OriginChoice origin = OriginChoice::center_of_mass;
+  Eigen::Vector3d origin_point = Eigen::Vector3d::Zero();  ///< m, mesh frame; used when origin is point
   FrameChoice frame = FrameChoice::mesh;
   Convention convention;         ///< output convention (computed fully normalized, then converted)
   std::string body = "body";

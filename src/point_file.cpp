@@ -4,12 +4,11 @@
 
 #include <algorithm>
 #include <cctype>
-#include <charconv>
-#include <cmath>
 #include <string_view>
 
 #include "errors.h"
 #include "output_file.h"
+#include "quantity.h"
 
 namespace polystokes {
 
@@ -34,25 +33,53 @@ std::vector<std::string_view> split_fields(std::string_view line) {
   }
 }
 
-// Empty string when `field` is a whole finite-or-not number, else why it is not.
-std::string parse_number(std::string_view field, double& value) {
-  if (field.empty()) return "is empty";
-  if (field.front() == '+') field.remove_prefix(1);  // from_chars does not take a leading '+'
-  const auto result = std::from_chars(field.data(), field.data() + field.size(), value);
-  if (result.ec == std::errc::result_out_of_range) return "is out of the range of double";
-  if (result.ec != std::errc() || result.ptr != field.data() + field.size()) return "is not a number";
-  return {};
-}
-
 std::string lower(std::string_view text) {
   std::string out(text);
   std::transform(out.begin(), out.end(), out.begin(), [](unsigned char c) { return char(std::tolower(c)); });
   return out;
 }
 
+// Empty string when `field` is a number under the strict rule, else why it is not.
+std::string parse_number(std::string_view field, double& value) {
+  if (field.empty()) return "is empty";
+  const std::optional<double> number = parse_strict_number(field);
+  if (!number) return "is not a number";
+  value = *number;
+  return {};
+}
+
+// The coordinate unit a header declares: x,y,z (none: the bare unit), x_m,y_m,z_m or x_km,y_km,z_km.
+// Throws FormatError on anything else.
+std::optional<LengthUnit> header_unit(const std::vector<std::string_view>& fields, std::string_view line,
+                                      const std::string& source, long line_number) {
+  static const char* const axes[] = {"x", "y", "z"};
+  std::optional<std::string> suffix;
+  for (int k = 0; k < 3 && size_t(k) < fields.size(); ++k) {
+    const std::string name = lower(fields[size_t(k)]);
+    if (name.empty() || name[0] != axes[k][0] || (name.size() > 1 && name[1] != '_')) {
+      suffix.reset();
+      break;
+    }
+    const std::string unit = name.size() > 1 ? name.substr(2) : "";
+    if (k > 0 && unit != *suffix)
+      throw format_error(source, line_number,
+                         fmt::format("header '{}' gives the coordinates different units", line));
+    suffix = unit;
+  }
+  if (fields.size() < 3 || !suffix || (!suffix->empty() && *suffix != "m" && *suffix != "km"))
+    throw format_error(source, line_number,
+                       fmt::format("expected a header starting with x,y,z (or x_m,y_m,z_m or x_km,y_km,z_km) or "
+                                   "three numbers, got '{}'",
+                                   line));
+  if (suffix->empty()) return std::nullopt;
+  return parse_length_unit(*suffix);
+}
+
 }  // namespace
 
-Points parse_points(const std::string& text, const std::string& source_name) {
+PointList parse_points(const std::string& text, const std::string& source_name, LengthUnit bare_unit) {
+  PointList list;
+  list.unit = bare_unit;
   std::vector<double> coordinates;
   size_t expected_fields = 0;  // 0 until the first header or data line
   long line_number = 0;
@@ -68,10 +95,10 @@ Points parse_points(const std::string& text, const std::string& source_name) {
     const auto fields = split_fields(line);
     double first = 0;
     if (expected_fields == 0 && !parse_number(fields.front(), first).empty()) {
-      if (fields.size() < 3 || lower(fields[0]) != "x" || lower(fields[1]) != "y" || lower(fields[2]) != "z")
-        throw format_error(
-            source_name, line_number,
-            fmt::format("expected a header starting with x,y,z or three numbers, got '{}'", line));
+      if (const auto declared = header_unit(fields, line, source_name, line_number)) {
+        list.unit = *declared;
+        list.unit_declared = true;
+      }
       expected_fields = fields.size();
       continue;
     }
@@ -85,23 +112,24 @@ Points parse_points(const std::string& text, const std::string& source_name) {
       if (const std::string problem = parse_number(fields[size_t(k)], value); !problem.empty())
         throw format_error(source_name, line_number,
                            fmt::format("field {} ('{}') {}", k + 1, fields[size_t(k)], problem));
-      if (!std::isfinite(value))
-        throw format_error(source_name, line_number,
-                           fmt::format("field {} ('{}') is not finite", k + 1, fields[size_t(k)]));
       coordinates.push_back(value);
     }
   }
   if (coordinates.empty()) throw FormatError(source_name + ": no points");
-  Points points(Eigen::Index(coordinates.size() / 3), 3);
-  for (Eigen::Index i = 0; i < points.rows(); ++i)
-    for (int k = 0; k < 3; ++k) points(i, k) = coordinates[size_t(3 * i + k)];
-  return points;
+  const double metres = meters_per(list.unit);
+  list.points.resize(Eigen::Index(coordinates.size() / 3), 3);
+  for (Eigen::Index i = 0; i < list.points.rows(); ++i)
+    for (int k = 0; k < 3; ++k) list.points(i, k) = coordinates[size_t(3 * i + k)] * metres;
+  return list;
 }
 
-Points read_points(const std::string& path) { return parse_points(read_file(path), path); }
+PointList read_points(const std::string& path, LengthUnit bare_unit) {
+  return parse_points(read_file(path), path, bare_unit);
+}
 
 std::string field_table_header(bool with_gradient) {
-  return with_gradient ? "x,y,z,U,ax,ay,az,Txx,Txy,Txz,Tyy,Tyz,Tzz" : "x,y,z,U,ax,ay,az";
+  const std::string values = "x_m,y_m,z_m,U_m2_s2,ax_m_s2,ay_m_s2,az_m_s2";
+  return with_gradient ? values + ",Txx_per_s2,Txy_per_s2,Txz_per_s2,Tyy_per_s2,Tyz_per_s2,Tzz_per_s2" : values;
 }
 
 std::string format_field_table(const Points& points, const std::vector<FieldValue>& values,

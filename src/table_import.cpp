@@ -249,16 +249,15 @@ CoefficientSet parse_table(const std::string& text, const std::string& source_na
     set.sigma_C(key.first, key.second) = row.sigma_c;
     set.sigma_S(key.first, key.second) = row.sigma_s;
   }
-  const double u = meters_per(options.unit);
-  set.gm = *options.gm * u * u * u;
-  set.reference_radius = *options.reference_radius * u;
+  set.gm = *options.gm;
+  set.reference_radius = *options.reference_radius;
   set.body = options.body.empty() ? std::filesystem::path(source_name).filename().string() : options.body;
   set.length_unit = to_string(options.unit);
   set.created = std::string("imported from a table by polystokes ") + POLYSTOKES_VERSION;
   set.history.push_back(
-      fmt::format("imported from table {} (columns {}, {}, reference radius {} {}, GM {} {}^3 s^-2)",
-                  source_name, to_string(options.columns), describe(set.convention),
-                  *options.reference_radius, to_string(options.unit), *options.gm, to_string(options.unit)));
+      fmt::format("imported from table {} (columns {}, {}, reference radius {} m, GM {} m^3 s^-2)",
+                  source_name, to_string(options.columns), describe(set.convention), set.reference_radius,
+                  set.gm));
   if (lowest > 0) {
     // C00 = 1 in every normalization; in J form the stored value is -1.
     set.C(0, 0) = options.zonal_as_j ? -1.0 : 1.0;

@@ -23,9 +23,9 @@ struct TableImportOptions {
   std::optional<Normalization> normalization;  ///< --normalization
   std::optional<bool> condon_shortley;         ///< --condon-shortley / --no-condon-shortley
   bool zonal_as_j = false;                     ///< --zonal-j: the m = 0 values are J_n = -C_n0 (n = 0 too)
-  std::optional<double> reference_radius;      ///< --ref-radius, in `unit`
-  std::optional<double> gm;                    ///< --gm, in unit^3 s^-2
-  LengthUnit unit = LengthUnit::meter;         ///< --unit: of the radius and of GM
+  std::optional<double> reference_radius;      ///< --ref-radius, m
+  std::optional<double> gm;                    ///< --gm, m^3 s^-2
+  LengthUnit unit = LengthUnit::meter;         ///< --unit: the unit bare lengths were given in (echoed)
   std::string body;                            ///< label; default: the file name
 };
 
