@@ -11,7 +11,7 @@
 extern "C" int LLVMFuzzerTestOneInput(const std::uint8_t* data, std::size_t size) {
   const std::string text(reinterpret_cast<const char*>(data), size);
   try {
-    const polystokes::Points points = polystokes::parse_points(text, "fuzz.csv");
+    const polystokes::Points points = polystokes::parse_points(text, "fuzz.csv").points;
     if (!points.allFinite()) std::abort();
   } catch (const polystokes::Error&) {
   }

@@ -4,6 +4,8 @@
 
 #include <Eigen/Dense>
 #include <cmath>
+#include <limits>
+#include <optional>
 #include <complex>
 
 #include "conventions.h"
@@ -121,6 +123,31 @@ Eigen::Vector3d center_of_mass_offset(const CoefficientSet& set) {
 // Lengths are in units of the reference radius and masses in units of M, so
 //   mu^_n^m = i^m sqrt((2n+1)/(2-d_m0)) (C + iS)_nm  (fully normalized),
 //   G^_n^m(x) = i^m r^n Pbar_nm(sin lat) e^{im lon} / sqrt((2-d_m0)(2n+1)).
+namespace {
+
+// A note when the translation's rounding bound exceeds 1e-10 of a degree's RMS:
+// the worst degree and the first degree past the threshold, or nothing.
+std::optional<std::string> shift_rounding_note(const Eigen::VectorXd& bound, const Eigen::VectorXd& rms) {
+  constexpr double threshold = 1e-10;  // computed sets hold 1e-13; 1e-10 is a loss worth saying
+  int first = -1, worst = -1;
+  double worst_ratio = 0;
+  for (Eigen::Index n = 0; n < bound.size(); ++n) {
+    if (rms[n] == 0) continue;
+    const double ratio = bound[n] / rms[n];
+    if (ratio > threshold && first < 0) first = int(n);
+    if (ratio > worst_ratio) worst_ratio = ratio, worst = int(n);
+  }
+  if (first < 0) return std::nullopt;
+  return fmt::format(
+      "Accuracy after the origin shift: rounding in the translation sums is amplified like ((r_B + |d|)/R')^n "
+      "(R' the body's farthest point from the new origin); its bound exceeds {} of the coefficients from degree {} "
+      "on and reaches {:.2g} of the RMS at degree {}. Computing the set about the wanted origin directly "
+      "(compute --origin X,Y,Z) avoids this loss.",
+      threshold, first, worst_ratio, worst);
+}
+
+}  // namespace
+
 CoefficientSet shift_origin(const CoefficientSet& set, const Eigen::Vector3d& shift,
                             const ShiftOptions& options) {
   check_matrices(set);
@@ -191,10 +218,16 @@ CoefficientSet shift_origin(const CoefficientSet& set, const Eigen::Vector3d& sh
   out.S.setZero();
   out.sigma_C.setZero();
   out.sigma_S.setZero();
+  // Running rounding bound of each sum, |fl(sum x_i) - sum x_i| <= gamma_k sum |x_i| with gamma_k ~ k u
+  // (Higham 2002, Accuracy and Stability of Numerical Algorithms, 2nd ed., sec. 4.2): far shifts make the
+  // terms much larger than their sum, and this says by how much at each degree.
+  Eigen::VectorXd rounding_bound = Eigen::VectorXd::Zero(N + 1), degree_rms = Eigen::VectorXd::Zero(N + 1);
   for (int n = 0; n <= N; ++n) {
+    double bound_square = 0, rms_square = 0;
+    const double gamma = 2.0 * (n + 1) * (n + 2) * std::numeric_limits<double>::epsilon();
     for (int m = 0; m <= n; ++m) {
       const Complex beta = i_power(-m) / s_factor(n, m);
-      double c_out = 0, s_out = 0, var_c = 0, var_s = 0;
+      double c_out = 0, s_out = 0, var_c = 0, var_s = 0, abs_c = 0, abs_s = 0;
       for (int k = 0; k <= n; ++k) {
         const int j = n - k;
         for (int lp = 0; lp <= k; ++lp) {
@@ -214,6 +247,8 @@ CoefficientSet shift_origin(const CoefficientSet& set, const Eigen::Vector3d& sh
           const double c_in = work.C(k, lp), s_in = work.S(k, lp);
           c_out += cc * c_in + cs * s_in;
           s_out += sc * c_in + ss * s_in;
+          abs_c += std::abs(cc * c_in) + std::abs(cs * s_in);
+          abs_s += std::abs(sc * c_in) + std::abs(ss * s_in);
           const double vc = work.sigma_C(k, lp) * work.sigma_C(k, lp),
                        vs = work.sigma_S(k, lp) * work.sigma_S(k, lp);
           var_c += cc * cc * vc + cs * cs * vs;
@@ -225,7 +260,11 @@ CoefficientSet shift_origin(const CoefficientSet& set, const Eigen::Vector3d& sh
       // Zonal sine terms vanish identically; the sum only holds rounding there.
       out.S(n, m) = m == 0 ? 0.0 : s_out;
       out.sigma_S(n, m) = m == 0 ? 0.0 : std::sqrt(var_s);
+      bound_square += gamma * gamma * (abs_c * abs_c + (m == 0 ? 0.0 : abs_s * abs_s));
+      rms_square += c_out * c_out + (m == 0 ? 0.0 : s_out * s_out);
     }
+    rounding_bound[n] = std::sqrt(bound_square);
+    degree_rms[n] = std::sqrt(rms_square);
   }
   out.convention = working_convention;
   out = expressed_in(out, set.convention);
@@ -240,8 +279,8 @@ CoefficientSet shift_origin(const CoefficientSet& set, const Eigen::Vector3d& sh
     out.origin = "shifted";
   if (known_brillouin) out.brillouin_radius = brillouin + length;
   out.history.push_back(
-      fmt::format("expansion origin shifted by {} m (set frame) to {} m (mesh frame), exact "
-                  "translation of degrees 0..{}",
+      fmt::format("expansion origin shifted by {} m (set frame) to {} m (mesh frame), translation of "
+                  "degrees 0..{} by the addition theorem (exact but for rounding, see the notes)",
                   vector_text(shift), vector_text(out.origin_in_mesh), N));
   out.notes.push_back(
       fmt::format("After the origin shift of {:.9g} m the series converges only outside "
@@ -252,6 +291,7 @@ CoefficientSet shift_origin(const CoefficientSet& set, const Eigen::Vector3d& sh
         fmt::format("CAUTION: the shift ({:.9g} m) is longer than the {} radius ({:.9g} m): "
                     "the new origin lies outside the body's bounding sphere.",
                     length, known_brillouin ? "Brillouin" : "reference", brillouin));
+  if (const auto loss = shift_rounding_note(rounding_bound, degree_rms)) out.notes.push_back(*loss);
   return out;
 }
 

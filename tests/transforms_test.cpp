@@ -357,6 +357,62 @@ TEST_CASE("shifting the origin to the centre of mass equals computing about the 
   CHECK(shifted.notes.back().find("converges only outside") != std::string::npos);
 }
 
+TEST_CASE("computing about a given point equals computing the translated mesh about its own origin",
+          "[transforms]") {
+  // Independent path for compute's point origin: moving the mesh by -p and expanding about the mesh origin.
+  const Eigen::Vector3d p(420, -310, 150);
+  const Mesh mesh = lumpy_body(3);
+  ComputeOptions options;
+  options.degree = 12;
+  options.reference_radius = 2600;
+  options.origin = OriginChoice::point;
+  options.origin_point = p;
+  const CoefficientSet about_point = compute_coefficients({DensityRegion{mesh, 2100.0}}, options);
+  const Mesh moved = transformed(mesh, Eigen::Matrix3d::Identity(), -p);
+  const CoefficientSet reference = compute_about(moved, 12, 2600, OriginChoice::mesh);
+  require_sets_close(about_point, reference, 12, 1e-13);
+  CHECK(about_point.origin == "point");
+  CHECK(about_point.origin_in_mesh == p);
+}
+
+TEST_CASE("a far shift at high degree states a rounding bound that covers the true error (issue 10, defect 13)",
+          "[transforms]") {
+  // Reference: the same body computed directly about the new origin. The stated bound is Higham's running
+  // bound of the translation sums (Higham 2002, Accuracy and Stability of Numerical Algorithms, sec. 4.2);
+  // the measured error must stay below it and the note must appear for a shift of 0.75 R_B at degree 70.
+  const Mesh mesh = lumpy_body(4);
+  const int degree = 70;
+  const CoefficientSet about_com = compute_about(mesh, degree, 2600, OriginChoice::center_of_mass);
+  const Eigen::Vector3d d = 0.75 * about_com.brillouin_radius * Eigen::Vector3d(0, 0.2, 1).normalized();
+  const CoefficientSet shifted = shift_origin(about_com, d);
+  ComputeOptions direct_options;
+  direct_options.degree = degree;
+  direct_options.reference_radius = 2600;
+  direct_options.origin = OriginChoice::point;
+  direct_options.origin_point = about_com.origin_in_mesh + d;
+  const CoefficientSet direct = compute_coefficients({DensityRegion{mesh, 2100.0}}, direct_options);
+  double worst_error = 0;
+  for (int n = 2; n <= degree; ++n) {
+    double diff = 0, rms = 0;
+    for (int m = 0; m <= n; ++m) {
+      diff += std::pow(shifted.C(n, m) - direct.C(n, m), 2) + std::pow(shifted.S(n, m) - direct.S(n, m), 2);
+      rms += std::pow(direct.C(n, m), 2) + std::pow(direct.S(n, m), 2);
+    }
+    worst_error = std::max(worst_error, std::sqrt(diff / rms));
+  }
+  const std::string& note = shifted.notes.back();
+  INFO(note);
+  REQUIRE(note.find("Accuracy after the origin shift") != std::string::npos);
+  const size_t at = note.find("reaches ") + 8;
+  const double stated = std::stod(note.substr(at, note.find(' ', at) - at));
+  CHECK(worst_error > 1e-10);  // the loss is real at this shift and degree
+  CHECK(worst_error <= stated);
+  // A small shift at low degree loses nothing worth a note.
+  const CoefficientSet near = shift_origin(compute_about(mesh, 12, 2600, OriginChoice::center_of_mass),
+                                           Eigen::Vector3d(30, 0, 0));
+  CHECK(near.notes.back().find("Accuracy after the origin shift") == std::string::npos);
+}
+
 TEST_CASE("shifting by an arbitrary vector equals computing from the translated mesh, in every convention",
           "[transforms]") {
   // The set about point d equals the set of the mesh translated by -d about the mesh origin.
