@@ -125,16 +125,20 @@ Eigen::Vector3d center_of_mass_offset(const CoefficientSet& set) {
 //   G^_n^m(x) = i^m r^n Pbar_nm(sin lat) e^{im lon} / sqrt((2-d_m0)(2n+1)).
 namespace {
 
-// A note when the translation's rounding bound exceeds 1e-10 of a degree's RMS:
-// the worst degree and the first degree past the threshold, or nothing.
+// A note when the translation's rounding bound exceeds 1e-10 of a degree's scale: its RMS, or 1e-3 of the
+// largest RMS of the degrees from it on when that is larger (a degree that vanishes, like degree 1 about the
+// centre of mass, is judged against the body's following terms, as compare does).
 std::optional<std::string> shift_rounding_note(const Eigen::VectorXd& bound, const Eigen::VectorXd& rms) {
   constexpr double threshold = 1e-10;  // computed sets hold 1e-13; 1e-10 is a loss worth saying
+  constexpr double relative_floor = 1e-3;
   int first = -1, worst = -1;
-  double worst_ratio = 0;
-  for (Eigen::Index n = 0; n < bound.size(); ++n) {
-    if (rms[n] == 0) continue;
-    const double ratio = bound[n] / rms[n];
-    if (ratio > threshold && first < 0) first = int(n);
+  double worst_ratio = 0, following = 0;
+  for (Eigen::Index n = bound.size() - 1; n >= 0; --n) {
+    following = std::max(following, rms[n]);
+    const double scale = std::max(rms[n], relative_floor * following);
+    if (scale == 0) continue;
+    const double ratio = bound[n] / scale;
+    if (ratio > threshold) first = int(n);
     if (ratio > worst_ratio) worst_ratio = ratio, worst = int(n);
   }
   if (first < 0) return std::nullopt;

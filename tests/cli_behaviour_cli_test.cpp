@@ -238,11 +238,18 @@ TEST_CASE("usage errors exit 1, bad input exits 2 with a one-line message naming
 TEST_CASE("quiet (-q) prints nothing on success, verbose (-v) adds detail on stderr", "[cli_behaviour]") {
   const std::string dir = temp_directory();
   const std::string cube = quoted(source_path("shapes-demo/unit_cube.obj"));
-  const SplitResult quiet = run_split("-q compute " + cube + " --density 1000 --degree 4 -o " + quoted(dir + "/q.txt"));
+  // In km the demo cube is a plausible small body, so the run has no warning to print.
+  const SplitResult quiet =
+      run_split("-q compute " + cube + " --unit km --density 1000 --degree 4 -o " + quoted(dir + "/q.txt"));
   CHECK(quiet.exit_code == 0);
   CHECK(quiet.out.empty());
   CHECK(quiet.err.empty());
   CHECK(file_exists(dir + "/q.txt"));
+  // A warning is never silenced: in metres the cube is smaller than any small body (docs/units.md).
+  const SplitResult warned = run_split("-q compute " + cube + " --density 1000 --degree 4 -o " + quoted(dir + "/w.txt"));
+  CHECK(warned.exit_code == 0);
+  CHECK(warned.out.empty());
+  CHECK(warned.err.find("polystokes: warning: the body reaches") != std::string::npos);
 
   // -q after the command name works too; inspect -q answers through its exit code alone.
   const SplitResult good = run_split("inspect " + cube + " -q");

@@ -285,8 +285,9 @@ TEST_CASE("convert CLI: conventions change exactly as the library does, text and
   CHECK(out.C == expected.C);
   CHECK(out.S == expected.S);
   CHECK(out.sigma_C == expected.sigma_C);
-  REQUIRE(out.history.size() == body_set().history.size() + 2);
-  CHECK(out.history[out.history.size() - 2] == "polystokes convert of " + in);
+  REQUIRE(out.history.size() == body_set().history.size() + 3);
+  CHECK(out.history[out.history.size() - 3] == "polystokes convert of " + in);
+  CHECK(out.history[out.history.size() - 2] == "inputs as interpreted: unit m (bare lengths)");
   const CoefficientSet json = read_coefficient_file(dir + "/out.json");
   CHECK(json.C == out.C);
   // Potential unchanged, by the GSL-sum evaluator in each file's own convention.

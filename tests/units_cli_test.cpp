@@ -1,6 +1,7 @@
 // The one unit rule (docs/units.md) through every command: the same physical inputs given once in m and once in
 // km give identical results, bare GM/mass/density are SI in every command, and malformed numbers are refused.
 #include <catch2/catch.hpp>
+#include <nlohmann/json.hpp>
 
 #include "coefficient_file.h"
 #include "mesh_io.h"
@@ -140,10 +141,11 @@ TEST_CASE("validate reads --altitudes in the mesh unit: 1 with --unit km is 1000
                                          " --radii 2 --samples 20 " + extra + " --json " + arg(out));
     INFO(result.output);
     REQUIRE(result.exit_code == 0);
-    return read_bytes(out);
+    // The shells only: the m file's checksum differs from the one the set records, which is warned about.
+    return nlohmann::json::parse(read_bytes(out)).at("shells");
   };
-  const std::string km = altitudes(body.km, "--unit km --altitudes 1");
-  CHECK(km.find("1000") != std::string::npos);
+  const nlohmann::json km = altitudes(body.km, "--unit km --altitudes 1");
+  CHECK(km.dump().find("\"altitude_m\":1000.0") != std::string::npos);
   CHECK(altitudes(body.m, "--unit m --altitudes 1000") == km);
   CHECK(altitudes(body.km, "--altitudes 1000m") == km);  // --unit defaults to the set's km
 }

@@ -51,7 +51,8 @@ struct Fixture {
     REQUIRE(compute.exit_code == 0);
     points = dir + "/points.csv";
     // Far points (> 2 R_B about the centre of mass), one near the surface inside the Brillouin sphere.
-    write_text(points, "x,y,z\n5000,0,0\n-1000,4000,2500\n300,-200,4800\n300,-200,950\n");
+    // The header declares metres, so the points read the same whatever --unit the command is given.
+    write_text(points, "x_m,y_m,z_m\n5000,0,0\n-1000,4000,2500\n300,-200,4800\n300,-200,950\n");
   }
 };
 
@@ -75,7 +76,9 @@ TEST_CASE(
   std::string header_s, header_e;
   const auto s = read_table(f.dir + "/series.csv", header_s);
   const auto e = read_table(f.dir + "/exact.csv", header_e);
-  CHECK(header_s == "x,y,z,U,ax,ay,az,Txx,Txy,Txz,Tyy,Tyz,Tzz");
+  CHECK(header_s ==
+        "x_m,y_m,z_m,U_m2_s2,ax_m_s2,ay_m_s2,az_m_s2,Txx_per_s2,Txy_per_s2,Txz_per_s2,Tyy_per_s2,Tyz_per_s2,"
+        "Tzz_per_s2");
   CHECK(header_e == header_s);
   REQUIRE(s.size() == 4);
   REQUIRE(e.size() == 4);
@@ -100,7 +103,7 @@ TEST_CASE(
   REQUIRE(low.exit_code == 0);
   std::string header_low;
   const auto l = read_table(f.dir + "/low.csv", header_low);
-  CHECK(header_low == "x,y,z,U,ax,ay,az");
+  CHECK(header_low == "x_m,y_m,z_m,U_m2_s2,ax_m_s2,ay_m_s2,az_m_s2");
   const CoefficientSet set = read_coefficient_file(f.set);
   const double r = (Eigen::Vector3d(5000, 0, 0) - set.origin_in_mesh).norm();
   CHECK(l[0][3] == Approx(set.gm / r).epsilon(1e-15));  // degree 0 = point mass at the centre of mass
@@ -137,7 +140,7 @@ TEST_CASE("validate: table, recommended degrees, Brillouin warning for a low alt
   const std::string json = f.dir + "/v.json";
   const CommandResult r =
       run_cli("validate " + shell_arg(f.mesh) + " " + shell_arg(f.set) +
-              " --radii 1.5,2,3 --altitudes 30 --samples 40 --target 1e-6 --json " + shell_arg(json));
+              " --radii 1.5,2,3 --altitudes 30m --samples 40 --target 1e-6 --json " + shell_arg(json));
   CAPTURE(r.output);
   REQUIRE(r.exit_code == 0);
   CHECK(r.output.find("densities taken from") != std::string::npos);  // --density and --unit from the set
