@@ -161,14 +161,16 @@ void add_expansion_options(CLI::App* cmd, ExpansionOptions& expansion) {
                   "Body label written into the set (default: first mesh file name)");
 }
 
-ComputeOptions compute_options(const ExpansionOptions& expansion, LengthUnit unit,
-                               const std::string& first_mesh) {
+ComputeOptions compute_options(const ExpansionOptions& expansion, LengthUnit unit, const std::string& first_mesh,
+                               std::vector<SummaryRow>& echo) {
   ComputeOptions compute;
   compute.degree = expansion.degree;
-  if (!expansion.reference_radius.empty())
-    compute.reference_radius =
-        option_quantity(expansion.reference_radius, QuantityKind::length, unit, "--ref-radius", Bound::positive)
-            .value;
+  if (!expansion.reference_radius.empty()) {
+    const Quantity radius =
+        option_quantity(expansion.reference_radius, QuantityKind::length, unit, "--ref-radius", Bound::positive);
+    compute.reference_radius = radius.value;
+    echo.push_back({"reference radius", describe_quantity(radius, QuantityKind::length), ""});
+  }
   if (expansion.origin == "com") {
     compute.origin = OriginChoice::center_of_mass;
   } else if (expansion.origin == "mesh") {
@@ -176,6 +178,9 @@ ComputeOptions compute_options(const ExpansionOptions& expansion, LengthUnit uni
   } else {
     compute.origin = OriginChoice::point;
     compute.origin_point = option_point(expansion.origin, unit, "--origin");
+    const Eigen::Vector3d& p = compute.origin_point;
+    echo.push_back({"origin point", fmt::format("({}, {}, {}) m", p.x(), p.y(), p.z()),
+                    "given as " + expansion.origin + (unit == LengthUnit::meter ? "" : " (bare: km)")});
   }
   compute.frame = expansion.frame == "principal" ? FrameChoice::principal : FrameChoice::mesh;
   compute.convention.normalization = parse_normalization(expansion.normalization);

@@ -54,6 +54,13 @@ void add_mesh_file_options(CLI::App* cmd, std::string& unit, std::string& merge_
 /// Registers --merge-tolerance alone (for a command whose --unit means something else).
 void add_merge_tolerance_option(CLI::App* cmd, std::string& merge_tolerance);
 
+/// One line of a summary table: a quantity, its value with unit, and an optional remark.
+struct SummaryRow {
+  std::string label;
+  std::string value;
+  std::string remark;
+};
+
 /// How an expansion is made from meshes: compute and uncertainty.
 struct ExpansionOptions {
   int degree = 8;
@@ -73,9 +80,9 @@ void add_degree_option(CLI::App* cmd, int& degree);
 void add_expansion_options(CLI::App* cmd, ExpansionOptions& expansion);
 
 /// The library's options for `expansion` (lengths given in `unit`; body defaults to `first_mesh`), with the
-/// default execution settings.
-ComputeOptions compute_options(const ExpansionOptions& expansion, LengthUnit unit,
-                               const std::string& first_mesh);
+/// default execution settings. The lengths given are appended to `echo` as interpreted.
+ComputeOptions compute_options(const ExpansionOptions& expansion, LengthUnit unit, const std::string& first_mesh,
+                               std::vector<SummaryRow>& echo);
 
 /// A coefficient set to write: -o in our text format, optionally --json as well.
 struct SetOutputOptions {
@@ -125,12 +132,6 @@ LengthUnit parse_unit_option(const std::string& text);
 /// Prints "polystokes: TEXT" on stderr when -v was given at least `level` times (and not -q).
 void print_verbose(const GlobalOptions& global, int level, const std::string& text);
 
-/// One line of a summary table: a quantity, its value with unit, and an optional remark.
-struct SummaryRow {
-  std::string label;
-  std::string value;
-  std::string remark;
-};
 
 /// The rows as a table: two-space indent, then label, value and remark columns, each as wide as its widest
 /// entry (rows with an empty label continue the row above).

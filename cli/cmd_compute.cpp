@@ -64,30 +64,6 @@ double elapsed_since(std::chrono::steady_clock::time_point start) {
   return std::chrono::duration<double>(std::chrono::steady_clock::now() - start).count();
 }
 
-/// The options as interpreted, for the summary and the set's history: the bare-length unit and every length
-/// given (mesh unit m or km; GM, mass and density are SI unless they carry a unit).
-std::vector<SummaryRow> interpreted_inputs(const ComputeCommandOptions& options, const ComputeOptions& compute,
-                                           const MeshReadOptions& read) {
-  std::vector<SummaryRow> echo;
-  echo.push_back({"unit", to_string(read.unit), "of the mesh files and of bare lengths given here"});
-  const ExpansionOptions& expansion = options.expansion;
-  if (!expansion.reference_radius.empty())
-    echo.push_back({"reference radius",
-                    describe_quantity(parse_quantity(expansion.reference_radius, QuantityKind::length, read.unit,
-                                                     "--ref-radius"),
-                                      QuantityKind::length),
-                    ""});
-  if (compute.origin == OriginChoice::point) {
-    const Eigen::Vector3d& p = compute.origin_point;
-    echo.push_back({"origin point", fmt::format("({}, {}, {}) m", p.x(), p.y(), p.z()),
-                    "given as " + expansion.origin + (read.unit == LengthUnit::meter ? "" : " (bare: km)")});
-  }
-  if (read.merge_tolerance > 0)
-    echo.push_back({"merge tolerance",
-                    fmt::format("{} m", read.merge_tolerance * meters_per(read.unit)), ""});
-  return echo;
-}
-
 /// "LABEL VALUE; ..." of interpreted inputs, for the set's history.
 std::string history_line(const std::vector<SummaryRow>& echo) {
   std::string line = "inputs as interpreted:";
@@ -169,8 +145,10 @@ void run_compute(const ComputeCommandOptions& options, const GlobalOptions& glob
                 fmt::format("degree {} needs about {:.3g} GB of memory; {:.3g} GB available", degree,
                             run_bytes / 1e9, available_memory_bytes() / 1e9));
   // Every option is interpreted before the first mesh is read, so a slip costs no reading time.
-  ComputeOptions compute = compute_options(options.expansion, unit, input.meshes.front());
-  std::vector<SummaryRow> echo = interpreted_inputs(options, compute, read);
+  std::vector<SummaryRow> echo{{"unit", to_string(unit), "of the mesh files and of bare lengths given here"}};
+  if (read.merge_tolerance > 0)
+    echo.push_back({"merge tolerance", fmt::format("{} m", read.merge_tolerance * meters_per(unit)), ""});
+  ComputeOptions compute = compute_options(options.expansion, unit, input.meshes.front(), echo);
   std::vector<Mesh> meshes;
   for (const auto& path : input.meshes) meshes.push_back(load_checked_mesh(path, read, global));
   print_verbose(global, 1, fmt::format("meshes read and checked in {:.3f} s", elapsed_since(start)));

@@ -135,7 +135,8 @@ void run_uncertainty_command(const UncertaintyCommandOptions& options, const Glo
   const SetOutputOptions& files = options.files;
   const LengthUnit unit = parse_unit_option(input.unit);
   // Every option is interpreted before the first mesh is read, so a slip costs no reading time.
-  ComputeOptions compute = compute_options(options.expansion, unit, input.meshes.front());
+  std::vector<SummaryRow> echo;
+  ComputeOptions compute = compute_options(options.expansion, unit, input.meshes.front(), echo);
   compute.execution.threads = options.threads;
   UncertaintySettings settings;
   settings.samples = options.samples;
@@ -170,6 +171,7 @@ void run_uncertainty_command(const UncertaintyCommandOptions& options, const Glo
     write_file_atomically(files.output, format_shard_text(part));
     if (global.quiet) return;
     print_settings(out, plan.settings, plan.nominal.body, plan.nominal.degree);
+    for (const SummaryRow& row : echo) fmt::print(out, "  {:<18} {}\n", row.label, row.value);
     fmt::print(out, "  shard              {}/{}: {} of the {} samples\n", shard->index, shard->count,
                part.samples.size(), settings.samples);
     fmt::print(out, "  written            {} (combine all {} shards with polystokes uncertainty-merge)\n",
@@ -179,6 +181,7 @@ void run_uncertainty_command(const UncertaintyCommandOptions& options, const Glo
     write_set_files(result.set, files);
     if (global.quiet) return;
     print_settings(out, plan.settings, plan.nominal.body, plan.nominal.degree);
+    for (const SummaryRow& row : echo) fmt::print(out, "  {:<18} {}\n", row.label, row.value);
     print_summary(out, result);
     fmt::print(out, "  written            {}{}\n", files.output,
                files.json.empty() ? "" : " and " + files.json);
