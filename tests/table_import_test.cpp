@@ -57,16 +57,6 @@ std::string table_text(const CoefficientSet& set, const std::string& separator, 
   return text;
 }
 
-void require_identical(const CoefficientSet& a, const CoefficientSet& b) {
-  REQUIRE(a.degree == b.degree);
-  CHECK(a.C == b.C);
-  CHECK(a.S == b.S);
-  CHECK(a.sigma_C == b.sigma_C);
-  CHECK(a.sigma_S == b.sigma_S);
-  CHECK(a.convention == b.convention);
-  CHECK(a.gm == b.gm);
-  CHECK(a.reference_radius == b.reference_radius);
-}
 
 }  // namespace
 
@@ -80,7 +70,7 @@ TEST_CASE("a table read back reproduces the set exactly, whitespace or comma sep
       TableImportOptions options = declared(set, "skip,n,m,C,S,sigma_C,sigma_S");
       options.skip_lines = 2;
       const CoefficientSet read = parse_table(table_text(set, separator), "team.tab", options);
-      require_identical(read, set);
+      require_sets_identical(read, set);
       CHECK(read.body == "team.tab");
       CHECK(read.history.front().find("imported from table team.tab") != std::string::npos);
       CHECK(read.origin == "com");

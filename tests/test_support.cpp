@@ -10,6 +10,8 @@
 #include <sys/wait.h>
 #include <unistd.h>
 
+#include "conventions.h"
+
 namespace polystokes::test {
 
 double max_coefficient_difference(const CoefficientSet& a, const CoefficientSet& b, int max_degree) {
@@ -18,6 +20,17 @@ double max_coefficient_difference(const CoefficientSet& a, const CoefficientSet&
     for (int m = 0; m <= n; ++m)
       worst = std::max({worst, std::abs(a.C(n, m) - b.C(n, m)), std::abs(a.S(n, m) - b.S(n, m))});
   return worst;
+}
+
+void require_sets_identical(const CoefficientSet& a, const CoefficientSet& b) {
+  REQUIRE(a.degree == b.degree);
+  CHECK(a.C == b.C);
+  CHECK(a.S == b.S);
+  CHECK(a.sigma_C == b.sigma_C);
+  CHECK(a.sigma_S == b.sigma_S);
+  CHECK(a.convention == b.convention);
+  CHECK(a.gm == b.gm);
+  CHECK(a.reference_radius == b.reference_radius);
 }
 
 void require_sets_close(const CoefficientSet& a, const CoefficientSet& b, int max_degree, double tolerance) {

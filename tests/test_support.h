@@ -12,6 +12,10 @@ namespace polystokes::test {
 /// Checks |a(n,m) - b(n,m)| <= tolerance for C and S at every n <= max_degree, CAPTUREs n, m on failure.
 void require_sets_close(const CoefficientSet& a, const CoefficientSet& b, int max_degree, double tolerance);
 
+/// Checks that a and b hold the same numbers bit for bit: degree, GM, reference radius, convention, C, S and
+/// both sigmas.
+void require_sets_identical(const CoefficientSet& a, const CoefficientSet& b);
+
 /// Largest |a - b| over C and S up to max_degree.
 double max_coefficient_difference(const CoefficientSet& a, const CoefficientSet& b, int max_degree);
 

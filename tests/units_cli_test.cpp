@@ -37,14 +37,8 @@ struct TwoUnits {
 };
 
 void require_same_coefficients(const CoefficientSet& a, const CoefficientSet& b) {
-  REQUIRE(a.degree == b.degree);
-  CHECK(a.gm == b.gm);
-  CHECK(a.reference_radius == b.reference_radius);
+  require_sets_identical(a, b);
   CHECK(a.origin_in_mesh == b.origin_in_mesh);
-  CHECK(a.C == b.C);
-  CHECK(a.S == b.S);
-  CHECK(a.sigma_C == b.sigma_C);
-  CHECK(a.sigma_S == b.sigma_S);
 }
 
 }  // namespace
