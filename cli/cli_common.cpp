@@ -17,6 +17,7 @@
 #include "harmonics.h"
 #include "mesh_check.h"
 #include "mesh_io.h"
+#include "output_file.h"
 
 namespace polystokes::cli {
 
@@ -192,12 +193,32 @@ ComputeOptions compute_options(const ExpansionOptions& expansion, LengthUnit uni
 
 void add_set_output_options(CLI::App* cmd, SetOutputOptions& files, const std::string& output_help) {
   cmd->add_option("-o,--output", files.output, output_help)->required();
-  cmd->add_option("--json", files.json, "Also write the set as JSON to this file");
+  const CLI::Validator json_name(
+      [](const std::string& path) -> std::string {
+        if (path == "-" || coefficient_form_for(path) == CoefficientForm::json) return {};
+        return "'" + path +
+               "' does not end in .json: --json writes a JSON copy (-o writes the form its own " +
+               "name asks for: .json for JSON, any other name our text format)";
+      },
+      "FILE.json");
+  cmd->add_option("--json", files.json,
+                  "Also write the set as JSON to this file (a .json name, or - for stdout)")
+      ->check(json_name);
+}
+
+void check_set_output_paths(const SetOutputOptions& files) {
+  check_output_path(files.output);
+  if (files.json.empty()) return;
+  check_output_path(files.json);
+  if (same_output_file(files.output, files.json))
+    throw ConventionError("-o " + files.output + " and --json " + files.json + " name the same file");
 }
 
 void write_set_files(const CoefficientSet& set, const SetOutputOptions& files) {
-  write_coefficient_file(set, files.output);
-  if (!files.json.empty()) write_coefficient_json(set, files.json);
+  std::vector<CoefficientOutput> outputs{{files.output, coefficient_form_for(files.output)}};
+  if (!files.json.empty()) outputs.push_back({files.json, CoefficientForm::json});
+  const OutputSection writing;
+  write_coefficient_files(set, outputs);
 }
 
 void add_threads_option(CLI::App* cmd, int& threads, const std::string& remark) {

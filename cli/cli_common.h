@@ -84,18 +84,26 @@ void add_expansion_options(CLI::App* cmd, ExpansionOptions& expansion);
 ComputeOptions compute_options(const ExpansionOptions& expansion, LengthUnit unit, const std::string& first_mesh,
                                std::vector<SummaryRow>& echo);
 
-/// A coefficient set to write: -o in our text format, optionally --json as well.
+/// A coefficient set to write: -o in the form its name asks for (coefficient_form_for: a .json name is JSON,
+/// any other name our text format), optionally a second copy as JSON with --json.
 struct SetOutputOptions {
   std::string output;
   std::string json;  ///< empty = none
 };
 
-/// Registers -o,--output (required) with `output_help`, then --json.
-void add_set_output_options(
-    CLI::App* cmd, SetOutputOptions& files,
-    const std::string& output_help = "Coefficient file to write (our text format; - for stdout)");
+/// Registers -o,--output (required) with `output_help`, then --json, whose name must end in .json (or be
+/// "-"): a mismatch is a usage error rather than a file whose name says another form.
+void add_set_output_options(CLI::App* cmd, SetOutputOptions& files,
+                            const std::string& output_help =
+                                "Coefficient file to write: JSON if the name ends in .json, otherwise our "
+                                "text format (- for stdout)");
 
-/// Writes the set to files.output and, if given, as JSON to files.json (each all-or-nothing).
+/// Refuses, before any work, set outputs that cannot be written (check_output_path) or that name one file
+/// twice (ConventionError).
+void check_set_output_paths(const SetOutputOptions& files);
+
+/// Writes the set to files.output and, if given, as JSON to files.json: both or neither (one OutputGroup,
+/// inside an OutputSection, so an interrupt cannot leave one replaced and the other not).
 void write_set_files(const CoefficientSet& set, const SetOutputOptions& files);
 
 /// Registers --threads (0 = all cores, the default); `remark` is appended to the help text.

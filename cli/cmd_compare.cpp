@@ -16,7 +16,7 @@ namespace {
 struct CompareCommandOptions {
   std::string a, b, json;
   double tolerance = 1e-6;
-  bool frame = false;
+  bool align_frames = false;
   int max_degree = -1;
   int largest = 10;
   bool no_diagnosis = false;
@@ -29,11 +29,13 @@ std::string describe_set(const std::string& path, const CoefficientSet& set) {
 }
 
 void run_compare(const CompareCommandOptions& options, const GlobalOptions& global) {
+  check_input_path(options.a);
+  check_input_path(options.b);
   const CoefficientSet a = read_coefficient_file(options.a);
   const CoefficientSet b = read_coefficient_file(options.b);
   CompareOptions compare;
   compare.tolerance = options.tolerance;
-  compare.align_frame = options.frame;
+  compare.align_frame = options.align_frames;
   compare.max_degree = options.max_degree;
   compare.largest_count = options.largest;
   compare.diagnose = !options.no_diagnosis;
@@ -53,27 +55,21 @@ void setup_compare(CLI::App& app, const GlobalOptions& global) {
   auto* cmd = app.add_subcommand(
       "compare",
       "Compare two coefficient sets degree by degree and name the likely mismatch.\n"
-      "B is brought to A's normalization, phase, zonal form, reference radius and GM (and, with --frame, to "
-      "A's\n"
-      "origin and axes); per degree the RMS of A, B and A-B, their relative difference and correlation are\n"
-      "listed. When they differ, the usual exchange mistakes are tested on B (normalization or phase other "
-      "than\n"
-      "declared, J_n sign, reference radius or GM factor, reversed longitudes, turn about z, swapped C/S, "
-      "other\n"
-      "origin) and ranked by the misfit left. Exit code 0 whether or not they agree; the verdict line "
-      "starts\n"
-      "with AGREE or DIFFER.\n"
+      "B is brought to A's normalization, phase, zonal form, reference radius and GM (and, with\n"
+      "--align-frames, to A's origin and axes); per degree the RMS of A, B and A-B, their relative\n"
+      "difference and correlation are listed. When they differ, the usual exchange mistakes are tested\n"
+      "on B (normalization or phase other than declared, J_n sign, reference radius or GM factor,\n"
+      "reversed longitudes, turn about z, swapped C/S, other origin) and ranked by the misfit left.\n"
+      "Exit code 0 whether or not they agree; the verdict line starts with AGREE or DIFFER.\n"
       "Example: polystokes compare varnek.txt team_varnek.txt --tolerance 1e-8 --json comparison.json");
-  cmd->add_option("a", options->a, "Reference set A (our text or JSON format)")
-      ->required()
-      ->check(CLI::ExistingFile);
-  cmd->add_option("b", options->b, "Set B, compared with A")->required()->check(CLI::ExistingFile);
+  cmd->add_option("a", options->a, "Reference set A (our text or JSON format)")->required();
+  cmd->add_option("b", options->b, "Set B, compared with A")->required();
   cmd->add_option("--tolerance", options->tolerance,
                   "Relative RMS difference per degree counted as agreement")
       ->check(strict_number())
       ->check(CLI::NonNegativeNumber)
       ->capture_default_str();
-  cmd->add_flag("--frame", options->frame,
+  cmd->add_flag("--align-frames", options->align_frames,
                 "Also bring B to A's origin and axes (both recorded against the same mesh)");
   cmd->add_option("--max-degree", options->max_degree,
                   "Highest degree compared (default: the smaller degree)")

@@ -8,6 +8,7 @@
 #include <thread>
 
 #include "cli_common.h"
+#include "coefficient_file.h"
 #include "conventions.h"
 #include "errors.h"
 #include "harmonics.h"
@@ -133,12 +134,12 @@ void run_compute(const ComputeCommandOptions& options, const GlobalOptions& glob
   const MeshReadOptions read = mesh_read_options(input);
   const LengthUnit unit = read.unit;
   for (const auto& path : input.meshes) check_input_path(path);
-  check_output_path(files.output);
-  if (!files.json.empty()) check_output_path(files.json);
+  check_set_output_paths(files);
   // Refused before any mesh is read: the tables, partial sums and written text of this degree.
   const int threads =
       options.threads > 0 ? options.threads : int(std::max(1u, std::thread::hardware_concurrency()));
-  const double run_bytes = coefficient_run_bytes(degree, threads, !files.json.empty());
+  const bool json = !files.json.empty() || coefficient_form_for(files.output) == CoefficientForm::json;
+  const double run_bytes = coefficient_run_bytes(degree, threads, json);
   require_memory(run_bytes,
                  fmt::format("computing and writing a set of degree {} on {} thread(s)", degree, threads));
   print_verbose(global, 1,
@@ -171,7 +172,7 @@ void run_compute(const ComputeCommandOptions& options, const GlobalOptions& glob
   print_verbose(global, 1, fmt::format("coefficients computed in {:.3f} s", elapsed_since(compute_start)));
 
   {
-    // An interrupt now waits until both files are complete, so it never leaves one half-replaced.
+    // Opened before the message, so that an interrupt seen after "writing" waits for both files.
     const OutputSection writing;
     print_verbose(global, 1, "writing " + files.output + (files.json.empty() ? "" : " and " + files.json));
     write_set_files(set, files);

@@ -84,6 +84,8 @@ CoefficientSet read_input(const ConvertOptions& options, const GlobalOptions& gl
 }
 
 void run_convert(const ConvertOptions& options, const GlobalOptions& global) {
+  check_input_path(options.input);
+  check_set_output_paths(options.files);
   const LengthUnit unit = parse_unit_option(options.unit);
   CoefficientSet set = read_input(options, global, unit);
   if (!options.body.empty()) set.body = options.body;
@@ -181,8 +183,7 @@ void setup_convert(CLI::App& app, const GlobalOptions& global) {
       "  polystokes convert team.tab --columns n,m,C,S,sigma_C,sigma_S --normalization unnormalized\n"
       "      --no-condon-shortley --zonal-j --ref-radius 2 --gm 1.1e-4km3/s2 --unit km --skip-lines 3 -o team.txt");
   cmd->add_option("input", options->input, "Coefficient set or plain table (- for stdin)")
-      ->required()
-      ->check(CLI::ExistingFile | CLI::IsMember({"-"}));
+      ->required();
   add_set_output_options(cmd, options->files);
   cmd->add_option("--unit", options->unit,
                   "Unit of bare lengths given here: m or km (GM is m^3 s^-2 unless it carries a unit)")

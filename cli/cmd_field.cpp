@@ -93,6 +93,8 @@ std::vector<FieldValue> series_field(const FieldOptions& options, const Points& 
 }
 
 void run_field(const FieldOptions& options, const GlobalOptions& global) {
+  for (const auto& input : options.input.meshes) check_input_path(input);
+  check_input_path(options.points);
   const PointList list = read_points(options.points, parse_unit_option(options.input.unit));
   const Points& points = list.points;
   print_notice(global, fmt::format("{}: {} points read in {} ({})", options.points, points.rows(),
@@ -127,8 +129,7 @@ void setup_field(CLI::App& app, const GlobalOptions& global) {
       "          polystokes field body.obj --unit km --density 1900 --points pts.csv -o exact.csv");
   cmd->add_option("input", options->input.meshes,
                   "Coefficient set, or mesh(es) .obj/.off/.ply/.stl with --density")
-      ->required()
-      ->check(CLI::ExistingFile);
+      ->required();
   cmd->add_option("--points", options->points,
                   "CSV file of points x,y,z (bare: --unit; or a header declaring m or km; '-' for stdin)")
       ->required();

@@ -25,6 +25,8 @@ struct ReportOptions {
 };
 
 void run_report(const ReportOptions& options, const GlobalOptions& global) {
+  for (const std::string* path : {&options.set, &options.mesh, &options.compare})
+    if (!path->empty()) check_input_path(*path);
   ReportInput input;
   input.set = read_coefficient_file(options.set);
   input.set_source = options.set;
@@ -62,19 +64,27 @@ void setup_report(CLI::App& app, const GlobalOptions& global) {
       "Example: polystokes report varnek.txt --mesh shapes-demo/varnek.obj --unit km -o varnek.html");
   cmd->add_option("set", options->set, "Coefficient file (our text or JSON format; - for stdin)")->required();
   cmd->add_option("--mesh", options->mesh,
-                  "Shape mesh of the body (.obj, .off, .ply, .stl), same frame as the set")
-      ->check(CLI::ExistingFile);
+                  "Shape mesh of the body (.obj, .off, .ply, .stl), same frame as the set");
   add_mesh_file_options(cmd, options->unit, options->merge_tolerance,
                         "Length unit of the mesh file: m or km");
   add_quantity_option(cmd, "--density", options->density, QuantityKind::density,
                       "Density for the mesh's mass properties (default: from the set)");
+  // Open below: the map must lie outside the Brillouin sphere, where the series converges.
+  const CLI::Validator above_one_up_to_1e6(
+      [](const std::string& text) -> std::string {
+        double value = 0;
+        if (!CLI::detail::lexical_cast(text, value) || !(value > 1 && value <= 1e6))
+          return "'" + text + "' is not a number greater than 1 and at most 1e6";
+        return {};
+      },
+      "FLOAT in (1, 1e6]");
   cmd->add_option("--map-radius", options->map_radius,
-                  "Radius of the field-map sphere as a multiple of the Brillouin radius (> 1)")
+                  "Radius of the field-map sphere as a multiple of the Brillouin radius: greater than 1 "
+                  "(outside the sphere), at most 1e6")
       ->check(strict_number())
-      ->check(CLI::Range(1.0, 1e6))
+      ->check(above_one_up_to_1e6)
       ->capture_default_str();
-  cmd->add_option("--compare", options->compare, "Second coefficient set to compare with (B; this set is A)")
-      ->check(CLI::ExistingFile);
+  cmd->add_option("--compare", options->compare, "Second coefficient set to compare with (B; this set is A)");
   cmd->add_option("--tolerance", options->tolerance,
                   "Relative RMS difference per degree up to which the two sets agree")
       ->check(strict_number())

@@ -8,6 +8,7 @@
 #include <memory>
 
 #include "cli_common.h"
+#include "coefficient_file.h"
 #include "conventions.h"
 #include "errors.h"
 #include "output_file.h"
@@ -133,6 +134,15 @@ void run_uncertainty_command(const UncertaintyCommandOptions& options, const Glo
   const auto start = std::chrono::steady_clock::now();
   const MeshInputOptions& input = options.input;
   const SetOutputOptions& files = options.files;
+  for (const auto& path : input.meshes) check_input_path(path);
+  if (options.shard.empty()) {
+    check_set_output_paths(files);
+  } else {
+    check_output_path(files.output);
+    if (coefficient_form_for(files.output) == CoefficientForm::json)
+      throw ConventionError("--shard writes a shard file in our text form, but -o " + files.output +
+                            " asks for JSON: give the shard another name (the merged set may be .json)");
+  }
   const LengthUnit unit = parse_unit_option(input.unit);
   // Every option is interpreted before the first mesh is read, so a slip costs no reading time.
   std::vector<SummaryRow> echo;
@@ -192,6 +202,8 @@ void run_uncertainty_command(const UncertaintyCommandOptions& options, const Glo
 }
 
 void run_merge_command(const MergeCommandOptions& options, const GlobalOptions& global) {
+  for (const auto& path : options.shards) check_input_path(path);
+  check_set_output_paths(options.files);
   std::vector<UncertaintyShard> shards;
   for (const auto& path : options.shards) shards.push_back(parse_shard_text(read_file(path), path));
   const UncertaintyResult result = merge_shards(shards, options.shards);
@@ -236,9 +248,7 @@ void setup_uncertainty(CLI::App& app, const GlobalOptions& global) {
       "Example: polystokes uncertainty body.obj --unit km --density 1900 --degree 12 --samples 200 --seed 7\n"
       "         --shape-sigma 0.02 --correlation-length 0.3 -o body_sigma.txt");
   // There is no --gm/--mass alternative here: every mesh needs its density.
-  const MeshListOptions mesh_list = add_mesh_list_options(cmd, options->input);
-  mesh_list.meshes->check(CLI::ExistingFile);
-  mesh_list.densities->required();
+  add_mesh_list_options(cmd, options->input).densities->required();
   add_degree_option(cmd, options->expansion.degree);
   add_mesh_file_options(cmd, options->input.unit, options->input.merge_tolerance,
                         "Length unit of the mesh files and of every length option: m or km");
@@ -284,9 +294,7 @@ void setup_uncertainty(CLI::App& app, const GlobalOptions& global) {
       "All shards must come from the same mesh and settings and together hold every sample exactly once;\n"
       "the result is bit-identical to a single run with the same seed and sample count.\n"
       "Example: polystokes uncertainty-merge part1.shard part2.shard part3.shard -o body_sigma.txt");
-  merge->add_option("shards", merge_options->shards, "Shard files, in any order")
-      ->required()
-      ->check(CLI::ExistingFile);
+  merge->add_option("shards", merge_options->shards, "Shard files, in any order")->required();
   add_set_output_options(merge, merge_options->files);
   merge->callback([merge_options, &global]() { run_merge_command(*merge_options, global); });
 }

@@ -78,6 +78,8 @@ std::vector<DensityRegion> load_regions(const ValidateOptions& options, bool uni
 }
 
 void run_validate(const ValidateOptions& options, bool unit_given, const GlobalOptions& global) {
+  check_input_path(options.mesh);
+  check_input_path(options.set);
   const CoefficientSet set = read_coefficient_file(options.set);
   const std::vector<DensityRegion> regions = load_regions(options, unit_given, set, global);
   ValidationOptions validation;
@@ -117,11 +119,8 @@ void setup_validate(CLI::App& app, const GlobalOptions& global) {
       "surface; report the relative acceleration error and the lowest degree meeting --target per shell.\n"
       "Example: polystokes validate body.obj body.txt --altitudes 100,1000 --json validation.json");
   cmd->add_option("mesh", options->mesh, "Shape mesh the set was computed from (.obj, .off, .ply, .stl)")
-      ->required()
-      ->check(CLI::ExistingFile);
-  cmd->add_option("set", options->set, "Coefficient set (text or JSON)")
-      ->required()
-      ->check(CLI::ExistingFile);
+      ->required();
+  cmd->add_option("set", options->set, "Coefficient set (text or JSON)")->required();
   add_quantity_option(cmd, "--density", options->density, QuantityKind::density,
                       "Density (default: the densities recorded in the set, with their region meshes)");
   auto* unit =

@@ -24,6 +24,8 @@ int main(int argc, char** argv) {
   cli::GlobalOptions global;
   app.add_flag("-q,--quiet", global.quiet, "Print errors only");
   app.add_flag("-v,--verbose", global.verbose, "Print more detail (repeat for more)");
+  // The same version every written set records in its provenance ("created").
+  app.set_version_flag("--version", std::string("polystokes ") + POLYSTOKES_VERSION);
   cli::setup_inspect(app, global);
   cli::setup_compute(app, global);
   cli::setup_convert(app, global);

@@ -3,6 +3,7 @@
 #include <fmt/format.h>
 
 #include <algorithm>
+#include <cctype>
 #include <charconv>
 #include <climits>
 #include <cmath>
@@ -1032,7 +1033,7 @@ CoefficientSet parse_coefficient_text(const std::string& text, const std::string
 }
 
 void write_coefficient_file(const CoefficientSet& set, const std::string& path) {
-  write_file_atomically(path, formatted_for(path, [&] { return format_coefficient_text(set); }));
+  write_coefficient_files(set, {{path, CoefficientForm::text}});
 }
 
 CoefficientSet read_coefficient_file(const std::string& path) {
@@ -1110,7 +1111,28 @@ CoefficientSet parse_coefficient_json(const std::string& text, const std::string
 }
 
 void write_coefficient_json(const CoefficientSet& set, const std::string& path) {
-  write_file_atomically(path, formatted_for(path, [&] { return format_coefficient_json(set); }));
+  write_coefficient_files(set, {{path, CoefficientForm::json}});
+}
+
+CoefficientForm coefficient_form_for(const std::string& path) {
+  constexpr std::string_view suffix = ".json";
+  if (path.size() < suffix.size()) return CoefficientForm::text;
+  const std::string_view end = std::string_view(path).substr(path.size() - suffix.size());
+  const bool json = std::equal(end.begin(), end.end(), suffix.begin(), [](char a, char b) {
+    return std::tolower(static_cast<unsigned char>(a)) == b;
+  });
+  return json ? CoefficientForm::json : CoefficientForm::text;
+}
+
+void write_coefficient_files(const CoefficientSet& set, const std::vector<CoefficientOutput>& outputs) {
+  OutputGroup group;
+  for (const CoefficientOutput& output : outputs) {
+    group.stage(output.path, formatted_for(output.path, [&] {
+                  return output.form == CoefficientForm::json ? format_coefficient_json(set)
+                                                              : format_coefficient_text(set);
+                }));
+  }
+  group.commit();
 }
 
 }  // namespace polystokes

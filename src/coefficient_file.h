@@ -3,6 +3,7 @@
 #pragma once
 
 #include <string>
+#include <vector>
 
 #include "coefficient_set.h"
 
@@ -45,5 +46,23 @@ CoefficientSet parse_coefficient_json(const std::string& text, const std::string
 
 /// format_coefficient_json written atomically ("-" = stdout).
 void write_coefficient_json(const CoefficientSet& set, const std::string& path);
+
+/// The two forms a set is written in.
+enum class CoefficientForm { text, json };
+
+/// The form a file name asks for: a name ending in ".json" (any case) is JSON; any other name, and "-"
+/// (standard output), is the text format. The one rule every command that writes a set follows.
+CoefficientForm coefficient_form_for(const std::string& path);
+
+/// One file a set is written to, and its form.
+struct CoefficientOutput {
+  std::string path;
+  CoefficientForm form = CoefficientForm::text;
+};
+
+/// Writes the set to every output as one OutputGroup (output_file.h): all files are replaced or, on any
+/// failure, none is. Each form is formatted and staged in turn, so one formatted copy is held at a time.
+/// Same errors as the single-file writers.
+void write_coefficient_files(const CoefficientSet& set, const std::vector<CoefficientOutput>& outputs);
 
 }  // namespace polystokes

@@ -78,14 +78,60 @@ void write_stdout(const std::string& content) {
     throw OutputError("-: cannot write to standard output: " + reason(errno));
 }
 
+/// Makes the new directory entries durable too; the files themselves are already complete, so a failure
+/// here cannot leave a partial file and is not reported.
+void sync_directory(const std::filesystem::path& directory) {
+  const int directory_fd = ::open(directory.c_str(), O_RDONLY | O_DIRECTORY);
+  if (directory_fd >= 0) {
+    ::fsync(directory_fd);
+    ::close(directory_fd);
+  }
+}
+
+std::filesystem::path directory_of(const std::string& path) {
+  const std::filesystem::path target(path);
+  return target.has_parent_path() ? target.parent_path() : ".";
+}
+
+/// A unique unused name next to path, starting with a dot like the temporaries (mkstemp reserves it; the
+/// caller links to it after removing the placeholder).
+std::string unused_name_beside(const std::string& path, const std::string& purpose) {
+  const std::filesystem::path target(path);
+  std::string name =
+      (directory_of(path) / ("." + target.filename().string() + "." + purpose + "-XXXXXX")).string();
+  const int fd = ::mkstemp(name.data());
+  if (fd < 0)
+    throw OutputError(path + ": cannot create a file in directory '" + directory_of(path).string() +
+                      "': " + reason(errno));
+  ::close(fd);
+  ::unlink(name.c_str());
+  return name;
+}
+
 }  // namespace
 
-void write_file_atomically(const std::string& path, const std::string& content) {
-  if (path == "-") return write_stdout(content);
+struct OutputGroup::Staged {
+  std::string path;
+  TemporaryFile temporary;
+};
+
+OutputGroup::OutputGroup() = default;
+OutputGroup::~OutputGroup() = default;
+
+void OutputGroup::stage(const std::string& path, const std::string& content) {
+  if (path == "-") {
+    standard_output_ += content;
+    writes_standard_output_ = true;
+    return;
+  }
   if (path.empty()) throw OutputError("output path is empty");
+  // Two renames onto one file would keep only the second content (and undo the first wrongly).
+  for (const auto& other : staged_)
+    if (same_output_file(other->path, path))
+      throw OutputError(path + ": named twice as an output (" + other->path + ")");
 
   const std::filesystem::path target(path);
-  const std::filesystem::path directory = target.has_parent_path() ? target.parent_path() : ".";
+  const std::filesystem::path directory = directory_of(path);
   // Same directory as the target so rename() stays within one file system and is atomic; the leading dot
   // keeps the temporary out of ordinary listings and globs.
   std::string name = (directory / ("." + target.filename().string() + ".tmp-XXXXXX")).string();
@@ -94,7 +140,8 @@ void write_file_atomically(const std::string& path, const std::string& content) 
     throw OutputError(path + ": cannot create a file in directory '" + directory.string() +
                       "': " + reason(errno));
   }
-  TemporaryFile temporary(name, fd);
+  auto staged = std::unique_ptr<Staged>(new Staged{path, TemporaryFile(name, fd)});
+  TemporaryFile& temporary = staged->temporary;
 
   struct stat existing {};
   const mode_t mode = ::stat(path.c_str(), &existing) == 0 && S_ISREG(existing.st_mode)
@@ -106,17 +153,73 @@ void write_file_atomically(const std::string& path, const std::string& content) 
   write_all(temporary.fd(), content, path);
   if (::fsync(temporary.fd()) != 0 || temporary.close() != 0)
     throw OutputError(path + ": cannot flush to disk: " + reason(errno) + "; previous file left unchanged");
-  if (::rename(temporary.name().c_str(), path.c_str()) != 0)
-    throw OutputError(path + ": cannot replace: " + reason(errno) + "; previous file left unchanged");
-  temporary.commit();
+  staged_.push_back(std::move(staged));
+}
 
-  // Makes the new directory entry durable too; the file itself is already complete, so a failure here
-  // cannot leave a partial file and is not reported.
-  const int directory_fd = ::open(directory.c_str(), O_RDONLY | O_DIRECTORY);
-  if (directory_fd >= 0) {
-    ::fsync(directory_fd);
-    ::close(directory_fd);
+void OutputGroup::commit() {
+  if (writes_standard_output_) write_stdout(standard_output_);
+
+  // Each target replaced so far, with the hard link that keeps its previous content (empty: it was new).
+  struct Replaced {
+    std::string path, previous;
+  };
+  std::vector<Replaced> replaced;
+  const auto undo = [&replaced](const std::string& failure) {
+    std::string message = failure;
+    for (auto it = replaced.rbegin(); it != replaced.rend(); ++it) {
+      const bool restored = it->previous.empty() ? ::unlink(it->path.c_str()) == 0
+                                                 : ::rename(it->previous.c_str(), it->path.c_str()) == 0;
+      if (!restored) message += "; " + it->path + " could not be restored: " + reason(errno);
+    }
+    if (replaced.empty()) return OutputError(message + "; previous file left unchanged");
+    return OutputError(message + "; the files written with it were restored to their previous content");
+  };
+
+  for (size_t i = 0; i < staged_.size(); ++i) {
+    Staged& staged = *staged_[i];
+    // The last rename cannot be followed by a failure, so its previous content needs no keeping.
+    // A directory in the way is left for rename() to refuse with its own reason.
+    std::string previous;
+    struct stat existing {};
+    if (i + 1 < staged_.size() && ::lstat(staged.path.c_str(), &existing) == 0 &&
+        !S_ISDIR(existing.st_mode)) {
+      try {
+        previous = unused_name_beside(staged.path, "prev");
+      } catch (const OutputError& error) {
+        throw undo(error.what());
+      }
+      if (::link(staged.path.c_str(), previous.c_str()) != 0)
+        throw undo(staged.path + ": cannot keep the previous file while replacing it: " + reason(errno));
+    }
+    if (::rename(staged.temporary.name().c_str(), staged.path.c_str()) != 0) {
+      const int error = errno;
+      if (!previous.empty()) ::unlink(previous.c_str());
+      throw undo(staged.path + ": cannot replace: " + reason(error));
+    }
+    staged.temporary.commit();
+    replaced.push_back({staged.path, previous});
   }
+  for (const Replaced& done : replaced)
+    if (!done.previous.empty()) ::unlink(done.previous.c_str());
+  for (const Replaced& done : replaced) sync_directory(directory_of(done.path));
+  staged_.clear();
+  standard_output_.clear();
+  writes_standard_output_ = false;
+}
+
+bool same_output_file(const std::string& a, const std::string& b) {
+  std::error_code error_a, error_b;
+  const auto canonical_a = std::filesystem::weakly_canonical(a, error_a);
+  const auto canonical_b = std::filesystem::weakly_canonical(b, error_b);
+  return error_a || error_b ? a == b : canonical_a == canonical_b;
+}
+
+void write_file_atomically(const std::string& path, const std::string& content) {
+  // Standard output directly: a group would hold a second copy of the content.
+  if (path == "-") return write_stdout(content);
+  OutputGroup group;
+  group.stage(path, content);
+  group.commit();
 }
 
 std::string read_file(const std::string& path) {

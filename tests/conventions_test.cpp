@@ -345,7 +345,7 @@ TEST_CASE("convert CLI: refusals give one error line, exit code 2 or 1, and no o
     CHECK(!file_exists(out));
   }
   const CommandResult missing = run_cli("convert " + quoted(dir + "/none.txt") + " -o " + quoted(out));
-  CHECK(missing.exit_code == 1);
+  CHECK(missing.exit_code == 2);
   CHECK(!file_exists(out));
 }
 

@@ -180,5 +180,59 @@ TEST_CASE("read_file returns every byte and names the file when it cannot read",
   REQUIRE_THROWS_WITH(read_file(dir), dir + ": cannot read: is a directory");
 }
 
+TEST_CASE(
+    "OutputGroup: nothing is replaced until commit, and a failed rename puts the files already replaced back "
+    "(POSIX rename() and link(), IEEE Std 1003.1-2017)",
+    "[output_file]") {
+  const std::string dir = test::temp_directory();
+  const std::string set = dir + "/set.txt", json = dir + "/set.json";
+  test::write_text(set, "previous set\n");
+  test::write_text(json, "previous json\n");
+
+  SECTION("both staged, then committed") {
+    OutputGroup group;
+    group.stage(set, "new set\n");
+    group.stage(json, "new json\n");
+    // Staged but not committed: the targets are untouched.
+    REQUIRE(test::read_bytes(set) == "previous set\n");
+    REQUIRE(test::read_bytes(json) == "previous json\n");
+    group.commit();
+    REQUIRE(test::read_bytes(set) == "new set\n");
+    REQUIRE(test::read_bytes(json) == "new json\n");
+  }
+  SECTION("the second cannot be staged (directory missing): the first is never renamed") {
+    {
+      OutputGroup group;
+      group.stage(set, "new set\n");
+      REQUIRE_THROWS_WITH(group.stage(dir + "/absent/set.json", "new json\n"),
+                          Catch::StartsWith(dir + "/absent/set.json: "));
+    }
+    REQUIRE(test::read_bytes(set) == "previous set\n");
+  }
+  SECTION("the second rename fails (a directory is in the way): the first gets its previous content back") {
+    const std::string occupied = dir + "/occupied";
+    std::filesystem::create_directory(occupied);
+    test::write_text(occupied + "/inside", "x");
+    const std::string fresh = dir + "/fresh.txt";
+    OutputGroup group;
+    group.stage(set, "new set\n");
+    group.stage(fresh, "new file\n");
+    group.stage(occupied, "new json\n");
+    REQUIRE_THROWS_WITH(group.commit(), Catch::StartsWith(occupied + ": cannot replace") &&
+                                            Catch::Contains("restored to their previous content"));
+    REQUIRE(test::read_bytes(set) == "previous set\n");
+    REQUIRE(!test::file_exists(fresh));  // it did not exist before: removed again
+    REQUIRE(test::read_bytes(occupied + "/inside") == "x");
+    std::filesystem::remove_all(occupied);
+  }
+  SECTION("one file named twice is refused at staging") {
+    OutputGroup group;
+    group.stage(set, "a");
+    REQUIRE_THROWS_WITH(group.stage(dir + "/./set.txt", "b"), Catch::Contains("named twice"));
+  }
+  // No temporary or kept previous file remains in any case.
+  REQUIRE(entries_of(dir) == std::set<std::string>{"set.json", "set.txt"});
+}
+
 }  // namespace
 }  // namespace polystokes
