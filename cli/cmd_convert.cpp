@@ -38,6 +38,7 @@ struct ConvertOptions {
   bool condon_shortley_given = false;
   bool zonal_j = false;
   std::string ref_radius, gm;
+  std::string table_origin, table_axes;
 };
 
 Eigen::Matrix3d parse_matrix(const std::string& text) {
@@ -61,7 +62,8 @@ Eigen::Matrix3d parse_matrix(const std::string& text) {
 CoefficientSet read_input(const ConvertOptions& options, const GlobalOptions& global, const LengthUnit unit) {
   const bool table = !options.columns.empty() || !options.normalization.empty() ||
                      options.condon_shortley_given || !options.ref_radius.empty() || !options.gm.empty() ||
-                     options.zonal_j || options.skip_lines > 0;
+                     options.zonal_j || options.skip_lines > 0 || !options.table_origin.empty() ||
+                     !options.table_axes.empty();
   if (!table) return read_coefficient_file(options.input);
   TableImportOptions import;
   if (!options.columns.empty()) import.columns = parse_table_columns(options.columns);
@@ -77,6 +79,13 @@ CoefficientSet read_input(const ConvertOptions& options, const GlobalOptions& gl
     import.gm = option_quantity(options.gm, QuantityKind::gm, unit, "--gm", Bound::positive).value;
   import.unit = unit;
   import.body = options.body;
+  if (options.table_origin == "com") {
+    import.origin = TableOrigin::center_of_mass;
+  } else if (!options.table_origin.empty()) {
+    import.origin = TableOrigin::point;
+    import.origin_point = option_point(options.table_origin, unit, "--table-origin");
+  }
+  import.axes = options.table_axes;
   CoefficientSet set = read_table(options.input, import);
   print_notice(global, fmt::format("{}: read as a plain table of degree {} ({})", options.input, set.degree,
                                    describe(set.convention)));
@@ -158,8 +167,13 @@ void run_convert(const ConvertOptions& options, const GlobalOptions& global) {
     fmt::print(out, "  no change requested: set rewritten as is\n");
   fmt::print(out, "  convention         {}\n", describe(set.convention));
   fmt::print(out, "  reference radius   {:.9g} m, GM {:.9g} m^3 s^-2\n", set.reference_radius, set.gm);
-  fmt::print(out, "  origin             {} ({:.9g}, {:.9g}, {:.9g}) m in the mesh frame, axes {}\n",
-             set.origin, set.origin_in_mesh.x(), set.origin_in_mesh.y(), set.origin_in_mesh.z(), set.frame);
+  const Eigen::Vector3d& o = set.origin_in_mesh;
+  const bool origin_unknown = set.origin == kUnknownLabel, axes_unknown = set.frame == kUnknownLabel;
+  fmt::print(out, "  origin             {}{}, axes {}{}\n", set.origin,
+             set.origin_known ? fmt::format(" ({:.9g}, {:.9g}, {:.9g}) m in the mesh frame", o.x(), o.y(), o.z())
+             : origin_unknown ? std::string()
+                              : std::string(" (place in the mesh frame unknown)"),
+             set.frame, set.axes_known || axes_unknown ? "" : " (directions in the mesh frame unknown)");
   fmt::print(out, "  written            {}{}\n", files.output,
              files.json.empty() ? "" : " and " + files.json);
 }
@@ -235,6 +249,12 @@ void setup_convert(CLI::App& app, const GlobalOptions& global) {
   add_quantity_option(table, "--ref-radius", options->ref_radius, QuantityKind::length,
                       "The table's reference radius");
   add_quantity_option(table, "--gm", options->gm, QuantityKind::gm, "The table's GM");
+  table->add_option("--table-origin", options->table_origin,
+                    "The table's expansion origin: com (the centre of mass) or x,y,z in the mesh frame "
+                    "(--unit); not given: recorded as unknown");
+  table->add_option("--table-axes", options->table_axes,
+                    "The table's axes: mesh (the shape model's own axes) or any label, e.g. principal "
+                    "(directions then unknown); not given: recorded as unknown");
   cmd->callback([options, phase, &global]() {
     options->condon_shortley_given = phase->count() > 0;
     run_convert(*options, global);

@@ -530,6 +530,11 @@ class TextReader {
     return text_value(single(section, key));
   }
 
+  // A position or axis written as the bare word `unknown` (CoefficientSet::origin_known, axes_known).
+  bool is_unknown(const Section& section, const char* key) const {
+    return single(section, key).value == kUnknownLabel;
+  }
+
   Eigen::Vector3d vector_value(const Section& section, const char* key) const {
     const Entry& entry = single(section, key);
     const auto parts = tokens(entry.value);
@@ -572,11 +577,17 @@ class TextReader {
     set.convention.condon_shortley = choice(expansion, "condon_shortley_phase", "yes", "no");
     set.convention.zonal_as_j = choice(expansion, "zonal_column", "J", "C");
     set.origin = text_value(expansion, "origin");
-    set.origin_in_mesh = vector_value(expansion, "origin_m");
+    set.origin_known = !is_unknown(expansion, "origin_m");
+    if (set.origin_known) set.origin_in_mesh = vector_value(expansion, "origin_m");
     set.frame = text_value(expansion, "frame");
-    set.axes_in_mesh.row(0) = vector_value(expansion, "frame_x_axis");
-    set.axes_in_mesh.row(1) = vector_value(expansion, "frame_y_axis");
-    set.axes_in_mesh.row(2) = vector_value(expansion, "frame_z_axis");
+    const char* axis_keys[3] = {"frame_x_axis", "frame_y_axis", "frame_z_axis"};
+    set.axes_known = !is_unknown(expansion, axis_keys[0]);
+    for (int row = 0; row < 3; ++row) {
+      if (is_unknown(expansion, axis_keys[row]) == set.axes_known)
+        fail(single(expansion, axis_keys[row]).line,
+             fmt::format("{}: the three axes must all be given or all be {}", axis_keys[row], kUnknownLabel));
+      if (set.axes_known) set.axes_in_mesh.row(row) = vector_value(expansion, axis_keys[row]);
+    }
 
     for (const Section& section : sections_) {
       if (section.rank != kRegion) continue;
@@ -740,16 +751,19 @@ class JsonReader {
     const long origin_line = key_line("origin");
     check_keys(origin, {"label", "position"}, "\"origin\"", origin_line);
     set.origin = text(member(origin, "label", origin_line), "origin.label", origin_line);
-    set.origin_in_mesh = vector(member(origin, "position", origin_line), "origin.position", origin_line);
+    const Json& position = member(origin, "position", origin_line);
+    set.origin_known = !position.is_null();
+    if (set.origin_known) set.origin_in_mesh = vector(position, "origin.position", origin_line);
 
     const Json& frame = member(root, "frame");
     const long frame_line = key_line("frame");
     check_keys(frame, {"label", "axes"}, "\"frame\"", frame_line);
     set.frame = text(member(frame, "label", frame_line), "frame.label", frame_line);
     const Json& axes = member(frame, "axes", frame_line);
-    if (!axes.is_array() || axes.size() != 3)
-      fail(frame_line, "\"frame\".\"axes\" must be an array of 3 rows");
-    for (int row = 0; row < 3; ++row)
+    set.axes_known = !axes.is_null();
+    if (set.axes_known && (!axes.is_array() || axes.size() != 3))
+      fail(frame_line, "\"frame\".\"axes\" must be an array of 3 rows or null");
+    for (int row = 0; row < 3 && set.axes_known; ++row)
       set.axes_in_mesh.row(row) = vector(axes[row], fmt::format("frame.axes[{}]", row), frame_line);
 
     set.center_of_mass = vector(member(root, "center_of_mass"), "center_of_mass", key_line("center_of_mass"));
@@ -965,6 +979,17 @@ std::string formatted_for(const std::string& path, Format format) {
   }
 }
 
+// Degree 0 is C00 = +1 in every zonal form; J-form sets written by earlier versions stored it as -1
+// (J_0 = -C00), which is the only reading a negative C00 can have there.
+CoefficientSet with_positive_degree_zero(CoefficientSet set, const std::string& source_name) {
+  if (set.convention.zonal_as_j && set.C(0, 0) < 0) {
+    set.C(0, 0) = -set.C(0, 0);
+    set.history.push_back(fmt::format("{}: degree 0 stored as J_0 = -C00 (an earlier J-form file); read as C00 = {}",
+                                      source_name, set.C(0, 0)));
+  }
+  return set;
+}
+
 }  // namespace
 
 std::string format_coefficient_text(const CoefficientSet& set) {
@@ -998,12 +1023,15 @@ std::string format_coefficient_text(const CoefficientSet& set) {
       set.convention.condon_shortley ? "yes" : "no");
   put("# C: the m = 0 column holds C_n0; J: it holds J_n = -C_n0\nzonal_column = {}\n",
       set.convention.zonal_as_j ? "J" : "C");
-  put("# expansion origin: label and position in the mesh frame (m)\norigin = {}\norigin_m = {}\n",
-      quote_text(set.origin), vector_text(set.origin_in_mesh));
-  put("# expansion axes: label and each axis as a unit vector in mesh-frame components\nframe = {}\n",
+  put("# expansion origin: label and position in the mesh frame (m), or unknown\norigin = {}\norigin_m = {}\n",
+      quote_text(set.origin), set.origin_known ? vector_text(set.origin_in_mesh) : kUnknownLabel);
+  put("# expansion axes: label and each axis as a unit vector in mesh-frame components, or unknown\n"
+      "frame = {}\n",
       quote_text(set.frame));
-  put("frame_x_axis = {}\nframe_y_axis = {}\nframe_z_axis = {}\n", vector_text(set.axes_in_mesh.row(0)),
-      vector_text(set.axes_in_mesh.row(1)), vector_text(set.axes_in_mesh.row(2)));
+  const auto axis_text = [&](int row) {
+    return set.axes_known ? vector_text(set.axes_in_mesh.row(row)) : std::string(kUnknownLabel);
+  };
+  put("frame_x_axis = {}\nframe_y_axis = {}\nframe_z_axis = {}\n", axis_text(0), axis_text(1), axis_text(2));
 
   for (const Region& region : set.regions) {
     put("\n[region]\n# one constant-density piece: density kg m^-3 (negative for a void), volume m^3\n");
@@ -1029,7 +1057,7 @@ std::string format_coefficient_text(const CoefficientSet& set) {
 }
 
 CoefficientSet parse_coefficient_text(const std::string& text, const std::string& source_name) {
-  return TextReader(text, source_name).read();
+  return with_positive_degree_zero(TextReader(text, source_name).read(), source_name);
 }
 
 void write_coefficient_file(const CoefficientSet& set, const std::string& path) {
@@ -1060,9 +1088,9 @@ std::string format_coefficient_json(const CoefficientSet& set) {
   root["condon_shortley"] = set.convention.condon_shortley;
   root["zonal_as_j"] = set.convention.zonal_as_j;
   root["origin"] = {{"label", utf8_field(set.origin, "origin")},
-                    {"position", json_vector(set.origin_in_mesh)}};
-  Json axes = Json::array();
-  for (int row = 0; row < 3; ++row) axes.push_back(json_vector(set.axes_in_mesh.row(row)));
+                    {"position", set.origin_known ? json_vector(set.origin_in_mesh) : Json(nullptr)}};
+  Json axes = set.axes_known ? Json::array() : Json(nullptr);
+  for (int row = 0; row < 3 && set.axes_known; ++row) axes.push_back(json_vector(set.axes_in_mesh.row(row)));
   root["frame"] = {{"label", utf8_field(set.frame, "frame")}, {"axes", axes}};
   root["center_of_mass"] = json_vector(set.center_of_mass);
   root["mass"] = set.mass;
@@ -1107,7 +1135,7 @@ std::string format_coefficient_json(const CoefficientSet& set) {
 }
 
 CoefficientSet parse_coefficient_json(const std::string& text, const std::string& source_name) {
-  return JsonReader(text, source_name).read();
+  return with_positive_degree_zero(JsonReader(text, source_name).read(), source_name);
 }
 
 void write_coefficient_json(const CoefficientSet& set, const std::string& path) {

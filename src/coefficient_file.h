@@ -25,7 +25,9 @@ std::string format_coefficient_text(const CoefficientSet& set);
 /// Parses the text format. source_name is used in messages only. Throws FormatError
 /// "source:line: problem" for a wrong first line or version, missing, unknown or repeated keys and
 /// sections, values that do not parse, and table rows that are malformed, repeated, out of range or
-/// missing. Entries above the diagonal of the matrices are zero.
+/// missing. Entries above the diagonal of the matrices are zero. `origin_m = unknown` and three
+/// `frame_*_axis = unknown` give origin_known / axes_known false. In J form a negative C00 (earlier files
+/// stored J_0 = -C00) is read as +C00 with a history line.
 CoefficientSet parse_coefficient_text(const std::string& text, const std::string& source_name);
 
 /// format_coefficient_text written atomically (write_file_atomically; "-" = stdout).
@@ -41,7 +43,8 @@ CoefficientSet read_coefficient_file(const std::string& path);
 std::string format_coefficient_json(const CoefficientSet& set);
 
 /// Parses the JSON form with the same validation as the text reader; messages are "source:line: problem"
-/// where line is that of the offending key or of the array entry the problem is in.
+/// where line is that of the offending key or of the array entry the problem is in. A null origin position
+/// or axes array means unknown, as `unknown` does in the text format.
 CoefficientSet parse_coefficient_json(const std::string& text, const std::string& source_name);
 
 /// format_coefficient_json written atomically ("-" = stdout).

@@ -28,6 +28,9 @@ struct Convention {
   bool zonal_as_j = false;       ///< true: column m = 0 of C holds J_n = -C_n0
 };
 
+/// The origin or frame label of a set that does not know it (files: "unknown").
+inline constexpr const char* kUnknownLabel = "unknown";
+
 /// One constant-density piece of a body.
 struct Region {
   std::string mesh;      ///< source mesh file name
@@ -50,10 +53,19 @@ struct CoefficientSet {
   Convention convention;
   Eigen::MatrixXd C, S, sigma_C, sigma_S;
 
-  std::string origin = "com";       ///< "com", "mesh" or "shifted": what the expansion origin is
-  std::string frame = "mesh";       ///< "mesh", "principal" or "rotated": what the axes are
+  /// What the expansion origin is: "com", "mesh", "shifted", "point" (declared for a table) or
+  /// kUnknownLabel (a table that did not say).
+  std::string origin = "com";
+  /// What the axes are: "mesh", "principal", "rotated", a label declared for a table, or kUnknownLabel.
+  std::string frame = "mesh";
   Eigen::Vector3d origin_in_mesh = Eigen::Vector3d::Zero();  ///< expansion origin, mesh frame, m
   Eigen::Matrix3d axes_in_mesh = Eigen::Matrix3d::Identity();  ///< rows: set axes in mesh frame
+  /// false: where the origin lies in the mesh frame is not known and origin_in_mesh is a zero placeholder.
+  /// A set imported as "about the centre of mass" has origin "com" with origin_known false: what the point
+  /// is, is known, not its mesh-frame coordinates.
+  bool origin_known = true;
+  /// false: the axes' directions in the mesh frame are not known and axes_in_mesh is an identity placeholder.
+  bool axes_known = true;
   Eigen::Vector3d center_of_mass = Eigen::Vector3d::Zero();    ///< mesh frame, m
   double mass = 0;                  ///< kg (0 when unknown)
   double volume = 0;                ///< m^3 (0 when unknown)

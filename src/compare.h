@@ -20,7 +20,7 @@ struct CompareOptions {
   /// against their own rounding.
   double relative_floor = 1e-3;
   /// Also bring B to A's origin and axes, using both sets' origin_in_mesh and axes_in_mesh (which assumes the
-  /// two sets refer to the same mesh frame).
+  /// two sets refer to the same mesh frame). What a set does not know is not aligned (see compare_sets).
   bool align_frame = false;
   /// Highest degree compared; -1 = the smaller of the two degrees.
   int max_degree = -1;
@@ -51,10 +51,13 @@ struct CoefficientDifference {
 
 /// One tested explanation of a disagreement: B corrected as the hypothesis says, then compared again.
 struct Hypothesis {
-  std::string
-      kind;  ///< normalization, phase, j_sign, radius, gm, longitude_sign, z_rotation, swapped_cs, origin
-  std::string description;  ///< what the hypothesis says, with the fitted parameter if any
-  double parameter = 0;     ///< radius or GM factor, angle (degrees), shift length (m); 0 if none
+  /// normalization, phase, j_sign, radius, gm, longitude_sign, z_rotation, swapped_cs, origin; a pair of
+  /// mistakes joins two with '+': normalization/phase/j_sign/longitude_sign/swapped_cs + radius or gm, and
+  /// radius+gm.
+  std::string kind;
+  std::string description;     ///< what the hypothesis says, with the fitted parameter if any
+  double parameter = 0;        ///< radius or GM factor, angle (degrees), shift length (m); 0 if none
+  double second_parameter = 0;  ///< the GM factor of radius+gm (parameter is its radius factor); else 0
   double misfit = 0;        ///< misfit after the correction
   int agree_degree = -1;    ///< degree up to which the corrected B agrees with A
   bool explains = false;    ///< the corrected B agrees with A at every degree
@@ -63,7 +66,10 @@ struct Hypothesis {
 struct Comparison {
   int degree = 0;  ///< highest degree compared
   int degree_a = 0, degree_b = 0;
-  std::vector<std::string> alignment;          ///< what was done to B to bring it to A
+  std::vector<std::string> alignment;          ///< what was done to B to bring it to A, and what was not
+  /// How B's origin and axes stand to A's: "same", "different" (not aligned), "aligned", or "unknown" (a set
+  /// does not know its origin or axes in the mesh frame: not aligned, B taken as if it were in A's).
+  std::string origin_relation, axes_relation;
   std::vector<DegreeComparison> degrees;       ///< 0..degree
   std::vector<CoefficientDifference> largest;  ///< largest |a - b| first
   int agree_degree = -1;                       ///< A and B agree at every degree 0..agree_degree
@@ -77,9 +83,15 @@ struct Comparison {
 /// Brings B to A's normalization, phase, zonal form, reference radius and GM (and, with align_frame, origin
 /// and axes), then compares per degree; when they disagree and diagnose is set, tests each usual mismatch
 /// on B as read (other normalization or phase or J_n form than declared; reference radius off by a factor
-/// fitted from the degree dependence of the spectra ratio; GM off by a factor; longitudes reversed (S -> -S);
-/// rotated about z by a fitted angle; C and S swapped; expansion origin off by the vector implied by the
-/// degree-1 terms) and ranks them by the misfit left. Throws ConventionError if a set lacks GM or radius.
+/// 1e-4..1e4 fitted from the degree dependence of the spectra ratio, a factor near 1000 named as a likely
+/// m/km mix-up; GM off by a factor; longitudes reversed (S -> -S); rotated about z by a fitted angle; C and S
+/// swapped; expansion origin off by the vector implied by the degree-1 terms) and ranks them by the misfit
+/// left. When none explains every degree, pairs are tried too (a label mistake with a fitted radius or GM
+/// factor, radius and GM together) and the best three kept; the verdict says when the best explanation is
+/// only partial. Radius and GM factors are applied in logarithms, so no degree overflows.
+/// Origins: two sets about the centre of mass share their origin; a set whose origin or axes are unknown
+/// (origin_known, axes_known) is neither aligned nor reported as differing, and `alignment` says so.
+/// Throws ConventionError if a set lacks GM or radius.
 /// O(degree^2) per tested hypothesis (O(degree^3) with align_frame).
 Comparison compare_sets(const CoefficientSet& a, const CoefficientSet& b, const CompareOptions& options = {});
 

@@ -62,16 +62,16 @@ double coefficient_factor(const Convention& from, const Convention& to, int n, i
   return factor;
 }
 
+double zonal_sign(const Convention& convention, int n, int m) {
+  return convention.zonal_as_j && m == 0 && n >= 1 ? -1.0 : 1.0;
+}
+
 CoefficientSet expressed_in(const CoefficientSet& set, const Convention& target) {
   CoefficientSet out = set;
   for (int n = 0; n <= set.degree; ++n) {
     for (int m = 0; m <= n; ++m) {
       const double factor = coefficient_factor(set.convention, target, n, m);
-      double c = set.C(n, m);
-      if (m == 0 && set.convention.zonal_as_j) c = -c;
-      c *= factor;
-      if (m == 0 && target.zonal_as_j) c = -c;
-      out.C(n, m) = c;
+      out.C(n, m) = set.C(n, m) * zonal_sign(set.convention, n, m) * factor * zonal_sign(target, n, m);
       out.S(n, m) = set.S(n, m) * factor;
       out.sigma_C(n, m) = set.sigma_C(n, m) * std::abs(factor);
       out.sigma_S(n, m) = set.sigma_S(n, m) * std::abs(factor);

@@ -21,6 +21,11 @@ double legendre_normalization(Normalization normalization, int n, int m);
 /// conventions the ratio is formed directly (sqrt(2n+1), sqrt(4 pi)), so no factorial product is rounded.
 double coefficient_factor(const Convention& from, const Convention& to, int n, int m);
 
+/// Sign that turns the stored C(n, m) into C_nm: -1 for the J_n = -C_n0 column (m = 0, n >= 1) of a J-form
+/// convention, else +1. Degree 0 is +1 in every form: C00 is the positive total-mass term, as common
+/// practice writes it (a J_0 is not used).
+double zonal_sign(const Convention& convention, int n, int m);
+
 /// The same field with its numbers expressed in `target` (C, S, sigmas), nothing else changed, no history.
 /// Used where a computation needs one working convention and converts back afterwards.
 CoefficientSet expressed_in(const CoefficientSet& set, const Convention& target);

@@ -100,7 +100,7 @@ SeriesModel::SeriesModel(const CoefficientSet& input, int max_degree) {
     for (int m = 0; m <= n; ++m) {
       double c = input.C(n, m), s = m == 0 ? 0.0 : input.S(n, m);
       if (convert) {
-        if (m == 0 && input.convention.zonal_as_j) c = -c;
+        c *= zonal_sign(input.convention, n, m);
         const double factor = coefficient_factor(input.convention, internal, n, m);
         c *= factor;
         s *= factor;

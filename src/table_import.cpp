@@ -119,8 +119,50 @@ void check_declarations(const TableImportOptions& options) {
   if (!(*options.gm > 0) || !std::isfinite(*options.gm))
     throw ConventionError(fmt::format("--gm must be positive, got {}", *options.gm));
   if (options.skip_lines < 0) throw ConventionError("--skip-lines must be >= 0");
+  if (options.origin == TableOrigin::point && !options.origin_point.allFinite())
+    throw ConventionError("--table-origin: the point has a non-finite coordinate");
   // Validates the column list the same way as parse_table_columns does for text.
   parse_table_columns(to_string(options.columns));
+}
+
+// Origin and axes as declared; what is not declared is recorded as unknown, so that compare does not
+// align what nobody stated.
+void record_origin_and_axes(const TableImportOptions& options, const std::string& source_name,
+                            CoefficientSet& set) {
+  // Same reading of the degree-1 terms as shift_origin: a centre of mass within 1e-9 R of the origin.
+  const Eigen::Vector3d com_offset = center_of_mass_offset(set);
+  const bool at_com = com_offset.norm() <= 1e-9 * set.reference_radius;
+  set.axes_known = options.axes == "mesh";
+  set.frame = options.axes.empty() ? kUnknownLabel : options.axes;
+  set.origin_known = options.origin == TableOrigin::point;
+  set.origin_in_mesh = set.origin_known ? options.origin_point : Eigen::Vector3d::Zero();
+  switch (options.origin) {
+    case TableOrigin::unknown:
+      set.origin = kUnknownLabel;
+      break;
+    case TableOrigin::center_of_mass:
+      set.origin = "com";
+      if (!at_com)
+        set.notes.push_back(fmt::format(
+            "CAUTION: {} was declared to be about the centre of mass, but its degree-1 terms put the centre "
+            "of mass {:.6g} m from the origin.",
+            source_name, com_offset.norm()));
+      break;
+    case TableOrigin::point:
+      set.origin = at_com ? "com" : "point";
+      if (at_com) set.center_of_mass = set.origin_in_mesh;
+      break;
+  }
+  set.history.push_back(fmt::format(
+      "{}: origin {}, axes {}", source_name,
+      options.origin == TableOrigin::unknown          ? std::string("unknown (not declared)")
+      : options.origin == TableOrigin::center_of_mass ? std::string("the centre of mass (declared)")
+                                                      : fmt::format("({}, {}, {}) m in the mesh frame (declared)",
+                                                                    set.origin_in_mesh.x(), set.origin_in_mesh.y(),
+                                                                    set.origin_in_mesh.z()),
+      options.axes.empty()  ? std::string("unknown (not declared)")
+      : set.axes_known      ? std::string("those of the mesh frame (declared)")
+                            : fmt::format("'{}' (declared; directions in the mesh frame unknown)", options.axes)));
 }
 
 }  // namespace
@@ -259,23 +301,23 @@ CoefficientSet parse_table(const std::string& text, const std::string& source_na
                   source_name, to_string(options.columns), describe(set.convention), set.reference_radius,
                   set.gm));
   if (lowest > 0) {
-    // C00 = 1 in every normalization; in J form the stored value is -1.
-    set.C(0, 0) = options.zonal_as_j ? -1.0 : 1.0;
+    set.C(0, 0) = 1.0;  // C00 = 1 in every normalization and zonal form
     set.history.push_back(fmt::format("{}: no degree-0 row, C00 = 1 (GM is the total)", source_name));
   }
   if (lowest > 1)
     set.history.push_back(fmt::format("{}: no degree-1 rows, degree-1 terms set to 0", source_name));
-  const double c00 = options.zonal_as_j ? -set.C(0, 0) : set.C(0, 0);
-  if (!(c00 > 0))
-    throw format_error(
-        source_name, rows.begin()->second.line,
-        fmt::format("C00 = {} is not positive{}", c00,
-                    options.zonal_as_j ? " (with --zonal-j the degree-0 row holds J_0 = -C00)" : ""));
-  // Same reading of the degree-1 terms as shift_origin: a centre of mass within 1e-9 R means "com".
-  set.origin = center_of_mass_offset(set).norm() <= 1e-9 * set.reference_radius ? "com" : "shifted";
+  if (options.zonal_as_j && set.C(0, 0) < 0) {
+    // Tables in J form write degree 0 as +1 (common practice); a -1 is J_0 = -C00 carried to n = 0.
+    set.C(0, 0) = -set.C(0, 0);
+    set.history.push_back(fmt::format("{}: degree-0 row {} read as J_0 = -C00, so C00 = {}", source_name,
+                                      -set.C(0, 0), set.C(0, 0)));
+  }
+  if (!(set.C(0, 0) > 0))
+    throw format_error(source_name, rows.begin()->second.line,
+                       fmt::format("C00 = {} is not positive", set.C(0, 0)));
+  record_origin_and_axes(options, source_name, set);
   set.notes.push_back(
-      fmt::format("Imported from the table {}: frame and origin are the table's own; "
-                  "the Brillouin radius, mass and regions are not known.",
+      fmt::format("Imported from the table {}: the Brillouin radius, mass and regions are not known.",
                   source_name));
   return set;
 }

@@ -273,19 +273,24 @@ CoefficientSet shift_origin(const CoefficientSet& set, const Eigen::Vector3d& sh
   out.convention = working_convention;
   out = expressed_in(out, set.convention);
 
-  out.origin_in_mesh = set.origin_in_mesh + set.axes_in_mesh.transpose() * shift;
+  // The new origin is placed in the mesh frame only when the old one is and the shift's direction is.
+  out.origin_known = set.origin_known && (set.axes_known || shift.norm() == 0);
+  out.origin_in_mesh = out.origin_known ? Eigen::Vector3d(set.origin_in_mesh + set.axes_in_mesh.transpose() * shift)
+                                        : Eigen::Vector3d::Zero();
   const double tiny = 1e-9 * R;
   if (N >= 1 && out.C(0, 0) != 0 && center_of_mass_offset(out).norm() <= tiny)
     out.origin = "com";
-  else if (out.origin_in_mesh.norm() <= tiny)
+  else if (out.origin_known && out.origin_in_mesh.norm() <= tiny)
     out.origin = "mesh";
   else
     out.origin = "shifted";
   if (known_brillouin) out.brillouin_radius = brillouin + length;
-  out.history.push_back(
-      fmt::format("expansion origin shifted by {} m (set frame) to {} m (mesh frame), translation of "
-                  "degrees 0..{} by the addition theorem (exact but for rounding, see the notes)",
-                  vector_text(shift), vector_text(out.origin_in_mesh), N));
+  out.history.push_back(fmt::format(
+      "expansion origin shifted by {} m (set frame) to {}, translation of degrees 0..{} by the addition "
+      "theorem (exact but for rounding, see the notes)",
+      vector_text(shift),
+      out.origin_known ? vector_text(out.origin_in_mesh) + " m (mesh frame)" : "a point unknown in the mesh frame",
+      N));
   out.notes.push_back(
       fmt::format("After the origin shift of {:.9g} m the series converges only outside "
                   "{:.9g} m about the new origin ({} radius {:.9g} m plus the shift length).",
@@ -478,7 +483,7 @@ CoefficientSet rotate_set(const CoefficientSet& set, const Eigen::Matrix3d& rota
     }
   }
   CoefficientSet out = expressed_in(work, set.convention);
-  out.axes_in_mesh = rotation * set.axes_in_mesh;
+  if (set.axes_known) out.axes_in_mesh = rotation * set.axes_in_mesh;
   out.frame = frame_label;
   out.history.push_back(
       fmt::format("axes rotated (real Wigner-D, degrees 0..{}): x_new = Q x_old with Q = {}", set.degree,
@@ -501,7 +506,7 @@ CoefficientSet rotate_about_z(const CoefficientSet& set, double angle) {
     }
   }
   const Eigen::Matrix3d rotation = euler_zyz_matrix(angle, 0, 0);
-  out.axes_in_mesh = rotation * set.axes_in_mesh;
+  if (set.axes_known) out.axes_in_mesh = rotation * set.axes_in_mesh;
   out.frame = "rotated";
   out.history.push_back(fmt::format("axes rotated about z by {} rad (longitudes + {} rad)", angle, angle));
   return out;

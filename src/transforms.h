@@ -34,7 +34,8 @@ struct ShiftOptions {
 /// harmonics (Hobson 1931, The Theory of Spherical and Ellipsoidal Harmonics, ch. III; in the form of Epton
 /// & Dembart 1995, SIAM J. Sci. Comput. 16, 865-897), with Racah-type scaling that keeps every factor a
 /// square root of a binomial coefficient. Degree n of the result mixes in degrees 0..n of the input.
-/// Sigmas are propagated assuming uncorrelated input errors. origin_in_mesh, origin, brillouin_radius
+/// Sigmas are propagated assuming uncorrelated input errors. origin_in_mesh (unknown stays unknown, as does
+/// the place of a non-zero shift along unknown axes), origin, brillouin_radius
 /// (now an upper bound: old radius + |shift|), notes and history are updated. The Brillouin radius used is
 /// the set's, or the reference radius when the set does not know it.
 /// Throws ConventionError for a refused shift (see ShiftOptions), ResourceError above degree 500
@@ -69,7 +70,7 @@ class RealWignerD {
 
 /// Rotates the set's axes: a point with coordinates x in the old frame has coordinates Q x in the new one
 /// (equivalently, the result is the set of the body rotated by Q about the origin, axes kept).
-/// axes_in_mesh becomes Q * axes_in_mesh, frame "rotated" (or `frame_label`). Sigmas propagated assuming
+/// axes_in_mesh becomes Q * axes_in_mesh (unknown axes stay unknown), frame "rotated" (or `frame_label`). Sigmas propagated assuming
 /// uncorrelated errors. Any convention. O(degree^3) time, O(degree^2) memory.
 CoefficientSet rotate_set(const CoefficientSet& set, const Eigen::Matrix3d& rotation,
                           const std::string& frame_label = "rotated");

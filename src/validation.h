@@ -45,15 +45,21 @@ struct ValidationReport {
   double brillouin_radius = 0;     ///< m, of the mesh(es) about the set's expansion origin
   double reference_radius = 0;     ///< m
   double gm_set = 0, gm_mesh = 0;  ///< m^3 s^-2; gm_mesh = G * sum(rho V)
+  /// m^3 s^-2: the set's GM times its C00 (4pi-normalized), the total GM its series carries; equals gm_set
+  /// unless the set was rescaled to another GM (convert --to-gm), where C00 carries the ratio.
+  double gm_field = 0;
   long faces = 0;
   int samples = 0;
   std::vector<ShellResult> shells;    ///< spheres in the given order, then altitude shells
   std::vector<std::string> warnings;  ///< plain sentences: Brillouin sphere, GM / origin / mesh mismatches
+  std::vector<std::string> notes;     ///< true and harmless: e.g. a GM label that C00 compensates
 };
 
 /// Compares the series of `set` (any convention, its own origin and axes) with the exact field of the
-/// regions (mesh frame). Cost: samples * shells * (faces + degree^2). Throws ConventionError for bad options
-/// (no shells, samples < 1, non-positive factors, negative altitudes, target <= 0).
+/// regions (mesh frame). A set about the centre of mass that does not record its mesh-frame place is taken
+/// about the mesh's centre of mass (with a note). Cost: samples * shells * (faces + degree^2). Throws
+/// ConventionError for bad options (no shells, samples < 1, non-positive factors, negative altitudes,
+/// target <= 0) and for a set whose axes, or origin (other than the centre of mass), are unknown.
 ValidationReport validate_series(const std::vector<DensityRegion>& regions, const CoefficientSet& set,
                                  const ValidationOptions& options);
 

@@ -125,6 +125,7 @@ CoefficientSet awkward_set() {
       set.sigma_S(n, m) = (n + m) % 4 == 1 ? -0.0 : std::abs(random_finite(random));
     }
   }
+  set.C(0, 0) = std::abs(set.C(0, 0));  // C00 > 0 in every zonal form, J included
   return set;
 }
 
@@ -156,6 +157,8 @@ void require_identical(const CoefficientSet& a, const CoefficientSet& b) {
   REQUIRE(a.convention.zonal_as_j == b.convention.zonal_as_j);
   REQUIRE(a.origin == b.origin);
   REQUIRE(a.frame == b.frame);
+  REQUIRE(a.origin_known == b.origin_known);
+  REQUIRE(a.axes_known == b.axes_known);
   require_same_vectors(a.origin_in_mesh, b.origin_in_mesh, "origin_in_mesh");
   for (int row = 0; row < 3; ++row)
     require_same_vectors(a.axes_in_mesh.row(row), b.axes_in_mesh.row(row), "axes row " + std::to_string(row));

@@ -61,8 +61,8 @@ Eigen::MatrixXd gsl_legendre(const Convention& convention, int degree, double t)
 }
 
 // The defining sum U = GM/r sum_n (R/r)^n sum_m P_X(n,m)(sin lat) (C cos m lon + S sin m lon) in the set's
-// own convention (J_n = -C_n0 undone first), with GSL's functions: no conversion code of the library
-// involved.
+// own convention (J_n = -C_n0 undone first for n >= 1; degree 0 is C00 in every form), with GSL's
+// functions: no conversion code of the library involved.
 double potential_in_own_convention(const CoefficientSet& set, const Eigen::Vector3d& x) {
   const double r = x.norm();
   const Eigen::MatrixXd p = gsl_legendre(set.convention, set.degree, x.z() / r);
@@ -71,7 +71,7 @@ double potential_in_own_convention(const CoefficientSet& set, const Eigen::Vecto
   for (int n = 0; n <= set.degree; ++n, ratio *= set.reference_radius / r) {
     double term = 0;
     for (int m = 0; m <= n; ++m) {
-      const double c = m == 0 && set.convention.zonal_as_j ? -set.C(n, m) : set.C(n, m);
+      const double c = m == 0 && n >= 1 && set.convention.zonal_as_j ? -set.C(n, m) : set.C(n, m);
       term += p(n, m) * (c * std::cos(m * lon) + set.S(n, m) * std::sin(m * lon));
     }
     sum += ratio * term;

@@ -73,7 +73,12 @@ TEST_CASE("a table read back reproduces the set exactly, whitespace or comma sep
       require_sets_identical(read, set);
       CHECK(read.body == "team.tab");
       CHECK(read.history.front().find("imported from table team.tab") != std::string::npos);
-      CHECK(read.origin == "com");
+      // Regression (issue 10, defect 4): a table that does not say where its origin and axes are was
+      // recorded as "com" at (0,0,0) in the mesh axes; both are unknown.
+      CHECK(read.origin == kUnknownLabel);
+      CHECK(read.frame == kUnknownLabel);
+      CHECK(!read.origin_known);
+      CHECK(!read.axes_known);
     }
   }
 }
@@ -109,9 +114,10 @@ TEST_CASE("a table starting at degree 2 gets C00 = 1 and zero degree-1 terms, re
   CHECK(read.C(0, 0) == 1.0);
   CHECK(read.C(1, 0) == 0.0);
   CHECK(read.C(2, 0) == set.C(2, 0));
-  CHECK(read.history.size() == 3);
+  CHECK(read.history.size() == 4);  // import, C00, degree 1, origin and axes
   options.zonal_as_j = true;
-  CHECK(parse_table(table_text(set, " ", 2), "t2", options).C(0, 0) == -1.0);  // stored in J form
+  // Degree 0 is C00 = +1 in J form too (issue 10, defect 14: it was stored as -1).
+  CHECK(parse_table(table_text(set, " ", 2), "t2", options).C(0, 0) == 1.0);
 }
 
 TEST_CASE("reference radius and GM are taken in SI; the unit bare lengths were given in is recorded",

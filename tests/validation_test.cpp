@@ -126,7 +126,7 @@ TEST_CASE("a set that does not belong to the mesh is flagged (GM and centre of m
   std::string all;
   for (const auto& w : report.warnings) all += w + "\n";
   CAPTURE(all);
-  CHECK(all.find("GM of the set") != std::string::npos);
+  CHECK(all.find("the set's total GM") != std::string::npos);
   CHECK(all.find("centre of mass") != std::string::npos);
 }
 
