@@ -1,5 +1,7 @@
 // End-to-end checks of `polystokes field` and `polystokes validate` on generated meshes and sets: series and
 // exact columns agree outside the Brillouin sphere, warnings appear, bad input gives exit 2 and no file.
+#include <fmt/format.h>
+
 #include <catch2/catch.hpp>
 #include <cmath>
 #include <nlohmann/json.hpp>
@@ -176,5 +178,43 @@ TEST_CASE("validate: a set without density regions needs --density; a wrong dens
   r = run_cli("validate " + shell_arg(f.mesh) + " " + shell_arg(bare) +
               " --unit km --density 2000 --samples 5 --radii 2");
   CHECK(r.exit_code == 0);
-  CHECK(r.output.find("GM of the set") != std::string::npos);
+  CHECK(r.output.find("the set's total GM") != std::string::npos);
+}
+
+TEST_CASE("validate: after convert --to-gm the same field gives the same errors and no GM warning",
+          "[validate_cli]") {
+  // Regression (issue 10, defect 8): the GM warning said "the errors below include that difference" while C00
+  // = GM_old/GM_new kept the field, and the errors, unchanged. Expected: identical errors (the same exterior
+  // field, docs/conventions.md: C_nm GM_old/GM_new), a note instead of a warning.
+  const Fixture f;
+  const std::string rescaled = f.dir + "/rescaled.txt";
+  const CoefficientSet set = read_coefficient_file(f.set);
+  CommandResult r = run_cli("convert " + shell_arg(f.set) + " --to-gm " + fmt::format("{}", set.gm * 1.5) +
+                            " -o " + shell_arg(rescaled));
+  CAPTURE(r.output);
+  REQUIRE(r.exit_code == 0);
+  const auto validate = [&](const std::string& which, const std::string& json) {
+    const CommandResult v = run_cli("validate " + shell_arg(f.mesh) + " " + shell_arg(which) +
+                                    " --radii 2 --samples 20 --json " + shell_arg(json));
+    CAPTURE(v.output);
+    REQUIRE(v.exit_code == 0);
+    return v.output;
+  };
+  const std::string before = validate(f.set, f.dir + "/v1.json");
+  const std::string after = validate(rescaled, f.dir + "/v2.json");
+  CAPTURE(after);
+  CHECK(before.find("GM") == before.find("GM set"));  // no GM sentence for the set as computed
+  CHECK(after.find("the errors below include that difference") == std::string::npos);
+  CHECK(after.find("note: the set's GM") != std::string::npos);
+  CHECK(after.find("carries the ratio") != std::string::npos);
+  const auto j1 = nlohmann::json::parse(read_bytes(f.dir + "/v1.json"));
+  const auto j2 = nlohmann::json::parse(read_bytes(f.dir + "/v2.json"));
+  CHECK(j2["warnings"].size() == j1["warnings"].size());
+  const auto& e1 = j1["shells"][0]["max_error"];
+  const auto& e2 = j2["shells"][0]["max_error"];
+  REQUIRE(e1.size() == e2.size());
+  for (size_t L = 0; L < e1.size(); ++L) {
+    CAPTURE(L);
+    CHECK_THAT(e2[L].get<double>(), Catch::Matchers::WithinRel(e1[L].get<double>(), 1e-9));
+  }
 }
