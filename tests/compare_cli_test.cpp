@@ -33,7 +33,8 @@ const CoefficientSet& off_origin_set() {
     options.degree = 12;
     options.body = "lumpy";
     return compute_coefficients(
-        {DensityRegion{transformed(mesh, Eigen::Matrix3d::Identity(), Eigen::Vector3d(300, -120, 40)), 1800.0}},
+        {DensityRegion{transformed(mesh, Eigen::Matrix3d::Identity(), Eigen::Vector3d(300, -120, 40)),
+                       1800.0}},
         options);
   }();
   return set;
@@ -47,20 +48,22 @@ std::string table_of(const CoefficientSet& set) {
   return text;
 }
 
-// `convert TABLE` with the declarations of `set` (radius in m, GM in m^3 s^-2) and `extra` options.
+// `convert TABLE` with the declarations of `set` (radius with its unit m, GM in m^3 s^-2) and `extra`
+// options.
 CommandResult import_table(const std::string& table, const CoefficientSet& set, const std::string& extra,
                            const std::string& out) {
-  return run_cli(fmt::format("convert {} --columns n,m,C,S --normalization {} {} {} --ref-radius {} --gm {} {} -o {}",
-                             quoted(table), to_string(set.convention.normalization),
-                             set.convention.condon_shortley ? "--condon-shortley" : "--no-condon-shortley",
-                             set.convention.zonal_as_j ? "--zonal-j" : "", set.reference_radius, set.gm, extra,
-                             quoted(out)));
+  return run_cli(fmt::format(
+      "convert {} --columns n,m,C,S --normalization {} {} {} --ref-radius {}m --gm {} {} -o {}",
+      quoted(table), to_string(set.convention.normalization),
+      set.convention.condon_shortley ? "--condon-shortley" : "--no-condon-shortley",
+      set.convention.zonal_as_j ? "--zonal-j" : "", set.reference_radius, set.gm, extra, quoted(out)));
 }
 
 nlohmann::json compare_json(const std::string& a, const std::string& b, const std::string& extra,
                             std::string* text = nullptr) {
   const std::string json = a + ".compare.json";
-  const CommandResult r = run_cli("compare " + quoted(a) + " " + quoted(b) + " " + extra + " --json " + quoted(json));
+  const CommandResult r =
+      run_cli("compare " + quoted(a) + " " + quoted(b) + " " + extra + " --json " + quoted(json));
   CAPTURE(r.output);
   REQUIRE(r.exit_code == 0);
   if (text) *text = r.output;
@@ -97,7 +100,8 @@ TEST_CASE("a table imported without origin and axes records them as unknown; com
   // Declared about the centre of mass, in the mesh's axes: the same origin and axes as A's.
   r = import_table(dir + "/t.tab", a, "--table-origin com --table-axes mesh", dir + "/com.txt");
   REQUIRE(r.exit_code == 0);
-  CHECK(r.output.find("origin             com (place in the mesh frame unknown), axes mesh") != std::string::npos);
+  CHECK(r.output.find("origin             com (place in the mesh frame unknown), axes mesh") !=
+        std::string::npos);
   json = compare_json(dir + "/a.txt", dir + "/com.txt", "--frame --tolerance 1e-12");
   CHECK(json["agree"] == true);
   CHECK(json["origin"] == "same");
@@ -105,7 +109,8 @@ TEST_CASE("a table imported without origin and axes records them as unknown; com
   CHECK(json["alignment"].empty());  // same radius, GM and convention as A's: nothing to do
   // Declared at the point where A's centre of mass is, in km: the same again.
   const Eigen::Vector3d p = a.origin_in_mesh / 1000.0;
-  r = import_table(dir + "/t.tab", a, fmt::format("--unit km --table-origin {},{},{} --table-axes mesh", p.x(), p.y(), p.z()),
+  r = import_table(dir + "/t.tab", a,
+                   fmt::format("--unit km --table-origin {},{},{} --table-axes mesh", p.x(), p.y(), p.z()),
                    dir + "/point.txt");
   CAPTURE(r.output);
   REQUIRE(r.exit_code == 0);

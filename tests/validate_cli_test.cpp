@@ -215,6 +215,7 @@ TEST_CASE("validate: after convert --to-gm the same field gives the same errors 
   REQUIRE(e1.size() == e2.size());
   for (size_t L = 0; L < e1.size(); ++L) {
     CAPTURE(L);
-    CHECK_THAT(e2[L].get<double>(), Catch::Matchers::WithinRel(e1[L].get<double>(), 1e-9));
+    // The same field but for the rounding of C_nm GM_old/GM_new: errors agree to far below their size.
+    CHECK_THAT(e2[L].get<double>(), Catch::Matchers::WithinAbs(e1[L].get<double>(), 1e-13));
   }
 }
