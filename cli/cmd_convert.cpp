@@ -170,7 +170,8 @@ void run_convert(const ConvertOptions& options, const GlobalOptions& global) {
   const Eigen::Vector3d& o = set.origin_in_mesh;
   const bool origin_unknown = set.origin == kUnknownLabel, axes_unknown = set.frame == kUnknownLabel;
   fmt::print(out, "  origin             {}{}, axes {}{}\n", set.origin,
-             set.origin_known ? fmt::format(" ({:.9g}, {:.9g}, {:.9g}) m in the mesh frame", o.x(), o.y(), o.z())
+             set.origin_known
+                 ? fmt::format(" ({:.9g}, {:.9g}, {:.9g}) m in the mesh frame", o.x(), o.y(), o.z())
              : origin_unknown ? std::string()
                               : std::string(" (place in the mesh frame unknown)"),
              set.frame, set.axes_known || axes_unknown ? "" : " (directions in the mesh frame unknown)");

@@ -984,8 +984,9 @@ std::string formatted_for(const std::string& path, Format format) {
 CoefficientSet with_positive_degree_zero(CoefficientSet set, const std::string& source_name) {
   if (set.convention.zonal_as_j && set.C(0, 0) < 0) {
     set.C(0, 0) = -set.C(0, 0);
-    set.history.push_back(fmt::format("{}: degree 0 stored as J_0 = -C00 (an earlier J-form file); read as C00 = {}",
-                                      source_name, set.C(0, 0)));
+    set.history.push_back(
+        fmt::format("{}: degree 0 stored as J_0 = -C00 (an earlier J-form file); read as C00 = {}",
+                    source_name, set.C(0, 0)));
   }
   return set;
 }
@@ -1023,7 +1024,8 @@ std::string format_coefficient_text(const CoefficientSet& set) {
       set.convention.condon_shortley ? "yes" : "no");
   put("# C: the m = 0 column holds C_n0; J: it holds J_n = -C_n0\nzonal_column = {}\n",
       set.convention.zonal_as_j ? "J" : "C");
-  put("# expansion origin: label and position in the mesh frame (m), or unknown\norigin = {}\norigin_m = {}\n",
+  put("# expansion origin: label and position in the mesh frame (m), or unknown\norigin = {}\norigin_m = "
+      "{}\n",
       quote_text(set.origin), set.origin_known ? vector_text(set.origin_in_mesh) : kUnknownLabel);
   put("# expansion axes: label and each axis as a unit vector in mesh-frame components, or unknown\n"
       "frame = {}\n",

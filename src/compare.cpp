@@ -7,8 +7,8 @@
 #include <cmath>
 #include <functional>
 #include <limits>
-#include <optional>
 #include <nlohmann/json.hpp>
+#include <optional>
 
 #include "conventions.h"
 #include "errors.h"
@@ -89,8 +89,8 @@ struct FrameRelation {
 // Mesh-frame centre of mass of a set whose origin and (unless the offset vanishes) axes are known.
 std::optional<Eigen::Vector3d> mesh_center_of_mass(const CoefficientSet& set) {
   if (!set.origin_known) return std::nullopt;
-  const Eigen::Vector3d offset = set.degree >= 1 && set.C(0, 0) != 0 ? center_of_mass_offset(set)
-                                                                     : Eigen::Vector3d::Zero();
+  const Eigen::Vector3d offset =
+      set.degree >= 1 && set.C(0, 0) != 0 ? center_of_mass_offset(set) : Eigen::Vector3d::Zero();
   if (!set.axes_known && offset.norm() > 1e-9 * set.reference_radius) return std::nullopt;
   return Eigen::Vector3d(set.origin_in_mesh + set.axes_in_mesh.transpose() * offset);
 }
@@ -132,8 +132,8 @@ FrameRelation relate_frames(const CoefficientSet& a, const CoefficientSet& b) {
     else if (d.norm() <= 1e-9 * a.reference_radius)
       out.shift = Eigen::Vector3d::Zero();
     else
-      out.origin_unknown_because = fmt::format("the origins are {:.6g} m apart, but {}", d.norm(),
-                                               unknown_axes_text("B", b));
+      out.origin_unknown_because =
+          fmt::format("the origins are {:.6g} m apart, but {}", d.norm(), unknown_axes_text("B", b));
   }
   return out;
 }
@@ -258,14 +258,16 @@ class Comparer {
     if (shift_.norm() > 1e-12 * a_.reference_radius) {
       out = shift_origin(out, shift_, ShiftOptions{true});
       if (steps)
-        steps->push_back(fmt::format("origin shifted by {} m (B's frame) to A's origin", vector_text(shift_)));
+        steps->push_back(
+            fmt::format("origin shifted by {} m (B's frame) to A's origin", vector_text(shift_)));
     }
     if ((rotation_ - Eigen::Matrix3d::Identity()).cwiseAbs().maxCoeff() > 1e-15) {
       out = rotate_set(out, rotation_, a_.frame);
       if (steps) steps->push_back("axes rotated to A's axes");
     }
     if (steps && out.reference_radius != a_.reference_radius)
-      steps->push_back(fmt::format("reference radius {} m -> {} m", out.reference_radius, a_.reference_radius));
+      steps->push_back(
+          fmt::format("reference radius {} m -> {} m", out.reference_radius, a_.reference_radius));
     if (steps && out.gm != a_.gm) steps->push_back(fmt::format("GM {} -> {} m^3 s^-2", out.gm, a_.gm));
     scaling->log_radius_ratio = std::log(out.reference_radius / a_.reference_radius);
     scaling->log_gm_ratio = std::log(out.gm / a_.gm);
@@ -314,8 +316,8 @@ class Comparer {
       degree.rms_a = std::sqrt(aa / count);
       degree.scale = std::max(degree.rms_a, scale_floor_[size_t(n)]);
       // log of B's RMS at A's radius and GM; below ~1e150 the difference is formed term by term.
-      const double log_rms_b = bb_raw > 0 ? f + 0.5 * std::log(bb_raw / count)
-                                          : -std::numeric_limits<double>::infinity();
+      const double log_rms_b =
+          bb_raw > 0 ? f + 0.5 * std::log(bb_raw / count) : -std::numeric_limits<double>::infinity();
       if (log_rms_b < std::log(1e150)) {
         double bb = 0, dd = 0;
         for (int m = 0; m <= n; ++m) {
@@ -337,8 +339,8 @@ class Comparer {
       // Relative to A (the reference), not to max(A, B): then a term that A lacks gives a difference that
       // grows with B's term instead of saturating at 1, which keeps the diagnosis fits smooth.
       // The correlation does not depend on the scaling, so it is formed from B's own numbers.
-      degree.correlation = aa > 0 && bb_raw > 0 ? ab_raw / std::sqrt(aa * bb_raw)
-                                                : std::numeric_limits<double>::quiet_NaN();
+      degree.correlation =
+          aa > 0 && bb_raw > 0 ? ab_raw / std::sqrt(aa * bb_raw) : std::numeric_limits<double>::quiet_NaN();
       degree.agrees = degree.relative <= options_.tolerance;
       if (!degree.agrees && !failed) {
         failed = true;
@@ -389,7 +391,8 @@ class Comparer {
   std::vector<Hypothesis> diagnose(const CoefficientSet& b) const {
     std::vector<Hypothesis> out;
     const std::vector<Mistake> mistakes = label_mistakes(b);
-    for (const Mistake& mistake : mistakes) out.push_back(judge(mistake.kind, mistake.description, 0, mistake.b));
+    for (const Mistake& mistake : mistakes)
+      out.push_back(judge(mistake.kind, mistake.description, 0, mistake.b));
     for (Scale scale : {Scale::radius, Scale::gm})
       if (const auto fit = fit_scale(b, scale)) out.push_back(judge(*fit));
     if (degree_ >= 1) {
@@ -408,7 +411,8 @@ class Comparer {
       const Eigen::Vector3d d = com_b - com_a_in_b;
       if (d.norm() > 1e-12 * b.reference_radius) {
         CoefficientSet moved = shift_origin(b, d, ShiftOptions{true});
-        moved.origin_in_mesh = b.origin_in_mesh;  // the hypothesis: B's coefficients were not about its origin
+        moved.origin_in_mesh =
+            b.origin_in_mesh;  // the hypothesis: B's coefficients were not about its origin
         moved.origin_known = b.origin_known;
         out.push_back(
             judge("origin",
@@ -432,9 +436,8 @@ class Comparer {
             pairs.push_back(std::move(*fit));
           }
       if (auto fit = fit_radius_and_gm(b)) pairs.push_back(std::move(*fit));
-      std::stable_sort(pairs.begin(), pairs.end(), [](const Fit& x, const Fit& y) {
-        return x.hypothesis.misfit < y.hypothesis.misfit;
-      });
+      std::stable_sort(pairs.begin(), pairs.end(),
+                       [](const Fit& x, const Fit& y) { return x.hypothesis.misfit < y.hypothesis.misfit; });
       constexpr size_t judged_pairs = 3;
       for (size_t i = 0; i < pairs.size() && i < judged_pairs; ++i) out.push_back(judge(pairs[i]));
     }
@@ -482,8 +485,8 @@ class Comparer {
     {
       CoefficientSet flipped = b;
       flipped.S = -b.S;
-      out.push_back({"longitude_sign", "B's longitudes run the other way (S -> -S, a y -> -y reflection)",
-                     flipped});
+      out.push_back(
+          {"longitude_sign", "B's longitudes run the other way (S -> -S, a y -> -y reflection)", flipped});
     }
     {
       CoefficientSet swapped = b;
@@ -513,8 +516,8 @@ class Comparer {
     std::vector<std::pair<int, double>> out;
     for (int n = 0; n <= top; ++n)
       if (spectrum_a_.significant[size_t(n)] && spectrum_b.significant[size_t(n)])
-        out.emplace_back(n, spectrum_a_.log_rms[size_t(n)] - spectrum_b.log_rms[size_t(n)] -
-                                scaling.log_factor(n));
+        out.emplace_back(
+            n, spectrum_a_.log_rms[size_t(n)] - spectrum_b.log_rms[size_t(n)] - scaling.log_factor(n));
     return out;
   }
 
@@ -574,7 +577,9 @@ class Comparer {
     const double count = double(ratio.size()), denominator = count * snn - sn * sn;
     if (!(denominator > 0)) return std::nullopt;
     double log_k = (count * sny - sn * sy) / denominator, log_g = (sy - log_k * sn) / count;
-    const auto misfit = [&](double k, double g) { return stats_of_raw(with_scales(b, k, g), fit_degree()).misfit; };
+    const auto misfit = [&](double k, double g) {
+      return stats_of_raw(with_scales(b, k, g), fit_degree()).misfit;
+    };
     for (int round = 0; round < 3; ++round) {
       log_k = refine(log_k, [&](double t) { return misfit(t, log_g); });
       log_g = refine(log_g, [&](double t) { return misfit(log_k, t); });
@@ -630,16 +635,18 @@ class Comparer {
 };
 
 // Alignment lines and the origin/axes relation words of the comparison (see Comparison).
-void describe_frames(const CoefficientSet& a, const FrameRelation& relation,
-                     bool align, Comparison& out) {
+void describe_frames(const CoefficientSet& a, const FrameRelation& relation, bool align, Comparison& out) {
   const bool shifted = relation.shift && relation.shift->norm() > 1e-9 * a.reference_radius;
   const bool rotated =
       relation.rotation && (*relation.rotation - Eigen::Matrix3d::Identity()).cwiseAbs().maxCoeff() > 1e-12;
   out.origin_relation = !relation.shift ? "unknown" : !shifted ? "same" : align ? "aligned" : "different";
   out.axes_relation = !relation.rotation ? "unknown" : !rotated ? "same" : align ? "aligned" : "different";
   if (!align && (shifted || rotated))
-    out.alignment.push_back(fmt::format("{} recorded in the sets differ; not aligned (ask for frame alignment)",
-                                        shifted && rotated ? "origins and axes" : shifted ? "origins" : "axes"));
+    out.alignment.push_back(fmt::format(
+        "{} recorded in the sets differ; not aligned (ask for frame alignment)", shifted && rotated
+                                                                                     ? "origins and axes"
+                                                                                 : shifted ? "origins"
+                                                                                           : "axes"));
   if (!relation.shift)
     out.alignment.push_back(fmt::format("origin not {}: {}; B is compared as if expanded about A's origin",
                                         align ? "aligned" : "checked", relation.origin_unknown_because));

@@ -55,8 +55,8 @@ struct Hypothesis {
   /// mistakes joins two with '+': normalization/phase/j_sign/longitude_sign/swapped_cs + radius or gm, and
   /// radius+gm.
   std::string kind;
-  std::string description;     ///< what the hypothesis says, with the fitted parameter if any
-  double parameter = 0;        ///< radius or GM factor, angle (degrees), shift length (m); 0 if none
+  std::string description;      ///< what the hypothesis says, with the fitted parameter if any
+  double parameter = 0;         ///< radius or GM factor, angle (degrees), shift length (m); 0 if none
   double second_parameter = 0;  ///< the GM factor of radius+gm (parameter is its radius factor); else 0
   double misfit = 0;        ///< misfit after the correction
   int agree_degree = -1;    ///< degree up to which the corrected B agrees with A
@@ -66,7 +66,7 @@ struct Hypothesis {
 struct Comparison {
   int degree = 0;  ///< highest degree compared
   int degree_a = 0, degree_b = 0;
-  std::vector<std::string> alignment;          ///< what was done to B to bring it to A, and what was not
+  std::vector<std::string> alignment;  ///< what was done to B to bring it to A, and what was not
   /// How B's origin and axes stand to A's: "same", "different" (not aligned), "aligned", or "unknown" (a set
   /// does not know its origin or axes in the mesh frame: not aligned, B taken as if it were in A's).
   std::string origin_relation, axes_relation;

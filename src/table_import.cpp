@@ -155,14 +155,14 @@ void record_origin_and_axes(const TableImportOptions& options, const std::string
   }
   set.history.push_back(fmt::format(
       "{}: origin {}, axes {}", source_name,
-      options.origin == TableOrigin::unknown          ? std::string("unknown (not declared)")
-      : options.origin == TableOrigin::center_of_mass ? std::string("the centre of mass (declared)")
-                                                      : fmt::format("({}, {}, {}) m in the mesh frame (declared)",
-                                                                    set.origin_in_mesh.x(), set.origin_in_mesh.y(),
-                                                                    set.origin_in_mesh.z()),
-      options.axes.empty()  ? std::string("unknown (not declared)")
-      : set.axes_known      ? std::string("those of the mesh frame (declared)")
-                            : fmt::format("'{}' (declared; directions in the mesh frame unknown)", options.axes)));
+      options.origin == TableOrigin::unknown ? std::string("unknown (not declared)")
+      : options.origin == TableOrigin::center_of_mass
+          ? std::string("the centre of mass (declared)")
+          : fmt::format("({}, {}, {}) m in the mesh frame (declared)", set.origin_in_mesh.x(),
+                        set.origin_in_mesh.y(), set.origin_in_mesh.z()),
+      options.axes.empty() ? std::string("unknown (not declared)")
+      : set.axes_known     ? std::string("those of the mesh frame (declared)")
+                       : fmt::format("'{}' (declared; directions in the mesh frame unknown)", options.axes)));
 }
 
 }  // namespace
@@ -316,9 +316,8 @@ CoefficientSet parse_table(const std::string& text, const std::string& source_na
     throw format_error(source_name, rows.begin()->second.line,
                        fmt::format("C00 = {} is not positive", set.C(0, 0)));
   record_origin_and_axes(options, source_name, set);
-  set.notes.push_back(
-      fmt::format("Imported from the table {}: the Brillouin radius, mass and regions are not known.",
-                  source_name));
+  set.notes.push_back(fmt::format(
+      "Imported from the table {}: the Brillouin radius, mass and regions are not known.", source_name));
   return set;
 }
 

@@ -55,9 +55,10 @@ std::string to_string(const std::vector<TableColumn>& columns);
 /// degree 1 means zero degree-1 terms (both recorded in the history). An absent S or sigma column means
 /// zeros. In J form (zonal_as_j) the degree-0 row holds C00 as usual (+1); a -1 there (J_0 = -C00 written
 /// out) is read as C00 = +1 with a history line. Origin and axes are recorded as declared (see
-/// TableImportOptions), unknown when not declared. Throws ConventionError naming every missing declaration, FormatError "source:line: problem" for
-/// non-numeric or non-finite fields, negative sigmas, n or m not integers, m > n, a non-zero S for m = 0,
-/// repeated (n, m), and "source: no row for n = .., m = .." for gaps. O(lines).
+/// TableImportOptions), unknown when not declared. Throws ConventionError naming every missing declaration,
+/// FormatError "source:line: problem" for non-numeric or non-finite fields, negative sigmas, n or m not
+/// integers, m > n, a non-zero S for m = 0, repeated (n, m), and "source: no row for n = .., m = .." for
+/// gaps. O(lines).
 CoefficientSet parse_table(const std::string& text, const std::string& source_name,
                            const TableImportOptions& options);
 

@@ -275,8 +275,9 @@ CoefficientSet shift_origin(const CoefficientSet& set, const Eigen::Vector3d& sh
 
   // The new origin is placed in the mesh frame only when the old one is and the shift's direction is.
   out.origin_known = set.origin_known && (set.axes_known || shift.norm() == 0);
-  out.origin_in_mesh = out.origin_known ? Eigen::Vector3d(set.origin_in_mesh + set.axes_in_mesh.transpose() * shift)
-                                        : Eigen::Vector3d::Zero();
+  out.origin_in_mesh = out.origin_known
+                           ? Eigen::Vector3d(set.origin_in_mesh + set.axes_in_mesh.transpose() * shift)
+                           : Eigen::Vector3d::Zero();
   const double tiny = 1e-9 * R;
   if (N >= 1 && out.C(0, 0) != 0 && center_of_mass_offset(out).norm() <= tiny)
     out.origin = "com";
@@ -289,7 +290,8 @@ CoefficientSet shift_origin(const CoefficientSet& set, const Eigen::Vector3d& sh
       "expansion origin shifted by {} m (set frame) to {}, translation of degrees 0..{} by the addition "
       "theorem (exact but for rounding, see the notes)",
       vector_text(shift),
-      out.origin_known ? vector_text(out.origin_in_mesh) + " m (mesh frame)" : "a point unknown in the mesh frame",
+      out.origin_known ? vector_text(out.origin_in_mesh) + " m (mesh frame)"
+                       : "a point unknown in the mesh frame",
       N));
   out.notes.push_back(
       fmt::format("After the origin shift of {:.9g} m the series converges only outside "

@@ -8,8 +8,8 @@
 #include <limits>
 #include <nlohmann/json.hpp>
 
-#include "errors.h"
 #include "conventions.h"
+#include "errors.h"
 #include "harmonics.h"
 #include "parallel_rows.h"
 #include "polyhedron_gravity.h"
@@ -37,14 +37,17 @@ void check_options(const ValidationOptions& options) {
 void add_consistency_warnings(const std::vector<DensityRegion>& regions, const CoefficientSet& set,
                               ValidationReport& report) {
   const double rb = report.brillouin_radius;
-  const auto differs = [&](double gm) { return std::abs(gm - report.gm_mesh) > 1e-9 * std::abs(report.gm_mesh); };
+  const auto differs = [&](double gm) {
+    return std::abs(gm - report.gm_mesh) > 1e-9 * std::abs(report.gm_mesh);
+  };
   // The series' monopole is GM C00 (C00 normalized as the 4pi convention, where P00 = 1): a set rescaled to
   // another GM keeps its field by carrying GM_old/GM_new in C00, so only GM C00 enters the errors.
   if (differs(report.gm_field))
-    report.warnings.push_back(fmt::format(
-        "the set's total GM (GM x C00 = {:.9g} m^3 s^-2) differs from G * density * volume of the mesh ({:.9g} "
-        "m^3 s^-2) by a relative {:.2e}; the errors below include that difference.",
-        report.gm_field, report.gm_mesh, (report.gm_field - report.gm_mesh) / report.gm_mesh));
+    report.warnings.push_back(
+        fmt::format("the set's total GM (GM x C00 = {:.9g} m^3 s^-2) differs from G * density * volume of "
+                    "the mesh ({:.9g} "
+                    "m^3 s^-2) by a relative {:.2e}; the errors below include that difference.",
+                    report.gm_field, report.gm_mesh, (report.gm_field - report.gm_mesh) / report.gm_mesh));
   else if (differs(report.gm_set))
     report.notes.push_back(fmt::format(
         "the set's GM ({:.9g} m^3 s^-2) differs from the mesh's ({:.9g} m^3 s^-2), but its C00 = {:.9g} "
@@ -90,7 +93,8 @@ CoefficientSet placed_in_mesh(const std::vector<DensityRegion>& regions, const C
   if (set.origin_known) return set;
   if (set.origin != "com")
     throw ConventionError(
-        "the set's origin is unknown: validation needs it (for a table, declare --table-origin com or x,y,z)");
+        "the set's origin is unknown: validation needs it (for a table, declare --table-origin com or "
+        "x,y,z)");
   CoefficientSet placed = set;
   placed.origin_in_mesh = mass_properties(regions).center_of_mass;
   placed.origin_known = true;

@@ -326,11 +326,12 @@ const CoefficientSet& high_degree_set() {
 
 }  // namespace
 
-TEST_CASE("a reference radius declared 100, 1000 or 10000 times off is found at degree 120, 1000 named as m/km",
-          "[compare]") {
-  // Regression (issue 10, defect 5): the factor was fitted only near the spectra-ratio estimate, and B's terms
-  // at a radius 1000 times too small fell below A's rounding floor, so no radius hypothesis was made at all.
-  // The expected factor is the one injected: coefficients for R declared as R / f (the classic forgotten
+TEST_CASE(
+    "a reference radius declared 100, 1000 or 10000 times off is found at degree 120, 1000 named as m/km",
+    "[compare]") {
+  // Regression (issue 10, defect 5): the factor was fitted only near the spectra-ratio estimate, and B's
+  // terms at a radius 1000 times too small fell below A's rounding floor, so no radius hypothesis was made at
+  // all. The expected factor is the one injected: coefficients for R declared as R / f (the classic forgotten
   // --unit km is f = 1000); common practice for the m/km reading.
   const CoefficientSet& a = high_degree_set();
   CompareOptions options;
@@ -351,9 +352,10 @@ TEST_CASE("a reference radius declared 100, 1000 or 10000 times off is found at 
   }
 }
 
-TEST_CASE("two mistakes at once: Schmidt numbers with a 1.1x radius are named as the pair; a partial "
-          "explanation is called partial",
-          "[compare]") {
+TEST_CASE(
+    "two mistakes at once: Schmidt numbers with a 1.1x radius are named as the pair; a partial "
+    "explanation is called partial",
+    "[compare]") {
   // Regression (issue 10, defect 15): the verdict named "gm, factor 0.567", which leaves most of the misfit.
   // Schmidt numbers = fully normalized ones times 1/sqrt(2n+1) (Heiskanen & Moritz 1967, sec. 1-14; the
   // normalization test against GSL checks the library's factor).
