@@ -138,18 +138,21 @@ FrameRelation relate_frames(const CoefficientSet& a, const CoefficientSet& b) {
   return out;
 }
 
-// The per-degree factor (R_B/R_A)^n GM_B/GM_A that takes B's numbers to A's radius and GM, kept as a
-// logarithm: at a radius off by 1e4 it exceeds the double range from degree 77 on.
+// The per-degree factor (R_B/R_A)^n GM_B/GM_A that takes B's numbers to A's radius and GM. At a radius off
+// by 1e4 it leaves the double range from degree 77 on, so where it does it is applied as a logarithm.
 struct Scaling {
-  double log_radius_ratio = 0, log_gm_ratio = 0;
-  double log_factor(int n) const { return n * log_radius_ratio + log_gm_ratio; }
+  double radius_ratio = 1, gm_ratio = 1;
+  double log_factor(int n) const { return n * std::log(radius_ratio) + std::log(gm_ratio); }
+  /// x (R_B/R_A)^n GM_B/GM_A: by multiplication where the factor and the product are normal doubles (exact
+  /// for a factor of 1, and rounded as the exact rescalings round), else by logarithms.
+  double apply(double x, int n) const {
+    if (x == 0) return 0;
+    const double factor = std::pow(radius_ratio, n) * gm_ratio;
+    const double product = x * factor;
+    if (std::isnormal(factor) && std::isfinite(product)) return product;
+    return std::copysign(std::exp(std::log(std::abs(x)) + log_factor(n)), x);
+  }
 };
-
-// x e^f without forming e^f (which overflows where x e^f need not).
-double scaled(double x, double log_factor) {
-  if (x == 0) return 0;
-  return std::copysign(std::exp(std::log(std::abs(x)) + log_factor), x);
-}
 
 // sqrt(mean of x^2) without squaring overflow.
 double root_mean_square(const std::vector<double>& values) {
@@ -269,8 +272,8 @@ class Comparer {
       steps->push_back(
           fmt::format("reference radius {} m -> {} m", out.reference_radius, a_.reference_radius));
     if (steps && out.gm != a_.gm) steps->push_back(fmt::format("GM {} -> {} m^3 s^-2", out.gm, a_.gm));
-    scaling->log_radius_ratio = std::log(out.reference_radius / a_.reference_radius);
-    scaling->log_gm_ratio = std::log(out.gm / a_.gm);
+    scaling->radius_ratio = out.reference_radius / a_.reference_radius;
+    scaling->gm_ratio = out.gm / a_.gm;
     if (out.convention != a_.convention) {
       if (steps)
         steps->push_back(
@@ -282,15 +285,13 @@ class Comparer {
 
   // B's numbers at A's radius and GM (an entry beyond the double range becomes infinite).
   static CoefficientSet materialize(CoefficientSet b, const Scaling& scaling) {
-    for (int n = 0; n <= b.degree; ++n) {
-      const double f = scaling.log_factor(n);
+    for (int n = 0; n <= b.degree; ++n)
       for (int m = 0; m <= n; ++m) {
-        b.C(n, m) = scaled(b.C(n, m), f);
-        b.S(n, m) = scaled(b.S(n, m), f);
-        b.sigma_C(n, m) = scaled(b.sigma_C(n, m), f);
-        b.sigma_S(n, m) = scaled(b.sigma_S(n, m), f);
+        b.C(n, m) = scaling.apply(b.C(n, m), n);
+        b.S(n, m) = scaling.apply(b.S(n, m), n);
+        b.sigma_C(n, m) = scaling.apply(b.sigma_C(n, m), n);
+        b.sigma_S(n, m) = scaling.apply(b.sigma_S(n, m), n);
       }
-    }
     return b;
   }
 
@@ -321,7 +322,7 @@ class Comparer {
       if (log_rms_b < std::log(1e150)) {
         double bb = 0, dd = 0;
         for (int m = 0; m <= n; ++m) {
-          const double cb = scaled(fb.C(n, m), f), sb = scaled(fb.S(n, m), f);
+          const double cb = scaling.apply(fb.C(n, m), n), sb = scaling.apply(fb.S(n, m), n);
           const double ca = fully_a_.C(n, m), sa = fully_a_.S(n, m);
           bb += cb * cb + sb * sb;
           dd += (ca - cb) * (ca - cb) + (sa - sb) * (sa - sb);
