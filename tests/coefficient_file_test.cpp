@@ -835,5 +835,53 @@ TEST_CASE(
   }
 }
 
+
+TEST_CASE("an unknown origin and unknown axes round-trip through text and JSON as 'unknown' and null",
+          "[coefficient_file]") {
+  // Issue 10, defect 4: the formats had no way to say "not known" and wrote (0,0,0) and the identity.
+  CoefficientSet set = small_set();
+  set.origin = "com";  // declared about the centre of mass, its place in the mesh frame not known
+  set.origin_known = false;
+  set.frame = kUnknownLabel;
+  set.axes_known = false;
+  const std::string text = format_coefficient_text(set);
+  CHECK(text.find("\norigin_m = unknown\n") != std::string::npos);
+  CHECK(text.find("\nframe_x_axis = unknown\nframe_y_axis = unknown\nframe_z_axis = unknown\n") !=
+        std::string::npos);
+  require_identical(set, parse_coefficient_text(text, "unknown.pcs"));
+  REQUIRE(format_coefficient_text(parse_coefficient_text(text, "unknown.pcs")) == text);
+  const std::string json = format_coefficient_json(set);
+  const auto parsed = nlohmann::json::parse(json);
+  CHECK(parsed["origin"]["position"].is_null());
+  CHECK(parsed["frame"]["axes"].is_null());
+  require_identical(set, parse_coefficient_json(json, "unknown.json"));
+  // One axis unknown and the others given is refused, naming the line.
+  std::string mixed = format_coefficient_text(small_set());
+  mixed.replace(mixed.find("frame_y_axis = 0 1 0"), 20, "frame_y_axis = unknown");
+  const auto mixed_lines = lines_of(mixed);
+  const long line = long(std::find(mixed_lines.begin(), mixed_lines.end(), "frame_y_axis = unknown") -
+                         mixed_lines.begin()) + 1;
+  require_text_error(mixed, line, "the three axes must all be given or all be unknown");
+}
+
+TEST_CASE("degree 0 is C00 = +1 in J form; an earlier file's -1 reads as +1 with a history line",
+          "[coefficient_file]") {
+  // Issue 10, defect 14: J-form sets stored C00 as -1. J_n = -C_n0 concerns n >= 1 (IERS Conventions 2010,
+  // eq. 6.2); degree 0 is the positive total-mass term (common practice).
+  CoefficientSet set = small_set();
+  set.convention.zonal_as_j = true;
+  set.C(0, 0) = 1.0;
+  require_identical(set, parse_coefficient_text(format_coefficient_text(set), "j.pcs"));
+  CoefficientSet earlier = set;
+  earlier.C(0, 0) = -1.0;
+  for (const CoefficientSet& read : {parse_coefficient_text(format_coefficient_text(earlier), "old.pcs"),
+                                     parse_coefficient_json(format_coefficient_json(earlier), "old.json")}) {
+    CHECK(read.C(0, 0) == 1.0);
+    CHECK(read.C(1, 0) == set.C(1, 0));
+    REQUIRE(read.history.size() == set.history.size() + 1);
+    CHECK(read.history.back().find("read as C00 = 1") != std::string::npos);
+  }
+}
+
 }  // namespace
 }  // namespace polystokes

@@ -362,3 +362,20 @@ TEST_CASE("convert CLI: shift allowed outside the Brillouin sphere writes the ca
   CHECK(out.notes.back().find("CAUTION") != std::string::npos);
   CHECK(out.origin_in_mesh.x() == Approx(body_set().origin_in_mesh.x() + 4000.0));
 }
+
+TEST_CASE("degree 0 stays C00 = +1 in every zonal form and through every conversion", "[conventions]") {
+  // Issue 10, defect 14: the J form stored C00 as -1. J_n = -C_n0 is defined for the zonal terms n >= 1
+  // (IERS Conventions 2010, eq. 6.2; Heiskanen & Moritz 1967, sec. 2-9); C00 = 1 for GM the total (common
+  // practice), except the orthonormal C00 = sqrt(4 pi) that makes C00 P00 = 1.
+  const CoefficientSet& set = body_set();
+  REQUIRE(set.C(0, 0) == 1.0);
+  for (const Convention& from : all_conventions()) {
+    const CoefficientSet source = convert_convention(set, from);
+    CAPTURE(describe(from));
+    const double expected = from.normalization == Normalization::orthonormal ? std::sqrt(4 * M_PI) : 1.0;
+    CHECK_THAT(source.C(0, 0), WithinRel(expected, 1e-15));
+    CHECK(zonal_sign(from, 0, 0) == 1.0);
+    CHECK(zonal_sign(from, 2, 0) == (from.zonal_as_j ? -1.0 : 1.0));
+    CHECK(zonal_sign(from, 2, 1) == 1.0);
+  }
+}

@@ -235,3 +235,55 @@ TEST_CASE("convert CLI reads a declared table into our format; a missing declara
   CHECK(duplicate.exit_code == 2);
   CHECK(duplicate.output.find("dup.tab:3: row n = 1, m = 0 repeats line 2") != std::string::npos);
 }
+
+TEST_CASE("a J-form table with the usual degree-0 row 0 0 1 is read as C00 = 1; a -1 there as J_0 = -C00",
+          "[table_import]") {
+  // Issue 10, defect 14: "C00 = -1 is not positive". Tables in J form write degree 0 as 1 (common practice:
+  // J_n = -C_n0 is defined for n >= 1, IERS Conventions 2010, eq. 6.2).
+  const CoefficientSet set = convert_convention(body_set(), Convention{Normalization::unnormalized, false, true});
+  REQUIRE(set.C(0, 0) == 1.0);
+  TableImportOptions options = declared(set, "skip,n,m,C,S,sigma_C,sigma_S");
+  options.skip_lines = 2;
+  const std::string text = table_text(set, " ");
+  REQUIRE(text.find("coef 0 0 1 0") != std::string::npos);
+  const CoefficientSet read = parse_table(text, "j.tab", options);
+  require_identical(read, set);
+  std::string minus = text;
+  minus.replace(minus.find("coef 0 0 1 0"), 12, "coef 0 0 -1 0");
+  const CoefficientSet from_minus = parse_table(minus, "j.tab", options);
+  CHECK(from_minus.C(0, 0) == 1.0);
+  bool recorded = false;
+  for (const auto& line : from_minus.history) recorded = recorded || line.find("read as J_0 = -C00") != std::string::npos;
+  CHECK(recorded);
+  // Without --zonal-j a negative C00 is still refused.
+  options.zonal_as_j = false;
+  options.normalization = Normalization::unnormalized;
+  CHECK_THROWS_WITH(parse_table(minus, "c.tab", options), Catch::Contains("C00 = -1 is not positive"));
+}
+
+TEST_CASE("declared origin and axes are recorded: the centre of mass, a point, the mesh axes, a label",
+          "[table_import]") {
+  // Issue 10, defect 4: the table's own declarations, echoed into the set (nothing to compute: what was
+  // declared is what is recorded).
+  const CoefficientSet& set = body_set();
+  TableImportOptions options = declared(set, "skip,n,m,C,S,sigma_C,sigma_S");
+  options.skip_lines = 2;
+  options.origin = TableOrigin::center_of_mass;
+  options.axes = "mesh";
+  CoefficientSet read = parse_table(table_text(set, " "), "t", options);
+  CHECK(read.origin == "com");
+  CHECK(!read.origin_known);
+  CHECK(read.frame == "mesh");
+  CHECK(read.axes_known);
+  CHECK(read.axes_in_mesh == Eigen::Matrix3d::Identity());
+  options.origin = TableOrigin::point;
+  options.origin_point = Eigen::Vector3d(120, -35, 8);
+  options.axes = "principal";
+  read = parse_table(table_text(set, " "), "t", options);
+  CHECK(read.origin == "com");  // the degree-1 terms vanish: the point is the centre of mass
+  CHECK(read.origin_known);
+  CHECK(read.origin_in_mesh == Eigen::Vector3d(120, -35, 8));
+  CHECK(read.frame == "principal");
+  CHECK(!read.axes_known);
+  CHECK(read.history.back().find("(120, -35, 8) m in the mesh frame (declared)") != std::string::npos);
+}

@@ -10,6 +10,7 @@
 #include "errors.h"
 #include "harmonics.h"
 #include "shapes.h"
+#include "transforms.h"
 
 using namespace polystokes;
 
@@ -160,4 +161,50 @@ TEST_CASE("bad validation options are refused", "[validation]") {
   options.radius_factors = {2.0};
   options.target = 0;
   CHECK_THROWS_WITH(validate_series(c.regions, c.set, options), Catch::Contains("target"));
+}
+
+TEST_CASE("a set rescaled to another GM keeps its errors and gets a note, not a warning", "[validation]") {
+  // Issue 10, defect 8: the warning said "the errors below include that difference" although C00 =
+  // GM_old/GM_new keeps the field (docs/conventions.md: C_nm GM_old/GM_new), so the errors are the same.
+  const Case c = ellipsoid_case(6);
+  const CoefficientSet rescaled = rescale_gm(c.set, c.set.gm * 1.5);
+  ValidationOptions options;
+  options.radius_factors = {2.0};
+  options.samples = 30;
+  const ValidationReport before = validate_series(c.regions, c.set, options);
+  const ValidationReport after = validate_series(c.regions, rescaled, options);
+  CHECK(after.warnings == before.warnings);
+  REQUIRE(after.notes.size() == 1);
+  CHECK(after.notes[0].find("carries the ratio") != std::string::npos);
+  CHECK_THAT(after.gm_field, Catch::Matchers::WithinRel(before.gm_set, 1e-15));
+  for (size_t L = 0; L < before.shells[0].max_error.size(); ++L)
+    CHECK_THAT(after.shells[0].max_error[L], Catch::Matchers::WithinAbs(before.shells[0].max_error[L], 1e-14));
+  // A set whose field carries another total GM is still warned about.
+  CoefficientSet heavier = c.set;
+  heavier.gm *= 1.5;
+  const ValidationReport wrong = validate_series(c.regions, heavier, options);
+  REQUIRE(!wrong.warnings.empty());
+  CHECK(wrong.warnings[0].find("the errors below include that difference") != std::string::npos);
+}
+
+TEST_CASE("a set about the centre of mass with no recorded place is sampled about the mesh's; unknown is refused",
+          "[validation]") {
+  // Issue 10, defect 4: imported tables may not know their origin or axes in the mesh frame.
+  const Case c = ellipsoid_case(6);
+  ValidationOptions options;
+  options.radius_factors = {2.0};
+  options.samples = 30;
+  CoefficientSet com = c.set;
+  com.origin_known = false;
+  com.origin_in_mesh = Eigen::Vector3d::Zero();
+  const ValidationReport placed = validate_series(c.regions, com, options);
+  const ValidationReport known = validate_series(c.regions, c.set, options);
+  CHECK(placed.shells[0].max_error == known.shells[0].max_error);  // the same point: the mesh's centre of mass
+  REQUIRE(placed.notes.size() == 1);
+  CHECK(placed.notes[0].find("taken as the mesh's centre of mass") != std::string::npos);
+  com.origin = kUnknownLabel;
+  CHECK_THROWS_WITH(validate_series(c.regions, com, options), Catch::Contains("origin is unknown"));
+  CoefficientSet axes = c.set;
+  axes.axes_known = false;
+  CHECK_THROWS_WITH(validate_series(c.regions, axes, options), Catch::Contains("axes"));
 }
