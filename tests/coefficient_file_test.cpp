@@ -835,7 +835,6 @@ TEST_CASE(
   }
 }
 
-
 TEST_CASE("an unknown origin and unknown axes round-trip through text and JSON as 'unknown' and null",
           "[coefficient_file]") {
   // Issue 10, defect 4: the formats had no way to say "not known" and wrote (0,0,0) and the identity.
@@ -860,7 +859,8 @@ TEST_CASE("an unknown origin and unknown axes round-trip through text and JSON a
   mixed.replace(mixed.find("frame_y_axis = 0 1 0"), 20, "frame_y_axis = unknown");
   const auto mixed_lines = lines_of(mixed);
   const long line = long(std::find(mixed_lines.begin(), mixed_lines.end(), "frame_y_axis = unknown") -
-                         mixed_lines.begin()) + 1;
+                         mixed_lines.begin()) +
+                    1;
   require_text_error(mixed, line, "the three axes must all be given or all be unknown");
 }
 

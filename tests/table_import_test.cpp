@@ -240,7 +240,8 @@ TEST_CASE("a J-form table with the usual degree-0 row 0 0 1 is read as C00 = 1; 
           "[table_import]") {
   // Issue 10, defect 14: "C00 = -1 is not positive". Tables in J form write degree 0 as 1 (common practice:
   // J_n = -C_n0 is defined for n >= 1, IERS Conventions 2010, eq. 6.2).
-  const CoefficientSet set = convert_convention(body_set(), Convention{Normalization::unnormalized, false, true});
+  const CoefficientSet set =
+      convert_convention(body_set(), Convention{Normalization::unnormalized, false, true});
   REQUIRE(set.C(0, 0) == 1.0);
   TableImportOptions options = declared(set, "skip,n,m,C,S,sigma_C,sigma_S");
   options.skip_lines = 2;
@@ -253,7 +254,8 @@ TEST_CASE("a J-form table with the usual degree-0 row 0 0 1 is read as C00 = 1; 
   const CoefficientSet from_minus = parse_table(minus, "j.tab", options);
   CHECK(from_minus.C(0, 0) == 1.0);
   bool recorded = false;
-  for (const auto& line : from_minus.history) recorded = recorded || line.find("read as J_0 = -C00") != std::string::npos;
+  for (const auto& line : from_minus.history)
+    recorded = recorded || line.find("read as J_0 = -C00") != std::string::npos;
   CHECK(recorded);
   // Without --zonal-j a negative C00 is still refused.
   options.zonal_as_j = false;

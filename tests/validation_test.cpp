@@ -178,7 +178,8 @@ TEST_CASE("a set rescaled to another GM keeps its errors and gets a note, not a 
   CHECK(after.notes[0].find("carries the ratio") != std::string::npos);
   CHECK_THAT(after.gm_field, Catch::Matchers::WithinRel(before.gm_set, 1e-15));
   for (size_t L = 0; L < before.shells[0].max_error.size(); ++L)
-    CHECK_THAT(after.shells[0].max_error[L], Catch::Matchers::WithinAbs(before.shells[0].max_error[L], 1e-14));
+    CHECK_THAT(after.shells[0].max_error[L],
+               Catch::Matchers::WithinAbs(before.shells[0].max_error[L], 1e-14));
   // A set whose field carries another total GM is still warned about.
   CoefficientSet heavier = c.set;
   heavier.gm *= 1.5;
@@ -187,8 +188,9 @@ TEST_CASE("a set rescaled to another GM keeps its errors and gets a note, not a 
   CHECK(wrong.warnings[0].find("the errors below include that difference") != std::string::npos);
 }
 
-TEST_CASE("a set about the centre of mass with no recorded place is sampled about the mesh's; unknown is refused",
-          "[validation]") {
+TEST_CASE(
+    "a set about the centre of mass with no recorded place is sampled about the mesh's; unknown is refused",
+    "[validation]") {
   // Issue 10, defect 4: imported tables may not know their origin or axes in the mesh frame.
   const Case c = ellipsoid_case(6);
   ValidationOptions options;
@@ -199,7 +201,8 @@ TEST_CASE("a set about the centre of mass with no recorded place is sampled abou
   com.origin_in_mesh = Eigen::Vector3d::Zero();
   const ValidationReport placed = validate_series(c.regions, com, options);
   const ValidationReport known = validate_series(c.regions, c.set, options);
-  CHECK(placed.shells[0].max_error == known.shells[0].max_error);  // the same point: the mesh's centre of mass
+  CHECK(placed.shells[0].max_error ==
+        known.shells[0].max_error);  // the same point: the mesh's centre of mass
   REQUIRE(placed.notes.size() == 1);
   CHECK(placed.notes[0].find("taken as the mesh's centre of mass") != std::string::npos);
   com.origin = kUnknownLabel;
