@@ -89,6 +89,7 @@ CoefficientSet read_input(const ConvertOptions& options, const GlobalOptions& gl
   CoefficientSet set = read_table(options.input, import);
   print_notice(global, fmt::format("{}: read as a plain table of degree {} ({})", options.input, set.degree,
                                    describe(set.convention)));
+  for (const std::string& note : set.notes) print_notice(global, note);  // what the table leaves unknown
   return set;
 }
 

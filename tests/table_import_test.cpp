@@ -13,6 +13,7 @@
 #include "harmonics.h"
 #include "shapes.h"
 #include "test_support.h"
+#include "transforms.h"
 
 using namespace polystokes;
 using namespace polystokes::test;
@@ -288,4 +289,12 @@ TEST_CASE("declared origin and axes are recorded: the centre of mass, a point, t
   CHECK(read.frame == "principal");
   CHECK(!read.axes_known);
   CHECK(read.history.back().find("(120, -35, 8) m in the mesh frame (declared)") != std::string::npos);
+  // Declared about the centre of mass while the degree-1 terms put it 50 m away: a caution, not silence.
+  const CoefficientSet off = shift_origin(set, Eigen::Vector3d(50, 0, 0));
+  options = declared(off, "skip,n,m,C,S,sigma_C,sigma_S");
+  options.skip_lines = 2;
+  options.origin = TableOrigin::center_of_mass;
+  read = parse_table(table_text(off, " "), "off.tab", options);
+  REQUIRE(!read.notes.empty());
+  CHECK(read.notes.front().find("CAUTION: off.tab was declared to be about the centre of mass") != std::string::npos);
 }
