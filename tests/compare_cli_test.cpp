@@ -74,9 +74,10 @@ nlohmann::json compare_json(const std::string& a, const std::string& b, const st
 
 TEST_CASE("a table imported without origin and axes records them as unknown; compare does not align them",
           "[compare_cli]") {
-  // Regression (issue 10, defect 4): the import recorded origin "com" at (0,0,0), so `compare --frame` moved
-  // B by the 330 m between the mesh origin and the centre of mass and reported DIFFER for the same field.
-  // Expected: the same numbers agree (a field compared with itself: common practice).
+  // Regression (issue 10, defect 4): the import recorded origin "com" at (0,0,0), so frame alignment
+  // (`compare --align-frames`) moved B by the 330 m between the mesh origin and the centre of mass and
+  // reported DIFFER for the same field. Expected: the same numbers agree (a field compared with itself:
+  // common practice).
   const std::string dir = temp_directory();
   const CoefficientSet& a = off_origin_set();
   REQUIRE(a.origin_in_mesh.norm() > 300);
@@ -90,7 +91,7 @@ TEST_CASE("a table imported without origin and axes records them as unknown; com
   CHECK(file.find("origin = \"unknown\"\norigin_m = unknown\n") != std::string::npos);
   CHECK(file.find("frame_x_axis = unknown\n") != std::string::npos);
   std::string text;
-  auto json = compare_json(dir + "/a.txt", dir + "/bare.txt", "--frame --tolerance 1e-12", &text);
+  auto json = compare_json(dir + "/a.txt", dir + "/bare.txt", "--align-frames --tolerance 1e-12", &text);
   CHECK(json["agree"] == true);
   CHECK(json["origin"] == "unknown");
   CHECK(json["axes"] == "unknown");
@@ -102,7 +103,7 @@ TEST_CASE("a table imported without origin and axes records them as unknown; com
   REQUIRE(r.exit_code == 0);
   CHECK(r.output.find("origin             com (place in the mesh frame unknown), axes mesh") !=
         std::string::npos);
-  json = compare_json(dir + "/a.txt", dir + "/com.txt", "--frame --tolerance 1e-12");
+  json = compare_json(dir + "/a.txt", dir + "/com.txt", "--align-frames --tolerance 1e-12");
   CHECK(json["agree"] == true);
   CHECK(json["origin"] == "same");
   CHECK(json["axes"] == "same");
@@ -117,7 +118,7 @@ TEST_CASE("a table imported without origin and axes records them as unknown; com
   const CoefficientSet point = read_coefficient_file(dir + "/point.txt");
   CHECK(point.origin_known);
   CHECK((point.origin_in_mesh - a.origin_in_mesh).norm() < 1e-9);
-  json = compare_json(dir + "/a.txt", dir + "/point.txt", "--frame --tolerance 1e-12");
+  json = compare_json(dir + "/a.txt", dir + "/point.txt", "--align-frames --tolerance 1e-12");
   CHECK(json["agree"] == true);
   CHECK(json["origin"] == "same");
 }

@@ -249,7 +249,7 @@ TEST_CASE("a J-form table with the usual degree-0 row 0 0 1 is read as C00 = 1; 
   const std::string text = table_text(set, " ");
   REQUIRE(text.find("coef 0 0 1 0") != std::string::npos);
   const CoefficientSet read = parse_table(text, "j.tab", options);
-  require_identical(read, set);
+  require_sets_identical(read, set);
   std::string minus = text;
   minus.replace(minus.find("coef 0 0 1 0"), 12, "coef 0 0 -1 0");
   const CoefficientSet from_minus = parse_table(minus, "j.tab", options);
