@@ -226,11 +226,27 @@ FieldValue evaluate_series(const CoefficientSet& set, const Eigen::Vector3d& poi
   return SeriesModel(set, max_degree).evaluate(point);
 }
 
+namespace {
+
+// Mesh-frame points need the set's origin and axes in the mesh frame; an imported table may not know them.
+void require_placed(const CoefficientSet& set) {
+  if (!set.origin_known || !set.axes_known)
+    throw ConventionError(fmt::format(
+        "the set '{}' does not know its {} in the mesh frame (origin '{}', axes '{}'): give points in the "
+        "set's own frame about its origin (field --set-frame)",
+        set.body, !set.origin_known && !set.axes_known ? "origin and axes" : !set.origin_known ? "origin" : "axes",
+        set.origin, set.frame));
+}
+
+}  // namespace
+
 Eigen::Vector3d to_set_frame(const CoefficientSet& set, const Eigen::Vector3d& mesh_point) {
+  require_placed(set);
   return set.axes_in_mesh * (mesh_point - set.origin_in_mesh);
 }
 
 FieldValue to_mesh_frame(const CoefficientSet& set, const FieldValue& set_value) {
+  require_placed(set);
   FieldValue out;
   out.potential = set_value.potential;
   out.acceleration = set.axes_in_mesh.transpose() * set_value.acceleration;

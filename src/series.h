@@ -60,10 +60,12 @@ class SeriesModel {
 FieldValue evaluate_series(const CoefficientSet& set, const Eigen::Vector3d& point, int max_degree = -1);
 
 /// Mesh-frame point (metres) expressed in the set's frame about its origin: axes_in_mesh * (p -
-/// origin_in_mesh).
+/// origin_in_mesh). Throws ConventionError for a set whose origin or axes are not known in the mesh frame
+/// (origin_known, axes_known: a table imported without declarations).
 Eigen::Vector3d to_set_frame(const CoefficientSet& set, const Eigen::Vector3d& mesh_point);
 
 /// A field value computed in the set's frame, expressed in the mesh frame (vectors and tensor rotated back).
+/// Throws ConventionError as to_set_frame does.
 FieldValue to_mesh_frame(const CoefficientSet& set, const FieldValue& set_value);
 
 }  // namespace polystokes

@@ -97,6 +97,16 @@ TEST_CASE("a table imported without origin and axes records them as unknown; com
   CHECK(json["axes"] == "unknown");
   CHECK(text.find("origin not aligned: B's origin is unknown") != std::string::npos);
   CHECK(text.find("origin shifted") == std::string::npos);
+  // Nor does `field` place mesh-frame points against an origin it does not know; set-frame points work.
+  write_text(dir + "/p.csv", "x,y,z\n5000,0,0\n");
+  r = run_cli("field " + quoted(dir + "/bare.txt") + " --points " + quoted(dir + "/p.csv") + " -o " +
+              quoted(dir + "/f.csv"));
+  CHECK(r.exit_code == 2);
+  CHECK(r.output.find("does not know its origin and axes in the mesh frame") != std::string::npos);
+  CHECK(!file_exists(dir + "/f.csv"));
+  r = run_cli("field " + quoted(dir + "/bare.txt") + " --set-frame --points " + quoted(dir + "/p.csv") + " -o " +
+              quoted(dir + "/f.csv"));
+  CHECK(r.exit_code == 0);
 
   // Declared about the centre of mass, in the mesh's axes: the same origin and axes as A's.
   r = import_table(dir + "/t.tab", a, "--table-origin com --table-axes mesh", dir + "/com.txt");
