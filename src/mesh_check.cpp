@@ -12,7 +12,9 @@
 #include <cstdint>
 #include <numeric>
 
+#include "disjoint_sets.h"
 #include "errors.h"
+#include "mesh_measures.h"
 
 namespace polystokes {
 
@@ -44,19 +46,6 @@ struct EdgeUse {
   std::uint64_t key;
   int face;
   int from, to;
-};
-
-struct DisjointSets {
-  std::vector<int> parent;
-  explicit DisjointSets(size_t n) : parent(n) { std::iota(parent.begin(), parent.end(), 0); }
-  int find(int x) {
-    while (parent[x] != x) x = parent[x] = parent[parent[x]];
-    return x;
-  }
-  void unite(int a, int b) {
-    a = find(a), b = find(b);
-    if (a != b) parent[std::max(a, b)] = std::min(a, b);
-  }
 };
 
 /// Shared, lazily built views of the mesh for the individual checks.
@@ -286,20 +275,11 @@ struct OrientationResult {
 /// other components at a vertex of each: a face side is correct when the component's inner side has
 /// winding number 1 and its outer side 0 (winding number: sum of solid angles / 4 pi).
 OrientationResult check_outward(Context& c) {
-  const int faces = c.face_count();
-  DisjointSets sets(static_cast<size_t>(faces));
-  const auto& edges = c.edges();
-  for (const auto& [begin, end] : c.runs())
-    for (size_t i = begin + 1; i < end; ++i) sets.unite(edges[begin].face, edges[i].face);
-  std::vector<Component> components;
-  std::vector<int> component_of(static_cast<size_t>(faces), -1);
-  for (int f = 0; f < faces; ++f) {
-    const int root = sets.find(f);
-    if (component_of[root] < 0) {
-      component_of[root] = static_cast<int>(components.size());
-      components.emplace_back();
-    }
-    Component& part = components[component_of[root]];
+  // Pieces joined at a vertex only were refused by vertex_manifold, so these are the edge-connected shells.
+  const FaceComponents pieces = face_components(c.mesh);
+  std::vector<Component> components(static_cast<size_t>(pieces.count));
+  for (int f = 0; f < c.face_count(); ++f) {
+    Component& part = components[static_cast<size_t>(pieces.label[static_cast<size_t>(f)])];
     part.faces.push_back(f);
     for (int k = 0; k < 3; ++k) part.box.extend(c.vertex(c.corner(f, k)));
   }
@@ -359,11 +339,9 @@ OrientationResult check_outward(Context& c) {
   return out;
 }
 
-/// Runs the checks in order; with `fix` (validate_mesh) throws at the first failure and reverses an
-/// inside-out mesh in place.
-MeshCheckReport run_checks(const Mesh& mesh, Mesh* fix) {
-  const bool validate = fix != nullptr;
-  const std::string source = mesh.source.empty() ? std::string("mesh") : mesh.source;
+/// Runs the checks in order. With `fix` (check_mesh, validate_mesh) reverses an inside-out mesh in place;
+/// with `stop` (validate_mesh) throws at the first failure.
+MeshCheckReport run_checks(const Mesh& mesh, Mesh* fix, bool stop) {
   Context context(mesh);
   MeshCheckReport report;
   auto passed = [&](const char* name) {
@@ -379,8 +357,7 @@ MeshCheckReport run_checks(const Mesh& mesh, Mesh* fix) {
       }
     report.checks.push_back(check());
     const MeshCheck& done = report.checks.back();
-    if (validate && !done.passed)
-      throw mesh_error(source, fmt::format("mesh check '{}' failed: {}", done.name, describe(done)));
+    if (stop && !done.passed) throw check_failure(mesh, done);
   };
   run("valid_indices", {}, [&] { return check_valid_indices(context); });
   run("finite", {}, [&] { return check_finite(context); });
@@ -397,11 +374,12 @@ MeshCheckReport run_checks(const Mesh& mesh, Mesh* fix) {
       [&] {
         OrientationResult orientation = check_outward(context);
         report.signed_volume = orientation.volume;
-        if (validate && orientation.whole_mesh_inverted) {
+        if (fix != nullptr && orientation.whole_mesh_inverted) {
           fix->faces.col(1).swap(fix->faces.col(2));
-          fix->notices.push_back(
+          report.flip_notice =
               fmt::format("reversed all {} faces: the mesh was inside-out (signed volume {:.6g} m^3)",
-                          fix->faces.rows(), orientation.volume));
+                          fix->faces.rows(), orientation.volume);
+          fix->notices.push_back(report.flip_notice);
           report.flipped = true;
           report.signed_volume = -orientation.volume;
           return MeshCheck{"outward_oriented", true, 0, "", true};
@@ -439,8 +417,21 @@ std::string describe(const MeshCheck& check) {
   return fmt::format("{} offenders, first {}", check.count, check.first_offender);
 }
 
-MeshCheckReport inspect_mesh(const Mesh& mesh) { return run_checks(mesh, nullptr); }
+MeshCheckReport inspect_mesh(const Mesh& mesh) { return run_checks(mesh, nullptr, false); }
 
-MeshCheckReport validate_mesh(Mesh& mesh) { return run_checks(mesh, &mesh); }
+MeshCheckReport check_mesh(Mesh& mesh) { return run_checks(mesh, &mesh, false); }
+
+MeshCheckReport validate_mesh(Mesh& mesh) { return run_checks(mesh, &mesh, true); }
+
+const MeshCheck* first_failure(const MeshCheckReport& report) {
+  for (const auto& check : report.checks)
+    if (!check.passed) return &check;
+  return nullptr;
+}
+
+MeshError check_failure(const Mesh& mesh, const MeshCheck& check) {
+  return mesh_error(mesh.source.empty() ? std::string("mesh") : mesh.source,
+                    fmt::format("mesh check '{}' failed: {}", check.name, describe(check)));
+}
 
 }  // namespace polystokes

@@ -1,11 +1,12 @@
-// Checks that a triangle mesh bounds a solid (finite, non-degenerate, closed, manifold, consistently and
-// outward oriented, free of self-intersections), for `inspect` reports and as the gate before any
-// computation.
+// Checks that a triangle mesh bounds a solid (finite, non-degenerate, closed, manifold, outward oriented,
+// free of self-intersections) and that density regions fit together: inspect's report and the gate before any
+// work.
 #pragma once
 
 #include <string>
 #include <vector>
 
+#include "errors.h"
 #include "mesh.h"
 
 namespace polystokes {
@@ -23,7 +24,8 @@ struct MeshCheck {
 
 struct MeshCheckReport {
   std::vector<MeshCheck> checks;  ///< in the order listed below
-  bool flipped = false;           ///< validate_mesh reversed every face of an inside-out mesh
+  bool flipped = false;           ///< check_mesh or validate_mesh reversed every face of an inside-out mesh
+  std::string flip_notice;        ///< the notice added to Mesh::notices when flipped, else empty
   /// Sum of the components' signed volumes, m^3, after any flip; 0 if outward_oriented did not run.
   double signed_volume = 0;
 };
@@ -42,14 +44,25 @@ struct MeshCheckReport {
 ///                         solid: each bounds a region of winding number 1 on its inner side and 0 on its
 ///                         outer side. Several bodies, and cavities (inward-facing shells nested in a body),
 ///                         are allowed; overlapping nested bodies and inside-out parts are not.
-/// Checks whose prerequisites failed are reported with ran = false. Never throws.
+/// Checks whose prerequisites failed are reported with ran = false. Never throws; leaves the mesh alone,
+/// so an inside-out mesh fails outward_oriented.
 MeshCheckReport inspect_mesh(const Mesh& mesh);
 
-/// Runs the same checks and throws MeshError at the first failure:
+/// The same checks, except that a mesh whose only problem is that it is inside-out as a whole (every
+/// component) is repaired: every face is reversed, the notice "reversed all F faces: the mesh was inside-out
+/// (signed volume V m^3)" is added to mesh.notices and to flip_notice, flipped is set, and outward_oriented
+/// passes. This is the one rule for inside-out meshes in every command. Never throws.
+MeshCheckReport check_mesh(Mesh& mesh);
+
+/// check_mesh, but throws check_failure at the first failed check:
 /// "SOURCE: mesh check 'closed' failed: 6 border edges, first edge (12, 40) of face 17".
-/// If the only problem is that the whole mesh is inside-out, reverses every face instead, adds a notice
-/// to mesh.notices and sets flipped.
 MeshCheckReport validate_mesh(Mesh& mesh);
+
+/// The first check that did not pass, or nullptr if all passed.
+const MeshCheck* first_failure(const MeshCheckReport& report);
+
+/// The one-line error for a failed check, "SOURCE: mesh check 'NAME' failed: describe(check)".
+MeshError check_failure(const Mesh& mesh, const MeshCheck& check);
 
 /// "6 border edges, first edge (12, 40) of face 17" (or why the check was not run).
 std::string describe(const MeshCheck& check);

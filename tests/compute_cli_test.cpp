@@ -107,6 +107,14 @@ TEST_CASE("an inverted mesh is flipped with a notice and gives the same set", "[
   REQUIRE(flipped.exit_code == 0);
   CHECK(flipped.output.find("note") != std::string::npos);
   require_sets_close(read_coefficient_file(dir + "/a.txt"), read_coefficient_file(dir + "/b.txt"), 6, 1e-15);
+  // The reversal is part of the set's provenance, not only of the terminal output.
+  const CoefficientSet set = read_coefficient_file(dir + "/b.txt");
+  REQUIRE_FALSE(set.history.empty());
+  CHECK(set.history.front().find("region 1 mesh " + dir +
+                                 "/inverted.obj: reversed all 320 faces: the mesh was "
+                                 "inside-out") == 0);
+  for (const auto& line : read_coefficient_file(dir + "/a.txt").history)
+    CHECK(line.find("reversed") == std::string::npos);
 }
 
 TEST_CASE("inspect prints every check and the mass properties of the demo cube", "[compute_cli]") {

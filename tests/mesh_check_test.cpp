@@ -316,3 +316,23 @@ TEST_CASE("Check timings on a 204,800-face mesh of four bodies", "[mesh_check][.
   WARN("validate_mesh on 204800 faces: " << seconds << " s");
   REQUIRE(seconds < 10.0);
 }
+
+TEST_CASE("check_mesh reverses an inside-out mesh without throwing and still reports real failures",
+          "[mesh_check]") {
+  Mesh inverted = reversed(make_box(2, 3, 4));
+  const MeshCheckReport report = check_mesh(inverted);
+  require_all_passed(report);
+  REQUIRE(report.flipped);
+  REQUIRE(first_failure(report) == nullptr);
+  REQUIRE(contains(report.flip_notice, "reversed all 12 faces: the mesh was inside-out"));
+  REQUIRE(inverted.notices == std::vector<std::string>{report.flip_notice});
+  REQUIRE(inverted.faces == make_box(2, 3, 4).faces);
+
+  // An open box is not repaired; its failure is the same one-line error validate_mesh throws.
+  Mesh open = without_face(make_box(1, 1, 1), 11);
+  const MeshCheckReport open_report = check_mesh(open);
+  const MeshCheck* failed = first_failure(open_report);
+  REQUIRE(failed != nullptr);
+  REQUIRE(failed->name == "closed");
+  REQUIRE(std::string(check_failure(open, *failed).what()) == validation_error(open));
+}
