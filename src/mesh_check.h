@@ -7,6 +7,7 @@
 #include <vector>
 
 #include "errors.h"
+#include "mass_properties.h"
 #include "mesh.h"
 
 namespace polystokes {
@@ -66,5 +67,21 @@ MeshError check_failure(const Mesh& mesh, const MeshCheck& check);
 
 /// "6 border edges, first edge (12, 40) of face 17" (or why the check was not run).
 std::string describe(const MeshCheck& check);
+
+/// Winding number of a closed mesh about `point` (m): the sum of the faces' solid angles over 4 pi (Van
+/// Oosterom & Strackee 1983, "The solid angle of a plane triangle", IEEE Trans. Biomed. Eng. 30). 1 inside a
+/// closed outward mesh, 0 outside and in its cavities; not an integer on the surface. O(F).
+double winding_number(const Mesh& mesh, const Eigen::Vector3d& point);
+
+/// Checks how superposed density regions fit together, after each mesh passed validate_mesh: the first
+/// region is the body and needs a positive density; every later region with a negative density (a void or
+/// lighter inclusion) must lie strictly inside the first mesh's solid. Its surface must neither touch nor
+/// cross the first mesh's surface (exact triangle-triangle predicates, so non-convex bodies are judged
+/// correctly), and every connected piece of it must be inside (winding number 1 at one of its vertices,
+/// so a void in a cavity of the body is outside). Regions with a positive density are not constrained.
+/// Throws MeshError naming the region's file and the first offending face pair (its face, then the first
+/// mesh's, zero-based) or vertex. O((F1 + F2) log(F1 + F2) + K) for K candidate face pairs, plus O(F1) per
+/// piece.
+void check_regions(const std::vector<DensityRegion>& regions);
 
 }  // namespace polystokes
