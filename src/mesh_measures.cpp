@@ -8,6 +8,7 @@
 
 #include "disjoint_sets.h"
 #include "mass_properties.h"
+#include "plausibility.h"
 
 namespace polystokes {
 
@@ -68,8 +69,7 @@ MeshMeasures measure_mesh(const Mesh& mesh) {
   if (out.volume > 0) {
     const double pi = std::acos(-1.0);
     out.equivalent_radius = std::cbrt(3.0 * out.volume / (4.0 * pi));
-    if (out.edge_mean > 0)
-      out.resolvable_degree = int(std::floor(pi * out.equivalent_radius / out.edge_mean));
+    out.resolvable_degree = resolvable_degree(out.equivalent_radius, out.edge_mean);
   }
   return out;
 }

@@ -29,10 +29,11 @@ struct MeshMeasures {
   double edge_max = 0;                                ///< m, longest distinct edge
   double volume = 0;                                  ///< m^3 enclosed (volume_moments)
   double equivalent_radius = 0;                       ///< m, (3 V / (4 pi))^(1/3); 0 when V <= 0
-  /// floor(pi R / edge_mean) with R = equivalent_radius: the degree whose half-wavelength pi R / n on a
-  /// sphere of the body's equivalent radius equals the mean edge, i.e. about two vertices per wavelength
-  /// (common practice; the Nyquist rate). Coefficients of higher degree describe the facets more than the
-  /// body. 0 when the volume is not positive.
+  /// resolvable_degree(equivalent_radius, edge_mean) (plausibility.h): floor(pi R / mean edge) with R the
+  /// equivalent radius, the degree whose half-wavelength pi R / n on a sphere of the body's size equals the
+  /// mean edge, about two vertices per wavelength (common practice). Coefficients of higher degree describe
+  /// the facets more than the body. 0 when the volume is not positive. compute's degree warning takes the
+  /// Brillouin radius for R instead, and warns only beyond twice its degree.
   int resolvable_degree = 0;
 };
 
