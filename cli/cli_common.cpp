@@ -102,6 +102,7 @@ std::vector<DensityRegion> load_regions(const MeshInputOptions& input, const Glo
   std::vector<DensityRegion> regions;
   for (size_t i = 0; i < input.meshes.size(); ++i)
     regions.push_back({load_checked_mesh(input.meshes[i], read, global), densities[i].value});
+  check_regions(regions);
   return regions;
 }
 

@@ -33,7 +33,8 @@ MeshReadOptions mesh_read_options(const MeshInputOptions& input);
 /// throws ConventionError otherwise.
 std::vector<Quantity> mesh_densities(const MeshInputOptions& input);
 
-/// Reads and checks every mesh of `input` (load_checked_mesh) and pairs it with its density.
+/// Reads and checks every mesh of `input` (load_checked_mesh), pairs it with its density and checks that the
+/// regions fit together (check_regions: a void lies inside the first mesh).
 std::vector<DensityRegion> load_regions(const MeshInputOptions& input, const GlobalOptions& global);
 
 

@@ -13,6 +13,7 @@
 #include "errors.h"
 #include "harmonics.h"
 #include "memory_budget.h"
+#include "mesh_check.h"
 #include "plausibility.h"
 
 namespace polystokes::cli {
@@ -156,6 +157,7 @@ void run_compute(const ComputeCommandOptions& options, const GlobalOptions& glob
   const std::vector<double> densities = resolve_densities(options, meshes, echo);
   std::vector<DensityRegion> regions;
   for (size_t i = 0; i < meshes.size(); ++i) regions.push_back({std::move(meshes[i]), densities[i]});
+  check_regions(regions);
 
   compute.execution.threads = options.threads;
   if (!global.quiet && ::isatty(STDERR_FILENO)) {

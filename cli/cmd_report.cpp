@@ -24,16 +24,26 @@ struct ReportOptions {
   std::string output;
 };
 
-void run_report(const ReportOptions& options, const GlobalOptions& global) {
+void run_report(const ReportOptions& options, bool unit_given, const GlobalOptions& global) {
   for (const std::string* path : {&options.set, &options.mesh, &options.compare})
     if (!path->empty()) check_input_path(*path);
   ReportInput input;
   input.set = read_coefficient_file(options.set);
   input.set_source = options.set;
   if (options.set != "-") input.set_checksum = sha256_file_hex(options.set);
-  if (!options.mesh.empty())
+  if (!options.mesh.empty()) {
+    // The set records the unit of each mesh it was computed from; a bare --unit default must not override it.
+    const MeshUnitChoice choice = mesh_unit_for_set(
+        input.set, sha256_file_hex(options.mesh),
+        unit_given ? std::optional(parse_unit_option(options.unit)) : std::nullopt, options.mesh);
     input.mesh = load_checked_mesh(
-        options.mesh, mesh_read_options({{options.mesh}, {}, options.unit, options.merge_tolerance}), global);
+        options.mesh, mesh_read_options({{options.mesh}, {}, to_string(choice.unit), options.merge_tolerance}),
+        global);
+    if (!unit_given)
+      print_notice(global,
+                   fmt::format("{}: read in {}, {}", options.mesh, to_string(choice.unit), choice.reason));
+    input.mesh_unit_reason = choice.reason;
+  }
   if (!options.density.empty())
     input.mesh_density = option_quantity(options.density, QuantityKind::density, LengthUnit::meter, "--density",
                                          Bound::positive)
@@ -66,7 +76,7 @@ void setup_report(CLI::App& app, const GlobalOptions& global) {
   cmd->add_option("--mesh", options->mesh,
                   "Shape mesh of the body (.obj, .off, .ply, .stl), same frame as the set");
   add_mesh_file_options(cmd, options->unit, options->merge_tolerance,
-                        "Length unit of the mesh file: m or km");
+                        "Length unit of the mesh file: m or km (default: the unit the set records for it)");
   add_quantity_option(cmd, "--density", options->density, QuantityKind::density,
                       "Density for the mesh's mass properties (default: from the set)");
   // Open below: the map must lie outside the Brillouin sphere, where the series converges.
@@ -91,7 +101,8 @@ void setup_report(CLI::App& app, const GlobalOptions& global) {
       ->check(CLI::PositiveNumber)
       ->capture_default_str();
   cmd->add_option("-o,--output", options->output, "HTML file to write (- for stdout)")->required();
-  cmd->callback([options, &global]() { run_report(*options, global); });
+  cmd->callback(
+      [options, cmd, &global]() { run_report(*options, cmd->get_option("--unit")->count() > 0, global); });
 }
 
 }  // namespace polystokes::cli

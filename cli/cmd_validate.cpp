@@ -10,6 +10,7 @@
 #include "coefficient_file.h"
 #include "errors.h"
 #include "harmonics.h"
+#include "mesh_check.h"
 #include "output_file.h"
 #include "validation.h"
 
@@ -73,6 +74,7 @@ std::vector<DensityRegion> load_regions(const ValidateOptions& options, bool uni
         {load_checked_mesh(path.string(), read_options(parse_length_unit(region.unit)), global),
          region.density});
   }
+  check_regions(regions);
   print_notice(global, fmt::format("densities taken from {} ({} region(s))", options.set, regions.size()));
   return regions;
 }

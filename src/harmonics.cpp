@@ -561,6 +561,11 @@ CoefficientSet coefficients_with(const std::vector<DensityRegion>& regions, cons
     set.regions.push_back(info);
   }
   set.created = std::string("polystokes ") + POLYSTOKES_VERSION + " at " + utc_timestamp();
+  // What import and the mesh checks changed in the input (a reversed inside-out mesh, merged vertices)
+  // stays with the set, not only on the terminal of the run that made it.
+  for (size_t r = 0; r < regions.size(); ++r)
+    for (const auto& notice : regions[r].mesh.notices)
+      set.history.push_back(fmt::format("region {} mesh {}: {}", r + 1, regions[r].mesh.source, notice));
   set.history.push_back(
       fmt::format("computed exactly from {} region(s), degree {}, G = {} m^3 kg^-1 s^-2 (CODATA 2018)",
                   regions.size(), options.degree, gravitational_constant));

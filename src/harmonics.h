@@ -85,7 +85,9 @@ struct ComputeOptions {
 };
 
 /// Coefficients of the superposed constant-density regions with GM = G * mass, provenance filled in and the
-/// operational caution in the notes. Regions must already be checked (mesh_check). Throws ConventionError on
+/// operational caution in the notes; each region mesh's notices (what import and mesh_check changed, such as
+/// a reversed inside-out mesh) become history lines "region R mesh FILE: NOTICE" before the computation's
+/// own. Regions must already be checked (mesh_check: validate_mesh, check_regions). Throws ConventionError on
 /// negative degree or non-positive radius, ResourceError when the degree would exceed memory or
 /// max_moment_degree.
 CoefficientSet compute_coefficients(const std::vector<DensityRegion>& regions, const ComputeOptions& options);

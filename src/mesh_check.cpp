@@ -3,6 +3,7 @@
 #include <CGAL/Exact_predicates_inexact_constructions_kernel.h>
 #include <CGAL/Polygon_mesh_processing/self_intersections.h>
 #include <CGAL/Surface_mesh.h>
+#include <CGAL/box_intersection_d.h>
 #include <fmt/format.h>
 
 #include <Eigen/Geometry>
@@ -12,7 +13,10 @@
 #include <cstdint>
 #include <numeric>
 
+#include "disjoint_sets.h"
 #include "errors.h"
+#include "mass_properties.h"
+#include "mesh_measures.h"
 
 namespace polystokes {
 
@@ -44,19 +48,6 @@ struct EdgeUse {
   std::uint64_t key;
   int face;
   int from, to;
-};
-
-struct DisjointSets {
-  std::vector<int> parent;
-  explicit DisjointSets(size_t n) : parent(n) { std::iota(parent.begin(), parent.end(), 0); }
-  int find(int x) {
-    while (parent[x] != x) x = parent[x] = parent[parent[x]];
-    return x;
-  }
-  void unite(int a, int b) {
-    a = find(a), b = find(b);
-    if (a != b) parent[std::max(a, b)] = std::min(a, b);
-  }
 };
 
 /// Shared, lazily built views of the mesh for the individual checks.
@@ -286,20 +277,11 @@ struct OrientationResult {
 /// other components at a vertex of each: a face side is correct when the component's inner side has
 /// winding number 1 and its outer side 0 (winding number: sum of solid angles / 4 pi).
 OrientationResult check_outward(Context& c) {
-  const int faces = c.face_count();
-  DisjointSets sets(static_cast<size_t>(faces));
-  const auto& edges = c.edges();
-  for (const auto& [begin, end] : c.runs())
-    for (size_t i = begin + 1; i < end; ++i) sets.unite(edges[begin].face, edges[i].face);
-  std::vector<Component> components;
-  std::vector<int> component_of(static_cast<size_t>(faces), -1);
-  for (int f = 0; f < faces; ++f) {
-    const int root = sets.find(f);
-    if (component_of[root] < 0) {
-      component_of[root] = static_cast<int>(components.size());
-      components.emplace_back();
-    }
-    Component& part = components[component_of[root]];
+  // Pieces joined at a vertex only were refused by vertex_manifold, so these are the edge-connected shells.
+  const FaceComponents pieces = face_components(c.mesh);
+  std::vector<Component> components(static_cast<size_t>(pieces.count));
+  for (int f = 0; f < c.face_count(); ++f) {
+    Component& part = components[static_cast<size_t>(pieces.label[static_cast<size_t>(f)])];
     part.faces.push_back(f);
     for (int k = 0; k < 3; ++k) part.box.extend(c.vertex(c.corner(f, k)));
   }
@@ -359,11 +341,9 @@ OrientationResult check_outward(Context& c) {
   return out;
 }
 
-/// Runs the checks in order; with `fix` (validate_mesh) throws at the first failure and reverses an
-/// inside-out mesh in place.
-MeshCheckReport run_checks(const Mesh& mesh, Mesh* fix) {
-  const bool validate = fix != nullptr;
-  const std::string source = mesh.source.empty() ? std::string("mesh") : mesh.source;
+/// Runs the checks in order. With `fix` (check_mesh, validate_mesh) reverses an inside-out mesh in place;
+/// with `stop` (validate_mesh) throws at the first failure.
+MeshCheckReport run_checks(const Mesh& mesh, Mesh* fix, bool stop) {
   Context context(mesh);
   MeshCheckReport report;
   auto passed = [&](const char* name) {
@@ -379,8 +359,7 @@ MeshCheckReport run_checks(const Mesh& mesh, Mesh* fix) {
       }
     report.checks.push_back(check());
     const MeshCheck& done = report.checks.back();
-    if (validate && !done.passed)
-      throw mesh_error(source, fmt::format("mesh check '{}' failed: {}", done.name, describe(done)));
+    if (stop && !done.passed) throw check_failure(mesh, done);
   };
   run("valid_indices", {}, [&] { return check_valid_indices(context); });
   run("finite", {}, [&] { return check_finite(context); });
@@ -397,11 +376,12 @@ MeshCheckReport run_checks(const Mesh& mesh, Mesh* fix) {
       [&] {
         OrientationResult orientation = check_outward(context);
         report.signed_volume = orientation.volume;
-        if (validate && orientation.whole_mesh_inverted) {
+        if (fix != nullptr && orientation.whole_mesh_inverted) {
           fix->faces.col(1).swap(fix->faces.col(2));
-          fix->notices.push_back(
+          report.flip_notice =
               fmt::format("reversed all {} faces: the mesh was inside-out (signed volume {:.6g} m^3)",
-                          fix->faces.rows(), orientation.volume));
+                          fix->faces.rows(), orientation.volume);
+          fix->notices.push_back(report.flip_notice);
           report.flipped = true;
           report.signed_volume = -orientation.volume;
           return MeshCheck{"outward_oriented", true, 0, "", true};
@@ -439,8 +419,105 @@ std::string describe(const MeshCheck& check) {
   return fmt::format("{} offenders, first {}", check.count, check.first_offender);
 }
 
-MeshCheckReport inspect_mesh(const Mesh& mesh) { return run_checks(mesh, nullptr); }
+MeshCheckReport inspect_mesh(const Mesh& mesh) { return run_checks(mesh, nullptr, false); }
 
-MeshCheckReport validate_mesh(Mesh& mesh) { return run_checks(mesh, &mesh); }
+MeshCheckReport check_mesh(Mesh& mesh) { return run_checks(mesh, &mesh, false); }
+
+MeshCheckReport validate_mesh(Mesh& mesh) { return run_checks(mesh, &mesh, true); }
+
+const MeshCheck* first_failure(const MeshCheckReport& report) {
+  for (const auto& check : report.checks)
+    if (!check.passed) return &check;
+  return nullptr;
+}
+
+MeshError check_failure(const Mesh& mesh, const MeshCheck& check) {
+  return mesh_error(mesh.source.empty() ? std::string("mesh") : mesh.source,
+                    fmt::format("mesh check '{}' failed: {}", check.name, describe(check)));
+}
+
+double winding_number(const Mesh& mesh, const Eigen::Vector3d& point) {
+  double angle = 0;
+  for (Eigen::Index f = 0; f < mesh.faces.rows(); ++f)
+    angle += solid_angle(point, mesh.vertices.row(mesh.faces(f, 0)).transpose(),
+                         mesh.vertices.row(mesh.faces(f, 1)).transpose(),
+                         mesh.vertices.row(mesh.faces(f, 2)).transpose());
+  return angle / (4.0 * std::acos(-1.0));
+}
+
+namespace {
+
+/// Face pairs (face of `inner`, face of `outer`) whose closed triangles share a point: CGAL's box
+/// intersection filter (Zomorodian & Edelsbrunner 2002, "Fast software for box intersections", Int. J.
+/// Comput. Geom. Appl. 12) and the exact triangle-triangle predicate of the EPICK kernel (Guigue & Devillers
+/// 2003, "Fast and robust triangle-triangle overlap test using orientation predicates", J. Graphics Tools 8).
+/// Returns the count and keeps the pair with the lowest inner face (then outer face).
+std::pair<long, std::pair<int, int>> touching_faces(const Mesh& inner, const Mesh& outer) {
+  using Kernel = CGAL::Exact_predicates_inexact_constructions_kernel;
+  using Box = CGAL::Box_intersection_d::Box_with_info_d<double, 3, int>;
+  auto triangle = [](const Mesh& mesh, int f) {
+    auto point = [&](int k) {
+      const int v = mesh.faces(f, k);
+      return Kernel::Point_3(mesh.vertices(v, 0), mesh.vertices(v, 1), mesh.vertices(v, 2));
+    };
+    return Kernel::Triangle_3(point(0), point(1), point(2));
+  };
+  auto boxes = [&](const Mesh& mesh) {
+    std::vector<Box> out;
+    out.reserve(static_cast<size_t>(mesh.faces.rows()));
+    for (int f = 0; f < static_cast<int>(mesh.faces.rows()); ++f)
+      out.emplace_back(triangle(mesh, f).bbox(), f);
+    return out;
+  };
+  std::vector<Box> inner_boxes = boxes(inner), outer_boxes = boxes(outer);
+  long count = 0;
+  std::pair<int, int> first{INT_MAX, INT_MAX};
+  CGAL::box_intersection_d(inner_boxes.begin(), inner_boxes.end(), outer_boxes.begin(), outer_boxes.end(),
+                           [&](const Box& a, const Box& b) {
+                             if (!CGAL::do_intersect(triangle(inner, a.info()), triangle(outer, b.info())))
+                               return;
+                             ++count;
+                             first = std::min(first, std::make_pair(a.info(), b.info()));
+                           });
+  return {count, first};
+}
+
+}  // namespace
+
+void check_regions(const std::vector<DensityRegion>& regions) {
+  if (regions.empty()) return;
+  const Mesh& body = regions.front().mesh;
+  if (!(regions.front().density > 0))
+    throw mesh_error(body.source,
+                     fmt::format("the first region is the body and needs a positive density, got "
+                                 "{} kg/m^3",
+                                 regions.front().density));
+  for (size_t r = 1; r < regions.size(); ++r) {
+    if (!(regions[r].density < 0)) continue;
+    const Mesh& part = regions[r].mesh;
+    const std::string what =
+        fmt::format("region {} (density {} kg/m^3) must lie inside the first mesh {}, but", r + 1,
+                    regions[r].density, body.source);
+    const auto [count, pair] = touching_faces(part, body);
+    if (count > 0)
+      throw mesh_error(part.source,
+                       fmt::format("{} its face {} touches or crosses face {} of {} ({} face pair{} in all)",
+                                   what, pair.first, pair.second, body.source, count, count == 1 ? "" : "s"));
+    // The surfaces are apart, so each piece of the region is wholly inside or wholly outside the body.
+    const FaceComponents pieces = face_components(part);
+    std::vector<bool> tested(static_cast<size_t>(pieces.count), false);
+    for (int f = 0; f < static_cast<int>(part.faces.rows()); ++f) {
+      const auto piece = static_cast<size_t>(pieces.label[static_cast<size_t>(f)]);
+      if (tested[piece]) continue;
+      tested[piece] = true;
+      const int v = part.faces(f, 0);
+      const Eigen::Vector3d p = part.vertices.row(v).transpose();
+      if (std::lround(winding_number(body, p)) != 1)
+        throw mesh_error(part.source,
+                         fmt::format("{} its vertex {} ({:.9g}, {:.9g}, {:.9g}) m lies outside {}", what, v,
+                                     p.x(), p.y(), p.z(), body.source));
+    }
+  }
+}
 
 }  // namespace polystokes

@@ -88,6 +88,43 @@ double parse_coordinate(const std::string& path, long line, std::string_view tok
   return value;
 }
 
+/// Statements of the OBJ format (Wavefront, "Object Files (.obj)", Appendix B1 of the Advanced Visualizer
+/// manual): geometry, free-form, grouping and display records. Only v and f carry the mesh; the rest are
+/// read past.
+bool is_obj_keyword(std::string_view word) {
+  static constexpr std::string_view keywords[] = {
+      "v",    "vt",         "vn",        "vp",     "f",     "l",    "p",    "g",      "o",        "s",
+      "mg",   "usemtl",     "mtllib",    "cstype", "deg",   "bmat", "step", "curv",   "curv2",    "surf",
+      "parm", "trim",       "hole",      "scrv",   "sp",    "end",  "con",  "bevel",  "c_interp", "d_interp",
+      "lod",  "shadow_obj", "trace_obj", "ctech",  "stech", "call", "csh",  "maplib", "usemap",   "res"};
+  return std::find(std::begin(keywords), std::end(keywords), word) != std::end(keywords);
+}
+
+/// A token that can only be part of a vertex or face record: a number or a v/vt/vn index triple.
+bool looks_numeric(std::string_view token) {
+  return !token.empty() && token.find_first_not_of("0123456789+-.eE/") == std::string_view::npos &&
+         token.find_first_of("0123456789") != std::string_view::npos;
+}
+
+/// Refuses a statement the format does not know but that reads like a vertex or face record ("V 1 2 3",
+/// "F 1 2 3", "vx 0 0 1"): tinyobjloader would skip it silently, and the missing vertex would surface later
+/// as a confusing index error.
+void check_obj_keyword(const std::string& path, long line, const std::vector<std::string_view>& tokens) {
+  const std::string_view word = tokens[0];
+  if (word[0] == '#' || is_obj_keyword(word)) return;
+  std::string lower(word);
+  std::transform(lower.begin(), lower.end(), lower.begin(), [](unsigned char c) { return std::tolower(c); });
+  if (is_obj_keyword(lower))
+    throw format_error(
+        path, line, fmt::format("unknown statement '{}': OBJ keywords are lower case ('{}')", word, lower));
+  if (tokens.size() > 1 && std::all_of(tokens.begin() + 1, tokens.end(), looks_numeric))
+    throw format_error(
+        path, line,
+        fmt::format("unknown statement '{}' followed by numbers: a vertex is 'v x y z', a face "
+                    "'f i j k'",
+                    word));
+}
+
 /// What tinyobjloader reports through its callbacks, collected for checking after the parse.
 struct ObjFaces {
   long vertex_count = 0;  ///< vertices seen so far (resolves negative, relative indices)
@@ -141,6 +178,7 @@ Soup parse_obj(const std::string& path, const std::string& bytes) {
     if (!line.empty() && line.back() == '\r') line.remove_suffix(1);
     const auto tokens = split_whitespace(line);
     if (tokens.empty()) continue;
+    check_obj_keyword(path, line_number, tokens);
     if (tokens[0] == "v") {
       if (tokens.size() < 4)
         throw format_error(path, line_number,

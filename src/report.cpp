@@ -301,7 +301,8 @@ std::string mass_section(const ReportInput& input, const MeshFacts* facts) {
   const Mesh& mesh = *input.mesh;
   const MassProperties& p = facts->props;
   out += "<h3>Shape mesh</h3>\n<table class=\"fields\">\n";
-  out += row("file", escape(mesh.source) + " (" + escape(to_string(mesh.unit)) + ")");
+  out += row("file", escape(mesh.source) + " (" + escape(to_string(mesh.unit)) +
+                         (input.mesh_unit_reason.empty() ? "" : ": " + escape(input.mesh_unit_reason)) + ")");
   out += row("faces, vertices", num(fmt::format("{}, {}", mesh.faces.rows(), mesh.vertices.rows())));
   if (!mesh.checksum.empty()) {
     std::string match = "matches no region of the set: this may not be the shape the set was computed from";
@@ -854,6 +855,27 @@ footer { margin-top: 28px; font-size: 13px; color: #555; }
 )";
 
 }  // namespace
+
+MeshUnitChoice mesh_unit_for_set(const CoefficientSet& set, const std::string& mesh_checksum,
+                                 std::optional<LengthUnit> requested, const std::string& mesh_name) {
+  for (size_t i = 0; i < set.regions.size(); ++i) {
+    const Region& region = set.regions[i];
+    if (mesh_checksum.empty() || region.checksum != mesh_checksum) continue;
+    const LengthUnit recorded = parse_length_unit(region.unit);
+    if (requested && *requested != recorded)
+      throw ConventionError(fmt::format(
+          "{} is region {} of the set (same SHA-256), which was computed from it in {}, but it is to be read "
+          "in {}: lengths would be off by a factor 1000 (read it in {}, or leave the unit out)",
+          mesh_name, i + 1, region.unit, to_string(*requested), region.unit));
+    return {recorded,
+            fmt::format("the unit the set records for region {}, whose SHA-256 this file has", i + 1)};
+  }
+  if (requested) return {*requested, "as given"};
+  if (!set.regions.empty())
+    return {parse_length_unit(set.length_unit),
+            "the unit of the set's source meshes; this file is none of them"};
+  return {LengthUnit::meter, "the default; the set records no source mesh"};
+}
 
 std::string make_report(const ReportInput& input) {
   const CoefficientSet& set = input.set;

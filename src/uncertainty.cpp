@@ -17,6 +17,7 @@
 #include "coefficient_file.h"
 #include "conventions.h"
 #include "errors.h"
+#include "mesh_check.h"
 #include "shapes.h"
 
 namespace polystokes {
@@ -122,20 +123,6 @@ double cone_volume(const Mesh& mesh, const Eigen::Vector3d& apex) {
     volume +=
         (vertex(mesh, f, 0) - apex).dot((vertex(mesh, f, 1) - apex).cross(vertex(mesh, f, 2) - apex)) / 6.0;
   return volume;
-}
-
-// Sum of the solid angles of the faces seen from p over 4 pi (Van Oosterom & Strackee 1983, "The solid
-// angle of a plane triangle", IEEE Trans. Biomed. Eng. 30): 1 inside a closed outward mesh, 0 outside.
-double winding_number(const Mesh& mesh, const Eigen::Vector3d& p) {
-  double total = 0;
-  for (Eigen::Index f = 0; f < mesh.faces.rows(); ++f) {
-    const Eigen::Vector3d a = vertex(mesh, f, 0) - p, b = vertex(mesh, f, 1) - p, c = vertex(mesh, f, 2) - p;
-    const double la = a.norm(), lb = b.norm(), lc = c.norm();
-    const double numerator = a.dot(b.cross(c));
-    const double denominator = la * lb * lc + a.dot(b) * lc + a.dot(c) * lb + b.dot(c) * la;
-    total += 2.0 * std::atan2(numerator, denominator);
-  }
-  return total / (4.0 * kPi);
 }
 
 // Closest point of triangle abc to p by Voronoi regions (Ericson 2005, Real-Time Collision Detection, 5.1.5).

@@ -107,6 +107,56 @@ TEST_CASE("an inverted mesh is flipped with a notice and gives the same set", "[
   REQUIRE(flipped.exit_code == 0);
   CHECK(flipped.output.find("note") != std::string::npos);
   require_sets_close(read_coefficient_file(dir + "/a.txt"), read_coefficient_file(dir + "/b.txt"), 6, 1e-15);
+  // The reversal is part of the set's provenance, not only of the terminal output.
+  const CoefficientSet set = read_coefficient_file(dir + "/b.txt");
+  REQUIRE_FALSE(set.history.empty());
+  CHECK(set.history.front().find("region 1 mesh " + dir +
+                                 "/inverted.obj: reversed all 320 faces: the mesh was "
+                                 "inside-out") == 0);
+  for (const auto& line : read_coefficient_file(dir + "/a.txt").history)
+    CHECK(line.find("reversed") == std::string::npos);
+}
+
+TEST_CASE("compute refuses a void that is not inside the first mesh, naming the face or vertex",
+          "[compute_cli]") {
+  // Outer box 2 m, void box 1 m: inside, the mass is 1500 (8 - 1) kg and GM = G times that (elementary
+  // geometry); shifted by 0.8 m it pokes out through the x = +1 side; shifted by 4 m it is wholly outside.
+  const std::string dir = temp_directory();
+  write_obj(make_box(2, 2, 2), dir + "/outer.obj", LengthUnit::meter);
+  write_obj(make_box(1, 1, 1), dir + "/void.obj", LengthUnit::meter);
+  const Eigen::Matrix3d identity = Eigen::Matrix3d::Identity();
+  write_obj(transformed(make_box(1, 1, 1), identity, Eigen::Vector3d(0.8, 0, 0)), dir + "/poking.obj",
+            LengthUnit::meter);
+  write_obj(transformed(make_box(1, 1, 1), identity, Eigen::Vector3d(4, 0, 0)), dir + "/outside.obj",
+            LengthUnit::meter);
+  const std::string outer = quoted(dir + "/outer.obj");
+  const CommandResult inside = run_cli("compute " + outer + " " + quoted(dir + "/void.obj") +
+                                       " --density 1500 -1500 --degree 2 -o " + quoted(dir + "/inside.txt"));
+  CAPTURE(inside.output);
+  REQUIRE(inside.exit_code == 0);
+  CHECK_THAT(read_coefficient_file(dir + "/inside.txt").gm,
+             Catch::Matchers::WithinRel(gravitational_constant * 1500.0 * 7.0, 1e-14));
+  require_refused(dir + "/outer.obj", quoted(dir + "/poking.obj") + " --density 1500 -1500",
+                  "poking.obj: region 2 (density -1500 kg/m^3) must lie inside the first mesh");
+  require_refused(dir + "/outer.obj", quoted(dir + "/poking.obj") + " --density 1500 -1500",
+                  "touches or crosses face");
+  require_refused(dir + "/outer.obj", quoted(dir + "/outside.obj") + " --density 1500 -1500",
+                  "its vertex 0 (3.5, -0.5, -0.5) m lies outside");
+  // Every command that superposes meshes applies the same rule.
+  write_text(dir + "/points.csv", "x,y,z\n10,0,0\n");
+  for (const std::string& command :
+       {"field " + outer + " " + quoted(dir + "/poking.obj") + " --density 1500 -1500 --points " +
+            quoted(dir + "/points.csv") + " -o " + quoted(dir + "/field.csv"),
+        "uncertainty " + outer + " " + quoted(dir + "/poking.obj") +
+            " --density 1500 -1500 --degree 2 --samples 4 --seed 1 --density-sigma 0.01 -o " +
+            quoted(dir + "/sigma.txt")}) {
+    const CommandResult result = run_cli(command);
+    CAPTURE(command, result.output);
+    CHECK(result.exit_code == 2);
+    CHECK(result.output.find("must lie inside the first mesh") != std::string::npos);
+  }
+  CHECK(!file_exists(dir + "/field.csv"));
+  CHECK(!file_exists(dir + "/sigma.txt"));
 }
 
 TEST_CASE("inspect prints every check and the mass properties of the demo cube", "[compute_cli]") {

@@ -316,3 +316,88 @@ TEST_CASE("Check timings on a 204,800-face mesh of four bodies", "[mesh_check][.
   WARN("validate_mesh on 204800 faces: " << seconds << " s");
   REQUIRE(seconds < 10.0);
 }
+
+TEST_CASE("check_mesh reverses an inside-out mesh without throwing and still reports real failures",
+          "[mesh_check]") {
+  Mesh inverted = reversed(make_box(2, 3, 4));
+  const MeshCheckReport report = check_mesh(inverted);
+  require_all_passed(report);
+  REQUIRE(report.flipped);
+  REQUIRE(first_failure(report) == nullptr);
+  REQUIRE(contains(report.flip_notice, "reversed all 12 faces: the mesh was inside-out"));
+  REQUIRE(inverted.notices == std::vector<std::string>{report.flip_notice});
+  REQUIRE(inverted.faces == make_box(2, 3, 4).faces);
+
+  // An open box is not repaired; its failure is the same one-line error validate_mesh throws.
+  Mesh open = without_face(make_box(1, 1, 1), 11);
+  const MeshCheckReport open_report = check_mesh(open);
+  const MeshCheck* failed = first_failure(open_report);
+  REQUIRE(failed != nullptr);
+  REQUIRE(failed->name == "closed");
+  REQUIRE(std::string(check_failure(open, *failed).what()) == validation_error(open));
+}
+
+TEST_CASE("winding_number is 1 inside, 0 outside and in a cavity (Van Oosterom & Strackee 1983)",
+          "[mesh_check]") {
+  const Mesh box = make_box(2, 2, 2);
+  CHECK(winding_number(box, Eigen::Vector3d(0.2, -0.3, 0.9)) == Approx(1.0).epsilon(1e-12));
+  CHECK(std::abs(winding_number(box, Eigen::Vector3d(1.5, 0, 0))) < 1e-12);
+  // A shell with a cavity: the outward box and an inward (reversed) smaller box inside it.
+  const Mesh shell = merged(make_box(4, 4, 4), reversed(make_box(2, 2, 2)));
+  CHECK(std::abs(winding_number(shell, Eigen::Vector3d(0, 0, 0))) < 1e-12);
+  CHECK(winding_number(shell, Eigen::Vector3d(1.5, 1.5, 1.5)) == Approx(1.0).epsilon(1e-12));
+}
+
+TEST_CASE("check_regions accepts a void inside the body and refuses one that is not", "[mesh_check]") {
+  auto named = [](Mesh mesh, const std::string& name) {
+    mesh.source = name;
+    return mesh;
+  };
+  const Mesh outer = named(make_box(2, 2, 2), "outer.obj");
+  SECTION("a void strictly inside, and a positive region anywhere, are accepted") {
+    REQUIRE_NOTHROW(check_regions({{outer, 1500}, {named(make_box(1, 1, 1), "void.obj"), -1500}}));
+    REQUIRE_NOTHROW(
+        check_regions({{outer, 1500}, {named(shifted(make_box(1, 1, 1), 5, 0, 0), "moon.obj"), 900}}));
+  }
+  SECTION("a void poking out through a face names the crossing face pair") {
+    const std::string message = [&] {
+      try {
+        check_regions({{outer, 1500}, {named(shifted(make_box(1, 1, 1), 0.8, 0, 0), "void.obj"), -1500}});
+      } catch (const MeshError& e) {
+        return std::string(e.what());
+      }
+      return std::string("accepted");
+    }();
+    CAPTURE(message);
+    CHECK(contains(message,
+                   "void.obj: region 2 (density -1500 kg/m^3) must lie inside the first mesh outer.obj"));
+    CHECK(contains(message, "touches or crosses face"));
+  }
+  SECTION("a void wholly outside names a vertex") {
+    REQUIRE_THROWS_WITH(
+        check_regions({{outer, 1500}, {named(shifted(make_box(1, 1, 1), 4, 0, 0), "void.obj"), -1500}}),
+        Catch::Contains("its vertex 0 (3.5, -0.5, -0.5) m lies outside outer.obj"));
+  }
+  SECTION("a void in the body's cavity is outside the solid") {
+    const Mesh hollow = named(merged(make_box(4, 4, 4), reversed(make_box(2, 2, 2))), "hollow.obj");
+    REQUIRE_THROWS_WITH(check_regions({{hollow, 1500}, {named(make_box(1, 1, 1), "void.obj"), -1500}}),
+                        Catch::Contains("lies outside hollow.obj"));
+  }
+  SECTION("a void whose every vertex is inside a non-convex body but whose middle is outside") {
+    // Dumbbell: radius 0.3 + 1.2 x^2 in direction (x, y, z); the waist at x = 0 has radius 0.3. A box of
+    // half-widths 0.7, 0.3, 0.3 has all corners in the lobes (|p| = 0.82 < r = 1.18) but its middle section
+    // reaches 0.42 from the axis, outside the waist.
+    const Mesh dumbbell = named(
+        make_deformed_sphere(
+            4, [](const Eigen::Vector3d& d) { return Eigen::Vector3d((0.3 + 1.2 * d.x() * d.x()) * d); }),
+        "dumbbell.obj");
+    const Mesh bar = named(make_box(1.4, 0.6, 0.6), "bar.obj");
+    for (Eigen::Index v = 0; v < bar.vertices.rows(); ++v)
+      REQUIRE(winding_number(dumbbell, bar.vertices.row(v).transpose()) == Approx(1.0).epsilon(1e-9));
+    REQUIRE_THROWS_WITH(check_regions({{dumbbell, 1500}, {bar, -1500}}),
+                        Catch::Contains("touches or crosses"));
+  }
+  SECTION("the first region must have a positive density") {
+    REQUIRE_THROWS_AS(check_regions({{outer, -1500}}), MeshError);
+  }
+}

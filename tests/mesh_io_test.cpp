@@ -377,6 +377,20 @@ TEST_CASE("Unreadable mesh files give one-line errors naming the file and the pr
     require_one_line_naming(message_of<FormatError>([&] { read_mesh(path, {}); }),
                             path + ":2:", "cannot parse vertex coordinate 'zero'");
   }
+  SECTION("a vertex keyword in capitals names the line instead of surfacing later as an index error") {
+    // Wavefront OBJ keywords are lower case ("v x y z"); tinyobjloader skips "V", which used to leave face 4
+    // pointing at a vertex that was never read.
+    const std::string path = temp_directory() + "/capital.obj";
+    write_text(path, "v 0 0 0\nv 1 0 0\nv 0 1 0\nV 0 0 1\nf 1 3 2\nf 1 2 4\nf 1 4 3\nf 2 3 4\n");
+    require_one_line_naming(message_of<FormatError>([&] { read_mesh(path, {}); }),
+                            path + ":4:", "unknown statement 'V': OBJ keywords are lower case ('v')");
+  }
+  SECTION("an unknown statement followed by numbers reads like a vertex or face and is refused") {
+    const std::string path = temp_directory() + "/misspelt.obj";
+    write_text(path, "v 0 0 0\nv 1 0 0\nv 0 1 0\nv 0 0 1\nf 1 3 2\nfc 1 2 4\nf 1 4 3\nf 2 3 4\n");
+    require_one_line_naming(message_of<FormatError>([&] { read_mesh(path, {}); }),
+                            path + ":6:", "unknown statement 'fc' followed by numbers");
+  }
   SECTION("no faces") {
     const std::string path = temp_directory() + "/points.obj";
     write_text(path, "# only points\nv 0 0 0\nv 1 0 0\nv 0 1 0\n");
@@ -405,6 +419,19 @@ TEST_CASE("Unreadable mesh files give one-line errors naming the file and the pr
     options.merge_tolerance = -1;
     REQUIRE_THROWS_AS(read_mesh(source_path("tests/data/open_box.obj"), options), ConventionError);
   }
+}
+
+TEST_CASE("The usual OBJ statements besides v and f are read past (Wavefront OBJ, Appendix B1)",
+          "[mesh_io]") {
+  const std::string path = temp_directory() + "/tetra.obj";
+  write_text(path,
+             "# corner tetrahedron\nmtllib body.mtl\no body\ng outside\ns off\nusemtl rock\n"
+             "v 0 0 0\nv 1 0 0\nv 0 1 0\nv 0 0 1\nvt 0 0\nvn 0 0 1\nvp 0.5\nl 1 2\n"
+             "f 1 3 2\nf 1 2 4\nf 1 4 3\nf 2 3 4\nexporter_comment written by hand\n");
+  const Mesh mesh = read_mesh(path, {});
+  REQUIRE(mesh.faces.rows() == 4);
+  REQUIRE(volume_of(mesh) ==
+          Approx(1.0 / 6.0).epsilon(1e-15));  // unit corner tetrahedron, elementary geometry
 }
 
 TEST_CASE("write_obj replaces files atomically and leaves nothing behind on failure", "[mesh_io]") {

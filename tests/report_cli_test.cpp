@@ -148,3 +148,31 @@ TEST_CASE("report refuses bad input with one error line and exit code 2, leaving
   const CommandResult missing_output = run_cli("report " + quoted(f.set));
   CHECK(missing_output.exit_code == 1);
 }
+
+TEST_CASE("report reads a km mesh in the unit its set records, and refuses a --unit that contradicts it",
+          "[report_cli]") {
+  // The set was computed from orrin.obj read in km (files()); its mass from the set and from the mesh must
+  // agree (the same mesh and density), not differ by 10^9 as when the mesh was read in metres.
+  const Files& f = files();
+  const std::string out = f.dir + "/orrin-unit.html";
+  const CommandResult result =
+      run_cli("report " + quoted(f.set) + " --mesh " + quoted(f.mesh) + " -o " + quoted(out));
+  CAPTURE(result.output);
+  REQUIRE(result.exit_code == 0);
+  CHECK(result.output.find("read in km, the unit the set records for region 1") != std::string::npos);
+  const std::string html = read_bytes(out);
+  CHECK(html.find(fmt::format("{:.9g}", f.computed.mass)) != std::string::npos);
+  CHECK(html.find(fmt::format("{:.9g}", f.computed.mass * 1e-9)) == std::string::npos);
+  CHECK(html.find("matches region 1 of the set") != std::string::npos);
+
+  const std::string kept = f.dir + "/kept-unit.html";
+  write_text(kept, "previous page");
+  const CommandResult contradiction =
+      run_cli("report " + quoted(f.set) + " --mesh " + quoted(f.mesh) + " --unit m -o " + quoted(kept));
+  CAPTURE(contradiction.output);
+  CHECK(contradiction.exit_code == 2);
+  CHECK(contradiction.output.find("region 1 of the set") != std::string::npos);
+  CHECK(contradiction.output.find("in km") != std::string::npos);
+  CHECK(count(contradiction.output, "\n") == 1);
+  CHECK(read_bytes(kept) == "previous page");
+}

@@ -606,3 +606,36 @@ TEST_CASE("escaping keeps UTF-8, replaces markup characters and shows invalid by
   CHECK(svg::escape("\xef\xbf\xbe") == "\\xef\\xbf\\xbe");  // U+FFFE is not an XML character
   CHECK(svg::escape("tab\tline\n\x1b") == "tab\tline\n\\x1b");
 }
+
+TEST_CASE("mesh_unit_for_set reads a region's mesh in the unit the set records for it", "[report]") {
+  // A set computed from two meshes: region 1 in km, region 2 in m (the checksum identifies the file; SHA-256
+  // does not depend on how its numbers are read).
+  CoefficientSet set = make_empty_set(2);
+  set.length_unit = "km";
+  Region outer, core;
+  outer.mesh = "outer.obj";
+  outer.checksum = std::string(64, 'a');
+  outer.unit = "km";
+  core.mesh = "core.obj";
+  core.checksum = std::string(64, 'b');
+  core.unit = "m";
+  set.regions = {outer, core};
+  const auto km = LengthUnit::kilometer, m = LengthUnit::meter;
+
+  CHECK(mesh_unit_for_set(set, outer.checksum, std::nullopt, "outer.obj").unit == km);
+  CHECK(mesh_unit_for_set(set, core.checksum, std::nullopt, "core.obj").unit == m);
+  CHECK(mesh_unit_for_set(set, outer.checksum, km, "outer.obj").unit == km);
+  CHECK(mesh_unit_for_set(set, outer.checksum, std::nullopt, "outer.obj").reason.find("region 1") !=
+        std::string::npos);
+  // Asking for metres for a file the set computed in km would shrink it by 1000.
+  REQUIRE_THROWS_AS(mesh_unit_for_set(set, outer.checksum, m, "outer.obj"), ConventionError);
+  REQUIRE_THROWS_WITH(mesh_unit_for_set(set, core.checksum, km, "core.obj"),
+                      Catch::Contains("core.obj is region 2 of the set"));
+  // A file the set does not know: the requested unit, else the unit of the set's source meshes.
+  CHECK(mesh_unit_for_set(set, std::string(64, 'c'), m, "other.obj").unit == m);
+  CHECK(mesh_unit_for_set(set, std::string(64, 'c'), std::nullopt, "other.obj").unit == km);
+  // A set with no regions (imported from a table): metres unless asked.
+  set.regions.clear();
+  CHECK(mesh_unit_for_set(set, outer.checksum, std::nullopt, "outer.obj").unit == m);
+  CHECK(mesh_unit_for_set(set, outer.checksum, km, "outer.obj").unit == km);
+}
