@@ -59,7 +59,10 @@ Eigen::Matrix3d parse_matrix(const std::string& text) {
   return q;
 }
 
-CoefficientSet read_input(const ConvertOptions& options, const GlobalOptions& global, const LengthUnit unit) {
+/// The input set, or the plain table read with its declarations; the declared quantities as interpreted are
+/// appended to `echo`.
+CoefficientSet read_input(const ConvertOptions& options, const GlobalOptions& global, const LengthUnit unit,
+                          std::vector<std::string>& echo) {
   const bool table = !options.columns.empty() || !options.normalization.empty() ||
                      options.condon_shortley_given || !options.ref_radius.empty() || !options.gm.empty() ||
                      options.zonal_j || options.skip_lines > 0 || !options.table_origin.empty() ||
@@ -72,11 +75,17 @@ CoefficientSet read_input(const ConvertOptions& options, const GlobalOptions& gl
   if (!options.normalization.empty()) import.normalization = parse_normalization(options.normalization);
   if (options.condon_shortley_given) import.condon_shortley = options.condon_shortley;
   import.zonal_as_j = options.zonal_j;
-  if (!options.ref_radius.empty())
-    import.reference_radius =
-        option_quantity(options.ref_radius, QuantityKind::length, unit, "--ref-radius", Bound::positive).value;
-  if (!options.gm.empty())
-    import.gm = option_quantity(options.gm, QuantityKind::gm, unit, "--gm", Bound::positive).value;
+  if (!options.ref_radius.empty()) {
+    const Quantity radius =
+        option_quantity(options.ref_radius, QuantityKind::length, unit, "--ref-radius", Bound::positive);
+    echo.push_back("--ref-radius " + describe_quantity(radius, QuantityKind::length));
+    import.reference_radius = radius.value;
+  }
+  if (!options.gm.empty()) {
+    const Quantity gm = option_quantity(options.gm, QuantityKind::gm, unit, "--gm", Bound::positive);
+    echo.push_back("--gm " + describe_quantity(gm, QuantityKind::gm));
+    import.gm = gm.value;
+  }
   import.unit = unit;
   import.body = options.body;
   if (options.table_origin == "com") {
@@ -84,6 +93,8 @@ CoefficientSet read_input(const ConvertOptions& options, const GlobalOptions& gl
   } else if (!options.table_origin.empty()) {
     import.origin = TableOrigin::point;
     import.origin_point = option_point(options.table_origin, unit, "--table-origin");
+    const Eigen::Vector3d& p = import.origin_point;
+    echo.push_back(fmt::format("--table-origin ({}, {}, {}) m", p.x(), p.y(), p.z()));
   }
   import.axes = options.table_axes;
   CoefficientSet set = read_table(options.input, import);
@@ -97,14 +108,14 @@ void run_convert(const ConvertOptions& options, const GlobalOptions& global) {
   check_input_path(options.input);
   check_set_output_paths(options.files);
   const LengthUnit unit = parse_unit_option(options.unit);
-  CoefficientSet set = read_input(options, global, unit);
+  // Every quantity is interpreted before any step runs; the history records each as read.
+  std::vector<std::string> echo{"unit " + to_string(unit) + " (bare lengths)"};
+  CoefficientSet set = read_input(options, global, unit, echo);
   if (!options.body.empty()) set.body = options.body;
   const size_t first_new_history = set.history.size();
   const size_t first_new_note = set.notes.size();
   set.history.push_back(fmt::format("polystokes convert of {}", options.input));
 
-  // Every quantity is interpreted before any step runs; the history records each as read.
-  std::vector<std::string> echo{"unit " + to_string(unit) + " (bare lengths)"};
   const auto length = [&](const std::string& text, const char* option) {
     const Quantity q = option_quantity(text, QuantityKind::length, unit, option, Bound::positive);
     echo.push_back(fmt::format("{} {}", option, describe_quantity(q, QuantityKind::length)));

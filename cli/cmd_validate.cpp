@@ -87,13 +87,18 @@ void run_validate(const ValidateOptions& options, bool unit_given, const GlobalO
   ValidationOptions validation;
   validation.radius_factors = options.radii;
   const LengthUnit unit = command_unit(options, unit_given, set);
-  for (const std::string& altitude : options.altitudes)
-    validation.altitudes.push_back(
-        option_quantity(altitude, QuantityKind::length, unit, "--altitudes", Bound::positive).value);
+  bool bare = false;
+  for (const std::string& text : options.altitudes) {
+    const Quantity altitude = option_quantity(text, QuantityKind::length, unit, "--altitudes", Bound::positive);
+    bare = bare || !altitude.has_unit;
+    validation.altitudes.push_back(altitude.value);
+  }
   if (!validation.altitudes.empty())
-    print_notice(global, fmt::format("altitudes read in {} (bare lengths follow {}): {} m",
-                                     to_string(unit), unit_given ? "--unit" : "the unit recorded in the set",
-                                     fmt::join(validation.altitudes, ", ")));
+    print_notice(global, fmt::format("altitudes {} m{}", fmt::join(validation.altitudes, ", "),
+                                     !bare ? std::string(" (as their units say)")
+                                           : fmt::format(" (bare values in {}, the unit {})", to_string(unit),
+                                                         unit_given ? "--unit gives"
+                                                                    : "the set records for its mesh")));
   validation.target = options.target;
   validation.samples = options.samples;
   validation.threads = options.threads;

@@ -8,7 +8,6 @@
 
 #include "disjoint_sets.h"
 #include "mass_properties.h"
-#include "plausibility.h"
 
 namespace polystokes {
 
@@ -66,12 +65,27 @@ MeshMeasures measure_mesh(const Mesh& mesh) {
   }
   out.components = face_components(mesh).count;
   out.volume = volume_moments(mesh).volume;
-  if (out.volume > 0) {
-    const double pi = std::acos(-1.0);
-    out.equivalent_radius = std::cbrt(3.0 * out.volume / (4.0 * pi));
-    out.resolvable_degree = resolvable_degree(out.equivalent_radius, out.edge_mean);
-  }
+  out.equivalent_radius = equivalent_radius(out.volume);
+  if (out.volume > 0) out.resolvable_degree = resolvable_degree(out.equivalent_radius, out.edge_mean);
   return out;
+}
+
+double mean_edge_length(const Mesh& mesh) {
+  double sum = 0;
+  for (Eigen::Index f = 0; f < mesh.faces.rows(); ++f)
+    for (int k = 0; k < 3; ++k)
+      sum += (mesh.vertices.row(mesh.faces(f, k)) - mesh.vertices.row(mesh.faces(f, (k + 1) % 3))).norm();
+  return mesh.faces.rows() > 0 ? sum / double(3 * mesh.faces.rows()) : 0;
+}
+
+double equivalent_radius(double volume) {
+  if (!(volume > 0)) return 0;
+  return std::cbrt(3.0 * volume / (4.0 * std::acos(-1.0)));
+}
+
+int resolvable_degree(double radius, double mean_edge) {
+  if (!(mean_edge > 0)) return 0;
+  return int(std::floor(std::acos(-1.0) * radius / mean_edge));
 }
 
 }  // namespace polystokes

@@ -4,6 +4,8 @@
 
 #include <cmath>
 
+#include "mesh_measures.h"
+
 namespace polystokes {
 
 std::optional<std::string> density_warning(double density, const std::string& what) {
@@ -43,25 +45,14 @@ std::optional<std::string> gm_change_warning(double gm_before, double gm_after) 
                      ratio, gm_before, gm_after);
 }
 
-double mean_edge_length(const Mesh& mesh) {
-  double sum = 0;
-  for (Eigen::Index f = 0; f < mesh.faces.rows(); ++f)
-    for (int k = 0; k < 3; ++k)
-      sum += (mesh.vertices.row(mesh.faces(f, k)) - mesh.vertices.row(mesh.faces(f, (k + 1) % 3))).norm();
-  return mesh.faces.rows() > 0 ? sum / double(3 * mesh.faces.rows()) : 0;
-}
-
-int resolvable_degree(double radius, double mean_edge) {
-  if (!(mean_edge > 0)) return 0;
-  return int(std::floor(M_PI * radius / mean_edge));
-}
-
-std::optional<std::string> degree_warning(int degree, const Mesh& mesh, double radius) {
+std::optional<std::string> degree_warning(int degree, const Mesh& mesh, double volume) {
   const double edge = mean_edge_length(mesh);
+  const double radius = equivalent_radius(volume);
   const int resolved = resolvable_degree(radius, edge);
   if (degree <= 2 * resolved) return std::nullopt;
-  return fmt::format("degree {} is far beyond the degree {} that {} resolves (pi R / mean edge length, R = {} m, "
-                     "mean edge {} m): the terms above it describe the facets, not the body",
+  return fmt::format("degree {} is far beyond the degree {} that {} resolves (pi R / mean edge length, R = {} m "
+                     "the equivalent-volume radius, mean edge {} m): the terms above it describe the facets, "
+                     "not the body",
                      degree, resolved, mesh.source.empty() ? std::string("the mesh") : mesh.source, radius, edge);
 }
 
@@ -77,7 +68,8 @@ std::vector<std::string> computation_warnings(const std::vector<DensityRegion>& 
   if (regions.size() > 1 && props.volume > 0) add(density_warning(props.mass / props.volume, "the bulk density"));
   add(body_size_warning(brillouin_radius));
   add(reference_radius_warning(reference_radius, brillouin_radius));
-  if (!regions.empty()) add(degree_warning(degree, regions.front().mesh, brillouin_radius));
+  if (!regions.empty() && !props.region_volumes.empty())
+    add(degree_warning(degree, regions.front().mesh, props.region_volumes.front()));
   return warnings;
 }
 

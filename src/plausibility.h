@@ -34,16 +34,9 @@ std::optional<std::string> reference_radius_warning(double reference_radius, dou
 /// A warning when a GM changes by more than a factor of 10^3 either way (both m^3 s^-2).
 std::optional<std::string> gm_change_warning(double gm_before, double gm_after);
 
-/// Mean edge length of the mesh, m (each edge counted once per face that has it). O(F).
-double mean_edge_length(const Mesh& mesh);
-
-/// The degree a mesh resolves: N = pi R / mean edge length, rounded down, R the radius of the body (m): the
-/// shortest half-wavelength pi R / N a degree-N harmonic describes should span at least one edge (common
-/// practice).
-int resolvable_degree(double radius, double mean_edge);
-
-/// A warning when `degree` exceeds twice the degree the regions' first mesh resolves about `radius` (m).
-std::optional<std::string> degree_warning(int degree, const Mesh& mesh, double radius);
+/// A warning when `degree` exceeds twice the degree `mesh` resolves (resolvable_degree of its equivalent-volume
+/// radius, from `volume` m^3, and its mean edge length; mesh_measures.h). O(F).
+std::optional<std::string> degree_warning(int degree, const Mesh& mesh, double volume);
 
 /// Every warning above that applies to a computation of regions (densities, bulk density, size, degree,
 /// reference radius): collected for a set's notes and the command's output.

@@ -18,6 +18,7 @@
 #include "conventions.h"
 #include "errors.h"
 #include "mesh_check.h"
+#include "mesh_measures.h"
 #include "shapes.h"
 
 namespace polystokes {
@@ -187,14 +188,13 @@ std::string model_fingerprint(const std::vector<DensityRegion>& regions, const C
   return print.hex();
 }
 
+// Mean edge length over the faces of all regions (each region's mean_edge_length weighted by its faces).
 double mean_edge_length(const std::vector<DensityRegion>& regions) {
   double total = 0;
   long count = 0;
   for (const auto& region : regions) {
-    const Mesh& mesh = region.mesh;
-    for (Eigen::Index f = 0; f < mesh.faces.rows(); ++f)
-      for (int k = 0; k < 3; ++k) total += (vertex(mesh, f, (k + 1) % 3) - vertex(mesh, f, k)).norm();
-    count += 3 * long(mesh.faces.rows());
+    total += polystokes::mean_edge_length(region.mesh) * double(region.mesh.faces.rows());
+    count += long(region.mesh.faces.rows());
   }
   return count > 0 ? total / double(count) : 0.0;
 }
