@@ -31,17 +31,10 @@ struct ValidateOptions {
   int threads = 0;
 };
 
-// The unit of the mesh file and of bare lengths: --unit, or the unit the set records for its first region.
-LengthUnit command_unit(const ValidateOptions& options, bool unit_given, const CoefficientSet& set) {
-  return !unit_given && !set.regions.empty() ? parse_length_unit(set.regions.front().unit)
-                                             : parse_unit_option(options.unit);
-}
-
 // The region meshes: MESH with --density, or MESH as the first of the set's recorded regions with their
 // densities (further region meshes are looked up by their recorded names, as given or next to the set file).
-std::vector<DensityRegion> load_regions(const ValidateOptions& options, bool unit_given,
+std::vector<DensityRegion> load_regions(const ValidateOptions& options, LengthUnit unit,
                                         const CoefficientSet& set, const GlobalOptions& global) {
-  const LengthUnit unit = command_unit(options, unit_given, set);
   const double tolerance =
       option_quantity(options.merge_tolerance, QuantityKind::length, unit, "--merge-tolerance", Bound::non_negative)
           .value;
@@ -83,10 +76,15 @@ void run_validate(const ValidateOptions& options, bool unit_given, const GlobalO
   check_input_path(options.mesh);
   check_input_path(options.set);
   const CoefficientSet set = read_coefficient_file(options.set);
-  const std::vector<DensityRegion> regions = load_regions(options, unit_given, set, global);
+  // The unit of the mesh file and of bare lengths: the one the set records for this mesh, as report reads it.
+  const MeshUnitChoice choice = mesh_unit_for_set(
+      set, sha256_file_hex(options.mesh), unit_given ? std::optional(parse_unit_option(options.unit)) : std::nullopt,
+      options.mesh);
+  const LengthUnit unit = choice.unit;
+  if (!unit_given) print_notice(global, fmt::format("{}: read in {}, {}", options.mesh, to_string(unit), choice.reason));
+  const std::vector<DensityRegion> regions = load_regions(options, unit, set, global);
   ValidationOptions validation;
   validation.radius_factors = options.radii;
-  const LengthUnit unit = command_unit(options, unit_given, set);
   bool bare = false;
   for (const std::string& text : options.altitudes) {
     const Quantity altitude = option_quantity(text, QuantityKind::length, unit, "--altitudes", Bound::positive);
@@ -96,9 +94,8 @@ void run_validate(const ValidateOptions& options, bool unit_given, const GlobalO
   if (!validation.altitudes.empty())
     print_notice(global, fmt::format("altitudes {} m{}", fmt::join(validation.altitudes, ", "),
                                      !bare ? std::string(" (as their units say)")
-                                           : fmt::format(" (bare values in {}, the unit {})", to_string(unit),
-                                                         unit_given ? "--unit gives"
-                                                                    : "the set records for its mesh")));
+                                           : fmt::format(" (bare values in {}, the unit of the mesh file)",
+                                                         to_string(unit))));
   validation.target = options.target;
   validation.samples = options.samples;
   validation.threads = options.threads;

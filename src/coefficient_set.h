@@ -3,8 +3,11 @@
 #pragma once
 
 #include <Eigen/Core>
+#include <optional>
 #include <string>
 #include <vector>
+
+#include "mesh.h"
 
 namespace polystokes {
 
@@ -76,6 +79,23 @@ struct CoefficientSet {
   std::vector<std::string> history; ///< one line per operation applied, oldest first
   std::vector<std::string> notes;   ///< free text: cautions, uncertainty notes
 };
+
+/// Reading a mesh beside a set (report, validate) in the unit the set records for it.
+/// The unit a set's shape mesh is read in, and why.
+struct MeshUnitChoice {
+  LengthUnit unit = LengthUnit::meter;
+  std::string reason;  ///< e.g. "the unit the set records for region 1, whose checksum this file has"
+};
+
+/// Chooses the unit for reading a mesh beside `set`, from the SHA-256 of the mesh file (hex) and the unit the
+/// user asked for (none: not asked). The set's regions record each source mesh's checksum and unit, and the
+/// checksum does not depend on the unit, so a mesh file that is one of the set's regions is read in the unit
+/// recorded for it. Otherwise the requested unit; without one, the unit of the set's source meshes
+/// (CoefficientSet::length_unit) when the set records regions, else metres. Throws ConventionError when the
+/// requested unit contradicts the unit recorded for the matching region (every length would be off by a factor
+/// 10^3). O(regions).
+MeshUnitChoice mesh_unit_for_set(const CoefficientSet& set, const std::string& mesh_checksum,
+                                 std::optional<LengthUnit> requested, const std::string& mesh_name);
 
 /// Zero-filled set of the given degree (all four matrices sized).
 CoefficientSet make_empty_set(int degree);

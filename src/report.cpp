@@ -177,13 +177,17 @@ std::string provenance_section(const ReportInput& input) {
   out += row("GM", num(exact(set.gm)) + " m<sup>3</sup> s<sup>\u22122</sup>");
   out += row("reference radius", num(exact(set.reference_radius)) + " m");
   out += row("normalization and phase", escape(describe(set.convention)));
+  // An imported table that did not declare where its origin or axes are has none to show.
   out += row("expansion origin",
-             escape(set.origin) + ", at " + num(vector_text(set.origin_in_mesh)) + " m in the mesh frame");
+             escape(set.origin) + (set.origin_known ? ", at " + num(vector_text(set.origin_in_mesh)) +
+                                                          " m in the mesh frame"
+                                                    : ", place in the mesh frame unknown"));
   std::string axes;
   for (int i = 0; i < 3; ++i)
     axes += fmt::format("{}{} = {}", i ? "<br/>" : "", "xyz"[i],
                         num(vector_text(set.axes_in_mesh.row(i).transpose())));
-  out += row("frame", escape(set.frame) + " (set axes in the mesh frame)<br/>" + axes);
+  out += row("frame", escape(set.frame) + (set.axes_known ? " (set axes in the mesh frame)<br/>" + axes
+                                                         : ", directions in the mesh frame unknown"));
   out += row("centre of mass", num(vector_text(set.center_of_mass)) + " m, mesh frame");
   out += row("mass", unknown_if_zero(set.mass, "kg"));
   out += row("volume", unknown_if_zero(set.volume, "m<sup>3</sup>"));
@@ -856,26 +860,6 @@ footer { margin-top: 28px; font-size: 13px; color: #555; }
 
 }  // namespace
 
-MeshUnitChoice mesh_unit_for_set(const CoefficientSet& set, const std::string& mesh_checksum,
-                                 std::optional<LengthUnit> requested, const std::string& mesh_name) {
-  for (size_t i = 0; i < set.regions.size(); ++i) {
-    const Region& region = set.regions[i];
-    if (mesh_checksum.empty() || region.checksum != mesh_checksum) continue;
-    const LengthUnit recorded = parse_length_unit(region.unit);
-    if (requested && *requested != recorded)
-      throw ConventionError(fmt::format(
-          "{} is region {} of the set (same SHA-256), which was computed from it in {}, but it is to be read "
-          "in {}: lengths would be off by a factor 1000 (read it in {}, or leave the unit out)",
-          mesh_name, i + 1, region.unit, to_string(*requested), region.unit));
-    return {recorded,
-            fmt::format("the unit the set records for region {}, whose SHA-256 this file has", i + 1)};
-  }
-  if (requested) return {*requested, "as given"};
-  if (!set.regions.empty())
-    return {parse_length_unit(set.length_unit),
-            "the unit of the set's source meshes; this file is none of them"};
-  return {LengthUnit::meter, "the default; the set records no source mesh"};
-}
 
 std::string make_report(const ReportInput& input) {
   const CoefficientSet& set = input.set;

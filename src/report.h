@@ -53,21 +53,6 @@ struct FieldMap {
 /// or grid size, or a set the series cannot evaluate. O(columns * rows * degree^2).
 FieldMap radial_acceleration_map(const CoefficientSet& set, double radius, int columns = 72, int rows = 36);
 
-/// The unit a set's shape mesh is read in, and why.
-struct MeshUnitChoice {
-  LengthUnit unit = LengthUnit::meter;
-  std::string reason;  ///< e.g. "the unit the set records for region 1, whose checksum this file has"
-};
-
-/// Chooses the unit for reading a mesh beside `set`, from the SHA-256 of the mesh file (hex) and the unit the
-/// user asked for (none: not asked). The set's regions record each source mesh's checksum and unit, and the
-/// checksum does not depend on the unit, so a mesh file that is one of the set's regions is read in the unit
-/// recorded for it. Otherwise the requested unit; without one, the unit of the set's source meshes
-/// (CoefficientSet::length_unit) when the set records regions, else metres. Throws ConventionError when the
-/// requested unit contradicts the unit recorded for the matching region (the mass properties and
-/// silhouettes would be off by 10^3 in length). O(regions).
-MeshUnitChoice mesh_unit_for_set(const CoefficientSet& set, const std::string& mesh_checksum,
-                                 std::optional<LengthUnit> requested, const std::string& mesh_name);
 
 /// Everything the report shows.
 struct ReportInput {

@@ -639,3 +639,23 @@ TEST_CASE("mesh_unit_for_set reads a region's mesh in the unit the set records f
   CHECK(mesh_unit_for_set(set, outer.checksum, std::nullopt, "outer.obj").unit == m);
   CHECK(mesh_unit_for_set(set, outer.checksum, km, "outer.obj").unit == km);
 }
+
+TEST_CASE("an imported table's unknown origin and axes are shown as unknown, not as the mesh origin",
+          "[report]") {
+  // Issue 10, defect 4: a plain table that declares neither says nothing of where its origin and axes are.
+  CoefficientSet set = make_empty_set(2);
+  set.gm = 5e2;
+  set.reference_radius = 2000;
+  set.C(0, 0) = 1;
+  set.C(2, 0) = -0.05;
+  set.origin = "com";
+  set.origin_known = false;
+  set.frame = "unknown";
+  set.axes_known = false;
+  ReportInput input;
+  input.set = set;
+  const std::string html = make_report(input);
+  CHECK(html.find("place in the mesh frame unknown") != std::string::npos);
+  CHECK(html.find("directions in the mesh frame unknown") != std::string::npos);
+  CHECK(html.find("(0, 0, 0) m in the mesh frame") == std::string::npos);
+}

@@ -142,6 +142,11 @@ TEST_CASE("validate reads --altitudes in the mesh unit: 1 with --unit km is 1000
   CHECK(km.dump().find("\"altitude_m\":1000.0") != std::string::npos);
   CHECK(altitudes(body.m, "--unit m --altitudes 1000") == km);
   CHECK(altitudes(body.km, "--altitudes 1000m") == km);  // --unit defaults to the set's km
+  // The mesh file the set was computed from, declared in the other unit: refused, as report refuses it.
+  const CommandResult contradiction = run_cli("validate " + arg(body.km) + " " + arg(body.dir + "/set.txt") +
+                                              " --unit m --altitudes 1000");
+  CHECK(contradiction.exit_code == 2);
+  CHECK(contradiction.output.find("off by a factor 1000") != std::string::npos);
 }
 
 TEST_CASE("uncertainty gives the same sigmas for the same shape noise in m and in km", "[units_cli]") {
