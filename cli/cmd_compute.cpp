@@ -39,8 +39,8 @@ std::vector<double> resolve_densities(const ComputeCommandOptions& options, cons
     std::vector<double> densities;
     const std::vector<Quantity> quantities = mesh_densities(input);
     for (size_t i = 0; i < quantities.size(); ++i) {
-      echo.push_back({fmt::format("density {}", i + 1), describe_quantity(quantities[i], QuantityKind::density),
-                      meshes[i].source});
+      echo.push_back({fmt::format("density {}", i + 1),
+                      describe_quantity(quantities[i], QuantityKind::density), meshes[i].source});
       densities.push_back(quantities[i].value);
     }
     return densities;
@@ -48,7 +48,8 @@ std::vector<double> resolve_densities(const ComputeCommandOptions& options, cons
   if (meshes.size() != 1) throw ConventionError("--gm/--mass need a single mesh; give --density per region");
   double mass = 0;
   if (!options.gm.empty()) {
-    const Quantity gm = option_quantity(options.gm, QuantityKind::gm, LengthUnit::meter, "--gm", Bound::positive);
+    const Quantity gm =
+        option_quantity(options.gm, QuantityKind::gm, LengthUnit::meter, "--gm", Bound::positive);
     echo.push_back({"GM", describe_quantity(gm, QuantityKind::gm), ""});
     mass = gm.value / gravitational_constant;
   } else {
@@ -170,7 +171,8 @@ void run_compute(const ComputeCommandOptions& options, const GlobalOptions& glob
   const MassProperties props = mass_properties(regions, compute.execution.threads);
   CoefficientSet set = compute_coefficients(regions, props, compute);
   set.history.push_back(history_line(echo));
-  record_warnings(set, computation_warnings(regions, props, degree, set.reference_radius, set.brillouin_radius));
+  record_warnings(set,
+                  computation_warnings(regions, props, degree, set.reference_radius, set.brillouin_radius));
   print_verbose(global, 1, fmt::format("coefficients computed in {:.3f} s", elapsed_since(compute_start)));
 
   {
@@ -202,7 +204,8 @@ void setup_compute(CLI::App& app, const GlobalOptions& global) {
       "layered.json");
   // Missing mesh files are refused in run_compute, as bad input rather than a usage error.
   add_mesh_list_options(cmd, options->input);
-  add_quantity_option(cmd, "--gm", options->gm, QuantityKind::gm, "Total GM instead of a density (single mesh)");
+  add_quantity_option(cmd, "--gm", options->gm, QuantityKind::gm,
+                      "Total GM instead of a density (single mesh)");
   add_quantity_option(cmd, "--mass", options->mass, QuantityKind::mass,
                       "Total mass instead of a density (single mesh)");
   add_degree_option(cmd, options->expansion.degree);

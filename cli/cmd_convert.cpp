@@ -46,7 +46,8 @@ Eigen::Matrix3d parse_matrix(const std::string& text) {
   size_t start = 0;
   for (;;) {
     const size_t comma = text.find(',', start);
-    const auto value = parse_strict_number(std::string_view(text).substr(start, comma == std::string::npos ? comma : comma - start));
+    const auto value = parse_strict_number(
+        std::string_view(text).substr(start, comma == std::string::npos ? comma : comma - start));
     if (!value) break;
     values.push_back(*value);
     if (comma == std::string::npos) break;
@@ -128,11 +129,13 @@ void run_convert(const ConvertOptions& options, const GlobalOptions& global) {
   }
   std::optional<Eigen::Vector3d> euler_degrees;
   if (!options.rotate_euler.empty()) {
-    const auto angles = parse_quantity_list(options.rotate_euler, QuantityKind::angle, unit, "--rotate-euler", 3);
+    const auto angles =
+        parse_quantity_list(options.rotate_euler, QuantityKind::angle, unit, "--rotate-euler", 3);
     euler_degrees = Eigen::Vector3d(angles[0].value, angles[1].value, angles[2].value);
   }
   const std::optional<double> to_radius =
-      options.to_ref_radius.empty() ? std::nullopt : std::optional(length(options.to_ref_radius, "--to-ref-radius"));
+      options.to_ref_radius.empty() ? std::nullopt
+                                    : std::optional(length(options.to_ref_radius, "--to-ref-radius"));
   std::optional<double> to_gm;
   if (!options.to_gm.empty()) {
     const Quantity q = option_quantity(options.to_gm, QuantityKind::gm, unit, "--to-gm", Bound::positive);
@@ -201,16 +204,17 @@ void setup_convert(CLI::App& app, const GlobalOptions& global) {
       "Steps run in this order: --shift, rotation, --to-ref-radius, --to-gm, conventions; each is exact and\n"
       "recorded in the output's history. IN is a polystokes set (text or JSON) or, with the table options, "
       "a\n"
-      "plain table of another tool. Bare lengths on the command line are in --unit; a bare GM is in m^3 s^-2\n"
+      "plain table of another tool. Bare lengths on the command line are in --unit; a bare GM is in m^3 "
+      "s^-2\n"
       "in every command (or give a unit: 5.08e-7km3/s2); angles are in degrees (docs/units.md).\n"
       "Examples:\n"
       "  polystokes convert varnek.txt -o varnek_schmidt.txt --to-normalization schmidt --to-condon-shortley "
       "on\n"
       "  polystokes convert varnek.txt -o varnek_p.txt --to-principal --to-ref-radius 2.5 --unit km\n"
       "  polystokes convert team.tab --columns n,m,C,S,sigma_C,sigma_S --normalization unnormalized\n"
-      "      --no-condon-shortley --zonal-j --ref-radius 2 --gm 1.1e-4km3/s2 --unit km --skip-lines 3 -o team.txt");
-  cmd->add_option("input", options->input, "Coefficient set or plain table (- for stdin)")
-      ->required();
+      "      --no-condon-shortley --zonal-j --ref-radius 2 --gm 1.1e-4km3/s2 --unit km --skip-lines 3 -o "
+      "team.txt");
+  cmd->add_option("input", options->input, "Coefficient set or plain table (- for stdin)")->required();
   add_set_output_options(cmd, options->files);
   cmd->add_option("--unit", options->unit,
                   "Unit of bare lengths given here: m or km (GM is m^3 s^-2 unless it carries a unit)")

@@ -35,9 +35,9 @@ struct ValidateOptions {
 // densities (further region meshes are looked up by their recorded names, as given or next to the set file).
 std::vector<DensityRegion> load_regions(const ValidateOptions& options, LengthUnit unit,
                                         const CoefficientSet& set, const GlobalOptions& global) {
-  const double tolerance =
-      option_quantity(options.merge_tolerance, QuantityKind::length, unit, "--merge-tolerance", Bound::non_negative)
-          .value;
+  const double tolerance = option_quantity(options.merge_tolerance, QuantityKind::length, unit,
+                                           "--merge-tolerance", Bound::non_negative)
+                               .value;
   // The tolerance in a mesh file's own unit, as the reader takes it.
   const auto read_options = [tolerance](LengthUnit mesh_unit) {
     return MeshReadOptions{mesh_unit, tolerance / meters_per(mesh_unit)};
@@ -63,9 +63,8 @@ std::vector<DensityRegion> load_regions(const ValidateOptions& options, LengthUn
           fmt::format("{}: region {} mesh '{}' not found (looked as given and next to the set); "
                       "give --density to validate {} alone",
                       options.set, i + 1, region.mesh, options.mesh));
-    regions.push_back(
-        {load_checked_mesh(path.string(), read_options(parse_length_unit(region.unit)), global),
-         region.density});
+    regions.push_back({load_checked_mesh(path.string(), read_options(parse_length_unit(region.unit)), global),
+                       region.density});
   }
   check_regions(regions);
   print_notice(global, fmt::format("densities taken from {} ({} region(s))", options.set, regions.size()));
@@ -78,16 +77,18 @@ void run_validate(const ValidateOptions& options, bool unit_given, const GlobalO
   const CoefficientSet set = read_coefficient_file(options.set);
   // The unit of the mesh file and of bare lengths: the one the set records for this mesh, as report reads it.
   const MeshUnitChoice choice = mesh_unit_for_set(
-      set, sha256_file_hex(options.mesh), unit_given ? std::optional(parse_unit_option(options.unit)) : std::nullopt,
-      options.mesh);
+      set, sha256_file_hex(options.mesh),
+      unit_given ? std::optional(parse_unit_option(options.unit)) : std::nullopt, options.mesh);
   const LengthUnit unit = choice.unit;
-  if (!unit_given) print_notice(global, fmt::format("{}: read in {}, {}", options.mesh, to_string(unit), choice.reason));
+  if (!unit_given)
+    print_notice(global, fmt::format("{}: read in {}, {}", options.mesh, to_string(unit), choice.reason));
   const std::vector<DensityRegion> regions = load_regions(options, unit, set, global);
   ValidationOptions validation;
   validation.radius_factors = options.radii;
   bool bare = false;
   for (const std::string& text : options.altitudes) {
-    const Quantity altitude = option_quantity(text, QuantityKind::length, unit, "--altitudes", Bound::positive);
+    const Quantity altitude =
+        option_quantity(text, QuantityKind::length, unit, "--altitudes", Bound::positive);
     bare = bare || !altitude.has_unit;
     validation.altitudes.push_back(altitude.value);
   }
@@ -128,9 +129,10 @@ void setup_validate(CLI::App& app, const GlobalOptions& global) {
   add_quantity_option(cmd, "--density", options->density, QuantityKind::density,
                       "Density (default: the densities recorded in the set, with their region meshes)");
   auto* unit =
-      cmd->add_option("--unit", options->unit,
-                      "Length unit of the mesh file and of bare lengths given here: m or km (default: the unit "
-                      "recorded in the set)")
+      cmd->add_option(
+             "--unit", options->unit,
+             "Length unit of the mesh file and of bare lengths given here: m or km (default: the unit "
+             "recorded in the set)")
           ->check(CLI::IsMember({"m", "km"}));
   add_merge_tolerance_option(cmd, options->merge_tolerance);
   cmd->add_option("--radii", options->radii, "Sphere radii as multiples of R_B, comma-separated")

@@ -10,8 +10,9 @@ CLI::Validator strict_number() {
   return CLI::Validator(
       [](std::string& text) {
         return parse_strict_number(text) ? std::string()
-                                         : "'" + text + "' is not a number (decimal digits with an optional "
-                                                        "sign, point and exponent)";
+                                         : "'" + text +
+                                               "' is not a number (decimal digits with an optional "
+                                               "sign, point and exponent)";
       },
       "NUMBER", "strict number");
 }
@@ -39,8 +40,8 @@ CLI::Option* add_quantity_option(CLI::App* cmd, const std::string& name, std::st
   return cmd->add_option(name, text, help + " (" + rule + ")")->check(quantity_syntax(kind));
 }
 
-Quantity option_quantity(const std::string& text, QuantityKind kind, LengthUnit unit, const std::string& option,
-                         Bound bound) {
+Quantity option_quantity(const std::string& text, QuantityKind kind, LengthUnit unit,
+                         const std::string& option, Bound bound) {
   Quantity quantity = parse_quantity(text, kind, unit, option);
   if (bound == Bound::positive && !(quantity.value > 0))
     throw ConventionError(fmt::format("{}: '{}' must be positive", option, text));

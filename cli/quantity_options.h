@@ -30,8 +30,8 @@ enum class Bound { any, positive, non_negative };
 
 /// The option's text interpreted (a bare length in `unit`); throws ConventionError "OPTION: ..." when it
 /// breaks `bound`.
-Quantity option_quantity(const std::string& text, QuantityKind kind, LengthUnit unit, const std::string& option,
-                         Bound bound = Bound::any);
+Quantity option_quantity(const std::string& text, QuantityKind kind, LengthUnit unit,
+                         const std::string& option, Bound bound = Bound::any);
 
 /// A comma-separated vector of three lengths ("x,y,z", in `unit` unless each carries a suffix), in metres.
 Eigen::Vector3d option_point(const std::string& text, LengthUnit unit, const std::string& option);

@@ -1,5 +1,6 @@
 // Plausibility of physical inputs: values that are legal but usually a unit slip or a misunderstanding (a
-// density in g/cm^3, a radius in the wrong unit, a degree the mesh cannot resolve). Warnings only, never fatal.
+// density in g/cm^3, a radius in the wrong unit, a degree the mesh cannot resolve). Warnings only, never
+// fatal.
 #pragma once
 
 #include <optional>
@@ -34,14 +35,14 @@ std::optional<std::string> reference_radius_warning(double reference_radius, dou
 /// A warning when a GM changes by more than a factor of 10^3 either way (both m^3 s^-2).
 std::optional<std::string> gm_change_warning(double gm_before, double gm_after);
 
-/// A warning when `degree` exceeds twice the degree `mesh` resolves (resolvable_degree of its equivalent-volume
-/// radius, from `volume` m^3, and its mean edge length; mesh_measures.h). O(F).
+/// A warning when `degree` exceeds twice the degree `mesh` resolves (resolvable_degree of its
+/// equivalent-volume radius, from `volume` m^3, and its mean edge length; mesh_measures.h). O(F).
 std::optional<std::string> degree_warning(int degree, const Mesh& mesh, double volume);
 
 /// Every warning above that applies to a computation of regions (densities, bulk density, size, degree,
 /// reference radius): collected for a set's notes and the command's output.
 std::vector<std::string> computation_warnings(const std::vector<DensityRegion>& regions,
-                                              const MassProperties& props, int degree, double reference_radius,
-                                              double brillouin_radius);
+                                              const MassProperties& props, int degree,
+                                              double reference_radius, double brillouin_radius);
 
 }  // namespace polystokes

@@ -20,14 +20,22 @@ struct UnitSuffix {
 // The one table of accepted suffixes; the first suffix of each kind is the base unit's.
 constexpr double degrees_per_radian = 57.295779513082320876798154814105;
 constexpr UnitSuffix unit_suffixes[] = {
-    {QuantityKind::length, "m", 1.0},           {QuantityKind::length, "km", 1e3},
-    {QuantityKind::gm, "m3/s2", 1.0},           {QuantityKind::gm, "km3/s2", 1e9},
-    {QuantityKind::gm, "m^3/s^2", 1.0},         {QuantityKind::gm, "km^3/s^2", 1e9},
-    {QuantityKind::mass, "kg", 1.0},            {QuantityKind::density, "kg/m3", 1.0},
-    {QuantityKind::density, "g/cm3", 1e3},      {QuantityKind::density, "kg/m^3", 1.0},
-    {QuantityKind::density, "g/cm^3", 1e3},     {QuantityKind::time, "s", 1.0},
-    {QuantityKind::time, "min", 60.0},          {QuantityKind::time, "h", 3600.0},
-    {QuantityKind::time, "d", 86400.0},         {QuantityKind::angle, "deg", 1.0},
+    {QuantityKind::length, "m", 1.0},
+    {QuantityKind::length, "km", 1e3},
+    {QuantityKind::gm, "m3/s2", 1.0},
+    {QuantityKind::gm, "km3/s2", 1e9},
+    {QuantityKind::gm, "m^3/s^2", 1.0},
+    {QuantityKind::gm, "km^3/s^2", 1e9},
+    {QuantityKind::mass, "kg", 1.0},
+    {QuantityKind::density, "kg/m3", 1.0},
+    {QuantityKind::density, "g/cm3", 1e3},
+    {QuantityKind::density, "kg/m^3", 1.0},
+    {QuantityKind::density, "g/cm^3", 1e3},
+    {QuantityKind::time, "s", 1.0},
+    {QuantityKind::time, "min", 60.0},
+    {QuantityKind::time, "h", 3600.0},
+    {QuantityKind::time, "d", 86400.0},
+    {QuantityKind::angle, "deg", 1.0},
     {QuantityKind::angle, "rad", degrees_per_radian},
 };
 
@@ -67,24 +75,36 @@ const char* number_rule = "decimal digits with an optional sign, point and expon
 
 std::string to_string(QuantityKind kind) {
   switch (kind) {
-    case QuantityKind::length: return "length";
-    case QuantityKind::gm: return "GM";
-    case QuantityKind::mass: return "mass";
-    case QuantityKind::density: return "density";
-    case QuantityKind::time: return "time";
-    case QuantityKind::angle: return "angle";
+    case QuantityKind::length:
+      return "length";
+    case QuantityKind::gm:
+      return "GM";
+    case QuantityKind::mass:
+      return "mass";
+    case QuantityKind::density:
+      return "density";
+    case QuantityKind::time:
+      return "time";
+    case QuantityKind::angle:
+      return "angle";
   }
   return "quantity";
 }
 
 std::string base_unit(QuantityKind kind) {
   switch (kind) {
-    case QuantityKind::length: return "m";
-    case QuantityKind::gm: return "m^3 s^-2";
-    case QuantityKind::mass: return "kg";
-    case QuantityKind::density: return "kg m^-3";
-    case QuantityKind::time: return "s";
-    case QuantityKind::angle: return "deg";
+    case QuantityKind::length:
+      return "m";
+    case QuantityKind::gm:
+      return "m^3 s^-2";
+    case QuantityKind::mass:
+      return "kg";
+    case QuantityKind::density:
+      return "kg m^-3";
+    case QuantityKind::time:
+      return "s";
+    case QuantityKind::angle:
+      return "deg";
   }
   return "";
 }
@@ -106,8 +126,7 @@ Quantity parse_quantity(std::string_view text, QuantityKind kind, LengthUnit bar
   const std::string_view suffix = text.substr(split);
   const std::optional<double> number = split > 0 ? parse_strict_number(digits) : std::nullopt;
   if (!number) {
-    if (split > 0)
-      throw ConventionError(fmt::format("{}: '{}' is out of the range of double", what, text));
+    if (split > 0) throw ConventionError(fmt::format("{}: '{}' is out of the range of double", what, text));
     throw ConventionError(fmt::format("{}: '{}' is not a {} ({}, then optionally a unit: {})", what, text,
                                       to_string(kind), number_rule, accepted_suffixes(kind)));
   }
@@ -133,25 +152,27 @@ Quantity parse_quantity(std::string_view text, QuantityKind kind, LengthUnit bar
                                     kind == QuantityKind::length ? "the command's --unit" : base_unit(kind)));
 }
 
-std::vector<Quantity> parse_quantity_list(std::string_view text, QuantityKind kind, LengthUnit bare_length_unit,
-                                          const std::string& what, size_t count) {
+std::vector<Quantity> parse_quantity_list(std::string_view text, QuantityKind kind,
+                                          LengthUnit bare_length_unit, const std::string& what,
+                                          size_t count) {
   std::vector<Quantity> items;
   size_t start = 0;
   for (;;) {
     const size_t comma = text.find(',', start);
-    items.push_back(parse_quantity(text.substr(start, comma == std::string_view::npos ? comma : comma - start),
-                                   kind, bare_length_unit, what));
+    items.push_back(
+        parse_quantity(text.substr(start, comma == std::string_view::npos ? comma : comma - start), kind,
+                       bare_length_unit, what));
     if (comma == std::string_view::npos) break;
     start = comma + 1;
   }
   if (count > 0 && items.size() != count)
-    throw ConventionError(fmt::format("{}: '{}' is not {} comma-separated {} values", what, text, count,
-                                      to_string(kind)));
+    throw ConventionError(
+        fmt::format("{}: '{}' is not {} comma-separated {} values", what, text, count, to_string(kind)));
   size_t with_unit = 0;
   for (const auto& item : items) with_unit += item.has_unit;
   if (with_unit != 0 && with_unit != items.size())
-    throw ConventionError(fmt::format("{}: '{}' gives a unit on some values only: give it on every value or none",
-                                      what, text));
+    throw ConventionError(
+        fmt::format("{}: '{}' gives a unit on some values only: give it on every value or none", what, text));
   return items;
 }
 
@@ -176,8 +197,9 @@ std::string describe_quantity(const Quantity& quantity, QuantityKind kind) {
     if (entry.kind == kind && quantity.unit == entry.suffix) factor = entry.factor;
   if (factor != 1) {
     // The number as written, without the suffix it may carry.
-    const std::string number =
-        quantity.has_unit ? quantity.text.substr(0, quantity.text.size() - quantity.unit.size()) : quantity.text;
+    const std::string number = quantity.has_unit
+                                   ? quantity.text.substr(0, quantity.text.size() - quantity.unit.size())
+                                   : quantity.text;
     out += fmt::format(" (given as {} {})", number, quantity.unit);
   }
   return out;

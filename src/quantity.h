@@ -28,9 +28,9 @@ std::string to_string(QuantityKind kind);
 std::string base_unit(QuantityKind kind);
 
 /// The one strict number rule: optional sign, decimal digits with an optional point, optional exponent
-/// (e or E, optional sign, digits); nothing else (no blanks, nan, inf, hexadecimal, Fortran D). Converted with
-/// correct rounding (std::from_chars). Returns nullopt when `text` is not such a number or overflows double.
-/// O(length).
+/// (e or E, optional sign, digits); nothing else (no blanks, nan, inf, hexadecimal, Fortran D). Converted
+/// with correct rounding (std::from_chars). Returns nullopt when `text` is not such a number or overflows
+/// double. O(length).
 std::optional<double> parse_strict_number(std::string_view text);
 
 /// A value as parsed: in the kind's base unit, with what was written.
@@ -50,8 +50,9 @@ Quantity parse_quantity(std::string_view text, QuantityKind kind, LengthUnit bar
 /// Parses `count` comma-separated quantities (count 0: any number, at least one). Either every item carries a
 /// unit or none does: "1km,2,3" is refused, since a reader cannot tell whether the suffix was meant for all.
 /// Throws ConventionError as parse_quantity, or naming the expected count.
-std::vector<Quantity> parse_quantity_list(std::string_view text, QuantityKind kind, LengthUnit bare_length_unit,
-                                          const std::string& what, size_t count = 0);
+std::vector<Quantity> parse_quantity_list(std::string_view text, QuantityKind kind,
+                                          LengthUnit bare_length_unit, const std::string& what,
+                                          size_t count = 0);
 
 /// Empty when `text` is a valid quantity (or list, when `list` is set) of `kind` for either length unit, else
 /// the one-line reason: for checking an option's text while options are parsed, before --unit is known.

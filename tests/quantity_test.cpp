@@ -75,7 +75,8 @@ TEST_CASE("a wrong unit or a malformed value is refused with a message naming th
 }
 
 TEST_CASE("a list gives a unit on every value or none", "[quantity]") {
-  const auto list = parse_quantity_list("1km,2km,-3km", QuantityKind::length, LengthUnit::meter, "--shift", 3);
+  const auto list =
+      parse_quantity_list("1km,2km,-3km", QuantityKind::length, LengthUnit::meter, "--shift", 3);
   CHECK(list[0].value == 1000.0);
   CHECK(list[2].value == -3000.0);
   const auto bare = parse_quantity_list("1,2,3", QuantityKind::length, LengthUnit::kilometer, "--shift", 3);

@@ -30,7 +30,8 @@ double worst_relative_difference(const CoefficientSet& a, const CoefficientSet& 
 
 TEST_CASE("a far shift at degree 70 says how much accuracy it lost; compute --origin does not lose it",
           "[transforms_cli]") {
-  // Reference for both: the set computed about the new origin from the mesh (exact to 1e-13, harmonics tests).
+  // Reference for both: the set computed about the new origin from the mesh (exact to 1e-13, harmonics
+  // tests).
   const std::string dir = temp_directory();
   const std::string mesh = dir + "/long.obj";
   write_obj(make_ellipsoid(4, 1800.0, 900.0, 700.0), mesh, LengthUnit::kilometer);
@@ -38,8 +39,8 @@ TEST_CASE("a far shift at degree 70 says how much accuracy it lost; compute --or
   REQUIRE(run_cli("compute " + arg(mesh) + common + "-o " + arg(dir + "/com.txt")).exit_code == 0);
   // 0.75 of the Brillouin radius (1.8 km) across the long axis: the far tips stay near 2.25 km from the new
   // origin while the terms grow like 3.15 km, so rounding grows like 1.4^n.
-  const CommandResult shifted = run_cli("convert " + arg(dir + "/com.txt") + " --shift 0,1.35,0 --unit km -o " +
-                                        arg(dir + "/shifted.txt"));
+  const CommandResult shifted = run_cli("convert " + arg(dir + "/com.txt") +
+                                        " --shift 0,1.35,0 --unit km -o " + arg(dir + "/shifted.txt"));
   INFO(shifted.output);
   REQUIRE(shifted.exit_code == 0);
   CHECK(shifted.output.find("Accuracy after the origin shift") != std::string::npos);

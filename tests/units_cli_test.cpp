@@ -1,5 +1,6 @@
-// The one unit rule (docs/units.md) through every command: the same physical inputs given once in m and once in
-// km give identical results, bare GM/mass/density are SI in every command, and malformed numbers are refused.
+// The one unit rule (docs/units.md) through every command: the same physical inputs given once in m and once
+// in km give identical results, bare GM/mass/density are SI in every command, and malformed numbers are
+// refused.
 #include <catch2/catch.hpp>
 #include <nlohmann/json.hpp>
 
@@ -53,11 +54,12 @@ TEST_CASE("the two mesh files of the unit tests hold the same body in metres", "
 
 TEST_CASE("compute gives the same set for the same inputs in m and in km", "[units_cli]") {
   const TwoUnits body;
-  const CoefficientSet km = body.run("compute " + arg(body.km) +
-                                         " --unit km --density 1900 --degree 6 --ref-radius 1.5 --origin 0.1,0,0",
-                                     "km");
+  const CoefficientSet km = body.run(
+      "compute " + arg(body.km) + " --unit km --density 1900 --degree 6 --ref-radius 1.5 --origin 0.1,0,0",
+      "km");
   const CoefficientSet m = body.run(
-      "compute " + arg(body.m) + " --unit m --density 1.9g/cm3 --degree 6 --ref-radius 1500 --origin 100,0,0", "m");
+      "compute " + arg(body.m) + " --unit m --density 1.9g/cm3 --degree 6 --ref-radius 1500 --origin 100,0,0",
+      "m");
   const CoefficientSet mixed = body.run(
       "compute " + arg(body.m) + " --density 1900kg/m3 --degree 6 --ref-radius 1.5km --origin 0.1km,0km,0km",
       "mixed");
@@ -94,8 +96,7 @@ TEST_CASE("convert reads bare lengths in --unit and GM in SI: m and km runs agre
   require_same_coefficients(km, m);
   CHECK(km.reference_radius == 2000.0);
   CHECK(km.gm == 5e11);
-  const CoefficientSet radians =
-      body.run("convert " + base + " --rotate-euler 0.5rad,0rad,0rad", "rad");
+  const CoefficientSet radians = body.run("convert " + base + " --rotate-euler 0.5rad,0rad,0rad", "rad");
   const CoefficientSet degrees =
       body.run("convert " + base + " --rotate-euler 28.64788975654116,0,0", "deg");  // 0.5 * 180 / pi
   require_sets_close(radians, degrees, 6, 1e-14);
@@ -111,8 +112,8 @@ TEST_CASE("field reads points in --unit, or in the unit their header declares (i
   write_text(body.dir + "/p_declared.csv", "x_km,y_km,z_km\n4,0,0\n0,3.5,1\n");
   const auto field = [&](const std::string& input, const std::string& points, const std::string& extra) {
     const std::string out = body.dir + "/f.csv";
-    const CommandResult result =
-        run_cli("field " + input + " --points " + arg(body.dir + "/" + points) + " " + extra + " -o " + arg(out));
+    const CommandResult result = run_cli("field " + input + " --points " + arg(body.dir + "/" + points) +
+                                         " " + extra + " -o " + arg(out));
     INFO(result.output);
     REQUIRE(result.exit_code == 0);
     return read_bytes(out);
@@ -143,8 +144,8 @@ TEST_CASE("validate reads --altitudes in the mesh unit: 1 with --unit km is 1000
   CHECK(altitudes(body.m, "--unit m --altitudes 1000") == km);
   CHECK(altitudes(body.km, "--altitudes 1000m") == km);  // --unit defaults to the set's km
   // The mesh file the set was computed from, declared in the other unit: refused, as report refuses it.
-  const CommandResult contradiction = run_cli("validate " + arg(body.km) + " " + arg(body.dir + "/set.txt") +
-                                              " --unit m --altitudes 1000");
+  const CommandResult contradiction =
+      run_cli("validate " + arg(body.km) + " " + arg(body.dir + "/set.txt") + " --unit m --altitudes 1000");
   CHECK(contradiction.exit_code == 2);
   CHECK(contradiction.output.find("off by a factor 1000") != std::string::npos);
 }
@@ -155,8 +156,8 @@ TEST_CASE("uncertainty gives the same sigmas for the same shape noise in m and i
   const CoefficientSet km = body.run(
       "uncertainty " + arg(body.km) + " --unit km" + common + " --shape-sigma 0.005 --correlation-length 0.3",
       "ukm");
-  const CoefficientSet m = body.run(
-      "uncertainty " + arg(body.m) + common + " --shape-sigma 5 --correlation-length 0.3km", "um");
+  const CoefficientSet m =
+      body.run("uncertainty " + arg(body.m) + common + " --shape-sigma 5 --correlation-length 0.3km", "um");
   require_same_coefficients(km, m);
   CHECK(km.sigma_C(2, 0) > 0);
 }
@@ -202,14 +203,16 @@ TEST_CASE("implausible densities, radii and GM changes are warned about and reco
   // Bounds: common practice (docs/units.md); a density of 1.9 is the classic g/cm^3 slip.
   const TwoUnits body;
   const std::string out = body.dir + "/slip.txt";
-  const CommandResult slip = run_cli("compute " + arg(body.km) + " --unit km --density 1.9 --degree 4 -o " + arg(out));
+  const CommandResult slip =
+      run_cli("compute " + arg(body.km) + " --unit km --density 1.9 --degree 4 -o " + arg(out));
   REQUIRE(slip.exit_code == 0);
   CHECK(slip.output.find("warning: the density of") != std::string::npos);
   CHECK(slip.output.find("g/cm^3") != std::string::npos);
   CHECK(read_bytes(out).find("Warning: the density of") != std::string::npos);
   // A 320-facet ellipsoid resolves about degree pi R / mean edge, near 13: degree 40 is far beyond.
-  const CommandResult fine = run_cli("compute " + arg(body.km) + " --unit km --density 1900 --degree 40 -q -o " +
-                                     arg(body.dir + "/fine.txt"));
+  const CommandResult fine =
+      run_cli("compute " + arg(body.km) + " --unit km --density 1900 --degree 40 -q -o " +
+              arg(body.dir + "/fine.txt"));
   REQUIRE(fine.exit_code == 0);
   CHECK(fine.output.find("warning: degree 40 is far beyond") != std::string::npos);
   const CommandResult gm = run_cli("convert " + arg(out) + " --to-gm 5e-7 -o " + arg(body.dir + "/gm.txt"));
