@@ -59,21 +59,6 @@ std::vector<std::string> lines_of(const std::string& text) {
   return lines;
 }
 
-/// Subcommand names listed by `polystokes --help` (indented names under "Subcommands:").
-std::vector<std::string> subcommands() {
-  const SplitResult help = run_split("--help");
-  std::vector<std::string> names;
-  bool in_list = false;
-  for (const std::string& line : lines_of(help.out)) {
-    if (line.rfind("Subcommands:", 0) == 0) {
-      in_list = true;
-      continue;
-    }
-    if (!in_list || line.size() < 3 || line[0] != ' ' || line[2] == ' ') continue;
-    names.push_back(line.substr(2, line.find(' ', 2) - 2));
-  }
-  return names;
-}
 
 /// Files in `dir` other than `keep`: leftover temporaries would show up here.
 std::vector<std::string> other_files(const std::string& dir, const std::vector<std::string>& keep) {
@@ -167,7 +152,7 @@ TEST_CASE("every command has --help with a worked example and the top-level help
     CHECK(top.out.find(code) != std::string::npos);
   CHECK(top.out.find("Caution") != std::string::npos);
 
-  const std::vector<std::string> names = subcommands();
+  const std::vector<std::string> names = subcommand_names();
   CAPTURE(names);
   // The commands of the core issue are there; any added later are checked as well.
   for (const char* expected : {"inspect", "compute"})
@@ -186,7 +171,7 @@ TEST_CASE("every command has --help with a worked example and the top-level help
 
 TEST_CASE("every worked example in --help names files that exist in the source tree", "[cli_behaviour]") {
   // An example a newcomer cannot run as printed is worse than none: each shapes-demo/ path it mentions exists.
-  for (const std::string& name : subcommands()) {
+  for (const std::string& name : subcommand_names()) {
     const std::string help = run_split(name + " --help").out;
     for (size_t at = help.find("shapes-demo/"); at != std::string::npos; at = help.find("shapes-demo/", at + 1)) {
       const std::string path = help.substr(at, help.find_first_of(" \n", at) - at);

@@ -24,21 +24,6 @@ std::string shell_arg(const std::string& text) { return "'" + text + "'"; }
 
 const std::string old_content = "previous content that a failed run must leave alone\n";
 
-/// Subcommand names listed by `polystokes --help` (indented names under "Subcommands:").
-std::vector<std::string> subcommands() {
-  std::istringstream help(run_cli("--help").output);
-  std::vector<std::string> names;
-  bool in_list = false;
-  for (std::string line; std::getline(help, line);) {
-    if (line.rfind("Subcommands:", 0) == 0) {
-      in_list = true;
-      continue;
-    }
-    if (!in_list || line.size() < 3 || line[0] != ' ' || line[2] == ' ') continue;
-    names.push_back(line.substr(2, line.find(' ', 2) - 2));
-  }
-  return names;
-}
 
 std::vector<std::string> entries_of(const std::string& dir) {
   std::vector<std::string> names;
@@ -138,7 +123,7 @@ TEST_CASE("every command refuses a missing input file with exit code 2 and the s
     CHECK(result.output == "polystokes: error: " + path + ": cannot read: No such file or directory\n");
   }
   // Every command reads a file; one added later must be added above.
-  const std::vector<std::string> names = subcommands();
+  const std::vector<std::string> names = subcommand_names();
   CHECK(std::set<std::string>(names.begin(), names.end()) == covered);
   // Nothing was written by the refused runs.
   CHECK(entries_of(in.dir) == std::vector<std::string>{"cube.shard", "cube.txt", "points.csv"});

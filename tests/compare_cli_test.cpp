@@ -24,11 +24,7 @@ std::string quoted(const std::string& path) { return "'" + path + "'"; }
 // A lumpy body (no symmetry) placed so that its centre of mass is some 330 m from the mesh origin, degree 12.
 const CoefficientSet& off_origin_set() {
   static const CoefficientSet set = [] {
-    const Mesh mesh = make_deformed_sphere(3, [](const Eigen::Vector3d& u) {
-      const double r =
-          1.0 + 0.2 * u.x() * u.y() + 0.1 * u.z() * u.z() * u.x() + 0.08 * std::sin(3 * u.y() + 1);
-      return Eigen::Vector3d(1600.0 * r * u.x(), 1000.0 * r * u.y(), 750.0 * r * u.z());
-    });
+    const Mesh mesh = lumpy_test_mesh();
     ComputeOptions options;
     options.degree = 12;
     options.body = "lumpy";

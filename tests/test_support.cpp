@@ -11,6 +11,7 @@
 #include <unistd.h>
 
 #include "conventions.h"
+#include "shapes.h"
 
 namespace polystokes::test {
 
@@ -82,5 +83,27 @@ void write_text(const std::string& path, const std::string& text) {
 }
 
 bool file_exists(const std::string& path) { return std::filesystem::exists(path); }
+
+Mesh lumpy_test_mesh() {
+  return make_deformed_sphere(3, [](const Eigen::Vector3d& u) {
+    const double r = 1.0 + 0.2 * u.x() * u.y() + 0.1 * u.z() * u.z() * u.x() + 0.08 * std::sin(3 * u.y() + 1);
+    return Eigen::Vector3d(1600.0 * r * u.x(), 1000.0 * r * u.y(), 750.0 * r * u.z());
+  });
+}
+
+std::vector<std::string> subcommand_names() {
+  std::istringstream help(run_cli("--help").output);
+  std::vector<std::string> names;
+  bool in_list = false;
+  for (std::string line; std::getline(help, line);) {
+    if (line.rfind("Subcommands:", 0) == 0) {
+      in_list = true;
+      continue;
+    }
+    if (!in_list || line.size() < 3 || line[0] != ' ' || line[2] == ' ') continue;
+    names.push_back(line.substr(2, line.find(' ', 2) - 2));
+  }
+  return names;
+}
 
 }  // namespace polystokes::test

@@ -4,8 +4,10 @@
 
 #include <catch2/catch.hpp>
 #include <string>
+#include <vector>
 
 #include "coefficient_set.h"
+#include "mesh.h"
 
 namespace polystokes::test {
 
@@ -31,6 +33,13 @@ struct CommandResult {
 };
 /// Runs the built polystokes executable with the given argument string (shell-quoted by the caller).
 CommandResult run_cli(const std::string& arguments);
+
+/// A lumpy body with no symmetry (every order present, distinct principal moments), about 3.2 x 2 x 1.5 km,
+/// 1280 faces, about the mesh origin.
+Mesh lumpy_test_mesh();
+
+/// Subcommand names listed by `polystokes --help` (the indented names under "Subcommands:"), in order.
+std::vector<std::string> subcommand_names();
 
 /// Whole file as bytes; empty string if missing.
 std::string read_bytes(const std::string& path);
