@@ -24,11 +24,11 @@
 #include <thread>
 #include <vector>
 
-#include "harmonics.h"
-#include "moment_kernel.h"
-#include "polyhedron_gravity.h"
-#include "series.h"
-#include "shapes.h"
+#include "polystokes/harmonics/harmonics.h"
+#include "harmonics/moment_kernel.h"
+#include "polystokes/field/polyhedron_gravity.h"
+#include "polystokes/field/series.h"
+#include "polystokes/mesh/shapes.h"
 
 #if defined(__x86_64__) && defined(__GNUC__) && !defined(__clang__)
 #define BENCH_CLONES __attribute__((target_clones("arch=x86-64-v3", "default")))

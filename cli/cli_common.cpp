@@ -12,12 +12,12 @@
 #include <filesystem>
 #include <sstream>
 
-#include "coefficient_file.h"
-#include "errors.h"
-#include "harmonics.h"
-#include "mesh_check.h"
-#include "mesh_io.h"
-#include "output_file.h"
+#include "polystokes/io/coefficient_file.h"
+#include "polystokes/core/errors.h"
+#include "polystokes/harmonics/harmonics.h"
+#include "polystokes/mesh/mesh_check.h"
+#include "polystokes/io/mesh_io.h"
+#include "polystokes/io/output_file.h"
 
 namespace polystokes::cli {
 

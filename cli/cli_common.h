@@ -5,12 +5,12 @@
 #include <string>
 #include <vector>
 
-#include "coefficient_set.h"
+#include "polystokes/core/coefficient_set.h"
 #include "commands.h"
-#include "harmonics.h"
-#include "mass_properties.h"
-#include "mesh.h"
-#include "mesh_io.h"
+#include "polystokes/harmonics/harmonics.h"
+#include "polystokes/mesh/mass_properties.h"
+#include "polystokes/core/mesh.h"
+#include "polystokes/io/mesh_io.h"
 #include "quantity_options.h"
 
 namespace polystokes::cli {

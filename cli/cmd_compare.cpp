@@ -5,10 +5,10 @@
 #include <memory>
 
 #include "cli_common.h"
-#include "coefficient_file.h"
-#include "compare.h"
-#include "conventions.h"
-#include "output_file.h"
+#include "polystokes/io/coefficient_file.h"
+#include "polystokes/sets/compare.h"
+#include "polystokes/sets/conventions.h"
+#include "polystokes/io/output_file.h"
 
 namespace polystokes::cli {
 namespace {

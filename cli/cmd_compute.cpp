@@ -8,13 +8,13 @@
 #include <thread>
 
 #include "cli_common.h"
-#include "coefficient_file.h"
-#include "conventions.h"
-#include "errors.h"
-#include "harmonics.h"
-#include "memory_budget.h"
-#include "mesh_check.h"
-#include "plausibility.h"
+#include "polystokes/io/coefficient_file.h"
+#include "polystokes/sets/conventions.h"
+#include "polystokes/core/errors.h"
+#include "polystokes/harmonics/harmonics.h"
+#include "polystokes/core/memory_budget.h"
+#include "polystokes/mesh/mesh_check.h"
+#include "polystokes/mesh/plausibility.h"
 
 namespace polystokes::cli {
 namespace {

@@ -8,12 +8,12 @@
 #include <sstream>
 
 #include "cli_common.h"
-#include "coefficient_file.h"
-#include "conventions.h"
-#include "errors.h"
-#include "plausibility.h"
-#include "table_import.h"
-#include "transforms.h"
+#include "polystokes/io/coefficient_file.h"
+#include "polystokes/sets/conventions.h"
+#include "polystokes/core/errors.h"
+#include "polystokes/mesh/plausibility.h"
+#include "polystokes/io/table_import.h"
+#include "polystokes/sets/transforms.h"
 
 namespace polystokes::cli {
 namespace {

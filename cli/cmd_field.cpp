@@ -8,11 +8,11 @@
 #include <memory>
 
 #include "cli_common.h"
-#include "coefficient_file.h"
-#include "errors.h"
-#include "point_file.h"
-#include "polyhedron_gravity.h"
-#include "series.h"
+#include "polystokes/io/coefficient_file.h"
+#include "polystokes/core/errors.h"
+#include "polystokes/io/point_file.h"
+#include "polystokes/field/polyhedron_gravity.h"
+#include "polystokes/field/series.h"
 
 namespace polystokes::cli {
 namespace {

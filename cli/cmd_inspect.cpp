@@ -8,12 +8,12 @@
 #include <optional>
 
 #include "cli_common.h"
-#include "errors.h"
-#include "mass_properties.h"
-#include "mesh_check.h"
-#include "mesh_io.h"
-#include "mesh_measures.h"
-#include "output_file.h"
+#include "polystokes/core/errors.h"
+#include "polystokes/mesh/mass_properties.h"
+#include "polystokes/mesh/mesh_check.h"
+#include "polystokes/io/mesh_io.h"
+#include "polystokes/mesh/mesh_measures.h"
+#include "polystokes/io/output_file.h"
 
 namespace polystokes::cli {
 namespace {

@@ -4,10 +4,10 @@
 #include <memory>
 
 #include "cli_common.h"
-#include "coefficient_file.h"
-#include "mesh_io.h"
-#include "output_file.h"
-#include "report.h"
+#include "polystokes/io/coefficient_file.h"
+#include "polystokes/io/mesh_io.h"
+#include "polystokes/io/output_file.h"
+#include "polystokes/render/report.h"
 
 namespace polystokes::cli {
 namespace {

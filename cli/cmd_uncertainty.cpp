@@ -8,11 +8,11 @@
 #include <memory>
 
 #include "cli_common.h"
-#include "coefficient_file.h"
-#include "conventions.h"
-#include "errors.h"
-#include "output_file.h"
-#include "uncertainty.h"
+#include "polystokes/io/coefficient_file.h"
+#include "polystokes/sets/conventions.h"
+#include "polystokes/core/errors.h"
+#include "polystokes/io/output_file.h"
+#include "polystokes/uncertainty/uncertainty.h"
 
 namespace polystokes::cli {
 namespace {

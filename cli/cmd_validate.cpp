@@ -7,12 +7,12 @@
 #include <memory>
 
 #include "cli_common.h"
-#include "coefficient_file.h"
-#include "errors.h"
-#include "harmonics.h"
-#include "mesh_check.h"
-#include "output_file.h"
-#include "validation.h"
+#include "polystokes/io/coefficient_file.h"
+#include "polystokes/core/errors.h"
+#include "polystokes/harmonics/harmonics.h"
+#include "polystokes/mesh/mesh_check.h"
+#include "polystokes/io/output_file.h"
+#include "polystokes/field/validation.h"
 
 namespace polystokes::cli {
 namespace {

@@ -5,7 +5,7 @@
 
 #include "cli_common.h"
 #include "commands.h"
-#include "errors.h"
+#include "polystokes/core/errors.h"
 
 int main(int argc, char** argv) {
   using namespace polystokes;

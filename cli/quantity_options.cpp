@@ -2,7 +2,7 @@
 
 #include <fmt/format.h>
 
-#include "errors.h"
+#include "polystokes/core/errors.h"
 
 namespace polystokes::cli {
 

@@ -6,7 +6,7 @@
 #include <string>
 #include <vector>
 
-#include "quantity.h"
+#include "polystokes/core/quantity.h"
 
 namespace polystokes::cli {
 

@@ -4,8 +4,8 @@
 #include <cstdlib>
 #include <string>
 
-#include "coefficient_file.h"
-#include "errors.h"
+#include "polystokes/io/coefficient_file.h"
+#include "polystokes/core/errors.h"
 
 extern "C" int LLVMFuzzerTestOneInput(const std::uint8_t* data, std::size_t size) {
   const std::string text(reinterpret_cast<const char*>(data), size);

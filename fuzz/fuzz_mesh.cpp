@@ -8,8 +8,8 @@
 #include <fstream>
 #include <string>
 
-#include "errors.h"
-#include "mesh_io.h"
+#include "polystokes/core/errors.h"
+#include "polystokes/io/mesh_io.h"
 
 #ifndef POLYSTOKES_FUZZ_EXTENSION
 #error "define POLYSTOKES_FUZZ_EXTENSION, e.g. \".off\""

@@ -5,8 +5,8 @@
 #include <cstdlib>
 #include <string>
 
-#include "errors.h"
-#include "point_file.h"
+#include "polystokes/core/errors.h"
+#include "polystokes/io/point_file.h"
 
 extern "C" int LLVMFuzzerTestOneInput(const std::uint8_t* data, std::size_t size) {
   const std::string text(reinterpret_cast<const char*>(data), size);

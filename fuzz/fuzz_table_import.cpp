@@ -5,9 +5,9 @@
 #include <string>
 #include <vector>
 
-#include "coefficient_file.h"
-#include "errors.h"
-#include "table_import.h"
+#include "polystokes/io/coefficient_file.h"
+#include "polystokes/core/errors.h"
+#include "polystokes/io/table_import.h"
 
 namespace {
 

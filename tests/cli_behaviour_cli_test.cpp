@@ -16,9 +16,9 @@
 #include <thread>
 #include <vector>
 
-#include "coefficient_file.h"
-#include "mesh_io.h"
-#include "shapes.h"
+#include "polystokes/io/coefficient_file.h"
+#include "polystokes/io/mesh_io.h"
+#include "polystokes/mesh/shapes.h"
 #include "test_support.h"
 
 using namespace polystokes;

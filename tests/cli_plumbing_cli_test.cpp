@@ -11,7 +11,7 @@
 #include <sstream>
 #include <vector>
 
-#include "coefficient_file.h"
+#include "polystokes/io/coefficient_file.h"
 #include "test_support.h"
 
 using namespace polystokes;

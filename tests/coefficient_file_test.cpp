@@ -1,6 +1,6 @@
 // Tests of the coefficient text format and its JSON form: bit-exact round trips, the numbers written, the
 // JSON layout, and one FormatError per kind of bad input naming the file and the right line.
-#include "coefficient_file.h"
+#include "polystokes/io/coefficient_file.h"
 
 #include <algorithm>
 #include <cmath>
@@ -17,7 +17,7 @@
 #include <string>
 #include <vector>
 
-#include "errors.h"
+#include "polystokes/core/errors.h"
 #include "test_support.h"
 
 namespace polystokes {

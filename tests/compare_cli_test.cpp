@@ -7,12 +7,12 @@
 #include <cmath>
 #include <nlohmann/json.hpp>
 
-#include "coefficient_file.h"
-#include "conventions.h"
-#include "harmonics.h"
-#include "shapes.h"
+#include "polystokes/io/coefficient_file.h"
+#include "polystokes/sets/conventions.h"
+#include "polystokes/harmonics/harmonics.h"
+#include "polystokes/mesh/shapes.h"
 #include "test_support.h"
-#include "transforms.h"
+#include "polystokes/sets/transforms.h"
 
 using namespace polystokes;
 using namespace polystokes::test;

@@ -1,19 +1,19 @@
 // Comparison of coefficient sets: per-degree statistics against their definitions, agreement after every
 // exact conversion, frame alignment, and the diagnosis naming each injected exchange mistake.
-#include "compare.h"
+#include "polystokes/sets/compare.h"
 
 #include <Eigen/Geometry>
 #include <catch2/catch.hpp>
 #include <cmath>
 #include <nlohmann/json.hpp>
 
-#include "coefficient_file.h"
-#include "conventions.h"
-#include "errors.h"
-#include "harmonics.h"
-#include "shapes.h"
+#include "polystokes/io/coefficient_file.h"
+#include "polystokes/sets/conventions.h"
+#include "polystokes/core/errors.h"
+#include "polystokes/harmonics/harmonics.h"
+#include "polystokes/mesh/shapes.h"
 #include "test_support.h"
-#include "transforms.h"
+#include "polystokes/sets/transforms.h"
 
 using namespace polystokes;
 using namespace polystokes::test;

@@ -3,10 +3,10 @@
 #include <catch2/catch.hpp>
 #include <cmath>
 
-#include "coefficient_file.h"
-#include "harmonics.h"
-#include "mesh_io.h"
-#include "shapes.h"
+#include "polystokes/io/coefficient_file.h"
+#include "polystokes/harmonics/harmonics.h"
+#include "polystokes/io/mesh_io.h"
+#include "polystokes/mesh/shapes.h"
 #include "test_support.h"
 
 using namespace polystokes;

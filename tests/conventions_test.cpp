@@ -1,7 +1,7 @@
 // Normalization, phase and J_n conventions: factors against GSL and Boost.Math Legendre functions, the
 // potential unchanged by every conversion (evaluated natively in each convention with GSL functions, that
 // evaluator checked against the exact polyhedron field), and round trips between every pair.
-#include "conventions.h"
+#include "polystokes/sets/conventions.h"
 
 #include <fmt/format.h>
 #include <gsl/gsl_sf_legendre.h>
@@ -11,11 +11,11 @@
 #include <cmath>
 #include <set>
 
-#include "coefficient_file.h"
-#include "errors.h"
-#include "harmonics.h"
-#include "polyhedron_gravity.h"
-#include "shapes.h"
+#include "polystokes/io/coefficient_file.h"
+#include "polystokes/core/errors.h"
+#include "polystokes/harmonics/harmonics.h"
+#include "polystokes/field/polyhedron_gravity.h"
+#include "polystokes/mesh/shapes.h"
 #include "test_support.h"
 
 using namespace polystokes;

@@ -9,11 +9,11 @@
 #include <random>
 #include <set>
 
-#include "errors.h"
-#include "fan_decomposition.h"
-#include "harmonics.h"
-#include "mass_properties.h"
-#include "shapes.h"
+#include "polystokes/core/errors.h"
+#include "harmonics/fan_decomposition.h"
+#include "polystokes/harmonics/harmonics.h"
+#include "polystokes/mesh/mass_properties.h"
+#include "polystokes/mesh/shapes.h"
 
 using namespace polystokes;
 

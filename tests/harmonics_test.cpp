@@ -6,10 +6,10 @@
 #include <cmath>
 #include <gsl/gsl_sf_legendre.h>
 
-#include "conventions.h"
-#include "errors.h"
-#include "harmonics.h"
-#include "shapes.h"
+#include "polystokes/sets/conventions.h"
+#include "polystokes/core/errors.h"
+#include "polystokes/harmonics/harmonics.h"
+#include "polystokes/mesh/shapes.h"
 #include "test_support.h"
 
 using namespace polystokes;

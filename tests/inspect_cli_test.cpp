@@ -8,8 +8,8 @@
 #include <cmath>
 #include <nlohmann/json.hpp>
 
-#include "mesh_io.h"
-#include "shapes.h"
+#include "polystokes/io/mesh_io.h"
+#include "polystokes/mesh/shapes.h"
 #include "test_support.h"
 
 using namespace polystokes;

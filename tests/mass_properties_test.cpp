@@ -2,9 +2,9 @@
 #include <Eigen/Geometry>
 #include <catch2/catch.hpp>
 
-#include "errors.h"
-#include "mass_properties.h"
-#include "shapes.h"
+#include "polystokes/core/errors.h"
+#include "polystokes/mesh/mass_properties.h"
+#include "polystokes/mesh/shapes.h"
 
 using namespace polystokes;
 using Catch::Matchers::WithinAbs;

@@ -8,8 +8,8 @@
 #include <fstream>
 #include <sstream>
 
-#include "errors.h"
-#include "memory_budget.h"
+#include "polystokes/core/errors.h"
+#include "polystokes/core/memory_budget.h"
 #include "test_support.h"
 
 using namespace polystokes;

@@ -1,4 +1,4 @@
-#include "mesh_check.h"
+#include "polystokes/mesh/mesh_check.h"
 
 #include <Eigen/Geometry>
 #include <chrono>
@@ -6,9 +6,9 @@
 #include <limits>
 #include <random>
 
-#include "errors.h"
-#include "mesh_io.h"
-#include "shapes.h"
+#include "polystokes/core/errors.h"
+#include "polystokes/io/mesh_io.h"
+#include "polystokes/mesh/shapes.h"
 #include "test_support.h"
 
 using namespace polystokes;

@@ -1,4 +1,4 @@
-#include "mesh_io.h"
+#include "polystokes/io/mesh_io.h"
 
 #include <fmt/format.h>
 
@@ -10,9 +10,9 @@
 #include <filesystem>
 #include <random>
 
-#include "errors.h"
-#include "mesh_check.h"
-#include "shapes.h"
+#include "polystokes/core/errors.h"
+#include "polystokes/mesh/mesh_check.h"
+#include "polystokes/mesh/shapes.h"
 #include "test_support.h"
 
 using namespace polystokes;

@@ -1,11 +1,11 @@
 // Size and sampling measures against closed forms of boxes (elementary geometry) and the definitions in
 // mesh_measures.h.
-#include "mesh_measures.h"
+#include "polystokes/mesh/mesh_measures.h"
 
 #include <catch2/catch.hpp>
 #include <cmath>
 
-#include "shapes.h"
+#include "polystokes/mesh/shapes.h"
 
 using namespace polystokes;
 using Catch::Matchers::WithinRel;

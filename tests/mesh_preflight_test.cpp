@@ -8,9 +8,9 @@
 #include <cstdint>
 #include <cstring>
 
-#include "errors.h"
-#include "mesh_io.h"
-#include "mesh_preflight.h"
+#include "polystokes/core/errors.h"
+#include "polystokes/io/mesh_io.h"
+#include "io/mesh_preflight.h"
 #include "test_support.h"
 
 using namespace polystokes;

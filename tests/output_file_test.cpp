@@ -1,6 +1,6 @@
 // Tests of all-or-nothing output and whole-file input: content written exactly, failures that leave the
 // previous file and the directory as they were, and read errors that name the file.
-#include "output_file.h"
+#include "polystokes/io/output_file.h"
 
 #include <fcntl.h>
 #include <sys/resource.h>
@@ -13,7 +13,7 @@
 #include <set>
 #include <string>
 
-#include "errors.h"
+#include "polystokes/core/errors.h"
 #include "test_support.h"
 
 namespace polystokes {

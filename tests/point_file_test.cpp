@@ -1,6 +1,6 @@
 // Point lists and field tables: parsing rules, error messages with line numbers, exact round trip of doubles
 // (shortest round-trip form, as std::from_chars / std::to_chars specify in C++17), atomic output.
-#include "point_file.h"
+#include "polystokes/io/point_file.h"
 
 #include <catch2/catch.hpp>
 #include <cmath>
@@ -8,7 +8,7 @@
 #include <limits>
 #include <random>
 
-#include "errors.h"
+#include "polystokes/core/errors.h"
 #include "test_support.h"
 
 using namespace polystokes;

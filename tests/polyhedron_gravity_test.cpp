@@ -1,16 +1,16 @@
 // Exact polyhedron gravity: rectangular prisms against the closed form of Nagy, Papp & Benedek 2000, the far
 // field against the point mass and MacCullagh's formula, Poisson's equation inside and Laplace's outside,
 // continuity and the known jump of the gradient across the surface, edges and vertices, superposed regions.
-#include "polyhedron_gravity.h"
+#include "polystokes/field/polyhedron_gravity.h"
 
 #include <Eigen/Geometry>
 #include <catch2/catch.hpp>
 #include <cmath>
 #include <ctime>
 
-#include "errors.h"
-#include "harmonics.h"
-#include "shapes.h"
+#include "polystokes/core/errors.h"
+#include "polystokes/harmonics/harmonics.h"
+#include "polystokes/mesh/shapes.h"
 
 using namespace polystokes;
 

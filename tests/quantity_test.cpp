@@ -1,12 +1,12 @@
 // The unit grammar and the strict number rule (docs/units.md): unit factors from the SI definitions, the
 // numbers people mistype refused, and the bare-length rule.
-#include "quantity.h"
+#include "polystokes/core/quantity.h"
 
 #include <boost/math/constants/constants.hpp>
 #include <catch2/catch.hpp>
 #include <cstdlib>
 
-#include "errors.h"
+#include "polystokes/core/errors.h"
 
 using namespace polystokes;
 

@@ -8,8 +8,8 @@
 #include <map>
 #include <set>
 
-#include "errors.h"
-#include "mesh_io.h"
+#include "polystokes/core/errors.h"
+#include "polystokes/io/mesh_io.h"
 #include "test_support.h"
 
 using namespace polystokes;

@@ -5,11 +5,11 @@
 
 #include <catch2/catch.hpp>
 
-#include "coefficient_file.h"
-#include "harmonics.h"
-#include "mesh_io.h"
-#include "shapes.h"
-#include "svg_plot.h"
+#include "polystokes/io/coefficient_file.h"
+#include "polystokes/harmonics/harmonics.h"
+#include "polystokes/io/mesh_io.h"
+#include "polystokes/mesh/shapes.h"
+#include "render/svg_plot.h"
 #include "test_support.h"
 #include "xml_check.h"
 

@@ -1,7 +1,7 @@
 // Tests of the HTML report and its SVG helpers: the page is well-formed XML with every section, plot, number
 // and caution, and no external reference; degree variances and the power-law fit follow their definitions and
 // agree with GSL; the field map matches the point-mass and degree-2 closed forms; contours match geometry.
-#include "report.h"
+#include "polystokes/render/report.h"
 
 #include <fmt/format.h>
 #include <gsl/gsl_fit.h>
@@ -12,13 +12,13 @@
 #include <cmath>
 #include <cstdio>
 
-#include "compare.h"
-#include "conventions.h"
-#include "errors.h"
-#include "harmonics.h"
-#include "mass_properties.h"
-#include "shapes.h"
-#include "svg_plot.h"
+#include "polystokes/sets/compare.h"
+#include "polystokes/sets/conventions.h"
+#include "polystokes/core/errors.h"
+#include "polystokes/harmonics/harmonics.h"
+#include "polystokes/mesh/mass_properties.h"
+#include "polystokes/mesh/shapes.h"
+#include "render/svg_plot.h"
 #include "test_support.h"
 #include "xml_check.h"
 

@@ -1,7 +1,7 @@
 // Series evaluation: potential against the defining sum with GSL Legendre functions (moderate and high
 // degree), acceleration and gradient against the classical spherical-coordinate formulas and finite
 // differences, handbook point-mass and J2 closed forms, the poles, conventions and truncation.
-#include "series.h"
+#include "polystokes/field/series.h"
 
 #include <gsl/gsl_sf_legendre.h>
 
@@ -10,8 +10,8 @@
 #include <ctime>
 #include <random>
 
-#include "conventions.h"
-#include "errors.h"
+#include "polystokes/sets/conventions.h"
+#include "polystokes/core/errors.h"
 
 using namespace polystokes;
 

@@ -1,19 +1,19 @@
 // Plain coefficient tables: a set written as a table in several layouts reads back bit for bit; declarations
 // that are missing, and every kind of bad row, give a one-line error naming the option or file:line.
-#include "table_import.h"
+#include "polystokes/io/table_import.h"
 
 #include <fmt/format.h>
 
 #include <catch2/catch.hpp>
 #include <cmath>
 
-#include "coefficient_file.h"
-#include "conventions.h"
-#include "errors.h"
-#include "harmonics.h"
-#include "shapes.h"
+#include "polystokes/io/coefficient_file.h"
+#include "polystokes/sets/conventions.h"
+#include "polystokes/core/errors.h"
+#include "polystokes/harmonics/harmonics.h"
+#include "polystokes/mesh/shapes.h"
 #include "test_support.h"
-#include "transforms.h"
+#include "polystokes/sets/transforms.h"
 
 using namespace polystokes;
 using namespace polystokes::test;

@@ -10,8 +10,8 @@
 #include <sys/wait.h>
 #include <unistd.h>
 
-#include "conventions.h"
-#include "shapes.h"
+#include "polystokes/sets/conventions.h"
+#include "polystokes/mesh/shapes.h"
 
 namespace polystokes::test {
 

@@ -6,8 +6,8 @@
 #include <string>
 #include <vector>
 
-#include "coefficient_set.h"
-#include "mesh.h"
+#include "polystokes/core/coefficient_set.h"
+#include "polystokes/core/mesh.h"
 
 namespace polystokes::test {
 

@@ -1,7 +1,7 @@
 // Reference radius and GM rescaling, origin shifts and rotations of coefficient sets: against coefficients
 // computed exactly from the shifted or rotated mesh, closed forms, the defining property of the real
 // Wigner-D matrices and round trips.
-#include "transforms.h"
+#include "polystokes/sets/transforms.h"
 
 #include <Eigen/Dense>
 #include <Eigen/Geometry>
@@ -9,11 +9,11 @@
 #include <cmath>
 #include <random>
 
-#include "conventions.h"
-#include "errors.h"
-#include "harmonics.h"
-#include "series.h"
-#include "shapes.h"
+#include "polystokes/sets/conventions.h"
+#include "polystokes/core/errors.h"
+#include "polystokes/harmonics/harmonics.h"
+#include "polystokes/field/series.h"
+#include "polystokes/mesh/shapes.h"
 #include "test_support.h"
 
 using namespace polystokes;

@@ -2,7 +2,7 @@
 // and merged give the single-run set bit for bit; bad merges fail with one line, exit code 2 and no output.
 #include <catch2/catch.hpp>
 
-#include "coefficient_file.h"
+#include "polystokes/io/coefficient_file.h"
 #include "test_support.h"
 
 using namespace polystokes;

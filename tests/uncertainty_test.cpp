@@ -1,7 +1,7 @@
 // Monte Carlo uncertainty: shape-noise sigmas against the first-order perturbation formula, density and
 // core scenarios against closed forms (mass scaling, shell theorem, point-mass coefficients), and the
 // reproducibility guarantees (same seed, any thread count, shards merged = one run, bit for bit).
-#include "uncertainty.h"
+#include "polystokes/uncertainty/uncertainty.h"
 
 #include <gsl/gsl_sf_legendre.h>
 
@@ -12,9 +12,9 @@
 #include <functional>
 #include <numeric>
 
-#include "errors.h"
-#include "mass_properties.h"
-#include "shapes.h"
+#include "polystokes/core/errors.h"
+#include "polystokes/mesh/mass_properties.h"
+#include "polystokes/mesh/shapes.h"
 #include "test_support.h"
 
 using namespace polystokes;

@@ -7,11 +7,11 @@
 #include <nlohmann/json.hpp>
 #include <sstream>
 
-#include "coefficient_file.h"
-#include "harmonics.h"
-#include "mesh_io.h"
-#include "polyhedron_gravity.h"
-#include "shapes.h"
+#include "polystokes/io/coefficient_file.h"
+#include "polystokes/harmonics/harmonics.h"
+#include "polystokes/io/mesh_io.h"
+#include "polystokes/field/polyhedron_gravity.h"
+#include "polystokes/mesh/shapes.h"
 #include "test_support.h"
 
 using namespace polystokes;

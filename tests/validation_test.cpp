@@ -1,16 +1,16 @@
 // Series from the exact coefficients against exact polyhedron gravity: convergence outside the Brillouin
 // sphere (error falls with degree; 1e-10 at twice R_B for a smooth body), recommendations, warnings,
 // sampling.
-#include "validation.h"
+#include "polystokes/field/validation.h"
 
 #include <catch2/catch.hpp>
 #include <cmath>
 #include <nlohmann/json.hpp>
 
-#include "errors.h"
-#include "harmonics.h"
-#include "shapes.h"
-#include "transforms.h"
+#include "polystokes/core/errors.h"
+#include "polystokes/harmonics/harmonics.h"
+#include "polystokes/mesh/shapes.h"
+#include "polystokes/sets/transforms.h"
 
 using namespace polystokes;
 

@@ -5,8 +5,8 @@
 #include <exception>
 #include <string>
 
-#include "mesh_io.h"
-#include "shapes.h"
+#include "polystokes/io/mesh_io.h"
+#include "polystokes/mesh/shapes.h"
 
 namespace {
 

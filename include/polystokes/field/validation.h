@@ -1,0 +1,81 @@
+// Where a truncated Stokes series can be trusted: the series at every degree compared with the exact
+// polyhedron gravity on spheres about the expansion origin and on shells at given altitudes above the
+// surface.
+#pragma once
+
+#include <Eigen/Core>
+#include <string>
+#include <vector>
+
+#include "polystokes/core/coefficient_set.h"
+#include "polystokes/core/field_value.h"
+#include "polystokes/mesh/mass_properties.h"
+
+namespace polystokes {
+
+struct ValidationOptions {
+  /// Sphere radii as multiples of the Brillouin radius (about the set's expansion origin).
+  std::vector<double> radius_factors = {1.0, 1.25, 1.5, 2.0, 3.0};
+  /// Altitudes (m) above the surface, measured radially from the expansion origin: each sample direction
+  /// u gives the point origin + (t_max + h) u, t_max the outermost crossing of the ray with the mesh.
+  std::vector<double> altitudes;
+  int samples = 200;     ///< points per sphere or shell (Fibonacci lattice directions, deterministic)
+  double target = 1e-6;  ///< relative acceleration error the recommended degree must meet
+  int threads = 0;       ///< 0 = all hardware threads; results do not depend on it
+};
+
+/// Results on one sphere or altitude shell. Errors are relative acceleration errors
+/// |a_series(L) - a_exact| / |a_exact| with the series truncated at degree L.
+struct ShellResult {
+  std::string label;                      ///< "1.25 R_B" or "h = 500 m"
+  bool altitude = false;                  ///< an altitude shell (else a sphere)
+  double value = 0;                       ///< radius factor or altitude (m)
+  double radius_min = 0, radius_max = 0;  ///< distance of its points from the expansion origin, m
+  long points = 0;
+  long inside_brillouin = 0;      ///< points with r < Brillouin radius (the series may diverge there)
+  std::vector<double> max_error;  ///< index L = 0..degree: largest error over the points
+  std::vector<double> rms_error;  ///< index L: root mean square error over the points
+  int recommended_degree = -1;    ///< lowest L with max_error[L] <= target; -1 if none
+  int best_degree = 0;            ///< L with the smallest max_error
+};
+
+struct ValidationReport {
+  int degree = 0;
+  double target = 0;
+  double brillouin_radius = 0;     ///< m, of the mesh(es) about the set's expansion origin
+  double reference_radius = 0;     ///< m
+  double gm_set = 0, gm_mesh = 0;  ///< m^3 s^-2; gm_mesh = G * sum(rho V)
+  /// m^3 s^-2: the set's GM times its C00 (4pi-normalized), the total GM its series carries; equals gm_set
+  /// unless the set was rescaled to another GM (convert --to-gm), where C00 carries the ratio.
+  double gm_field = 0;
+  long faces = 0;
+  int samples = 0;
+  std::vector<ShellResult> shells;    ///< spheres in the given order, then altitude shells
+  std::vector<std::string> warnings;  ///< plain sentences: Brillouin sphere, GM / origin / mesh mismatches
+  std::vector<std::string> notes;     ///< true and harmless: e.g. a GM label that C00 compensates
+};
+
+/// Compares the series of `set` (any convention, its own origin and axes) with the exact field of the
+/// regions (mesh frame). A set about the centre of mass that does not record its mesh-frame place is taken
+/// about the mesh's centre of mass (with a note). Cost: samples * shells * (faces + degree^2). Throws
+/// ConventionError for bad options (no shells, samples < 1, non-positive factors, negative altitudes,
+/// target <= 0) and for a set whose axes, or origin (other than the centre of mass), are unknown.
+ValidationReport validate_series(const std::vector<DensityRegion>& regions, const CoefficientSet& set,
+                                 const ValidationOptions& options);
+
+/// n nearly uniform unit vectors: the Fibonacci (golden-angle) lattice (Gonzalez 2010, Math. Geosci. 42,
+/// 49-64).
+std::vector<Eigen::Vector3d> fibonacci_directions(int n);
+
+/// Largest t > 0 at which origin + t u crosses a face of any region (Moller & Trumbore 1997, J. Graphics
+/// Tools 2, ray-triangle test); 0 if the ray meets none. O(faces).
+double outermost_crossing(const std::vector<DensityRegion>& regions, const Eigen::Vector3d& origin,
+                          const Eigen::Vector3d& u);
+
+/// Plain-text report: header, error table (degrees x shells), per-shell recommendation, warnings.
+std::string format_validation_text(const ValidationReport& report);
+
+/// The same content as JSON (2-space indent, doubles in round-trip form).
+std::string format_validation_json(const ValidationReport& report);
+
+}  // namespace polystokes

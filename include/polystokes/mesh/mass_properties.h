@@ -1,0 +1,56 @@
+// Volume, centre of mass, inertia and principal axes of a constant-density polyhedron or of several
+// density regions superposed. Exact for the polyhedron (signed tetrahedra from the mesh origin to each face).
+#pragma once
+
+#include <Eigen/Core>
+#include <vector>
+
+#include "polystokes/core/mesh.h"
+
+namespace polystokes {
+
+/// One constant-density piece of a body: a checked closed mesh and its density (kg/m^3).
+/// A negative density is a contrast: a void or lighter inclusion nested in another region.
+struct DensityRegion {
+  Mesh mesh;
+  double density = 0;
+};
+
+/// Raw volume moments of one closed mesh about the mesh origin (m^3, m^4, m^5).
+struct VolumeMoments {
+  double volume = 0;                                 ///< integral of dV
+  Eigen::Vector3d first = Eigen::Vector3d::Zero();   ///< integral of x dV
+  Eigen::Matrix3d second = Eigen::Matrix3d::Zero();  ///< integral of x x^T dV
+};
+
+/// Exact moments by signed tetrahedra (origin, a, b, c); valid for any closed outward mesh. O(F), split over
+/// `threads` (0 = all hardware threads); the result does not depend on the thread count.
+VolumeMoments volume_moments(const Mesh& mesh, int threads = 1);
+
+/// Mass properties of the superposed regions, about the centre of mass, mesh frame.
+struct MassProperties {
+  double volume = 0;                                         ///< m^3, sum of region volumes with density > 0
+  double mass = 0;                                           ///< kg, sum of density * volume
+  Eigen::Vector3d center_of_mass = Eigen::Vector3d::Zero();  ///< m, mesh frame
+  Eigen::Matrix3d inertia =
+      Eigen::Matrix3d::Zero();  ///< kg m^2 about the COM: I = tr(J) 1 - J, J = int (x-c)(x-c)^T dm
+  Eigen::Vector3d principal_moments = Eigen::Vector3d::Zero();  ///< kg m^2, ascending A <= B <= C
+  /// Columns are the principal axes (mesh frame) in the order of principal_moments. Sign rule: the first two
+  /// axes have their largest-magnitude component positive; the third is their cross product (right-handed).
+  Eigen::Matrix3d principal_axes = Eigen::Matrix3d::Identity();
+  std::vector<double> region_volumes;  ///< m^3, volume of each region's mesh, in the order given
+};
+
+/// Throws ConventionError if the total mass is not positive. O(total F), split over `threads` (0 = all
+/// hardware threads) with a result that does not depend on the thread count.
+MassProperties mass_properties(const std::vector<DensityRegion>& regions, int threads = 1);
+
+/// Largest vertex distance from `origin` over all regions (m): the radius of the Brillouin sphere. O(V) split
+/// over `threads` (0 = all hardware threads).
+double brillouin_radius(const std::vector<DensityRegion>& regions, const Eigen::Vector3d& origin,
+                        int threads = 1);
+
+/// Largest vertex distance from `origin` (m) of one mesh. O(V) split over `threads` (0 = all).
+double max_vertex_distance(const Mesh& mesh, const Eigen::Vector3d& origin, int threads = 1);
+
+}  // namespace polystokes

@@ -1,0 +1,104 @@
+// Comparing two coefficient sets made under different conventions, degree by degree, and diagnosing the
+// usual exchange mistakes (normalization, phase, J_n sign, radius, GM, longitude, C/S swap, origin).
+#pragma once
+
+#include <string>
+#include <vector>
+
+#include "polystokes/core/coefficient_set.h"
+
+namespace polystokes {
+
+struct CompareOptions {
+  /// A degree agrees when its RMS difference is at most tolerance * (RMS of A at that degree, see below).
+  double tolerance = 1e-6;
+  /// RMS differences up to this (fully normalized, dimensionless) always agree: rounding of zero terms.
+  double absolute_floor = 1e-15;
+  /// A degree's difference is taken relative to max(RMS A_n, relative_floor * E_n), E_n the largest RMS of A
+  /// over degrees k >= max(n, 1) (|C00| if there is none): terms that should vanish (degree 1 about the
+  /// centre of mass, odd degrees of a symmetric body) are judged against the body's following terms, not
+  /// against their own rounding.
+  double relative_floor = 1e-3;
+  /// Also bring B to A's origin and axes, using both sets' origin_in_mesh and axes_in_mesh (which assumes the
+  /// two sets refer to the same mesh frame). What a set does not know is not aligned (see compare_sets).
+  bool align_frame = false;
+  /// Highest degree compared; -1 = the smaller of the two degrees.
+  int max_degree = -1;
+  /// Number of largest single differences listed.
+  int largest_count = 10;
+  /// Test the usual mismatches when the sets disagree.
+  bool diagnose = true;
+};
+
+/// Statistics of one degree n, in fully normalized terms after B is brought to A's conventions.
+/// RMS values are per coefficient: sqrt(sum_m (C^2 + S^2) / (2n+1)) (degree variance / (2n+1), square root).
+struct DegreeComparison {
+  int degree = 0;
+  double rms_a = 0, rms_b = 0;  ///< spectra of A and B
+  double rms_difference = 0;    ///< of A - B
+  double scale = 0;             ///< what the difference is measured against: max(rms_a, floor)
+  double relative = 0;          ///< rms_difference / scale; 0 within the absolute floor
+  double correlation = 0;       ///< sum(Ca Cb + Sa Sb) / sqrt(sum(Ca^2+Sa^2) sum(Cb^2+Sb^2)); NaN if one is 0
+  bool agrees = false;
+};
+
+/// One coefficient of A and of B (in A's convention, after B is brought to it).
+struct CoefficientDifference {
+  int n = 0, m = 0;
+  bool sine = false;  ///< S (true) or C (false)
+  double a = 0, b = 0;
+};
+
+/// One tested explanation of a disagreement: B corrected as the hypothesis says, then compared again.
+struct Hypothesis {
+  /// normalization, phase, j_sign, radius, gm, longitude_sign, z_rotation, swapped_cs, origin; a pair of
+  /// mistakes joins two with '+': normalization/phase/j_sign/longitude_sign/swapped_cs + radius or gm, and
+  /// radius+gm.
+  std::string kind;
+  std::string description;      ///< what the hypothesis says, with the fitted parameter if any
+  double parameter = 0;         ///< radius or GM factor, angle (degrees), shift length (m); 0 if none
+  double second_parameter = 0;  ///< the GM factor of radius+gm (parameter is its radius factor); else 0
+  double misfit = 0;        ///< misfit after the correction
+  int agree_degree = -1;    ///< degree up to which the corrected B agrees with A
+  bool explains = false;    ///< the corrected B agrees with A at every degree
+};
+
+struct Comparison {
+  int degree = 0;  ///< highest degree compared
+  int degree_a = 0, degree_b = 0;
+  std::vector<std::string> alignment;  ///< what was done to B to bring it to A, and what was not
+  /// How B's origin and axes stand to A's: "same", "different" (not aligned), "aligned", or "unknown" (a set
+  /// does not know its origin or axes in the mesh frame: not aligned, B taken as if it were in A's).
+  std::string origin_relation, axes_relation;
+  std::vector<DegreeComparison> degrees;       ///< 0..degree
+  std::vector<CoefficientDifference> largest;  ///< largest |a - b| first
+  int agree_degree = -1;                       ///< A and B agree at every degree 0..agree_degree
+  bool agree = false;                          ///< at every compared degree
+  double misfit = 0;                           ///< sqrt(mean over degrees of relative^2)
+  double tolerance = 0;
+  std::vector<Hypothesis> hypotheses;  ///< tested explanations, smallest misfit first
+  std::string verdict;                 ///< one line
+};
+
+/// Brings B to A's normalization, phase, zonal form, reference radius and GM (and, with align_frame, origin
+/// and axes), then compares per degree; when they disagree and diagnose is set, tests each usual mismatch
+/// on B as read (other normalization or phase or J_n form than declared; reference radius off by a factor
+/// 1e-4..1e4 fitted from the degree dependence of the spectra ratio, a factor near 1000 named as a likely
+/// m/km mix-up; GM off by a factor; longitudes reversed (S -> -S); rotated about z by a fitted angle; C and S
+/// swapped; expansion origin off by the vector implied by the degree-1 terms) and ranks them by the misfit
+/// left. When none explains every degree, pairs are tried too (a label mistake with a fitted radius or GM
+/// factor, radius and GM together) and the best three kept; the verdict says when the best explanation is
+/// only partial. Radius and GM factors are applied in logarithms, so no degree overflows.
+/// Origins: two sets about the centre of mass share their origin; a set whose origin or axes are unknown
+/// (origin_known, axes_known) is neither aligned nor reported as differing, and `alignment` says so.
+/// Throws ConventionError if a set lacks GM or radius.
+/// O(degree^2) per tested hypothesis (O(degree^3) with align_frame).
+Comparison compare_sets(const CoefficientSet& a, const CoefficientSet& b, const CompareOptions& options = {});
+
+/// Plain-text report: alignment, per-degree table, largest differences, diagnosis, verdict.
+std::string comparison_text(const Comparison& comparison);
+
+/// The same content as JSON (2-space indent); NaN correlations are null.
+std::string comparison_json(const Comparison& comparison);
+
+}  // namespace polystokes

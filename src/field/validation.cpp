@@ -1,0 +1,360 @@
+#include "polystokes/field/validation.h"
+
+#include <fmt/format.h>
+
+#include <Eigen/Geometry>
+#include <algorithm>
+#include <cmath>
+#include <limits>
+#include <nlohmann/json.hpp>
+
+#include "polystokes/sets/conventions.h"
+#include "polystokes/core/errors.h"
+#include "polystokes/harmonics/harmonics.h"
+#include "internal/parallel_rows.h"
+#include "polystokes/field/polyhedron_gravity.h"
+#include "polystokes/field/series.h"
+
+namespace polystokes {
+
+namespace {
+
+void check_options(const ValidationOptions& options) {
+  if (options.radius_factors.empty() && options.altitudes.empty())
+    throw ConventionError("nothing to sample: give at least one radius factor or altitude");
+  if (options.samples < 1)
+    throw ConventionError(fmt::format("samples must be >= 1, got {}", options.samples));
+  for (const double f : options.radius_factors)
+    if (!(f > 0) || !std::isfinite(f))
+      throw ConventionError(fmt::format("radius factor must be positive, got {}", f));
+  for (const double h : options.altitudes)
+    if (!(h >= 0) || !std::isfinite(h))
+      throw ConventionError(fmt::format("altitude must be >= 0 m, got {}", h));
+  if (!(options.target > 0) || !std::isfinite(options.target))
+    throw ConventionError(fmt::format("target must be positive, got {}", options.target));
+}
+
+void add_consistency_warnings(const std::vector<DensityRegion>& regions, const CoefficientSet& set,
+                              ValidationReport& report) {
+  const double rb = report.brillouin_radius;
+  const auto differs = [&](double gm) {
+    return std::abs(gm - report.gm_mesh) > 1e-9 * std::abs(report.gm_mesh);
+  };
+  // The series' monopole is GM C00 (C00 normalized as the 4pi convention, where P00 = 1): a set rescaled to
+  // another GM keeps its field by carrying GM_old/GM_new in C00, so only GM C00 enters the errors.
+  if (differs(report.gm_field))
+    report.warnings.push_back(
+        fmt::format("the set's total GM (GM x C00 = {:.9g} m^3 s^-2) differs from G * density * volume of "
+                    "the mesh ({:.9g} "
+                    "m^3 s^-2) by a relative {:.2e}; the errors below include that difference.",
+                    report.gm_field, report.gm_mesh, (report.gm_field - report.gm_mesh) / report.gm_mesh));
+  else if (differs(report.gm_set))
+    report.notes.push_back(fmt::format(
+        "the set's GM ({:.9g} m^3 s^-2) differs from the mesh's ({:.9g} m^3 s^-2), but its C00 = {:.9g} "
+        "carries the ratio: the total GM x C00 matches the mesh, and the errors below are those of the same "
+        "field.",
+        report.gm_set, report.gm_mesh, report.gm_field / report.gm_set));
+  if (set.brillouin_radius > 0 && std::abs(set.brillouin_radius - rb) > 1e-9 * rb)
+    report.warnings.push_back(
+        fmt::format("the set's Brillouin radius ({:.9g} m) differs from the mesh's about the "
+                    "set's origin ({:.9g} m): was the set computed from this mesh?",
+                    set.brillouin_radius, rb));
+  if (set.origin == "com") {
+    const Eigen::Vector3d com = mass_properties(regions).center_of_mass;
+    if ((com - set.origin_in_mesh).norm() > 1e-9 * rb)
+      report.warnings.push_back(fmt::format(
+          "the set's origin is the centre of mass ({:.9g}, {:.9g}, {:.9g}) m but the mesh's centre of mass "
+          "is "
+          "({:.9g}, {:.9g}, {:.9g}) m: the set and the mesh (or densities) do not match.",
+          set.origin_in_mesh.x(), set.origin_in_mesh.y(), set.origin_in_mesh.z(), com.x(), com.y(), com.z()));
+  }
+  if (set.regions.size() == regions.size()) {
+    for (size_t i = 0; i < regions.size(); ++i) {
+      const std::string& recorded = set.regions[i].checksum;
+      const std::string& actual = regions[i].mesh.checksum;
+      if (!recorded.empty() && !actual.empty() && recorded != actual)
+        report.warnings.push_back(
+            fmt::format("mesh {} is not the mesh the set was computed from (SHA-256 {} "
+                        "recorded as {} in the set)",
+                        regions[i].mesh.source, actual, recorded));
+    }
+  }
+}
+
+// The set with its origin and axes in the mesh frame: a set about the centre of mass whose place it does
+// not record (a table declared "com") is placed at the mesh's; an unknown origin or unknown axes cannot be
+// sampled and are refused.
+CoefficientSet placed_in_mesh(const std::vector<DensityRegion>& regions, const CoefficientSet& set) {
+  if (!set.axes_known)
+    throw ConventionError(fmt::format(
+        "the set's axes ('{}') are not known in the mesh frame: validation needs them (for a table, "
+        "declare --table-axes mesh if it uses the mesh's axes)",
+        set.frame));
+  if (set.origin_known) return set;
+  if (set.origin != "com")
+    throw ConventionError(
+        "the set's origin is unknown: validation needs it (for a table, declare --table-origin com or "
+        "x,y,z)");
+  CoefficientSet placed = set;
+  placed.origin_in_mesh = mass_properties(regions).center_of_mass;
+  placed.origin_known = true;
+  return placed;
+}
+
+}  // namespace
+
+std::vector<Eigen::Vector3d> fibonacci_directions(int n) {
+  std::vector<Eigen::Vector3d> out;
+  const double golden_angle = M_PI * (3.0 - std::sqrt(5.0));
+  for (int i = 0; i < n; ++i) {
+    const double z = 1.0 - (2.0 * i + 1.0) / n, rho = std::sqrt(std::max(0.0, 1.0 - z * z));
+    const double phi = golden_angle * i;
+    out.emplace_back(rho * std::cos(phi), rho * std::sin(phi), z);
+  }
+  return out;
+}
+
+double outermost_crossing(const std::vector<DensityRegion>& regions, const Eigen::Vector3d& origin,
+                          const Eigen::Vector3d& u) {
+  double best = 0;
+  for (const auto& region : regions) {
+    const Mesh& mesh = region.mesh;
+    for (Eigen::Index f = 0; f < mesh.faces.rows(); ++f) {
+      const Eigen::Vector3d a = mesh.vertices.row(mesh.faces(f, 0)).transpose();
+      const Eigen::Vector3d e1 = mesh.vertices.row(mesh.faces(f, 1)).transpose() - a;
+      const Eigen::Vector3d e2 = mesh.vertices.row(mesh.faces(f, 2)).transpose() - a;
+      const Eigen::Vector3d p = u.cross(e2);
+      const double det = e1.dot(p);
+      if (det == 0) continue;  // ray parallel to the face
+      const Eigen::Vector3d s = origin - a;
+      const double b1 = s.dot(p) / det;
+      if (b1 < 0 || b1 > 1) continue;
+      const Eigen::Vector3d q = s.cross(e1);
+      const double b2 = u.dot(q) / det;
+      if (b2 < 0 || b1 + b2 > 1) continue;
+      best = std::max(best, e2.dot(q) / det);
+    }
+  }
+  return best;
+}
+
+ValidationReport validate_series(const std::vector<DensityRegion>& regions, const CoefficientSet& given,
+                                 const ValidationOptions& options) {
+  check_options(options);
+  if (regions.empty()) throw ConventionError("no mesh given");
+  const CoefficientSet set = placed_in_mesh(regions, given);
+  const PolyhedronGravity exact(regions);
+  const SeriesModel series(set);
+  const Eigen::Vector3d origin = set.origin_in_mesh;
+
+  ValidationReport report;
+  report.degree = series.degree();
+  report.target = options.target;
+  report.brillouin_radius = brillouin_radius(regions, origin);
+  report.reference_radius = set.reference_radius;
+  report.gm_set = set.gm;
+  report.gm_field = set.gm * set.C(0, 0) * coefficient_factor(set.convention, Convention{}, 0, 0);
+  for (const auto& region : regions)
+    report.gm_mesh += gravitational_constant * region.density * volume_moments(region.mesh).volume;
+  report.faces = long(exact.face_count());
+  report.samples = options.samples;
+  add_consistency_warnings(regions, set, report);
+  if (!given.origin_known)
+    report.notes.push_back(fmt::format(
+        "the set's origin is the centre of mass, whose place in the mesh frame the set does not record: "
+        "taken as the mesh's centre of mass ({:.9g}, {:.9g}, {:.9g}) m.",
+        set.origin_in_mesh.x(), set.origin_in_mesh.y(), set.origin_in_mesh.z()));
+
+  const std::vector<Eigen::Vector3d> directions = fibonacci_directions(options.samples);
+  std::vector<Eigen::Vector3d> points;
+  std::vector<size_t> shell_of;
+  for (const double factor : options.radius_factors) {
+    ShellResult shell;
+    shell.label = fmt::format("{:g} R_B", factor);
+    shell.value = factor;
+    for (const auto& u : directions) {
+      points.push_back(origin + factor * report.brillouin_radius * u);
+      shell_of.push_back(report.shells.size());
+    }
+    report.shells.push_back(shell);
+  }
+  if (!options.altitudes.empty()) {
+    std::vector<double> surface(directions.size());
+    parallel_rows(long(directions.size()), options.threads, [&](long i) {
+      surface[size_t(i)] = outermost_crossing(regions, origin, directions[size_t(i)]);
+    });
+    const long missed = long(std::count(surface.begin(), surface.end(), 0.0));
+    if (missed > 0)
+      report.warnings.push_back(
+          fmt::format("{} of {} sample directions from the expansion origin do not meet the "
+                      "surface; altitude shells leave them out.",
+                      missed, directions.size()));
+    for (const double h : options.altitudes) {
+      ShellResult shell;
+      shell.label = fmt::format("h = {:g} m", h);
+      shell.altitude = true;
+      shell.value = h;
+      for (size_t i = 0; i < directions.size(); ++i) {
+        if (surface[i] == 0) continue;
+        points.push_back(origin + (surface[i] + h) * directions[i]);
+        shell_of.push_back(report.shells.size());
+      }
+      report.shells.push_back(shell);
+    }
+  }
+
+  // errors[i * (degree + 1) + L]: relative acceleration error of point i at truncation degree L.
+  const size_t levels = size_t(report.degree) + 1;
+  std::vector<double> errors(points.size() * levels, 0.0);
+  std::vector<std::string> failures(points.size());
+  parallel_rows(long(points.size()), options.threads, [&](long i) {
+    try {
+      const Eigen::Vector3d& p = points[size_t(i)];
+      const Eigen::Vector3d reference = set.axes_in_mesh * exact.evaluate(p).acceleration;
+      const std::vector<FieldValue> sums = series.partial_sums(to_set_frame(set, p));
+      for (size_t L = 0; L < levels; ++L)
+        errors[size_t(i) * levels + L] = (sums[L].acceleration - reference).norm() / reference.norm();
+    } catch (const Error& e) {
+      failures[size_t(i)] = e.what();
+    }
+  });
+  for (size_t i = 0; i < points.size(); ++i)
+    if (!failures[i].empty()) throw ConventionError(fmt::format("sample point {}: {}", i + 1, failures[i]));
+
+  for (auto& shell : report.shells) {
+    shell.max_error.assign(levels, 0.0);
+    shell.rms_error.assign(levels, 0.0);
+    shell.radius_min = std::numeric_limits<double>::infinity();
+  }
+  for (size_t i = 0; i < points.size(); ++i) {
+    ShellResult& shell = report.shells[shell_of[i]];
+    const double r = (points[i] - origin).norm();
+    shell.points += 1;
+    shell.radius_min = std::min(shell.radius_min, r);
+    shell.radius_max = std::max(shell.radius_max, r);
+    if (r < report.brillouin_radius * (1.0 - 1e-12)) shell.inside_brillouin += 1;
+    for (size_t L = 0; L < levels; ++L) {
+      const double e = errors[i * levels + L];
+      shell.max_error[L] = std::max(shell.max_error[L], e);
+      shell.rms_error[L] += e * e;
+    }
+  }
+  for (auto& shell : report.shells) {
+    if (shell.points == 0) {
+      shell.radius_min = 0;
+      continue;
+    }
+    for (size_t L = 0; L < levels; ++L)
+      shell.rms_error[L] = std::sqrt(shell.rms_error[L] / double(shell.points));
+    shell.best_degree =
+        int(std::min_element(shell.max_error.begin(), shell.max_error.end()) - shell.max_error.begin());
+    for (size_t L = 0; L < levels; ++L)
+      if (shell.max_error[L] <= options.target) {
+        shell.recommended_degree = int(L);
+        break;
+      }
+    if (shell.inside_brillouin > 0)
+      report.warnings.push_back(fmt::format(
+          "shell '{}': {} of {} points lie inside the Brillouin sphere (r < {:.9g} m), where the series may "
+          "diverge; there the error need not fall with degree and a higher degree can be worse.",
+          shell.label, shell.inside_brillouin, shell.points, report.brillouin_radius));
+    if (shell.recommended_degree < 0)
+      report.warnings.push_back(
+          fmt::format("shell '{}': the target {:.1e} is not met up to degree {} (best {:.2e} "
+                      "at degree {}).",
+                      shell.label, options.target, report.degree, shell.max_error[size_t(shell.best_degree)],
+                      shell.best_degree));
+  }
+  return report;
+}
+
+std::string format_validation_text(const ValidationReport& report) {
+  std::string out;
+  out += "polystokes validate: series against exact constant-density polyhedron gravity\n";
+  out += fmt::format(
+      "  degree {}, reference radius {:.9g} m, Brillouin radius R_B {:.9g} m (about the expansion "
+      "origin)\n",
+      report.degree, report.reference_radius, report.brillouin_radius);
+  out += fmt::format("  GM set {:.12g}, mesh {:.12g} m^3 s^-2; {} faces; {} sample directions per shell\n",
+                     report.gm_set, report.gm_mesh, report.faces, report.samples);
+  out +=
+      "  error = largest |a_series - a_exact| / |a_exact| over the shell's points, series truncated at "
+      "degree L\n\n";
+
+  // Rows: all degrees up to 40, else a thinned set that keeps the ends and every recommended degree.
+  std::vector<int> rows;
+  const int step = report.degree <= 40 ? 1 : (report.degree + 29) / 30;
+  for (int L = 0; L <= report.degree; ++L) {
+    bool keep = L % step == 0 || L == report.degree || L <= 4;
+    for (const auto& shell : report.shells) keep = keep || shell.recommended_degree == L;
+    if (keep) rows.push_back(L);
+  }
+  out += fmt::format("  {:>6}", "degree");
+  for (const auto& shell : report.shells) out += fmt::format(" {:>11}", shell.label);
+  out += "\n";
+  for (const int L : rows) {
+    out += fmt::format("  {:>6}", L);
+    for (const auto& shell : report.shells) {
+      const bool mark = shell.recommended_degree == L;
+      out += fmt::format(" {:>10.2e}{}", shell.max_error[size_t(L)], mark ? "*" : " ");
+    }
+    out += "\n";
+  }
+  out += fmt::format("  (* = recommended: lowest degree meeting the target {:.1e})\n\n", report.target);
+
+  out += fmt::format("  {:<12} {:>23} {:>12} {:>12} {:>16}\n", "shell", "radius [m]", "inside R_B",
+                     "recommended", "error there");
+  for (const auto& shell : report.shells) {
+    const std::string radius = shell.radius_max - shell.radius_min <= 1e-9 * shell.radius_max
+                                   ? fmt::format("{:.6g}", shell.radius_min)
+                                   : fmt::format("{:.6g}..{:.6g}", shell.radius_min, shell.radius_max);
+    const std::string inside = fmt::format("{}/{}", shell.inside_brillouin, shell.points);
+    const std::string degree =
+        shell.recommended_degree >= 0 ? fmt::format("{}", shell.recommended_degree) : std::string("none");
+    const double error = shell.recommended_degree >= 0
+                             ? shell.max_error[size_t(shell.recommended_degree)]
+                             : (shell.points ? shell.max_error[size_t(shell.best_degree)] : 0.0);
+    out += fmt::format("  {:<12} {:>23} {:>12} {:>12} {:>16.2e}{}\n", shell.label, radius, inside, degree,
+                       error, shell.inside_brillouin > 0 ? "  WARNING: inside Brillouin sphere" : "");
+  }
+  if (!report.warnings.empty() || !report.notes.empty()) out += "\n";
+  for (const auto& warning : report.warnings) out += "  WARNING: " + warning + "\n";
+  for (const auto& note : report.notes) out += "  note: " + note + "\n";
+  return out;
+}
+
+std::string format_validation_json(const ValidationReport& report) {
+  nlohmann::json j;
+  j["degree"] = report.degree;
+  j["target"] = report.target;
+  j["brillouin_radius_m"] = report.brillouin_radius;
+  j["reference_radius_m"] = report.reference_radius;
+  j["gm_set_m3_s2"] = report.gm_set;
+  j["gm_mesh_m3_s2"] = report.gm_mesh;
+  j["gm_times_c00_m3_s2"] = report.gm_field;
+  j["faces"] = report.faces;
+  j["samples"] = report.samples;
+  j["error_definition"] = "max (and rms) over the shell's points of |a_series(L) - a_exact| / |a_exact|";
+  j["shells"] = nlohmann::json::array();
+  for (const auto& shell : report.shells) {
+    nlohmann::json s;
+    s["label"] = shell.label;
+    s["kind"] = shell.altitude ? "altitude" : "sphere";
+    s[shell.altitude ? "altitude_m" : "radius_factor"] = shell.value;
+    s["radius_min_m"] = shell.radius_min;
+    s["radius_max_m"] = shell.radius_max;
+    s["points"] = shell.points;
+    s["inside_brillouin"] = shell.inside_brillouin;
+    s["recommended_degree"] =
+        shell.recommended_degree >= 0 ? nlohmann::json(shell.recommended_degree) : nlohmann::json();
+    s["best_degree"] = shell.best_degree;
+    s["max_error"] = shell.max_error;
+    s["rms_error"] = shell.rms_error;
+    j["shells"].push_back(s);
+  }
+  j["warnings"] = report.warnings;
+  j["notes"] = report.notes;
+  return j.dump(2) + "\n";
+}
+
+}  // namespace polystokes
