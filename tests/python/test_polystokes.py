@@ -135,3 +135,22 @@ def test_a_mesh_file_in_km_arrives_in_metres():
     km = polystokes.read_mesh(path, "km")
     np.testing.assert_array_equal(km.vertices, metres.vertices * 1000.0)
     assert km.unit == "km"
+
+
+def python_blocks(relative_path):
+    """The ```python blocks of a document of the project."""
+    text = open(os.path.join(os.environ["POLYSTOKES_SOURCE_DIR"], relative_path), encoding="utf-8").read()
+    blocks = []
+    for part in text.split("```python\n")[1:]:
+        blocks.append(part.split("```", 1)[0])
+    return blocks
+
+
+@pytest.mark.parametrize("document", ["docs/python.md", "README.md"])
+def test_the_documented_examples_run(document, tmp_path, monkeypatch):
+    blocks = python_blocks(document)
+    assert blocks, f"{document} has no python example"
+    os.symlink(os.path.join(os.environ["POLYSTOKES_SOURCE_DIR"], "shapes-demo"), tmp_path / "shapes-demo")
+    monkeypatch.chdir(tmp_path)
+    for block in blocks:
+        exec(compile(block, document, "exec"), {})
