@@ -72,11 +72,11 @@ POLYSTOKES_INLINE void step_row(double* re, double* im, const double* coefficien
   double* r = re;
   double* s = im;
   // Orders -1, 0, 1, 2 of the first block from orders 0..3.
-  typedef long long v4i __attribute__((vector_size(32)));
-  const v4i previous = {1, 0, 1, 2};
   const v4 mirror_re = {-weight, 1, 1, 1}, mirror_im = {weight, 1, 1, 1};
   v4 c0 = load(r), cp = load(r + 1), s0 = load(s), sp = load(s + 1);
-  v4 cm = __builtin_shuffle(c0, previous) * mirror_re, sm = __builtin_shuffle(s0, previous) * mirror_im;
+  // Lanes 1, 0, 1, 2 (__builtin_shufflevector: GCC 12 and clang).
+  v4 cm = __builtin_shufflevector(c0, c0, 1, 0, 1, 2) * mirror_re,
+     sm = __builtin_shufflevector(s0, s0, 1, 0, 1, 2) * mirror_im;
   auto block = [&](int b) {
     v4 cre, cim;
     add_block(b, cre, cim);

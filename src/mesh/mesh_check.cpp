@@ -145,7 +145,7 @@ MeshCheck check_closed(Context& c) {
   Tally tally;
   const auto& edges = c.edges();
   for (const auto& [begin, end] : c.runs())
-    if (end - begin == 1) tally.add(edges[begin].face, [&] { return edge_text(edges[begin]); });
+    if (end - begin == 1) tally.add(edges[begin].face, [&, begin = begin] { return edge_text(edges[begin]); });
   return tally.result("closed");
 }
 
