@@ -1,6 +1,7 @@
 #include "cli_common.h"
 
 #include <fmt/format.h>
+#include <fmt/ranges.h>
 #include <unistd.h>
 
 #include <algorithm>
@@ -67,6 +68,7 @@ LengthUnit parse_unit_option(const std::string& text) { return parse_length_unit
 
 MeshReadOptions mesh_read_options(const MeshInputOptions& input) {
   MeshReadOptions read;
+  read.format = input.format;
   read.unit = parse_unit_option(input.unit);
   read.merge_tolerance =
       option_quantity(input.merge_tolerance, QuantityKind::length, read.unit, "--merge-tolerance",
@@ -109,7 +111,7 @@ std::vector<DensityRegion> load_regions(const MeshInputOptions& input, const Glo
 MeshListOptions add_mesh_list_options(CLI::App* cmd, MeshInputOptions& input) {
   MeshListOptions added;
   added.meshes =
-      cmd->add_option("meshes", input.meshes, "Shape mesh(es): .obj, .off, .ply, .stl")->required();
+      cmd->add_option("meshes", input.meshes, "Shape mesh(es): .obj, .off, .ply, .stl, or another format with --format")->required();
   added.densities = cmd->add_option("--density", input.densities,
                                     "Density per mesh (repeat or list, in mesh order; bare: kg/m^3, or with "
                                     "kg/m3, g/cm3)")
@@ -118,10 +120,18 @@ MeshListOptions add_mesh_list_options(CLI::App* cmd, MeshInputOptions& input) {
   return added;
 }
 
-void add_mesh_file_options(CLI::App* cmd, std::string& unit, std::string& merge_tolerance,
+void add_mesh_format_option(CLI::App* cmd, std::string& format) {
+  cmd->add_option("--format", format,
+                  "Mesh file format: " + fmt::format("{}", fmt::join(mesh_format_names(), ", ")) +
+                      " (default: by extension, .obj .off .ply .stl)")
+      ->check(CLI::IsMember(mesh_format_names()));
+}
+
+void add_mesh_file_options(CLI::App* cmd, std::string& unit, std::string& merge_tolerance, std::string& format,
                            const std::string& unit_help) {
   cmd->add_option("--unit", unit, unit_help)->check(CLI::IsMember({"m", "km"}))->capture_default_str();
   add_merge_tolerance_option(cmd, merge_tolerance);
+  add_mesh_format_option(cmd, format);
 }
 
 void add_merge_tolerance_option(CLI::App* cmd, std::string& merge_tolerance) {

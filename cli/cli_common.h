@@ -24,6 +24,7 @@ struct MeshInputOptions {
   std::vector<std::string> densities;  ///< density quantities as given, in mesh order
   std::string unit = "m";              ///< "m" or "km"
   std::string merge_tolerance = "0";   ///< length quantity as given
+  std::string format;                  ///< --format: a mesh format name; empty = by extension
 };
 
 /// The mesh unit and merge tolerance of `input` interpreted.
@@ -47,8 +48,11 @@ struct MeshListOptions {
 /// Registers the positional mesh files "meshes" (required) and --density (a list, one per mesh).
 MeshListOptions add_mesh_list_options(CLI::App* cmd, MeshInputOptions& input);
 
-/// Registers --unit (m or km, default m) with `unit_help`, then --merge-tolerance.
-void add_mesh_file_options(CLI::App* cmd, std::string& unit, std::string& merge_tolerance,
+/// Registers --format (the mesh format by name, for files whose extension does not tell it).
+void add_mesh_format_option(CLI::App* cmd, std::string& format);
+
+/// Registers --unit (m or km, default m) with `unit_help`, then --merge-tolerance and --format.
+void add_mesh_file_options(CLI::App* cmd, std::string& unit, std::string& merge_tolerance, std::string& format,
                            const std::string& unit_help = "Length unit of the mesh files and of every bare "
                                                           "length given here: m or km");
 

@@ -209,7 +209,7 @@ void setup_compute(CLI::App& app, const GlobalOptions& global) {
   add_quantity_option(cmd, "--mass", options->mass, QuantityKind::mass,
                       "Total mass instead of a density (single mesh)");
   add_degree_option(cmd, options->expansion.degree);
-  add_mesh_file_options(cmd, options->input.unit, options->input.merge_tolerance);
+  add_mesh_file_options(cmd, options->input.unit, options->input.merge_tolerance, options->input.format);
   add_expansion_options(cmd, options->expansion);
   add_set_output_options(cmd, options->files);
   add_threads_option(cmd, options->threads);

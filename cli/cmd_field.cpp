@@ -140,7 +140,7 @@ void setup_field(CLI::App& app, const GlobalOptions& global) {
                   "Density per mesh, in mesh order (meshes only; bare: kg/m^3, or with kg/m3, g/cm3)")
       ->check(quantity_syntax(QuantityKind::density))
       ->expected(1, -1);
-  add_mesh_file_options(cmd, options->input.unit, options->input.merge_tolerance);
+  add_mesh_file_options(cmd, options->input.unit, options->input.merge_tolerance, options->input.format);
   cmd->add_option("--degree", options->degree,
                   "Truncate the series at this degree (default: the set's degree)")
       ->check(strict_integer())

@@ -24,6 +24,7 @@ struct InspectOptions {
   std::string mesh;
   std::string unit = "m";
   std::string merge_tolerance = "0";
+  std::string format;  ///< --format; empty = by extension
   std::string density = "1000";
   std::string json;  ///< empty = none, "-" = standard output
 };
@@ -52,6 +53,7 @@ std::string findings_json(const Findings& found, const InspectOptions& options) 
   const Mesh& mesh = found.mesh;
   Json out;
   out["mesh"] = options.mesh;
+  out["format"] = mesh.format;
   out["unit"] = to_string(mesh.unit);
   out["sha256"] = mesh.checksum;
   out["vertices"] = mesh.vertices.rows();
@@ -138,8 +140,8 @@ std::vector<SummaryRow> shape_rows(const Findings& found, LengthUnit unit) {
 void print_findings(std::FILE* out, const Findings& found, const InspectOptions& options) {
   const Mesh& mesh = found.mesh;
   const LengthUnit unit = mesh.unit;
-  fmt::print(out, "mesh {} ({} vertices, {} faces, unit {}, sha256 {})\n", options.mesh, mesh.vertices.rows(),
-             mesh.faces.rows(), to_string(unit), mesh.checksum);
+  fmt::print(out, "mesh {} ({}, {} vertices, {} faces, unit {}, sha256 {})\n", options.mesh, mesh.format,
+             mesh.vertices.rows(), mesh.faces.rows(), to_string(unit), mesh.checksum);
   for (const auto& check : found.report.checks) {
     if (check.passed && check.name == "outward_oriented" && found.report.flipped)
       fmt::print(out, "  check {:<24} ok after reversing every face (the mesh was inside-out)\n", check.name);
@@ -166,7 +168,7 @@ void print_findings(std::FILE* out, const Findings& found, const InspectOptions&
 
 void run_inspect(const InspectOptions& options, const GlobalOptions& global) {
   if (!options.json.empty()) check_output_path(options.json);
-  const MeshReadOptions read = mesh_read_options({{options.mesh}, {}, options.unit, options.merge_tolerance});
+  const MeshReadOptions read = mesh_read_options({{options.mesh}, {}, options.unit, options.merge_tolerance, options.format});
   Findings found;
   found.density = option_quantity(options.density, QuantityKind::density, read.unit, "--density", Bound::positive);
   found.mesh = read_mesh(options.mesh, read);
@@ -197,8 +199,8 @@ void setup_inspect(CLI::App& app, const GlobalOptions& global) {
       "An inside-out mesh is reversed with a notice. A failed check is printed with its first offender and\n"
       "the command exits with code 2; with -q only that error is printed.\n"
       "Example: polystokes inspect shapes-demo/varnek.obj --unit km --density 1900 --json varnek-mesh.json");
-  cmd->add_option("mesh", options->mesh, "Shape mesh (.obj, .off, .ply, .stl)")->required();
-  add_mesh_file_options(cmd, options->unit, options->merge_tolerance,
+  cmd->add_option("mesh", options->mesh, "Shape mesh (.obj, .off, .ply, .stl; other formats with --format)")->required();
+  add_mesh_file_options(cmd, options->unit, options->merge_tolerance, options->format,
                         "Length unit of the mesh file: m or km");
   add_quantity_option(cmd, "--density", options->density, QuantityKind::density, "Bulk density")
       ->capture_default_str();

@@ -17,6 +17,7 @@ struct ReportOptions {
   std::string mesh;
   std::string unit = "m";
   std::string merge_tolerance = "0";
+  std::string format;  ///< --format; empty = by extension
   std::string density;  ///< empty: from the set
   double map_radius = 1.2;
   std::string compare;
@@ -37,7 +38,7 @@ void run_report(const ReportOptions& options, bool unit_given, const GlobalOptio
         input.set, sha256_file_hex(options.mesh),
         unit_given ? std::optional(parse_unit_option(options.unit)) : std::nullopt, options.mesh);
     input.mesh = load_checked_mesh(
-        options.mesh, mesh_read_options({{options.mesh}, {}, to_string(choice.unit), options.merge_tolerance}),
+        options.mesh, mesh_read_options({{options.mesh}, {}, to_string(choice.unit), options.merge_tolerance, options.format}),
         global);
     if (!unit_given)
       print_notice(global,
@@ -75,7 +76,7 @@ void setup_report(CLI::App& app, const GlobalOptions& global) {
   cmd->add_option("set", options->set, "Coefficient file (our text or JSON format; - for stdin)")->required();
   cmd->add_option("--mesh", options->mesh,
                   "Shape mesh of the body (.obj, .off, .ply, .stl), same frame as the set");
-  add_mesh_file_options(cmd, options->unit, options->merge_tolerance,
+  add_mesh_file_options(cmd, options->unit, options->merge_tolerance, options->format,
                         "Length unit of the mesh file: m or km (default: the unit the set records for it)");
   add_quantity_option(cmd, "--density", options->density, QuantityKind::density,
                       "Density for the mesh's mass properties (default: from the set)");

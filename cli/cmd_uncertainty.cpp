@@ -250,7 +250,7 @@ void setup_uncertainty(CLI::App& app, const GlobalOptions& global) {
   // There is no --gm/--mass alternative here: every mesh needs its density.
   add_mesh_list_options(cmd, options->input).densities->required();
   add_degree_option(cmd, options->expansion.degree);
-  add_mesh_file_options(cmd, options->input.unit, options->input.merge_tolerance,
+  add_mesh_file_options(cmd, options->input.unit, options->input.merge_tolerance, options->input.format,
                         "Length unit of the mesh files and of every length option: m or km");
   add_expansion_options(cmd, options->expansion);
   cmd->add_option("--samples", options->samples, "Number of Monte Carlo samples (>= 2)")

@@ -23,6 +23,7 @@ struct ValidateOptions {
   std::string density;  ///< empty: the densities recorded in the set
   std::string unit = "m";
   std::string merge_tolerance = "0";
+  std::string format;  ///< --format of the mesh argument; empty = by extension
   std::vector<double> radii = ValidationOptions{}.radius_factors;
   std::vector<std::string> altitudes;  ///< length quantities as given
   double target = ValidationOptions{}.target;
@@ -39,19 +40,20 @@ std::vector<DensityRegion> load_regions(const ValidateOptions& options, LengthUn
                                            "--merge-tolerance", Bound::non_negative)
                                .value;
   // The tolerance in a mesh file's own unit, as the reader takes it.
-  const auto read_options = [tolerance](LengthUnit mesh_unit) {
-    return MeshReadOptions{mesh_unit, tolerance / meters_per(mesh_unit)};
+  // --format names the format of the mesh argument; recorded region meshes go by their extension.
+  const auto read_options = [tolerance](LengthUnit mesh_unit, const std::string& format = {}) {
+    return MeshReadOptions{mesh_unit, tolerance / meters_per(mesh_unit), format};
   };
   std::vector<DensityRegion> regions;
   if (!options.density.empty()) {
     const Quantity density =
         option_quantity(options.density, QuantityKind::density, unit, "--density", Bound::positive);
-    regions.push_back({load_checked_mesh(options.mesh, read_options(unit), global), density.value});
+    regions.push_back({load_checked_mesh(options.mesh, read_options(unit, options.format), global), density.value});
     return regions;
   }
   if (set.regions.empty())
     throw ConventionError(options.set + " records no density regions: give --density for " + options.mesh);
-  regions.push_back({load_checked_mesh(options.mesh, read_options(unit), global), set.regions[0].density});
+  regions.push_back({load_checked_mesh(options.mesh, read_options(unit, options.format), global), set.regions[0].density});
   const std::filesystem::path set_dir = std::filesystem::path(options.set).parent_path();
   for (size_t i = 1; i < set.regions.size(); ++i) {
     const Region& region = set.regions[i];
@@ -135,6 +137,7 @@ void setup_validate(CLI::App& app, const GlobalOptions& global) {
              "recorded in the set)")
           ->check(CLI::IsMember({"m", "km"}));
   add_merge_tolerance_option(cmd, options->merge_tolerance);
+  add_mesh_format_option(cmd, options->format);
   cmd->add_option("--radii", options->radii, "Sphere radii as multiples of R_B, comma-separated")
       ->delimiter(',')
       ->check(strict_number())

@@ -6,7 +6,7 @@ cd "$(dirname "$0")/.."
 build_dir="${1:-build}"
 shift || true
 
-packages=(cmake make g++ pkg-config libeigen3-dev libtinyobjloader-dev libcgal-dev libgmp-dev libmpfr-dev
+packages=(cmake make g++ pkg-config libeigen3-dev libcgal-dev libgmp-dev libmpfr-dev
           libcli11-dev catch2 libgsl-dev libboost-dev nlohmann-json3-dev libfmt-dev libssl-dev libtbb-dev
           pybind11-dev python3-dev python3-numpy python3-pytest python3-scipy)
 missing=()

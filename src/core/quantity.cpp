@@ -109,13 +109,19 @@ std::string base_unit(QuantityKind kind) {
   return "";
 }
 
-std::optional<double> parse_strict_number(std::string_view text) {
-  if (text.empty() || number_prefix(text) != text.size()) return std::nullopt;
+NumberStatus read_strict_number(std::string_view text, double& value) {
+  if (text.empty() || number_prefix(text) != text.size()) return NumberStatus::malformed;
   if (text.front() == '+') text.remove_prefix(1);  // std::from_chars takes '-' only
-  double value = 0;
   const auto result = std::from_chars(text.data(), text.data() + text.size(), value);
-  if (result.ec != std::errc() || result.ptr != text.data() + text.size() || !std::isfinite(value))
-    return std::nullopt;
+  if (result.ec == std::errc::result_out_of_range || (result.ec == std::errc() && !std::isfinite(value)))
+    return NumberStatus::out_of_range;
+  if (result.ec != std::errc() || result.ptr != text.data() + text.size()) return NumberStatus::malformed;
+  return NumberStatus::ok;
+}
+
+std::optional<double> parse_strict_number(std::string_view text) {
+  double value = 0;
+  if (read_strict_number(text, value) != NumberStatus::ok) return std::nullopt;
   return value;
 }
 

@@ -28,6 +28,7 @@ struct Mesh {
   std::string source;                ///< file name it was read from (or a label for generated meshes)
   LengthUnit unit = LengthUnit::meter;  ///< unit of the source file, echoed in outputs
   std::string checksum;              ///< SHA-256 (hex) of the source file bytes, empty for generated meshes
+  std::string format;                ///< file format it was read as ("obj", "off", ...), empty if generated
   std::vector<std::string> notices;  ///< what import and checks changed (merged vertices, flipped orientation)
 };
 

@@ -33,6 +33,14 @@ std::string base_unit(QuantityKind kind);
 /// double. O(length).
 std::optional<double> parse_strict_number(std::string_view text);
 
+/// Outcome of read_strict_number.
+enum class NumberStatus { ok, malformed, out_of_range };
+
+/// The strict number rule of parse_strict_number with the reason of a refusal: malformed (not of the
+/// rule's shape) or out_of_range (of the shape, but beyond the range of double). `value` is set on ok only.
+/// The one implementation of the rule: parse_strict_number and the text scanner (src/io/text_scanner.h) use it.
+NumberStatus read_strict_number(std::string_view text, double& value);
+
 /// A value as parsed: in the kind's base unit, with what was written.
 struct Quantity {
   double value = 0;       ///< base unit of the kind (lengths in m)
