@@ -1,5 +1,5 @@
-// libFuzzer target: arbitrary bytes as a mesh file of one format (POLYSTOKES_FUZZ_EXTENSION) through
-// read_mesh. Every outcome but a mesh or a polystokes::Error is a finding (crash, sanitizer report, other
+// libFuzzer target: arbitrary bytes as a mesh file of one format (POLYSTOKES_FUZZ_EXTENSION, and
+// POLYSTOKES_FUZZ_FORMAT for a format chosen by name only) through read_mesh. Every outcome but a mesh or a polystokes::Error is a finding (crash, sanitizer report, other
 // exception, hang, allocation beyond the limit).
 #include <unistd.h>
 
@@ -13,6 +13,9 @@
 
 #ifndef POLYSTOKES_FUZZ_EXTENSION
 #error "define POLYSTOKES_FUZZ_EXTENSION, e.g. \".off\""
+#endif
+#ifndef POLYSTOKES_FUZZ_FORMAT
+#define POLYSTOKES_FUZZ_FORMAT ""
 #endif
 
 namespace {
@@ -45,7 +48,9 @@ extern "C" int LLVMFuzzerTestOneInput(const std::uint8_t* data, std::size_t size
     if (!out) std::abort();
   }
   try {
-    const polystokes::Mesh mesh = polystokes::read_mesh(input.path);
+    polystokes::MeshReadOptions options;
+    options.format = POLYSTOKES_FUZZ_FORMAT;
+    const polystokes::Mesh mesh = polystokes::read_mesh(input.path, options);
     // What the reader returns must be usable as it promises: every face index names a vertex.
     if (mesh.faces.size() > 0 && (mesh.faces.minCoeff() < 0 || mesh.faces.maxCoeff() >= mesh.vertices.rows()))
       std::abort();

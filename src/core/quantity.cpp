@@ -110,8 +110,14 @@ std::string base_unit(QuantityKind kind) {
 }
 
 NumberStatus read_strict_number(std::string_view text, double& value) {
-  if (text.empty() || number_prefix(text) != text.size()) return NumberStatus::malformed;
-  if (text.front() == '+') text.remove_prefix(1);  // std::from_chars takes '-' only
+  if (!text.empty() && text.front() == '+') text.remove_prefix(1);  // std::from_chars takes '-' only
+  if (text.empty() || number_prefix(text) != text.size()) {
+    // Spellings of infinity and NaN are refused with that reason.
+    double special = 0;
+    const auto [end, ec] = std::from_chars(text.data(), text.data() + text.size(), special);
+    const bool spelled = ec == std::errc() && end == text.data() + text.size() && !std::isfinite(special);
+    return spelled ? NumberStatus::not_finite : NumberStatus::malformed;
+  }
   const auto result = std::from_chars(text.data(), text.data() + text.size(), value);
   if (result.ec == std::errc::result_out_of_range || (result.ec == std::errc() && !std::isfinite(value)))
     return NumberStatus::out_of_range;

@@ -9,6 +9,7 @@
 #include "polystokes/core/errors.h"
 #include "polystokes/io/output_file.h"
 #include "polystokes/core/quantity.h"
+#include "io/text_scanner.h"
 
 namespace polystokes {
 
@@ -82,15 +83,11 @@ PointList parse_points(const std::string& text, const std::string& source_name, 
   list.unit = bare_unit;
   std::vector<double> coordinates;
   size_t expected_fields = 0;  // 0 until the first header or data line
-  long line_number = 0;
-  size_t position = 0;
-  while (position <= text.size()) {
-    const size_t end = std::min(text.find('\n', position), text.size());
-    std::string_view line(text.data() + position, end - position);
-    position = end + 1;
-    ++line_number;
-    if (const size_t hash = line.find('#'); hash != std::string_view::npos) line = line.substr(0, hash);
-    line = trim(line);
+  TextScanner in(text, source_name);
+  while (in.next_line()) {
+    const long line_number = in.line_number();
+    in.cut_comment('#');
+    const std::string_view line = trim(in.rest());
     if (line.empty()) continue;
     const auto fields = split_fields(line);
     double first = 0;

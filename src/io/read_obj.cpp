@@ -53,41 +53,24 @@ void check_keyword(TextScanner& in, std::string_view word) {
                         word));
 }
 
-double coordinate(TextScanner& in, std::string_view token) {
-  double value = 0;
-  switch (read_strict_number(token, value)) {
-    case NumberStatus::ok:
-      return value;
-    case NumberStatus::out_of_range: {
-      // The rule's shape but beyond double, or a spelling of infinity or NaN (reported with the vertex).
-      return std::numeric_limits<double>::infinity();
-    }
-    case NumberStatus::malformed:
-      break;
-  }
-  double special = 0;
-  const auto [end, ec] = std::from_chars(token.data(), token.data() + token.size(), special);
-  if (ec == std::errc() && end == token.data() + token.size() && !std::isfinite(special)) return special;
-  in.fail(fmt::format("cannot parse vertex coordinate '{}'", token));
-}
-
 void read_vertex(TextScanner& in, PolygonSoup& soup) {
   std::string_view tokens[3];
   double p[3];
+  NumberStatus status[3];
   for (int k = 0; k < 3; ++k) {
     tokens[k] = in.token();
     if (tokens[k].empty())
       in.fail(fmt::format("vertex {} has {} coordinates, expected 3", soup.vertex_count() + 1, k));
-    p[k] = coordinate(in, tokens[k]);
+    status[k] = read_strict_number(tokens[k], p[k]);
+    if (status[k] == NumberStatus::malformed) in.fail(fmt::format("cannot parse vertex coordinate '{}'", tokens[k]));
+    if (status[k] == NumberStatus::out_of_range)
+      in.fail(fmt::format("vertex coordinate '{}' is not representable as a double", tokens[k]));
   }
-  for (int k = 0; k < 3; ++k)
-    if (!std::isfinite(p[k])) {
-      double value = 0;
-      if (read_strict_number(tokens[k], value) == NumberStatus::out_of_range)
-        in.fail(fmt::format("vertex coordinate '{}' is not representable as a double", tokens[k]));
+  for (int k = 0; k < 3; ++k) {
+    if (status[k] == NumberStatus::not_finite)
       in.fail(fmt::format("vertex {} has a non-finite coordinate ({} {} {})", soup.vertex_count() + 1, tokens[0],
                           tokens[1], tokens[2]));
-    }
+  }
   soup.add_vertex(p[0], p[1], p[2]);
 }
 

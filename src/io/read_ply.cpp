@@ -197,11 +197,12 @@ struct Sink {
                                 where, item + 1, element.name, value, limit));
 }
 
-void add_index(const std::string& where, const Sink& sink, std::int64_t item, double value) {
+/// Appends a face's vertex index, or returns the problem (empty when appended).
+std::string add_index(const Sink& sink, std::int64_t item, double value) {
   if (!(value >= 0 && value < static_cast<double>(sink.vertices)))
-    throw FormatError(fmt::format("{}face {} refers to vertex {}, but the file has {} vertices", where, item + 1,
-                                  value, sink.vertices));
+    return fmt::format("face {} refers to vertex {}, but the file has {} vertices", item + 1, value, sink.vertices);
   sink.soup.corners.push_back(static_cast<int>(value));
+  return {};
 }
 
 void read_ascii(TextScanner& in, const Header& header, Sink& sink) {
@@ -234,11 +235,12 @@ void read_ascii(TextScanner& in, const Header& header, Sink& sink) {
           if (property.role != Role::indices) continue;
           if (entry != std::floor(entry))
             in.fail(fmt::format("face {}: vertex index {} is not a whole number", item + 1, entry));
-          add_index(fmt::format("{}:{}: ", in.path(), in.line_number()), sink, item, entry);
+          if (const std::string problem = add_index(sink, item, entry); !problem.empty()) in.fail(problem);
         }
         if (property.role == Role::indices) sink.soup.end_polygon();
       }
-      in.expect_line_end(fmt::format("item {} of element '{}'", item + 1, element.name).c_str());
+      if (!in.at_line_end())
+        in.expect_line_end(fmt::format("item {} of element '{}'", item + 1, element.name).c_str());
       if (element.vertex) sink.soup.add_vertex(sink.point[0], sink.point[1], sink.point[2]);
     }
   }
@@ -307,7 +309,9 @@ void read_binary(const std::string& path, std::string_view bytes, const Header& 
         const auto length = static_cast<std::int64_t>(*read);
         for (std::int64_t k = 0; k < length; ++k) {
           const double entry = *in.value(property.type);
-          if (property.role == Role::indices) add_index(where, sink, item, entry);
+          if (property.role != Role::indices) continue;
+          if (const std::string problem = add_index(sink, item, entry); !problem.empty())
+            throw format_error(path, 0, problem);
         }
         if (property.role == Role::indices) sink.soup.end_polygon();
       }

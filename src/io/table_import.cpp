@@ -13,6 +13,8 @@
 #include "polystokes/core/errors.h"
 #include "polystokes/io/output_file.h"
 #include "polystokes/sets/transforms.h"
+#include "polystokes/core/quantity.h"
+#include "io/text_scanner.h"
 
 namespace polystokes {
 
@@ -73,29 +75,27 @@ std::vector<std::string> split_fields(const std::string& line, const std::string
   return fields;
 }
 
-double parse_real(std::string field, const char* what, const std::string& source, long number) {
-  const std::string original = field;
-  for (char& c : field)
-    if (c == 'D' || c == 'd') c = 'e';  // Fortran double-precision exponent
-  const char* begin = field.data();
-  const char* end = begin + field.size();
-  if (begin != end && *begin == '+') ++begin;
+double parse_real(std::string_view field, const char* what, const std::string& source, long number) {
+  // Tables may carry Fortran double-precision exponents (1.0D+00); otherwise the strict number rule.
+  std::string text(field);
+  for (char& c : text)
+    if (c == 'D' || c == 'd') c = 'e';
   double value = 0;
-  const auto result = std::from_chars(begin, end, value);
-  if (result.ec != std::errc() || result.ptr != end || field.empty())
-    throw format_error(source, number, fmt::format("{} '{}' is not a number", what, original));
-  if (!std::isfinite(value))
-    throw format_error(source, number, fmt::format("{} '{}' is not finite", what, original));
-  return value;
+  switch (read_strict_number(text, value)) {
+    case NumberStatus::ok:
+      return value;
+    case NumberStatus::malformed:
+      break;
+    case NumberStatus::not_finite:
+    case NumberStatus::out_of_range:
+      throw format_error(source, number, fmt::format("{} '{}' is not finite", what, field));
+  }
+  throw format_error(source, number, fmt::format("{} '{}' is not a number", what, field));
 }
 
-long parse_index(const std::string& field, const char* what, const std::string& source, long number) {
-  const char* begin = field.data();
-  const char* end = begin + field.size();
-  if (begin != end && *begin == '+') ++begin;
+long parse_index(std::string_view field, const char* what, const std::string& source, long number) {
   long value = 0;
-  const auto result = std::from_chars(begin, end, value);
-  if (result.ec != std::errc() || result.ptr != end || field.empty())
+  if (!parse_integer_token(field, value))
     throw format_error(source, number, fmt::format("{} '{}' is not an integer", what, field));
   return value;
 }
@@ -221,16 +221,11 @@ CoefficientSet parse_table(const std::string& text, const std::string& source_na
     long line = 0;
   };
   std::map<std::pair<long, long>, Row> rows;
-  long line_number = 0;
-  size_t position = 0;
-  while (position < text.size()) {
-    size_t end = text.find('\n', position);
-    if (end == std::string::npos) end = text.size();
-    std::string line = text.substr(position, end - position);
-    position = end + 1;
-    ++line_number;
+  TextScanner in(text, source_name);
+  while (in.next_line()) {
+    const long line_number = in.line_number();
     if (line_number <= options.skip_lines) continue;
-    if (!line.empty() && line.back() == '\r') line.pop_back();
+    std::string line(in.rest());
     if (!options.comment.empty()) {
       const size_t at = line.find(options.comment);
       if (at != std::string::npos) line.erase(at);

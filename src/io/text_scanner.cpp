@@ -71,6 +71,7 @@ double TextScanner::number(const char* what) {
       return value;
     case NumberStatus::out_of_range:
       fail(fmt::format("{} '{}' is out of the range of double", what, text));
+    case NumberStatus::not_finite:
     case NumberStatus::malformed:
       break;
   }
