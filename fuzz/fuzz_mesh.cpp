@@ -1,6 +1,7 @@
 // libFuzzer target: arbitrary bytes as a mesh file of one format (POLYSTOKES_FUZZ_EXTENSION, and
-// POLYSTOKES_FUZZ_FORMAT for a format chosen by name only) through read_mesh. Every outcome but a mesh or a polystokes::Error is a finding (crash, sanitizer report, other
-// exception, hang, allocation beyond the limit).
+// POLYSTOKES_FUZZ_FORMAT for a format chosen by name only) through read_mesh. Every outcome but a mesh or a
+// polystokes::Error is a finding (crash, sanitizer report, other exception, hang, allocation beyond the
+// limit).
 #include <unistd.h>
 
 #include <cstdint>

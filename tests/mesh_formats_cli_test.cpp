@@ -1,7 +1,8 @@
 // --format through the CLI: the bare vertex-facet layout is read when named and refused by extension alone,
 // every command that reads a mesh accepts the option, and the chosen format is echoed.
-#include <catch2/catch.hpp>
 #include <fmt/format.h>
+
+#include <catch2/catch.hpp>
 
 #include "polystokes/io/coefficient_file.h"
 #include "polystokes/io/mesh_io.h"
@@ -26,9 +27,11 @@ struct TwoLayouts {
     write_obj(body, obj, LengthUnit::meter);
     std::string text = fmt::format("{} {}\n", body.vertices.rows(), body.faces.rows());
     for (Eigen::Index v = 0; v < body.vertices.rows(); ++v)
-      text += fmt::format("{} {} {} {}\n", v + 1, body.vertices(v, 0), body.vertices(v, 1), body.vertices(v, 2));
+      text +=
+          fmt::format("{} {} {} {}\n", v + 1, body.vertices(v, 0), body.vertices(v, 1), body.vertices(v, 2));
     for (Eigen::Index f = 0; f < body.faces.rows(); ++f)
-      text += fmt::format("{} {} {} {}\n", f + 1, body.faces(f, 0) + 1, body.faces(f, 1) + 1, body.faces(f, 2) + 1);
+      text += fmt::format("{} {} {} {}\n", f + 1, body.faces(f, 0) + 1, body.faces(f, 1) + 1,
+                          body.faces(f, 2) + 1);
     write_text(tab, text);
   }
 };
@@ -39,11 +42,13 @@ TEST_CASE("compute --format vertex-facet gives the coefficients of the same body
           "[mesh_formats_cli]") {
   const TwoLayouts files;
   const std::string a = files.dir + "/a.txt", b = files.dir + "/b.txt";
-  const CommandResult from_obj = run_cli("compute " + shell_arg(files.obj) + " --density 2000 --degree 6 -o " + shell_arg(a));
+  const CommandResult from_obj =
+      run_cli("compute " + shell_arg(files.obj) + " --density 2000 --degree 6 -o " + shell_arg(a));
   INFO(from_obj.output);
   REQUIRE(from_obj.exit_code == 0);
-  const CommandResult from_tab = run_cli("compute " + shell_arg(files.tab) +
-                                         " --format vertex-facet --density 2000 --degree 6 -o " + shell_arg(b));
+  const CommandResult from_tab =
+      run_cli("compute " + shell_arg(files.tab) + " --format vertex-facet --density 2000 --degree 6 -o " +
+              shell_arg(b));
   INFO(from_tab.output);
   REQUIRE(from_tab.exit_code == 0);
   // Same doubles in, same numerics: identical coefficients (a bitwise invariance, common practice).
@@ -57,9 +62,10 @@ TEST_CASE("a mesh whose extension does not name its format is refused without --
   const TwoLayouts files;
   const CommandResult refused = run_cli("inspect " + shell_arg(files.tab));
   CHECK(refused.exit_code == 2);
-  CHECK(refused.output == "polystokes: error: " + files.tab +
-                              ": unknown mesh format '.tab': give the format with --format (obj, off, ply, stl, "
-                              "vertex-facet)\n");
+  CHECK(refused.output ==
+        "polystokes: error: " + files.tab +
+            ": unknown mesh format '.tab': give the format with --format (obj, off, ply, stl, "
+            "vertex-facet)\n");
   const CommandResult unknown = run_cli("inspect " + shell_arg(files.tab) + " --format tab");
   CHECK(unknown.exit_code == 1);
 

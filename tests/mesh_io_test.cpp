@@ -149,8 +149,8 @@ TEST_CASE("write_obj then read_mesh returns the identical doubles (shortest roun
 
 TEST_CASE("OBJ coordinates equal the C library's correctly rounded strtod (ISO C 7.22.1.3) bit for bit",
           "[mesh_io]") {
-  // Random doubles over many magnitudes, printed in shortest form; tinyobjloader's own parser misses
-  // about half of these by an ulp, so this fails if its numbers were used.
+  // Random doubles over many magnitudes, printed in shortest form; a parser that is not correctly rounded
+  // (tinyobjloader's, used before, missed about half of these by an ulp) fails this.
   std::mt19937_64 random(20240611);
   std::uniform_real_distribution<double> mantissa(-1, 1);
   std::uniform_int_distribution<int> exponent(-30, 30);
@@ -378,7 +378,7 @@ TEST_CASE("Unreadable mesh files give one-line errors naming the file and the pr
                             path + ":2:", "cannot parse vertex coordinate 'zero'");
   }
   SECTION("a vertex keyword in capitals names the line instead of surfacing later as an index error") {
-    // Wavefront OBJ keywords are lower case ("v x y z"); tinyobjloader skips "V", which used to leave face 4
+    // Wavefront OBJ keywords are lower case ("v x y z"); skipping "V" (as tinyobjloader did) would leave face 4
     // pointing at a vertex that was never read.
     const std::string path = temp_directory() + "/capital.obj";
     write_text(path, "v 0 0 0\nv 1 0 0\nv 0 1 0\nV 0 0 1\nf 1 3 2\nf 1 2 4\nf 1 4 3\nf 2 3 4\n");

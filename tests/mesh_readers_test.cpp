@@ -1,20 +1,18 @@
-// The mesh readers (src/io/read_*.cpp): every ordinary variant of the formats reads to the same mesh, lying
-// counts and malformed records are refused with one-line errors, and the bare vertex-facet layout reads to the
-// same mesh as OBJ.
-// Record layouts: OFF as in the Geomview manual ("OFF files", Geomview 1.9 documentation, from memory; the
-// binary form stores big-endian 32-bit counts and floats), PLY as in G. Turk, "The PLY Polygon File Format"
-// (1994), binary STL as in the 3D Systems StereoLithography Interface Specification (1989): an 80-byte
-// header, a 32-bit facet count and 50 bytes per facet.
-#include <catch2/catch.hpp>
-
+// The mesh readers (src/io/mesh_formats/*.cpp): every ordinary variant of the formats reads to the same mesh, lying
+// counts and malformed records are refused with one-line errors, and the bare vertex-facet layout reads to
+// the same mesh as OBJ. Record layouts: OFF as in the Geomview manual ("OFF files", Geomview 1.9
+// documentation, from memory; the binary form stores big-endian 32-bit counts and floats), PLY as in G. Turk,
+// "The PLY Polygon File Format" (1994), binary STL as in the 3D Systems StereoLithography Interface
+// Specification (1989): an 80-byte header, a 32-bit facet count and 50 bytes per facet.
 #include <Eigen/Geometry>
+#include <catch2/catch.hpp>
 #include <cmath>
 #include <cstdint>
 #include <cstring>
 
+#include "io/mesh_format_registry.h"
 #include "polystokes/core/errors.h"
 #include "polystokes/io/mesh_io.h"
-#include "io/mesh_formats.h"
 #include "test_support.h"
 
 using namespace polystokes;
@@ -23,7 +21,8 @@ using namespace polystokes::test;
 namespace {
 
 // The regular octahedron with vertices at distance 1 on the axes, faces outward: volume 4/3 (elementary).
-const double octahedron_vertices[6][3] = {{1, 0, 0}, {-1, 0, 0}, {0, 1, 0}, {0, -1, 0}, {0, 0, 1}, {0, 0, -1}};
+const double octahedron_vertices[6][3] = {{1, 0, 0},  {-1, 0, 0}, {0, 1, 0},
+                                          {0, -1, 0}, {0, 0, 1},  {0, 0, -1}};
 const int octahedron_faces[8][3] = {{0, 2, 4}, {2, 1, 4}, {1, 3, 4}, {3, 0, 4},
                                     {2, 0, 5}, {1, 2, 5}, {3, 1, 5}, {0, 3, 5}};
 
@@ -42,13 +41,15 @@ void require_octahedron(const Mesh& mesh) {
     for (int k = 0; k < 3; ++k) CHECK(mesh.faces(f, k) == octahedron_faces[f][k]);
 }
 
-std::string off_ascii(const std::string& keyword, const std::string& vertex_suffix, const std::string& face_suffix) {
+std::string off_ascii(const std::string& keyword, const std::string& vertex_suffix,
+                      const std::string& face_suffix) {
   std::string text = keyword + "\n# an octahedron\n6 8 0\n";
   for (const auto& v : octahedron_vertices)
     text += std::to_string(int(v[0])) + " " + std::to_string(int(v[1])) + " " + std::to_string(int(v[2])) +
             vertex_suffix + "\n";
   for (const auto& f : octahedron_faces)
-    text += "3 " + std::to_string(f[0]) + " " + std::to_string(f[1]) + " " + std::to_string(f[2]) + face_suffix + "\n";
+    text += "3 " + std::to_string(f[0]) + " " + std::to_string(f[1]) + " " + std::to_string(f[2]) +
+            face_suffix + "\n";
   return text;
 }
 
@@ -75,14 +76,15 @@ std::string off_binary() {
   return out;
 }
 
-std::string ply_header(const std::string& format, const std::string& vertex_properties, const std::string& list) {
+std::string ply_header(const std::string& format, const std::string& vertex_properties,
+                       const std::string& list) {
   return "ply\nformat " + format + " 1.0\ncomment octahedron\nelement vertex 6\n" + vertex_properties +
          "element face 8\nproperty list " + list + " vertex_indices\nend_header\n";
 }
 
 std::string ply_binary_little_endian_doubles() {
-  std::string out = ply_header("binary_little_endian", "property double x\nproperty double y\nproperty double z\n",
-                               "uchar int");
+  std::string out = ply_header("binary_little_endian",
+                               "property double x\nproperty double y\nproperty double z\n", "uchar int");
   for (const auto& v : octahedron_vertices) out.append(reinterpret_cast<const char*>(v), 3 * sizeof(double));
   for (const auto& f : octahedron_faces) {
     out += static_cast<char>(3);
@@ -119,7 +121,8 @@ TEST_CASE("ordinary PLY variants still read to the same octahedron", "[mesh_read
   require_octahedron(read_mesh(write_file("doubles.ply", ply_binary_little_endian_doubles())));
 }
 
-TEST_CASE("lying or malformed records are refused with a FormatError naming file and problem", "[mesh_readers]") {
+TEST_CASE("lying or malformed records are refused with a FormatError naming file and problem",
+          "[mesh_readers]") {
   auto refused = [](const std::string& name, const std::string& bytes, const std::string& expected) {
     const std::string path = write_file(name, bytes);
     CAPTURE(name, expected);
@@ -134,21 +137,24 @@ TEST_CASE("lying or malformed records are refused with a FormatError naming file
     }
   };
   refused("short.off", "OFF\n3 2000000 0\n0 0 0\n", "2000000 faces");
-  refused("index.off", "OFF\n3 1 0\n0 0 0\n1 0 0\n0 1 0\n3 0 1 1.5\n", "vertex index 1.5 is not a whole number");
+  refused("index.off", "OFF\n3 1 0\n0 0 0\n1 0 0\n0 1 0\n3 0 1 1.5\n",
+          "vertex index 1.5 is not a whole number");
   refused("fraction.off", "OFF\n3 1 0\n0 0 0\n1 0 0\n0 1 0\n2.5 0 1 2\n", "declares 2.5 vertices");
   refused("texture.off", "STOFF\n3 1 0\n0 0 0\n1 0 0\n0 1 0\n3 0 1 2\n", "'STOFF'");
   refused("binary_normals.off", "NOFF BINARY\n" + std::string(12, '\0'), "binary OFF variant 'NOFF'");
   refused("count.ply", "ply\nformat ascii 1.0\nelement vertex -3\nend_header\n", "count '-3'");
-  refused("huge.ply",
-          "ply\nformat ascii 1.0\nelement vertex 100000\nproperty float x\nproperty float y\nproperty float z\n"
-          "end_header\n0 0 0\n",
-          "100000 vertices");
+  refused(
+      "huge.ply",
+      "ply\nformat ascii 1.0\nelement vertex 100000\nproperty float x\nproperty float y\nproperty float z\n"
+      "end_header\n0 0 0\n",
+      "100000 vertices");
   refused("colour.ply",
           "ply\nformat ascii 1.0\nelement vertex 1\nproperty float x\nproperty float y\nproperty float z\n"
           "property float red\nend_header\n0 0 0 0.5\n",
           "property 'red' of element 'vertex' has type float; the reader needs uchar");
   refused("list.ply",
-          "ply\nformat ascii 1.0\nelement face 1\nproperty list uchar int vertex_indices\nend_header\n300 1 2 3\n",
+          "ply\nformat ascii 1.0\nelement face 1\nproperty list uchar int vertex_indices\nend_header\n300 1 "
+          "2 3\n",
           "list length 300");
 }
 
@@ -168,7 +174,8 @@ std::string vertex_facet(bool vertex_index, bool facet_index) {
   for (int v = 0; v < 6; ++v) {
     if (vertex_index) text += std::to_string(v + 1) + " ";
     const auto& p = octahedron_vertices[v];
-    text += std::to_string(int(p[0])) + " " + std::to_string(int(p[1])) + " " + std::to_string(int(p[2])) + "\n";
+    text +=
+        std::to_string(int(p[0])) + " " + std::to_string(int(p[1])) + " " + std::to_string(int(p[2])) + "\n";
   }
   for (int f = 0; f < 8; ++f) {
     if (facet_index) text += "  " + std::to_string(f + 1) + "\t";
@@ -181,9 +188,11 @@ std::string vertex_facet(bool vertex_index, bool facet_index) {
 std::string obj_octahedron() {
   std::string text;
   for (const auto& p : octahedron_vertices)
-    text += "v " + std::to_string(int(p[0])) + " " + std::to_string(int(p[1])) + " " + std::to_string(int(p[2])) + "\n";
+    text += "v " + std::to_string(int(p[0])) + " " + std::to_string(int(p[1])) + " " +
+            std::to_string(int(p[2])) + "\n";
   for (const auto& t : octahedron_faces)
-    text += "f " + std::to_string(t[0] + 1) + " " + std::to_string(t[1] + 1) + " " + std::to_string(t[2] + 1) + "\n";
+    text += "f " + std::to_string(t[0] + 1) + " " + std::to_string(t[1] + 1) + " " +
+            std::to_string(t[2] + 1) + "\n";
   return text;
 }
 
@@ -228,8 +237,8 @@ TEST_CASE("vertex-facet layout, with and without index columns, reads to the sam
   for (bool vertex_index : {false, true})
     for (bool facet_index : {false, true}) {
       CAPTURE(vertex_index, facet_index);
-      const Mesh mesh = read_mesh(write_file("octahedron.tab", vertex_facet(vertex_index, facet_index)),
-                                  as_vertex_facet());
+      const Mesh mesh =
+          read_mesh(write_file("octahedron.tab", vertex_facet(vertex_index, facet_index)), as_vertex_facet());
       CHECK(mesh.vertices == obj.vertices);
       CHECK(mesh.faces == obj.faces);
       CHECK(mesh.format == "vertex-facet");
@@ -241,7 +250,8 @@ TEST_CASE("vertex-facet layout, with and without index columns, reads to the sam
 TEST_CASE("vertex-facet volumes: regular octahedron sqrt(2)/3 a^3, unit cube 1 (elementary geometry)",
           "[mesh_readers]") {
   // Vertices at distance 1 on the axes: edge a = sqrt(2), so V = sqrt(2)/3 * 2 sqrt(2) = 4/3.
-  const Mesh octahedron = read_mesh(write_file("octahedron.dat", vertex_facet(true, false)), as_vertex_facet());
+  const Mesh octahedron =
+      read_mesh(write_file("octahedron.dat", vertex_facet(true, false)), as_vertex_facet());
   CHECK(volume_of(octahedron) == Approx(std::sqrt(2.0) / 3.0 * std::pow(std::sqrt(2.0), 3)).epsilon(1e-15));
   // The unit cube [0,1]^3 as 12 outward triangles, with 1e3 as the unit: volume (1 km)^3 = 1e9 m^3.
   const std::string cube =
@@ -264,7 +274,8 @@ TEST_CASE("malformed vertex-facet files give one-line errors with the line numbe
   require_error("zero.txt", zero_based, ":8: facet 1: vertex number 0, but vertices are numbered from 1");
   std::string extra = good;
   extra.replace(extra.find("\n1 3 5\n"), 7, "\n1 3 5 2 4\n");
-  require_error("extra.txt", extra, ":8: the first facet line has 5 fields; expected 3 (or 4 with a leading index)");
+  require_error("extra.txt", extra,
+                ":8: the first facet line has 5 fields; expected 3 (or 4 with a leading index)");
   std::string mixed = vertex_facet(true, false);
   mixed.replace(mixed.find("\n2 -1 0 0"), 9, "\n-1 0 0");
   require_error("mixed.txt", mixed, ":3: vertex 2 has 3 fields, but the block's first line has 4");
@@ -272,7 +283,8 @@ TEST_CASE("malformed vertex-facet files give one-line errors with the line numbe
   misnumbered.replace(misnumbered.find("  3\t"), 4, "  4\t");
   require_error("numbering.txt", misnumbered, ":10: facet line 3 starts with index '4'");
   require_error("trailing.txt", good + "1 2 3\n", ":16: extra text after the 8 facets");
-  require_error("counts.txt", "6 8 0\n" + good.substr(4), ":1: extra text '0' after the vertex and facet counts");
+  require_error("counts.txt", "6 8 0\n" + good.substr(4),
+                ":1: extra text '0' after the vertex and facet counts");
   require_error("nan.txt", "1 1\nnan 0 0\n1 1 1\n", ":2: vertex coordinate 'nan' is not a number");
 }
 
@@ -283,8 +295,10 @@ TEST_CASE("a format only --format can name is refused by extension, naming the f
     FAIL("accepted");
   } catch (const MeshError& error) {
     const std::string message = error.what();
-    CHECK(message ==
-          path + ": unknown mesh format '.tab': give the format with --format (obj, off, ply, stl, vertex-facet)");
+    CHECK(
+        message ==
+        path +
+            ": unknown mesh format '.tab': give the format with --format (obj, off, ply, stl, vertex-facet)");
   }
   MeshReadOptions unknown;
   unknown.format = "xyz";
@@ -298,8 +312,8 @@ TEST_CASE("a format only --format can name is refused by extension, naming the f
 TEST_CASE("PLY binary big endian reads to the same octahedron; ascii STL to an octahedron of volume 4/3",
           "[mesh_readers]") {
   // Bourke, "PLY - Polygon File Format": binary_big_endian stores every value most significant byte first.
-  std::string big = ply_header("binary_big_endian", "property float x\nproperty float y\nproperty float z\n",
-                               "uchar uint");
+  std::string big =
+      ply_header("binary_big_endian", "property float x\nproperty float y\nproperty float z\n", "uchar uint");
   for (const auto& v : octahedron_vertices)
     for (double x : v) {
       const float f = static_cast<float>(x);
@@ -319,8 +333,8 @@ TEST_CASE("PLY binary big endian reads to the same octahedron; ascii STL to an o
     stl += "facet normal 0 0 0\nouter loop\n";
     for (int i : f)
       stl += "vertex " + std::to_string(int(octahedron_vertices[i][0])) + " " +
-             std::to_string(int(octahedron_vertices[i][1])) + " " + std::to_string(int(octahedron_vertices[i][2])) +
-             "\n";
+             std::to_string(int(octahedron_vertices[i][1])) + " " +
+             std::to_string(int(octahedron_vertices[i][2])) + "\n";
     stl += "endloop\nendfacet\n";
   }
   // STL has no vertex list: the welded vertices come in the order the facets first use them.

@@ -15,7 +15,7 @@
 #include <string_view>
 #include <unordered_map>
 
-#include "io/mesh_formats.h"
+#include "io/mesh_format_registry.h"
 #include "polystokes/core/errors.h"
 #include "polystokes/core/memory_budget.h"
 #include "polystokes/io/output_file.h"
@@ -52,23 +52,23 @@ void check_soup(const std::string& path, const PolygonSoup& soup) {
     const double* p = &soup.coordinates[static_cast<size_t>(3 * i)];
     if (!std::isfinite(p[0]) || !std::isfinite(p[1]) || !std::isfinite(p[2]))
       throw format_error(path, 0,
-                         fmt::format("vertex {} of {} has a non-finite coordinate ({}, {}, {})", i + 1, n, p[0],
-                                     p[1], p[2]));
+                         fmt::format("vertex {} of {} has a non-finite coordinate ({}, {}, {})", i + 1, n,
+                                     p[0], p[1], p[2]));
   }
   const std::int64_t faces = soup.polygon_count();
   for (std::int64_t f = 0; f < faces; ++f) {
     const std::int64_t size = soup.offsets[static_cast<size_t>(f + 1)] - soup.offsets[static_cast<size_t>(f)];
     if (size < 3)
-      throw format_error(path, 0,
-                         fmt::format("face {} of {} has {} vertices, a face needs at least 3", f + 1, faces, size));
+      throw format_error(
+          path, 0, fmt::format("face {} of {} has {} vertices, a face needs at least 3", f + 1, faces, size));
   }
 }
 
-/// Splits polygon `corners` (vertex numbers into `xyz`) into triangles by ear clipping in 2-D, projected along
-/// the dominant axis of its Newell normal (which also fixes the polygon's winding there). An ear must turn
-/// strictly left and contain no other polygon vertex (boundary included), so no zero-area triangles are made.
-/// Returns false if no such decomposition is found (self-overlapping or degenerate polygon).
-/// O(n^3) worst case in the polygon size, which is fine for the small polygons of shape files.
+/// Splits polygon `corners` (vertex numbers into `xyz`) into triangles by ear clipping in 2-D, projected
+/// along the dominant axis of its Newell normal (which also fixes the polygon's winding there). An ear must
+/// turn strictly left and contain no other polygon vertex (boundary included), so no zero-area triangles are
+/// made. Returns false if no such decomposition is found (self-overlapping or degenerate polygon). O(n^3)
+/// worst case in the polygon size, which is fine for the small polygons of shape files.
 bool ear_clip(const std::vector<double>& xyz, const int* corners, size_t n, std::vector<Triangle>& out) {
   auto point = [&](size_t i) { return Point(xyz.data() + 3 * static_cast<size_t>(corners[i])); };
   Point normal = Point::Zero();
@@ -89,7 +89,8 @@ bool ear_clip(const std::vector<double>& xyz, const int* corners, size_t n, std:
   while (ring.size() > 3) {
     bool clipped = false;
     for (size_t k = 0; k < ring.size() && !clipped; ++k) {
-      const size_t a = ring[(k + ring.size() - 1) % ring.size()], b = ring[k], c = ring[(k + 1) % ring.size()];
+      const size_t a = ring[(k + ring.size() - 1) % ring.size()], b = ring[k],
+                   c = ring[(k + 1) % ring.size()];
       if (!(cross(a, b, c) > 0)) continue;
       bool empty = true;
       for (size_t other : ring) {
@@ -162,8 +163,9 @@ std::vector<int> weld_within(const std::vector<Point>& points, double tolerance,
   kept.clear();
   struct CellHash {
     size_t operator()(const std::array<std::int64_t, 3>& k) const {
-      return static_cast<size_t>(mix(static_cast<std::uint64_t>(k[0]) ^
-                                     mix(static_cast<std::uint64_t>(k[1]) ^ mix(static_cast<std::uint64_t>(k[2])))));
+      return static_cast<size_t>(
+          mix(static_cast<std::uint64_t>(k[0]) ^
+              mix(static_cast<std::uint64_t>(k[1]) ^ mix(static_cast<std::uint64_t>(k[2])))));
     }
   };
   auto cell_of = [&](const Point& p) {
@@ -183,7 +185,8 @@ std::vector<int> weld_within(const std::vector<Point>& points, double tolerance,
           const auto it = grid.find({cell[0] + dx, cell[1] + dy, cell[2] + dz});
           if (it == grid.end()) continue;
           for (int candidate : it->second)
-            if ((best < 0 || candidate < best) && (kept[static_cast<size_t>(candidate)] - p).norm() <= tolerance)
+            if ((best < 0 || candidate < best) &&
+                (kept[static_cast<size_t>(candidate)] - p).norm() <= tolerance)
               best = candidate;
         }
     if (best < 0) {
@@ -216,9 +219,10 @@ Mesh build_mesh(const std::string& path, const PolygonSoup& soup, const MeshRead
       continue;
     }
     if (!ear_clip(soup.coordinates, corners, size, triangles))
-      throw mesh_error(path, fmt::format("face {} ({} vertices) cannot be split into triangles: it is degenerate "
-                                         "or overlaps itself",
-                                         f + 1, size));
+      throw mesh_error(path,
+                       fmt::format("face {} ({} vertices) cannot be split into triangles: it is degenerate "
+                                   "or overlaps itself",
+                                   f + 1, size));
     ++split;
   }
   if (split > 0)
@@ -230,8 +234,10 @@ Mesh build_mesh(const std::string& path, const PolygonSoup& soup, const MeshRead
   std::vector<Point> exact(first.size()), welded;
   for (size_t i = 0; i < first.size(); ++i) exact[i] = Point(soup.coordinates.data() + 3 * size_t(first[i]));
   std::vector<int> tolerance_map;
-  if (options.merge_tolerance > 0) tolerance_map = weld_within(exact, options.merge_tolerance, welded);
-  else welded = std::move(exact);
+  if (options.merge_tolerance > 0)
+    tolerance_map = weld_within(exact, options.merge_tolerance, welded);
+  else
+    welded = std::move(exact);
   const std::int64_t merged = soup.vertex_count() - static_cast<std::int64_t>(welded.size());
   if (merged > 0)
     mesh.notices.push_back(fmt::format("merged {} (tolerance {} {})",
@@ -269,7 +275,8 @@ Mesh build_mesh(const std::string& path, const PolygonSoup& soup, const MeshRead
     if (r == 0) r = used++;
   const std::int64_t unused = static_cast<std::int64_t>(welded.size()) - used;
   if (unused > 0)
-    mesh.notices.push_back(fmt::format("dropped {} not used by any face", plural(unused, "vertex", "vertices")));
+    mesh.notices.push_back(
+        fmt::format("dropped {} not used by any face", plural(unused, "vertex", "vertices")));
 
   const double scale = meters_per(options.unit);
   mesh.vertices.resize(used, 3);

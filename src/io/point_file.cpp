@@ -6,10 +6,10 @@
 #include <cctype>
 #include <string_view>
 
-#include "polystokes/core/errors.h"
-#include "polystokes/io/output_file.h"
-#include "polystokes/core/quantity.h"
 #include "io/text_scanner.h"
+#include "polystokes/core/errors.h"
+#include "polystokes/core/quantity.h"
+#include "polystokes/io/output_file.h"
 
 namespace polystokes {
 
@@ -68,10 +68,11 @@ std::optional<LengthUnit> header_unit(const std::vector<std::string_view>& field
     suffix = unit;
   }
   if (fields.size() < 3 || !suffix || (!suffix->empty() && *suffix != "m" && *suffix != "km"))
-    throw format_error(source, line_number,
-                       fmt::format("expected a header starting with x,y,z (or x_m,y_m,z_m or x_km,y_km,z_km) or "
-                                   "three numbers, got '{}'",
-                                   line));
+    throw format_error(
+        source, line_number,
+        fmt::format("expected a header starting with x,y,z (or x_m,y_m,z_m or x_km,y_km,z_km) or "
+                    "three numbers, got '{}'",
+                    line));
   if (suffix->empty()) return std::nullopt;
   return parse_length_unit(*suffix);
 }
@@ -126,7 +127,8 @@ PointList read_points(const std::string& path, LengthUnit bare_unit) {
 
 std::string field_table_header(bool with_gradient) {
   const std::string values = "x_m,y_m,z_m,U_m2_s2,ax_m_s2,ay_m_s2,az_m_s2";
-  return with_gradient ? values + ",Txx_per_s2,Txy_per_s2,Txz_per_s2,Tyy_per_s2,Tyz_per_s2,Tzz_per_s2" : values;
+  return with_gradient ? values + ",Txx_per_s2,Txy_per_s2,Txz_per_s2,Tyy_per_s2,Tyz_per_s2,Tzz_per_s2"
+                       : values;
 }
 
 std::string format_field_table(const Points& points, const std::vector<FieldValue>& values,

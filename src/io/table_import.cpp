@@ -9,12 +9,12 @@
 #include <filesystem>
 #include <map>
 
-#include "polystokes/sets/conventions.h"
-#include "polystokes/core/errors.h"
-#include "polystokes/io/output_file.h"
-#include "polystokes/sets/transforms.h"
-#include "polystokes/core/quantity.h"
 #include "io/text_scanner.h"
+#include "polystokes/core/errors.h"
+#include "polystokes/core/quantity.h"
+#include "polystokes/io/output_file.h"
+#include "polystokes/sets/conventions.h"
+#include "polystokes/sets/transforms.h"
 
 namespace polystokes {
 
@@ -291,10 +291,9 @@ CoefficientSet parse_table(const std::string& text, const std::string& source_na
   set.body = options.body.empty() ? std::filesystem::path(source_name).filename().string() : options.body;
   set.length_unit = to_string(options.unit);
   set.created = std::string("imported from a table by polystokes ") + POLYSTOKES_VERSION;
-  set.history.push_back(
-      fmt::format("imported from table {} (columns {}, {}, reference radius {} m, GM {} m^3 s^-2)",
-                  source_name, to_string(options.columns), describe(set.convention), set.reference_radius,
-                  set.gm));
+  set.history.push_back(fmt::format(
+      "imported from table {} (columns {}, {}, reference radius {} m, GM {} m^3 s^-2)", source_name,
+      to_string(options.columns), describe(set.convention), set.reference_radius, set.gm));
   if (lowest > 0) {
     set.C(0, 0) = 1.0;  // C00 = 1 in every normalization and zonal form
     set.history.push_back(fmt::format("{}: no degree-0 row, C00 = 1 (GM is the total)", source_name));

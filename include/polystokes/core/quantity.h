@@ -39,7 +39,8 @@ enum class NumberStatus { ok, malformed, not_finite, out_of_range };
 /// The strict number rule of parse_strict_number with the reason of a refusal: malformed (not of the
 /// rule's shape), not_finite (a spelling of infinity or NaN, as strtod reads them) or out_of_range (of the
 /// rule's shape, but beyond the range of double). `value` is set on ok only.
-/// The one implementation of the rule: parse_strict_number and the text scanner (src/io/text_scanner.h) use it.
+/// The one implementation of the rule: parse_strict_number and the text scanner (src/io/text_scanner.h) use
+/// it.
 NumberStatus read_strict_number(std::string_view text, double& value);
 
 /// A value as parsed: in the kind's base unit, with what was written.

@@ -29,11 +29,11 @@ std::vector<std::string> mesh_format_names();
 std::string mesh_format_of(const std::string& path, const std::string& requested = {});
 
 /// Reads a mesh in the format mesh_format_of(path, options.format) names. Readers of our own, one per format
-/// (src/io/read_*.cpp), streaming over the file's bytes and checking counts and sizes as they read (no
+/// (src/io/mesh_formats/*.cpp), streaming over the file's bytes and checking counts and sizes as they read (no
 /// allocation is sized by a header's count beyond what the rest of the file can hold):
 ///  - OBJ: v and f records (index forms i, i/t, i//n, i/t/n, negative indices relative); a statement the
-///    format does not know is refused when it reads like a vertex or face record (a keyword in the wrong case,
-///    "V 1 2 3", or an unknown word followed by numbers), other statements are read past;
+///    format does not know is refused when it reads like a vertex or face record (a keyword in the wrong
+///    case, "V 1 2 3", or an unknown word followed by numbers), other statements are read past;
 ///  - OFF: [N][4][n]OFF ascii, OFF BINARY (big-endian); colour and texture variants are refused;
 ///  - PLY: ascii, binary little and big endian; element vertex (float or double x, y, z) and face (list
 ///    vertex_indices);
@@ -43,14 +43,14 @@ std::string mesh_format_of(const std::string& path, const std::string& requested
 /// Text numbers follow the strict number rule (read_strict_number in quantity.h), correctly rounded.
 /// Polygons with more than three vertices are split by ear clipping in the plane of their Newell normal,
 /// keeping their orientation (any simple, roughly planar polygon, convex or not). Then: duplicate vertices
-/// are merged (notice), faces collapsed by a positive merge tolerance are dropped (notice), vertices used by no
-/// face are dropped (notice). Kept vertices stay in file order, but their numbers refer to the welded mesh,
-/// not to the file. Sets source = path, unit, format, checksum = SHA-256 of the file bytes. Throws MeshError
-/// (empty file, unknown extension, no faces, polygon that cannot be split), ConventionError (unknown format
-/// name, bad tolerance), FormatError (missing or unreadable file, unparsable content, non-finite coordinate,
-/// face with < 3 vertices, vertex index out of range, counts the file cannot hold) or ResourceError (the file
-/// or the mesh would not fit in memory); the message is one line naming the file and, for text, the line.
-/// Time and memory linear in the file size.
+/// are merged (notice), faces collapsed by a positive merge tolerance are dropped (notice), vertices used by
+/// no face are dropped (notice). Kept vertices stay in file order, but their numbers refer to the welded
+/// mesh, not to the file. Sets source = path, unit, format, checksum = SHA-256 of the file bytes. Throws
+/// MeshError (empty file, unknown extension, no faces, polygon that cannot be split), ConventionError
+/// (unknown format name, bad tolerance), FormatError (missing or unreadable file, unparsable content,
+/// non-finite coordinate, face with < 3 vertices, vertex index out of range, counts the file cannot hold) or
+/// ResourceError (the file or the mesh would not fit in memory); the message is one line naming the file and,
+/// for text, the line. Time and memory linear in the file size.
 Mesh read_mesh(const std::string& path, const MeshReadOptions& options = {});
 
 /// Writes `mesh` as OBJ ("v x y z" in `unit`, one-based "f i j k"), coordinates in the shortest form

@@ -1,15 +1,15 @@
 // PLY: a text header ("ply", "format ascii|binary_little_endian|binary_big_endian 1.0", "element NAME COUNT",
-// "property TYPE NAME", "property list COUNT_TYPE TYPE NAME", "end_header"), then the elements in header order,
-// one item a line (ascii) or packed (binary). The mesh is element vertex (x, y, z) and element face (list
-// vertex_indices or vertex_index); other elements and properties are read past.
-// P. Bourke, "PLY - Polygon File Format", after G. Turk, "The PLY Polygon File Format" (1994) (from memory).
+// "property TYPE NAME", "property list COUNT_TYPE TYPE NAME", "end_header"), then the elements in header
+// order, one item a line (ascii) or packed (binary). The mesh is element vertex (x, y, z) and element face
+// (list vertex_indices or vertex_index); other elements and properties are read past. P. Bourke, "PLY -
+// Polygon File Format", after G. Turk, "The PLY Polygon File Format" (1994) (from memory).
 #include <fmt/format.h>
 
 #include <cmath>
 #include <cstring>
 #include <optional>
 
-#include "io/mesh_formats.h"
+#include "io/mesh_format_registry.h"
 #include "io/text_scanner.h"
 
 namespace polystokes {
@@ -22,11 +22,11 @@ struct TypeName {
   PlyType type;
 };
 constexpr TypeName type_names[] = {
-    {"char", PlyType::int8},     {"int8", PlyType::int8},       {"uchar", PlyType::uint8},
-    {"uint8", PlyType::uint8},   {"short", PlyType::int16},     {"int16", PlyType::int16},
-    {"ushort", PlyType::uint16}, {"uint16", PlyType::uint16},   {"int", PlyType::int32},
-    {"int32", PlyType::int32},   {"uint", PlyType::uint32},     {"uint32", PlyType::uint32},
-    {"float", PlyType::float32}, {"float32", PlyType::float32}, {"double", PlyType::float64},
+    {"char", PlyType::int8},      {"int8", PlyType::int8},       {"uchar", PlyType::uint8},
+    {"uint8", PlyType::uint8},    {"short", PlyType::int16},     {"int16", PlyType::int16},
+    {"ushort", PlyType::uint16},  {"uint16", PlyType::uint16},   {"int", PlyType::int32},
+    {"int32", PlyType::int32},    {"uint", PlyType::uint32},     {"uint32", PlyType::uint32},
+    {"float", PlyType::float32},  {"float32", PlyType::float32}, {"double", PlyType::float64},
     {"float64", PlyType::float64}};
 
 std::optional<PlyType> type_of(std::string_view name) {
@@ -94,10 +94,14 @@ Header read_header(TextScanner& in) {
   if (!in.next_line() || in.token() != "ply") in.fail("not a PLY file: the first line is not 'ply'");
   if (!in.next_line() || in.token() != "format") in.fail("the second line is not 'format ENCODING 1.0'");
   const std::string_view encoding = in.token();
-  if (encoding == "ascii") header.encoding = Encoding::ascii;
-  else if (encoding == "binary_little_endian") header.encoding = Encoding::little_endian;
-  else if (encoding == "binary_big_endian") header.encoding = Encoding::big_endian;
-  else in.fail(fmt::format("unknown PLY encoding '{}'", encoding));
+  if (encoding == "ascii")
+    header.encoding = Encoding::ascii;
+  else if (encoding == "binary_little_endian")
+    header.encoding = Encoding::little_endian;
+  else if (encoding == "binary_big_endian")
+    header.encoding = Encoding::big_endian;
+  else
+    in.fail(fmt::format("unknown PLY encoding '{}'", encoding));
   std::string unknown_type;
   for (;;) {
     if (!in.next_line()) in.fail("the header has no end_header line");
@@ -129,21 +133,24 @@ Header read_header(TextScanner& in) {
       property.name = std::string(in.token());
       if (property.name.empty()) in.fail("property without a name");
       const auto known = type_of(type);
-      if (known) property.type = *known;
+      if (known)
+        property.type = *known;
       else if (unknown_type.empty())
         unknown_type = format_error(in.path(), in.line_number(),
                                     fmt::format("property '{}' has unknown type '{}'", property.name, type))
                            .what();
       Element& element = header.elements.back();
-      if (element.vertex && !property.list && property.name.size() == 1 && property.name.find_first_of("xyz") == 0)
+      if (element.vertex && !property.list && property.name.size() == 1 &&
+          property.name.find_first_of("xyz") == 0)
         property.role = property.name == "x" ? Role::x : property.name == "y" ? Role::y : Role::z;
-      if (element.face && property.list && (property.name == "vertex_indices" || property.name == "vertex_index"))
+      if (element.face && property.list &&
+          (property.name == "vertex_indices" || property.name == "vertex_index"))
         property.role = Role::indices;
       element.properties.push_back(std::move(property));
     }
   }
-  // Coordinates must be floating point (an integer coordinate marks a file meant for another purpose); colours
-  // are bytes as every writer stores them.
+  // Coordinates must be floating point (an integer coordinate marks a file meant for another purpose);
+  // colours are bytes as every writer stores them.
   for (const Element& element : header.elements)
     for (const Property& property : element.properties) {
       const std::string& n = property.name;
@@ -155,9 +162,10 @@ Header read_header(TextScanner& in) {
                (property.list || property.type != PlyType::uint8))
         required = "uchar";
       if (required && type_of(property.type_name))
-        throw format_error(in.path(), 0,
-                           fmt::format("property '{}' of element '{}' has type {}{}; the reader needs {}", n,
-                                       element.name, property.list ? "list of " : "", property.type_name, required));
+        throw format_error(
+            in.path(), 0,
+            fmt::format("property '{}' of element '{}' has type {}{}; the reader needs {}", n, element.name,
+                        property.list ? "list of " : "", property.type_name, required));
     }
   if (!unknown_type.empty()) throw FormatError(unknown_type);
   for (const Element& element : header.elements)
@@ -175,9 +183,9 @@ double minimum_bytes(const Header& header) {
   for (const Element& element : header.elements) {
     double item = 0;
     for (const Property& property : element.properties)
-      item += header.encoding == Encoding::ascii ? 2.0
-                                                 : static_cast<double>(size_of(property.list ? property.count_type
-                                                                                             : property.type));
+      item += header.encoding == Encoding::ascii
+                  ? 2.0
+                  : static_cast<double>(size_of(property.list ? property.count_type : property.type));
     total += item * static_cast<double>(element.count);
   }
   return total - (header.encoding == Encoding::ascii ? 1.0 : 0.0);
@@ -192,15 +200,17 @@ struct Sink {
 
 [[noreturn]] void list_length_error(const std::string& where, const Element& element, std::int64_t item,
                                     double value, double limit) {
-  throw FormatError(fmt::format("{}item {} of element '{}': list length {} is not a whole number between 0 and "
-                                "{:.0f} (what its type and the rest of the file allow)",
-                                where, item + 1, element.name, value, limit));
+  throw FormatError(
+      fmt::format("{}item {} of element '{}': list length {} is not a whole number between 0 and "
+                  "{:.0f} (what its type and the rest of the file allow)",
+                  where, item + 1, element.name, value, limit));
 }
 
 /// Appends a face's vertex index, or returns the problem (empty when appended).
 std::string add_index(const Sink& sink, std::int64_t item, double value) {
   if (!(value >= 0 && value < static_cast<double>(sink.vertices)))
-    return fmt::format("face {} refers to vertex {}, but the file has {} vertices", item + 1, value, sink.vertices);
+    return fmt::format("face {} refers to vertex {}, but the file has {} vertices", item + 1, value,
+                       sink.vertices);
   sink.soup.corners.push_back(static_cast<int>(value));
   return {};
 }
@@ -295,8 +305,8 @@ void read_binary(const std::string& path, std::string_view bytes, const Header& 
         const auto read = in.value(property.list ? property.count_type : property.type);
         if (!read)
           throw format_error(path, 0,
-                             fmt::format("the file ends inside item {} of element '{}'{}", item + 1, element.name,
-                                         property.list ? ", before a list length" : ""));
+                             fmt::format("the file ends inside item {} of element '{}'{}", item + 1,
+                                         element.name, property.list ? ", before a list length" : ""));
         if (!property.list) {
           if (property.role == Role::x) sink.point[0] = *read;
           if (property.role == Role::y) sink.point[1] = *read;
@@ -335,23 +345,26 @@ void read_ply(const std::string& path, std::string_view bytes, PolygonSoup& soup
   }
   const double minimum = static_cast<double>(header.data_start) + minimum_bytes(header);
   if (minimum > static_cast<double>(bytes.size()))
-    throw format_error(path, 0,
-                       fmt::format("the header declares elements ({} vertices, {} faces) that need at least {:.0f} "
-                                   "bytes, but the file has only {}",
-                                   vertex ? vertex->count : 0, face ? face->count : 0, minimum, bytes.size()));
+    throw format_error(
+        path, 0,
+        fmt::format("the header declares elements ({} vertices, {} faces) that need at least {:.0f} "
+                    "bytes, but the file has only {}",
+                    vertex ? vertex->count : 0, face ? face->count : 0, minimum, bytes.size()));
   // An element without properties takes no bytes, so its count is checked against the file size by itself.
   for (const Element& element : header.elements)
     if (static_cast<double>(element.count) > static_cast<double>(bytes.size()))
       throw format_error(path, 0,
-                         fmt::format("element '{}' declares {} items, more than the file has bytes", element.name,
-                                     element.count));
+                         fmt::format("element '{}' declares {} items, more than the file has bytes",
+                                     element.name, element.count));
   const std::int64_t vertex_count = vertex ? vertex->count : 0;
   if (vertex_count > max_mesh_vertices)
     throw ResourceError(path + ": more vertices than a 32-bit face index can address");
   soup.reserve(vertex_count, face ? face->count : 0, bytes.size() - header.data_start, 6.0, 8.0);
   Sink sink{soup, vertex_count};
-  if (header.encoding == Encoding::ascii) read_ascii(in, header, sink);
-  else read_binary(path, bytes, header, sink);
+  if (header.encoding == Encoding::ascii)
+    read_ascii(in, header, sink);
+  else
+    read_binary(path, bytes, header, sink);
 
   // What the mesh needs, checked after the data so that a malformed record is reported where it is.
   if (!vertex) throw format_error(path, 0, "no element 'vertex'");

@@ -6,7 +6,7 @@
 // is unambiguous for it).
 #include <fmt/format.h>
 
-#include "io/mesh_formats.h"
+#include "io/mesh_format_registry.h"
 #include "io/text_scanner.h"
 
 namespace polystokes {
@@ -23,8 +23,8 @@ bool indexed_block(TextScanner& in, long fields, const char* what) {
   const long count = in.tokens_left();
   if (count == fields) return false;
   if (count == fields + 1) return true;
-  in.fail(fmt::format("the first {} line has {} fields; expected {} (or {} with a leading index)", what, count,
-                      fields, fields + 1));
+  in.fail(fmt::format("the first {} line has {} fields; expected {} (or {} with a leading index)", what,
+                      count, fields, fields + 1));
 }
 
 void check_fields(TextScanner& in, long fields, bool indexed, const char* what, std::int64_t n) {
@@ -38,8 +38,8 @@ void check_index_column(TextScanner& in, const char* what, std::int64_t n) {
   const std::string_view token = in.token();
   std::int64_t index = 0;
   if (!parse_integer_token(token, index) || index != n)
-    in.fail(fmt::format("{} line {} starts with index '{}'; the index column must count 1, 2, 3, ...", what, n,
-                        token));
+    in.fail(fmt::format("{} line {} starts with index '{}'; the index column must count 1, 2, 3, ...", what,
+                        n, token));
 }
 
 }  // namespace
@@ -75,7 +75,8 @@ void read_vertex_facet(const std::string& path, std::string_view bytes, PolygonS
     for (int k = 0; k < 3; ++k) {
       const std::string_view token = in.token();
       std::int64_t index = 0;
-      if (!parse_integer_token(token, index)) in.fail(fmt::format("facet {}: vertex number '{}' is not a whole number", f, token));
+      if (!parse_integer_token(token, index))
+        in.fail(fmt::format("facet {}: vertex number '{}' is not a whole number", f, token));
       if (index == 0) in.fail(fmt::format("facet {}: vertex number 0, but vertices are numbered from 1", f));
       if (index < 0 || index > vertices)
         in.fail(fmt::format("facet {} refers to vertex {}, but the file has {} vertices (numbered from 1)", f,

@@ -1,5 +1,6 @@
-// The mesh format registry: one reader per file format (src/io/read_FORMAT.cpp), each turning a file's bytes
-// into a polygon soup, and the one table that names them. Adding a format: a reader file and a table line.
+// The mesh format registry: one reader per file format (src/io/mesh_formats/FORMAT.cpp), each turning a
+// file's bytes into a polygon soup, and the one table that names them. Adding a format: a reader file and a
+// table line.
 #pragma once
 
 #include <cstdint>
@@ -11,9 +12,9 @@ namespace polystokes {
 
 /// Vertices and polygons exactly as a file states them, before welding and triangulation.
 struct PolygonSoup {
-  std::vector<double> coordinates;      ///< x, y, z of each vertex in the file's unit, file order
-  std::vector<int> corners;             ///< zero-based vertex numbers of all polygons, one after another
-  std::vector<std::int64_t> offsets{0}; ///< polygon p is corners[offsets[p], offsets[p + 1])
+  std::vector<double> coordinates;       ///< x, y, z of each vertex in the file's unit, file order
+  std::vector<int> corners;              ///< zero-based vertex numbers of all polygons, one after another
+  std::vector<std::int64_t> offsets{0};  ///< polygon p is corners[offsets[p], offsets[p + 1])
 
   std::int64_t vertex_count() const { return static_cast<std::int64_t>(coordinates.size() / 3); }
   std::int64_t polygon_count() const { return static_cast<std::int64_t>(offsets.size()) - 1; }

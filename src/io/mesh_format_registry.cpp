@@ -1,4 +1,4 @@
-#include "io/mesh_formats.h"
+#include "io/mesh_format_registry.h"
 
 #include <algorithm>
 
@@ -17,7 +17,8 @@ const std::vector<MeshFormatEntry>& mesh_format_table() {
       {"ply", "ply", "PLY, ascii or binary little/big endian", read_ply},
       {"stl", "stl", "STL, ascii or binary", read_stl},
       {"vertex-facet", "",
-       "a line 'V F', V vertex lines 'x y z', F facet lines 'i j k' (1-based), each optionally after an index "
+       "a line 'V F', V vertex lines 'x y z', F facet lines 'i j k' (1-based), each optionally after an "
+       "index "
        "column",
        read_vertex_facet},
   };

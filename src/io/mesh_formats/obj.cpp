@@ -10,7 +10,7 @@
 #include <limits>
 #include <utility>
 
-#include "io/mesh_formats.h"
+#include "io/mesh_format_registry.h"
 #include "io/text_scanner.h"
 #include "polystokes/core/quantity.h"
 
@@ -62,14 +62,15 @@ void read_vertex(TextScanner& in, PolygonSoup& soup) {
     if (tokens[k].empty())
       in.fail(fmt::format("vertex {} has {} coordinates, expected 3", soup.vertex_count() + 1, k));
     status[k] = read_strict_number(tokens[k], p[k]);
-    if (status[k] == NumberStatus::malformed) in.fail(fmt::format("cannot parse vertex coordinate '{}'", tokens[k]));
+    if (status[k] == NumberStatus::malformed)
+      in.fail(fmt::format("cannot parse vertex coordinate '{}'", tokens[k]));
     if (status[k] == NumberStatus::out_of_range)
       in.fail(fmt::format("vertex coordinate '{}' is not representable as a double", tokens[k]));
   }
   for (int k = 0; k < 3; ++k) {
     if (status[k] == NumberStatus::not_finite)
-      in.fail(fmt::format("vertex {} has a non-finite coordinate ({} {} {})", soup.vertex_count() + 1, tokens[0],
-                          tokens[1], tokens[2]));
+      in.fail(fmt::format("vertex {} has a non-finite coordinate ({} {} {})", soup.vertex_count() + 1,
+                          tokens[0], tokens[1], tokens[2]));
   }
   soup.add_vertex(p[0], p[1], p[2]);
 }
@@ -86,8 +87,8 @@ void read_face(TextScanner& in, PolygonSoup& soup) {
     // One-based; negative indices count back from the latest vertex.
     const std::int64_t index = raw > 0 ? raw - 1 : vertices + raw;
     if (index < 0 || index >= vertices)
-      in.fail(fmt::format("face {} refers to vertex {}, but only {} vertices are defined before it", face, raw,
-                          vertices));
+      in.fail(fmt::format("face {} refers to vertex {}, but only {} vertices are defined before it", face,
+                          raw, vertices));
     soup.corners.push_back(static_cast<int>(index));
   }
   if (count < 3) in.fail(fmt::format("face {} has {} vertices, a face needs at least 3", face, count));

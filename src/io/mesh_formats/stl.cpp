@@ -8,7 +8,7 @@
 #include <cmath>
 #include <cstring>
 
-#include "io/mesh_formats.h"
+#include "io/mesh_format_registry.h"
 #include "io/text_scanner.h"
 
 namespace polystokes {
@@ -32,7 +32,8 @@ void read_binary(const std::string& path, std::string_view bytes, std::uint32_t 
     std::memcpy(p, record + 12, sizeof p);  // IEEE 754 little-endian floats, as on every host we build for
     for (float x : p)
       if (!std::isfinite(x))
-        throw format_error(path, 0, fmt::format("facet {} of {} has a non-finite vertex coordinate", f + 1, facets));
+        throw format_error(path, 0,
+                           fmt::format("facet {} of {} has a non-finite vertex coordinate", f + 1, facets));
     for (int v = 0; v < 3; ++v) soup.add_vertex(p[3 * v], p[3 * v + 1], p[3 * v + 2]);
     add_triangle(soup);
   }
@@ -100,10 +101,11 @@ void read_stl(const std::string& path, std::string_view bytes, PolygonSoup& soup
   size_t start = 0;
   while (start < bytes.size() && std::isspace(static_cast<unsigned char>(bytes[start]))) ++start;
   if (bytes.substr(start, 5) != "solid")
-    throw format_error(path, 0,
-                       fmt::format("neither ascii STL (starting with 'solid') nor binary STL (84 bytes plus 50 a "
-                                   "facet; this file has {} bytes)",
-                                   bytes.size()));
+    throw format_error(
+        path, 0,
+        fmt::format("neither ascii STL (starting with 'solid') nor binary STL (84 bytes plus 50 a "
+                    "facet; this file has {} bytes)",
+                    bytes.size()));
   read_ascii(path, bytes, soup);
 }
 

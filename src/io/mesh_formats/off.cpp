@@ -1,5 +1,5 @@
-// OFF (Geomview): a keyword line [N][4][n]OFF, the counts "vertices faces edges", vertex lines "x y z" (plus a
-// normal for NOFF, a homogeneous w for 4OFF), face lines "n i1 .. in" (trailing colour values ignored); or
+// OFF (Geomview): a keyword line [N][4][n]OFF, the counts "vertices faces edges", vertex lines "x y z" (plus
+// a normal for NOFF, a homogeneous w for 4OFF), face lines "n i1 .. in" (trailing colour values ignored); or
 // the keyword followed by BINARY and big-endian 32-bit counts, float coordinates and integer faces.
 // Geomview manual, "OFF files" (Geomview 1.9 documentation; from memory). Colour and texture variants (COFF,
 // STOFF) are refused.
@@ -8,7 +8,7 @@
 #include <cmath>
 #include <cstring>
 
-#include "io/mesh_formats.h"
+#include "io/mesh_format_registry.h"
 #include "io/text_scanner.h"
 #include "polystokes/core/quantity.h"
 
@@ -62,10 +62,11 @@ struct Counts {
 
 void check_counts(const std::string& path, const Counts& counts, double minimum_bytes, size_t file_size) {
   if (counts.vertices < 0)
-    throw format_error(path, 0,
-                       fmt::format("the header declares a negative number of vertices ({})", counts.vertices));
+    throw format_error(
+        path, 0, fmt::format("the header declares a negative number of vertices ({})", counts.vertices));
   if (counts.faces < 0)
-    throw format_error(path, 0, fmt::format("the header declares a negative number of faces ({})", counts.faces));
+    throw format_error(path, 0,
+                       fmt::format("the header declares a negative number of faces ({})", counts.faces));
   // Edges are not read, but a count beyond any real mesh marks a damaged header.
   if (std::abs(counts.edges) > (std::int64_t(1) << 30))
     throw format_error(path, 0, fmt::format("the header's edge count {} is out of range", counts.edges));
@@ -75,9 +76,10 @@ void check_counts(const std::string& path, const Counts& counts, double minimum_
                                    "bytes, but the file has only {}",
                                    counts.vertices, counts.faces, minimum_bytes, file_size));
   if (counts.vertices + counts.faces > 1'000'000'000)
-    throw ResourceError(fmt::format("{}: {} vertices and {} faces are more than the OFF reader takes (10^9 "
-                                    "together)",
-                                    path, counts.vertices, counts.faces));
+    throw ResourceError(
+        fmt::format("{}: {} vertices and {} faces are more than the OFF reader takes (10^9 "
+                    "together)",
+                    path, counts.vertices, counts.faces));
 }
 
 class BigEndian {
@@ -104,7 +106,8 @@ void read_binary(const std::string& path, std::string_view bytes, size_t start, 
   Counts counts{std::int32_t(raw[0]), std::int32_t(raw[1]), std::int32_t(raw[2])};
   // Three 4-byte coordinates per vertex and at least a 4-byte count per face.
   check_counts(path, counts,
-               static_cast<double>(start) + 12.0 * static_cast<double>(std::max<std::int64_t>(0, counts.vertices)) +
+               static_cast<double>(start) +
+                   12.0 * static_cast<double>(std::max<std::int64_t>(0, counts.vertices)) +
                    4.0 * static_cast<double>(counts.faces) + 11.0,
                bytes.size());
   soup.reserve(counts.vertices, counts.faces, in.remaining(), 12.0, 16.0);
@@ -112,8 +115,9 @@ void read_binary(const std::string& path, std::string_view bytes, size_t start, 
     float p[3];
     for (float& x : p) {
       std::uint32_t bits = 0;
-      if (!in.word(bits)) throw format_error(path, 0, fmt::format("the file ends inside the {} binary vertices",
-                                                                    counts.vertices));
+      if (!in.word(bits))
+        throw format_error(path, 0,
+                           fmt::format("the file ends inside the {} binary vertices", counts.vertices));
       std::memcpy(&x, &bits, 4);
     }
     soup.add_vertex(p[0], p[1], p[2]);
@@ -121,20 +125,22 @@ void read_binary(const std::string& path, std::string_view bytes, size_t start, 
   for (std::int64_t f = 0; f < counts.faces; ++f) {
     std::uint32_t size = 0;
     if (!in.word(size))
-      throw format_error(path, 0, fmt::format("the file ends before binary face {} of {}", f + 1, counts.faces));
+      throw format_error(path, 0,
+                         fmt::format("the file ends before binary face {} of {}", f + 1, counts.faces));
     const std::int32_t n = static_cast<std::int32_t>(size);
     if (n < 0 || 4.0 * n > static_cast<double>(in.remaining()))
-      throw format_error(path, 0,
-                         fmt::format("binary face {} declares {} vertices, more than the rest of the file holds",
-                                     f + 1, n));
+      throw format_error(
+          path, 0,
+          fmt::format("binary face {} declares {} vertices, more than the rest of the file holds", f + 1, n));
     for (std::int32_t k = 0; k < n; ++k) {
       std::uint32_t index = 0;
       in.word(index);
       if (static_cast<std::int64_t>(index) >= counts.vertices)
-        throw format_error(path, 0,
-                           fmt::format("cannot parse OFF data: binary face {} refers to vertex {}, but the file "
-                                       "has {} vertices",
-                                       f + 1, std::int32_t(index), counts.vertices));
+        throw format_error(
+            path, 0,
+            fmt::format("cannot parse OFF data: binary face {} refers to vertex {}, but the file "
+                        "has {} vertices",
+                        f + 1, std::int32_t(index), counts.vertices));
       soup.corners.push_back(static_cast<int>(index));
     }
     soup.end_polygon();
@@ -187,14 +193,16 @@ void read_ascii(TextScanner& in, std::string_view first, const OffKeyword& keywo
     const long indices = in.tokens_left() - 1;
     const double declared = in.number("face vertex count");
     if (!(declared >= 0 && declared <= static_cast<double>(indices) && declared == std::floor(declared)))
-      in.fail(fmt::format("face {}: the line declares {} vertices but holds {} indices", f + 1, declared, indices));
+      in.fail(fmt::format("face {}: the line declares {} vertices but holds {} indices", f + 1, declared,
+                          indices));
     for (long k = 0; k < static_cast<long>(declared); ++k) {
       const double index = in.number("vertex index");
       if (!(index >= 0 && index == std::floor(index)))
         in.fail(fmt::format("face {}: vertex index {} is not a whole number >= 0", f + 1, index));
       if (index >= static_cast<double>(counts.vertices))
-        in.fail(fmt::format("cannot parse OFF data: face {} refers to vertex {}, but the file has {} vertices",
-                            f + 1, index, counts.vertices));
+        in.fail(
+            fmt::format("cannot parse OFF data: face {} refers to vertex {}, but the file has {} vertices",
+                        f + 1, index, counts.vertices));
       soup.corners.push_back(static_cast<int>(index));
     }
     soup.end_polygon();  // values after the indices (a face colour) are not used
@@ -208,16 +216,16 @@ void read_off(const std::string& path, std::string_view bytes, PolygonSoup& soup
   if (!next_record(in)) throw format_error(path, 0, "no OFF keyword");
   OffKeyword keyword;
   const std::string_view word = in.token();
-  if (!parse_keyword(word, keyword))
-    in.fail(fmt::format("'{}' is not an OFF keyword ([N][4][n]OFF)", word));
+  if (!parse_keyword(word, keyword)) in.fail(fmt::format("'{}' is not an OFF keyword ([N][4][n]OFF)", word));
   if (keyword.colours || keyword.textures)
-    in.fail(fmt::format("OFF variant '{}' with colours or texture coordinates is not supported; write plain OFF",
-                        keyword.text));
+    in.fail(
+        fmt::format("OFF variant '{}' with colours or texture coordinates is not supported; write plain OFF",
+                    keyword.text));
   const std::string_view next = header_token(in);
   if (next == "BINARY") {
     if (keyword.normals || keyword.homogeneous || keyword.dimensional)
-      throw format_error(path, 0,
-                         fmt::format("binary OFF variant '{}' is not supported; write plain OFF", keyword.text));
+      throw format_error(
+          path, 0, fmt::format("binary OFF variant '{}' is not supported; write plain OFF", keyword.text));
     in.expect_line_end("BINARY");
     read_binary(path, bytes, in.next_offset(), soup);
     return;
