@@ -17,9 +17,9 @@
 #define POLYSTOKES_HAVE_CLONES 0
 #endif
 
-#if defined(__GNUC__) && !defined(__clang__)
+#if defined(__GNUC__)
 // The 4-double vector type never crosses a call boundary (all helpers are always inlined), so the ABI note
-// GCC gives for it in the baseline compilation does not apply.
+// GCC and clang give for it in the baseline compilation does not apply.
 #pragma GCC diagnostic ignored "-Wpsabi"
 #endif
 
