@@ -1,8 +1,6 @@
 #include "polystokes/mesh/mesh_check.h"
 
 #include <CGAL/Exact_predicates_inexact_constructions_kernel.h>
-#include <CGAL/Polygon_mesh_processing/self_intersections.h>
-#include <CGAL/Surface_mesh.h>
 #include <CGAL/box_intersection_d.h>
 #include <fmt/format.h>
 
@@ -14,6 +12,7 @@
 #include <numeric>
 
 #include "internal/disjoint_sets.h"
+#include "mesh/self_intersections.h"
 #include "polystokes/core/errors.h"
 #include "polystokes/mesh/mass_properties.h"
 #include "polystokes/mesh/mesh_measures.h"
@@ -222,32 +221,16 @@ MeshCheck check_consistently_oriented(Context& c) {
 }
 
 MeshCheck check_self_intersections(Context& c) {
-  using Kernel = CGAL::Exact_predicates_inexact_constructions_kernel;
-  using SurfaceMesh = CGAL::Surface_mesh<Kernel::Point_3>;
-  SurfaceMesh surface;
-  surface.reserve(static_cast<SurfaceMesh::size_type>(c.mesh.vertices.rows()),
-                  static_cast<SurfaceMesh::size_type>(3 * c.face_count() / 2),
-                  static_cast<SurfaceMesh::size_type>(c.face_count()));
-  for (Eigen::Index v = 0; v < c.mesh.vertices.rows(); ++v)
-    surface.add_vertex(Kernel::Point_3(c.mesh.vertices(v, 0), c.mesh.vertices(v, 1), c.mesh.vertices(v, 2)));
-  for (int f = 0; f < c.face_count(); ++f) {
-    const auto added =
-        surface.add_face(SurfaceMesh::Vertex_index(c.corner(f, 0)), SurfaceMesh::Vertex_index(c.corner(f, 1)),
-                         SurfaceMesh::Vertex_index(c.corner(f, 2)));
-    if (added == SurfaceMesh::null_face())
+  // A face with a repeated vertex has no triangle to test (no_degenerate_faces names it).
+  for (int f = 0; f < c.face_count(); ++f)
+    if (c.corner(f, 0) == c.corner(f, 1) || c.corner(f, 1) == c.corner(f, 2) ||
+        c.corner(f, 2) == c.corner(f, 0))
       return {"no_self_intersections", false, 0,
               fmt::format("not run: face {} cannot join a surface mesh", f), false};
-  }
-  std::vector<std::pair<SurfaceMesh::Face_index, SurfaceMesh::Face_index>> pairs;
-  CGAL::Polygon_mesh_processing::self_intersections(surface, std::back_inserter(pairs));
-  Tally tally;
-  for (const auto& [x, y] : pairs) {
-    // (f, f) marks a CGAL-degenerate face, which no_degenerate_faces reports.
-    if (x == y) continue;
-    const long f = std::min<long>(x.idx(), y.idx()), g = std::max<long>(x.idx(), y.idx());
-    tally.add(f * c.face_count() + g, [&] { return fmt::format("faces {} and {} intersect", f, g); });
-  }
-  return tally.result("no_self_intersections");
+  const FacePairs pairs = self_intersecting_pairs(c.mesh);
+  if (pairs.count == 0) return {"no_self_intersections", true, 0, "", true};
+  return {"no_self_intersections", false, pairs.count,
+          fmt::format("faces {} and {} intersect", pairs.first, pairs.second), true};
 }
 
 /// Solid angle of triangle (a, b, c) seen from p, positive if abc runs counter-clockwise seen from p.
