@@ -5,10 +5,12 @@
 #include <tbb/combinable.h>
 #include <tbb/parallel_invoke.h>
 
+#include <Eigen/Geometry>
 #include <algorithm>
 #include <array>
 #include <cmath>
 #include <cstdint>
+#include <cstring>
 #include <limits>
 #include <vector>
 
@@ -40,15 +42,22 @@ bool overlap(const Box& a, const Box& b) {
          a.lo[2] <= b.hi[2] && b.lo[2] <= a.hi[2];
 }
 
-float round_down(double x) {
-  const auto f = static_cast<float>(x);
-  return static_cast<double>(f) > x ? std::nextafter(f, -std::numeric_limits<float>::infinity()) : f;
+/// The next float towards minus infinity (finite f).
+float float_below(float f) {
+  if (f == 0) return -std::numeric_limits<float>::denorm_min();
+  std::uint32_t bits;
+  std::memcpy(&bits, &f, sizeof bits);
+  bits = f > 0 ? bits - 1 : bits + 1;
+  std::memcpy(&f, &bits, sizeof f);
+  return f;
 }
 
-float round_up(double x) {
+float round_down(double x) {
   const auto f = static_cast<float>(x);
-  return static_cast<double>(f) < x ? std::nextafter(f, std::numeric_limits<float>::infinity()) : f;
+  return static_cast<double>(f) > x ? float_below(f) : f;
 }
+
+float round_up(double x) { return -round_down(-x); }
 
 /// Spreads the low 10 bits of v to every third bit (Morton code in 30 bits).
 std::uint32_t spread_bits(std::uint32_t v) {
@@ -99,6 +108,17 @@ class Search {
     return Point3(mesh_.vertices(v, 0), mesh_.vertices(v, 1), mesh_.vertices(v, 2));
   }
 
+  /// False when the corners of a face are certainly not collinear: a component of the edge cross product,
+  /// computed in double, exceeds its rounding error bound (well below 1e-14 L^2 for coordinate
+  /// differences up to L); the rare faces left get CGAL's exact test.
+  bool maybe_collinear(int a, int b, int c) const {
+    const Eigen::Vector3d p = mesh_.vertices.row(a).transpose();
+    const Eigen::Vector3d u = mesh_.vertices.row(b).transpose() - p,
+                          v = mesh_.vertices.row(c).transpose() - p;
+    const double scale = std::max(u.cwiseAbs().maxCoeff(), v.cwiseAbs().maxCoeff());
+    return !(u.cross(v).cwiseAbs().maxCoeff() > 1e-14 * scale * scale);
+  }
+
   /// Non-collinear faces sorted by the Morton code of their centroid (ties by face number): neighbours in
   /// this order are neighbours in space, so consecutive runs make tight leaves. LSD radix sort, 3 x 10 bits.
   void sort_faces() {
@@ -109,7 +129,7 @@ class Search {
     keys.reserve(static_cast<size_t>(faces));
     for (int f = 0; f < faces; ++f) {
       const int a = mesh_.faces(f, 0), b = mesh_.faces(f, 1), c = mesh_.faces(f, 2);
-      if (CGAL::collinear(point(a), point(b), point(c))) continue;
+      if (maybe_collinear(a, b, c) && CGAL::collinear(point(a), point(b), point(c))) continue;
       std::uint32_t code = 0;
       for (int axis = 0; axis < 3; ++axis) {
         const double centre =
@@ -134,12 +154,12 @@ class Search {
       const int f = static_cast<int>(keys[i] & 0xffffffffu);
       order_[i] = f;
       Box& box = boxes_[i];
-      for (int k = 0; k < 3; ++k)
-        for (int axis = 0; axis < 3; ++axis) {
-          const double x = mesh_.vertices(mesh_.faces(f, k), axis);
-          box.lo[axis] = std::min(box.lo[axis], round_down(x));
-          box.hi[axis] = std::max(box.hi[axis], round_up(x));
-        }
+      for (int axis = 0; axis < 3; ++axis) {
+        const double x = mesh_.vertices(mesh_.faces(f, 0), axis), y = mesh_.vertices(mesh_.faces(f, 1), axis),
+                     z = mesh_.vertices(mesh_.faces(f, 2), axis);
+        box.lo[axis] = round_down(std::min({x, y, z}));
+        box.hi[axis] = round_up(std::max({x, y, z}));
+      }
     }
   }
 
@@ -223,30 +243,58 @@ class Search {
     const std::array<int, 3> b{mesh_.faces(g, 0), mesh_.faces(g, 1), mesh_.faces(g, 2)};
     auto in_b = [&](int v) { return v == b[0] || v == b[1] || v == b[2]; };
     const int shared = int(in_b(a[0])) + int(in_b(a[1])) + int(in_b(a[2]));
-    const Point3 pa[3] = {point(a[0]), point(a[1]), point(a[2])};
-    const Point3 pb[3] = {point(b[0]), point(b[1]), point(b[2])};
     if (shared >= 2) {
       // The shared edge (p, q); r and s the corners off it. Two triangles on one edge meet elsewhere only
       // if they lie in one plane with r and s on the same side of the edge.
       int i = 0;
       while (!(in_b(a[i]) && in_b(a[(i + 1) % 3]))) ++i;
-      const int p = a[i], q = a[(i + 1) % 3];
-      int s = 0;
-      while (b[s] == p || b[s] == q) ++s;
-      const Point3 &pp = pa[i], &pq = pa[(i + 1) % 3], &pr = pa[(i + 2) % 3], &ps = pb[s];
-      return CGAL::coplanar(pp, pq, pr, ps) && CGAL::coplanar_orientation(pp, pq, pr, ps) == CGAL::POSITIVE;
+      const int p = a[i], q = a[(i + 1) % 3], r = a[(i + 2) % 3];
+      int k = 0;
+      while (b[k] == p || b[k] == q) ++k;
+      if (orientation(p, q, r, b[k]) != CGAL::COPLANAR) return false;
+      return CGAL::coplanar_orientation(point(p), point(q), point(r), point(b[k])) == CGAL::POSITIVE;
     }
-    const Kernel::Triangle_3 ta(pa[0], pa[1], pa[2]), tb(pb[0], pb[1], pb[2]);
     if (shared == 1) {
       // The intersection of two triangles is convex: it holds more than the shared vertex exactly when an
-      // edge opposite that vertex meets the other triangle.
+      // edge opposite that vertex meets the other triangle. Most such pairs are neighbours around a vertex
+      // whose opposite edge lies strictly on one side of the other triangle's plane.
       int i = 0, j = 0;
       while (!in_b(a[i])) ++i;
       while (b[j] != a[i]) ++j;
-      return CGAL::do_intersect(ta, Kernel::Segment_3(pb[(j + 1) % 3], pb[(j + 2) % 3])) ||
-             CGAL::do_intersect(tb, Kernel::Segment_3(pa[(i + 1) % 3], pa[(i + 2) % 3]));
+      auto edge_meets = [&](const std::array<int, 3>& t, int x, int y) {
+        const CGAL::Orientation side = orientation(t[0], t[1], t[2], x);
+        if (side != CGAL::COPLANAR && side == orientation(t[0], t[1], t[2], y)) return false;
+        return CGAL::do_intersect(Kernel::Triangle_3(point(t[0]), point(t[1]), point(t[2])),
+                                  Kernel::Segment_3(point(x), point(y)));
+      };
+      return edge_meets(a, b[(j + 1) % 3], b[(j + 2) % 3]) || edge_meets(b, a[(i + 1) % 3], a[(i + 2) % 3]);
     }
-    return CGAL::do_intersect(ta, tb);
+    return CGAL::do_intersect(Kernel::Triangle_3(point(a[0]), point(a[1]), point(a[2])),
+                              Kernel::Triangle_3(point(b[0]), point(b[1]), point(b[2])));
+  }
+
+  /// Side of vertex s with respect to the plane through vertices p, q, r, as CGAL::orientation: the
+  /// determinant evaluated in double and trusted when it exceeds Shewchuk's bound on its rounding error
+  /// (Shewchuk 1997, "Adaptive precision floating-point arithmetic and fast robust geometric predicates",
+  /// Discrete Comput. Geom. 18, the o3derrboundA constant); otherwise CGAL's exact predicate decides.
+  CGAL::Orientation orientation(int p, int q, int r, int s) const {
+    const double* o = &mesh_.vertices(p, 0);
+    const double* x = &mesh_.vertices(q, 0);
+    const double* y = &mesh_.vertices(r, 0);
+    const double* z = &mesh_.vertices(s, 0);
+    const double ax = x[0] - o[0], ay = x[1] - o[1], az = x[2] - o[2];
+    const double bx = y[0] - o[0], by = y[1] - o[1], bz = y[2] - o[2];
+    const double cx = z[0] - o[0], cy = z[1] - o[1], cz = z[2] - o[2];
+    const double bycz = by * cz, bzcy = bz * cy, bzcx = bz * cx, bxcz = bx * cz, bxcy = bx * cy,
+                 bycx = by * cx;
+    const double det = ax * (bycz - bzcy) + ay * (bzcx - bxcz) + az * (bxcy - bycx);
+    const double permanent = std::abs(ax) * (std::abs(bycz) + std::abs(bzcy)) +
+                             std::abs(ay) * (std::abs(bzcx) + std::abs(bxcz)) +
+                             std::abs(az) * (std::abs(bxcy) + std::abs(bycx));
+    const double bound = 7.7715611723761027e-16 * permanent;  // (7 + 56 eps) eps, eps = 2^-53
+    if (det > bound) return CGAL::POSITIVE;
+    if (det < -bound) return CGAL::NEGATIVE;
+    return CGAL::orientation(point(p), point(q), point(r), point(s));
   }
 
   const Mesh& mesh_;
