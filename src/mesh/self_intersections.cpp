@@ -149,10 +149,11 @@ class Search {
     }
     spare = {};
     order_.resize(keys.size());
-    boxes_.resize(keys.size());
-    for (size_t i = 0; i < keys.size(); ++i) {
-      const int f = static_cast<int>(keys[i] & 0xffffffffu);
-      order_[i] = f;
+    for (size_t i = 0; i < keys.size(); ++i) order_[i] = static_cast<int>(keys[i] & 0xffffffffu);
+    keys = {};
+    boxes_.resize(order_.size());
+    for (size_t i = 0; i < order_.size(); ++i) {
+      const int f = order_[i];
       Box& box = boxes_[i];
       for (int axis = 0; axis < 3; ++axis) {
         const double x = mesh_.vertices(mesh_.faces(f, 0), axis), y = mesh_.vertices(mesh_.faces(f, 1), axis),
