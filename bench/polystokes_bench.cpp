@@ -338,6 +338,7 @@ double parse_floor(const std::string& path) {
 
 struct ChildRun {
   double seconds = 0;
+  double cpu = 0;         // processor time of the child, user + system
   double peak_bytes = 0;  // peak resident set of the child (ru_maxrss)
   int status = -1;
 };
@@ -359,17 +360,26 @@ ChildRun run_child(const std::vector<std::string>& command) {
   if (child > 0 && wait4(child, &out.status, 0, &usage) == child) {
     out.seconds = seconds_since(start);
     out.peak_bytes = 1024.0 * double(usage.ru_maxrss);
+    out.cpu = double(usage.ru_utime.tv_sec + usage.ru_stime.tv_sec) +
+              1e-6 * double(usage.ru_utime.tv_usec + usage.ru_stime.tv_usec);
   }
   return out;
 }
 
+// Best wall-clock and best processor time (all threads) of `repeat` runs.
+struct Timing {
+  double wall = 1e300, cpu = 1e300;
+};
+
 template <class Work>
-double best_seconds(int repeat, Work&& work) {
-  double best = 1e300;
+Timing best_of(int repeat, Work&& work) {
+  Timing best;
   for (int r = 0; r < repeat; ++r) {
     const auto start = std::chrono::steady_clock::now();
+    const double processor = process_seconds();
     work();
-    best = std::min(best, seconds_since(start));
+    best.wall = std::min(best.wall, seconds_since(start));
+    best.cpu = std::min(best.cpu, process_seconds() - processor);
   }
   return best;
 }
@@ -391,11 +401,11 @@ void print_end_to_end(int frequency, int repeat, int samples, const std::string&
   const double file_bytes = double(probe.tellg());
 
   double checksum = 0;
-  const double floor = best_seconds(repeat, [&] { checksum += parse_floor(path); });
+  const Timing floor = best_of(repeat, [&] { checksum += parse_floor(path); });
   MeshReadOptions read_options;
   read_options.unit = LengthUnit::kilometer;
   Mesh mesh;
-  const double read = best_seconds(repeat, [&] { mesh = read_mesh(path, read_options); });
+  const Timing read = best_of(repeat, [&] { mesh = read_mesh(path, read_options); });
   // Peak resident increase of each in-process stage: reading (file to Mesh), then checks and coefficients
   // on the mesh in memory (the mesh itself not counted).
   auto peak_increase = [&](auto&& work) {
@@ -416,17 +426,15 @@ void print_end_to_end(int frequency, int repeat, int samples, const std::string&
                              checksum += compute_coefficients({{copy, 2000.0}}, options).C(2, 0);
                            }) -
                            bytes;
-  double checks = 0, self_one = 0, self_two = 0, self_cpu = 0;
+  Timing checks, self_one, self_two;
   {
     tbb::global_control one(tbb::global_control::max_allowed_parallelism, 1);
-    checks = best_seconds(repeat, [&] { checksum += double(inspect_mesh(mesh).checks.size()); });
-    const double processor = process_seconds();
-    self_one = best_seconds(repeat, [&] { checksum += double(self_intersecting_pairs(mesh).count); });
-    self_cpu = (process_seconds() - processor) / repeat;
+    checks = best_of(repeat, [&] { checksum += double(inspect_mesh(mesh).checks.size()); });
+    self_one = best_of(repeat, [&] { checksum += double(self_intersecting_pairs(mesh).count); });
   }
   {
     tbb::global_control two(tbb::global_control::max_allowed_parallelism, 2);
-    self_two = best_seconds(repeat, [&] { checksum += double(self_intersecting_pairs(mesh).count); });
+    self_two = best_of(repeat, [&] { checksum += double(self_intersecting_pairs(mesh).count); });
   }
   ChildRun command;
   command.seconds = 1e300;
@@ -438,6 +446,7 @@ void print_end_to_end(int frequency, int repeat, int samples, const std::string&
       break;
     }
     if (run.seconds < command.seconds) command.seconds = run.seconds;
+    command.cpu = r == 0 ? run.cpu : std::min(command.cpu, run.cpu);
     command.peak_bytes = std::max(command.peak_bytes, run.peak_bytes);
     command.status = 0;
   }
@@ -448,7 +457,7 @@ void print_end_to_end(int frequency, int repeat, int samples, const std::string&
   compute.degree = 20;
   compute.execution.threads = 2;
   const double coefficients =
-      best_seconds(repeat, [&] { checksum += compute_coefficients(regions, compute).C(2, 0); });
+      best_of(repeat, [&] { checksum += compute_coefficients(regions, compute).C(2, 0); }).wall;
   UncertaintySettings noise;
   noise.samples = samples;
   noise.shape.sigma = 1e-4 * mean_edge_length(mesh);
@@ -461,18 +470,19 @@ void print_end_to_end(int frequency, int repeat, int samples, const std::string&
       "\nend to end on a lumpy OBJ in km: %ld facets, %.1f MB file, mesh %.1f MB (24 B per vertex, 12 B "
       "per face)\n",
       faces, file_bytes / 1e6, bytes / 1e6);
-  std::printf("%-44s %9s %9s %9s\n", "stage", "seconds", "x floor", "target");
-  auto row = [&](const char* stage, double seconds, const char* target) {
-    std::printf("%-44s %9.3f %9.2f %9s\n", stage, seconds, seconds / floor, target);
+  std::printf("%-44s %9s %9s %9s %9s %9s\n", "stage", "seconds", "x floor", "cpu s", "cpu ratio", "target");
+  auto row = [&](const char* stage, const Timing& time, const char* target) {
+    std::printf("%-44s %9.3f %9.2f %9.3f %9.2f %9s\n", stage, time.wall, time.wall / floor.wall, time.cpu,
+                time.cpu / floor.cpu, target);
   };
   row("parse floor (read + from_chars, 1 thread)", floor, "");
   row("read_mesh (library reader, welding)", read, "");
   row("inspect_mesh (all checks, 1 thread)", checks, "");
   row("self-intersections alone, 1 thread", self_one, "<= 2.5");
   row("self-intersections alone, 2 threads", self_two, "<= 2.5");
-  std::printf("%-44s %9.3f\n", "self-intersections, processor s (1 thread)", self_cpu);
   if (command.status == 0) {
-    row("polystokes compute --degree 20 --threads 2", command.seconds, "<= 5");
+    std::printf("%-44s %9.3f %9.2f %9.3f %9.2f %9s\n", "polystokes compute --degree 20 --threads 2",
+                command.seconds, command.seconds / floor.wall, command.cpu, command.cpu / floor.cpu, "<= 5");
     std::printf("%-44s %7.1f MB %9.2f %9s\n", "peak resident of compute (x mesh size)",
                 command.peak_bytes / 1e6, command.peak_bytes / bytes, "<= 6");
   } else {
@@ -518,6 +528,7 @@ void usage() {
       "usage: polystokes_bench [--quick] [--frequencies K,..] [--degrees N,..] [--threads T,..] [--repeat "
       "R]\n"
       "                        [--gravity-frequency K] [--gravity-points P] [--no-shuffled] [--accuracy N]\n"
+      "                        [--end-to-end K] [--polystokes PATH]\n"
       "Meshes are lumpy geodesic spheres with 20 K^2 facets (default K = 71, 100, 224: 1.0e5, 2.0e5, 1.0e6\n"
       "facets); --quick uses K = 23, 32 and degrees 20, 50 for a run of a few seconds. --accuracy N adds "
       "the\n"

@@ -2,7 +2,9 @@
 
 #include <CGAL/Exact_predicates_inexact_constructions_kernel.h>
 #include <CGAL/intersections.h>
+#include <tbb/blocked_range.h>
 #include <tbb/combinable.h>
+#include <tbb/parallel_for.h>
 #include <tbb/parallel_invoke.h>
 
 #include <Eigen/Geometry>
@@ -125,20 +127,27 @@ class Search {
     const auto faces = static_cast<int>(mesh_.faces.rows());
     const Eigen::Vector3d low = mesh_.vertices.colwise().minCoeff().transpose();
     const Eigen::Vector3d extent = mesh_.vertices.colwise().maxCoeff().transpose() - low;
-    std::vector<std::uint64_t> keys;
-    keys.reserve(static_cast<size_t>(faces));
-    for (int f = 0; f < faces; ++f) {
-      const int a = mesh_.faces(f, 0), b = mesh_.faces(f, 1), c = mesh_.faces(f, 2);
-      if (maybe_collinear(a, b, c) && CGAL::collinear(point(a), point(b), point(c))) continue;
-      std::uint32_t code = 0;
-      for (int axis = 0; axis < 3; ++axis) {
-        const double centre =
-            (mesh_.vertices(a, axis) + mesh_.vertices(b, axis) + mesh_.vertices(c, axis)) / 3.0 - low[axis];
-        const double cell = extent[axis] > 0 ? std::clamp(centre / extent[axis], 0.0, 1.0) * 1023.0 : 0.0;
-        code |= spread_bits(static_cast<std::uint32_t>(cell)) << axis;
+    // Collinear faces get the key kNone, which sorts last (a face's key has its number in the low bits).
+    constexpr std::uint64_t kNone = std::numeric_limits<std::uint64_t>::max();
+    std::vector<std::uint64_t> keys(static_cast<size_t>(faces));
+    tbb::parallel_for(tbb::blocked_range<int>(0, faces, 4096), [&](const tbb::blocked_range<int>& range) {
+      for (int f = range.begin(); f < range.end(); ++f) {
+        const int a = mesh_.faces(f, 0), b = mesh_.faces(f, 1), c = mesh_.faces(f, 2);
+        if (maybe_collinear(a, b, c) && CGAL::collinear(point(a), point(b), point(c))) {
+          keys[static_cast<size_t>(f)] = kNone;
+          continue;
+        }
+        std::uint32_t code = 0;
+        for (int axis = 0; axis < 3; ++axis) {
+          const double centre =
+              (mesh_.vertices(a, axis) + mesh_.vertices(b, axis) + mesh_.vertices(c, axis)) / 3.0 - low[axis];
+          const double cell = extent[axis] > 0 ? std::clamp(centre / extent[axis], 0.0, 1.0) * 1023.0 : 0.0;
+          code |= spread_bits(static_cast<std::uint32_t>(cell)) << axis;
+        }
+        keys[static_cast<size_t>(f)] = static_cast<std::uint64_t>(code) << 32 | static_cast<std::uint32_t>(f);
       }
-      keys.push_back(static_cast<std::uint64_t>(code) << 32 | static_cast<std::uint32_t>(f));
-    }
+    });
+    keys.erase(std::remove(keys.begin(), keys.end(), kNone), keys.end());
     std::vector<std::uint64_t> spare(keys.size());
     for (int shift = 32; shift < 62; shift += 10) {
       std::array<size_t, 1025> start{};
@@ -152,16 +161,20 @@ class Search {
     for (size_t i = 0; i < keys.size(); ++i) order_[i] = static_cast<int>(keys[i] & 0xffffffffu);
     keys = {};
     boxes_.resize(order_.size());
-    for (size_t i = 0; i < order_.size(); ++i) {
-      const int f = order_[i];
-      Box& box = boxes_[i];
-      for (int axis = 0; axis < 3; ++axis) {
-        const double x = mesh_.vertices(mesh_.faces(f, 0), axis), y = mesh_.vertices(mesh_.faces(f, 1), axis),
-                     z = mesh_.vertices(mesh_.faces(f, 2), axis);
-        box.lo[axis] = round_down(std::min({x, y, z}));
-        box.hi[axis] = round_up(std::max({x, y, z}));
-      }
-    }
+    tbb::parallel_for(tbb::blocked_range<size_t>(0, order_.size(), 4096),
+                      [&](const tbb::blocked_range<size_t>& range) {
+                        for (size_t i = range.begin(); i < range.end(); ++i) {
+                          const int f = order_[i];
+                          Box& box = boxes_[i];
+                          for (int axis = 0; axis < 3; ++axis) {
+                            const double x = mesh_.vertices(mesh_.faces(f, 0), axis),
+                                         y = mesh_.vertices(mesh_.faces(f, 1), axis),
+                                         z = mesh_.vertices(mesh_.faces(f, 2), axis);
+                            box.lo[axis] = round_down(std::min({x, y, z}));
+                            box.hi[axis] = round_up(std::max({x, y, z}));
+                          }
+                        }
+                      });
   }
 
   /// A complete binary tree in heap layout (root 1, children 2i and 2i+1) over leaves of kLeafFaces
@@ -252,7 +265,7 @@ class Search {
       const int p = a[i], q = a[(i + 1) % 3], r = a[(i + 2) % 3];
       int k = 0;
       while (b[k] == p || b[k] == q) ++k;
-      if (orientation(p, q, r, b[k]) != CGAL::COPLANAR) return false;
+      if (Plane(*this, p, q, r).side(b[k]) != CGAL::COPLANAR) return false;
       return CGAL::coplanar_orientation(point(p), point(q), point(r), point(b[k])) == CGAL::POSITIVE;
     }
     if (shared == 1) {
@@ -263,8 +276,9 @@ class Search {
       while (!in_b(a[i])) ++i;
       while (b[j] != a[i]) ++j;
       auto edge_meets = [&](const std::array<int, 3>& t, int x, int y) {
-        const CGAL::Orientation side = orientation(t[0], t[1], t[2], x);
-        if (side != CGAL::COPLANAR && side == orientation(t[0], t[1], t[2], y)) return false;
+        const Plane plane(*this, t[0], t[1], t[2]);
+        const CGAL::Orientation side = plane.side(x);
+        if (side != CGAL::COPLANAR && side == plane.side(y)) return false;
         return CGAL::do_intersect(Kernel::Triangle_3(point(t[0]), point(t[1]), point(t[2])),
                                   Kernel::Segment_3(point(x), point(y)));
       };
@@ -274,29 +288,46 @@ class Search {
                               Kernel::Triangle_3(point(b[0]), point(b[1]), point(b[2])));
   }
 
-  /// Side of vertex s with respect to the plane through vertices p, q, r, as CGAL::orientation: the
-  /// determinant evaluated in double and trusted when it exceeds Shewchuk's bound on its rounding error
-  /// (Shewchuk 1997, "Adaptive precision floating-point arithmetic and fast robust geometric predicates",
-  /// Discrete Comput. Geom. 18, the o3derrboundA constant); otherwise CGAL's exact predicate decides.
-  CGAL::Orientation orientation(int p, int q, int r, int s) const {
-    const double* o = &mesh_.vertices(p, 0);
-    const double* x = &mesh_.vertices(q, 0);
-    const double* y = &mesh_.vertices(r, 0);
-    const double* z = &mesh_.vertices(s, 0);
-    const double ax = x[0] - o[0], ay = x[1] - o[1], az = x[2] - o[2];
-    const double bx = y[0] - o[0], by = y[1] - o[1], bz = y[2] - o[2];
-    const double cx = z[0] - o[0], cy = z[1] - o[1], cz = z[2] - o[2];
-    const double bycz = by * cz, bzcy = bz * cy, bzcx = bz * cx, bxcz = bx * cz, bxcy = bx * cy,
-                 bycx = by * cx;
-    const double det = ax * (bycz - bzcy) + ay * (bzcx - bxcz) + az * (bxcy - bycx);
-    const double permanent = std::abs(ax) * (std::abs(bycz) + std::abs(bzcy)) +
-                             std::abs(ay) * (std::abs(bzcx) + std::abs(bxcz)) +
-                             std::abs(az) * (std::abs(bxcy) + std::abs(bycx));
-    const double bound = 7.7715611723761027e-16 * permanent;  // (7 + 56 eps) eps, eps = 2^-53
-    if (det > bound) return CGAL::POSITIVE;
-    if (det < -bound) return CGAL::NEGATIVE;
-    return CGAL::orientation(point(p), point(q), point(r), point(s));
-  }
+  /// The plane through vertices p, q, r, for the side of further vertices as CGAL::orientation gives it:
+  /// the determinant evaluated in double (normal once, then one dot product per vertex) and trusted when it
+  /// exceeds Shewchuk's bound on its rounding error (Shewchuk 1997, "Adaptive precision floating-point
+  /// arithmetic and fast robust geometric predicates", Discrete Comput. Geom. 18, o3derrboundA, which holds
+  /// for any order of the determinant's rows since the permanent does not depend on it); otherwise CGAL's
+  /// exact predicate decides.
+  class Plane {
+   public:
+    Plane(const Search& search, int p, int q, int r) : search_(search), p_(p), q_(q), r_(r) {
+      const double* o = &search.mesh_.vertices(p, 0);
+      const double* x = &search.mesh_.vertices(q, 0);
+      const double* y = &search.mesh_.vertices(r, 0);
+      const double ax = x[0] - o[0], ay = x[1] - o[1], az = x[2] - o[2];
+      const double bx = y[0] - o[0], by = y[1] - o[1], bz = y[2] - o[2];
+      const double aybz = ay * bz, azby = az * by, azbx = az * bx, axbz = ax * bz, axby = ax * by,
+                   aybx = ay * bx;
+      normal_ = {aybz - azby, azbx - axbz, axby - aybx};
+      permanent_ = {std::abs(aybz) + std::abs(azby), std::abs(azbx) + std::abs(axbz),
+                    std::abs(axby) + std::abs(aybx)};
+      origin_ = o;
+    }
+
+    CGAL::Orientation side(int s) const {
+      const double* z = &search_.mesh_.vertices(s, 0);
+      const double dx = z[0] - origin_[0], dy = z[1] - origin_[1], dz = z[2] - origin_[2];
+      const double det = dx * normal_[0] + dy * normal_[1] + dz * normal_[2];
+      const double bound =
+          7.7715611723761027e-16 *  // (7 + 56 eps) eps, eps = 2^-53
+          (std::abs(dx) * permanent_[0] + std::abs(dy) * permanent_[1] + std::abs(dz) * permanent_[2]);
+      if (det > bound) return CGAL::POSITIVE;
+      if (det < -bound) return CGAL::NEGATIVE;
+      return CGAL::orientation(search_.point(p_), search_.point(q_), search_.point(r_), search_.point(s));
+    }
+
+   private:
+    const Search& search_;
+    int p_, q_, r_;
+    const double* origin_;
+    std::array<double, 3> normal_, permanent_;
+  };
 
   const Mesh& mesh_;
   std::vector<int> order_;  ///< face numbers in Morton order
