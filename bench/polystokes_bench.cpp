@@ -1,18 +1,22 @@
 // Benchmark of the exact coefficient computation against its cost floor, and of the exact polyhedron gravity.
 // Prints one table: facets, degree, threads, seconds, floor seconds, ratio, peak memory; then gravity
-// figures.
+// figures; then the whole `compute` command on a 10^6-facet OBJ file against the cost of parsing it.
 //
-// The floor: every facet must touch each of the (N+1)^2 coefficients, so a computation needs at least
-// F (N+1)^2 multiply-adds. The floor loop does exactly that many over data read from memory (a per-facet
-// weight times (N+1)^2 table values, the table cycled so it stays in the first-level cache; eight independent
-// vector accumulators), split over the same threads and built with the same instruction-set clones as the
-// kernel; its result is printed so it cannot be removed.
+// The coefficient floor: every facet must touch each of the (N+1)^2 coefficients, so a computation needs at
+// least F (N+1)^2 multiply-adds. The floor loop does exactly that many over data read from memory (a
+// per-facet weight times (N+1)^2 table values, the table cycled so it stays in the first-level cache; eight
+// independent vector accumulators), split over the same threads and built with the same instruction-set
+// clones as the kernel; its result is printed so it cannot be removed.
 #include <malloc.h>
 #include <sys/resource.h>
+#include <sys/wait.h>
+#include <tbb/global_control.h>
 #include <time.h>
+#include <unistd.h>
 
 #include <Eigen/Geometry>
 #include <algorithm>
+#include <charconv>
 #include <chrono>
 #include <cmath>
 #include <cstdio>
@@ -24,11 +28,16 @@
 #include <thread>
 #include <vector>
 
-#include "polystokes/harmonics/harmonics.h"
 #include "harmonics/moment_kernel.h"
+#include "mesh/self_intersections.h"
 #include "polystokes/field/polyhedron_gravity.h"
 #include "polystokes/field/series.h"
+#include "polystokes/harmonics/harmonics.h"
+#include "polystokes/io/mesh_io.h"
+#include "polystokes/mesh/mesh_check.h"
+#include "polystokes/mesh/mesh_measures.h"
 #include "polystokes/mesh/shapes.h"
+#include "polystokes/uncertainty/uncertainty.h"
 
 #if defined(__x86_64__) && defined(__GNUC__) && !defined(__clang__)
 #define BENCH_CLONES __attribute__((target_clones("arch=x86-64-v3", "default")))
@@ -292,12 +301,215 @@ void print_accuracy(int max_degree) {
   }
 }
 
+// --- End to end: the `compute` command on an OBJ file against the parse floor, the cost of reading the
+// file's bytes into memory and converting every number in it with std::from_chars on one thread, nothing
+// else (no mesh is built). Any reader must do at least this much.
+
+// The parse floor over `path`: the file read whole, then each "v" line's numbers as doubles and each "f"
+// line's as integers; returns the sum of all numbers so that the conversions cannot be removed.
+double parse_floor(const std::string& path) {
+  std::ifstream in(path, std::ios::binary);
+  const std::string text((std::istreambuf_iterator<char>(in)), std::istreambuf_iterator<char>());
+  double sum = 0;
+  const char* p = text.data();
+  const char* const end = p + text.size();
+  while (p < end) {
+    const char* line_end = static_cast<const char*>(std::memchr(p, '\n', size_t(end - p)));
+    if (line_end == nullptr) line_end = end;
+    const bool vertex = *p == 'v', face = *p == 'f';
+    for (++p; (vertex || face) && p < line_end;) {
+      while (p < line_end && *p == ' ') ++p;
+      if (p == line_end) break;
+      if (vertex) {
+        double value = 0;
+        p = std::from_chars(p, line_end, value).ptr;
+        sum += value;
+      } else {
+        long value = 0;
+        p = std::from_chars(p, line_end, value).ptr;
+        sum += double(value);
+      }
+      while (p < line_end && *p != ' ') ++p;  // the rest of a "i/j/k" face corner
+    }
+    p = line_end + 1;
+  }
+  return sum;
+}
+
+struct ChildRun {
+  double seconds = 0;
+  double cpu = 0;         // processor time of the child, user + system
+  double peak_bytes = 0;  // peak resident set of the child (ru_maxrss)
+  int status = -1;
+};
+
+// Runs a program with its arguments, output to /dev/null, and waits for it.
+ChildRun run_child(const std::vector<std::string>& command) {
+  std::vector<char*> argv;
+  for (const std::string& word : command) argv.push_back(const_cast<char*>(word.c_str()));
+  argv.push_back(nullptr);
+  const auto start = std::chrono::steady_clock::now();
+  const pid_t child = fork();
+  if (child == 0) {
+    std::freopen("/dev/null", "w", stdout);
+    execv(argv[0], argv.data());
+    _exit(127);
+  }
+  ChildRun out;
+  rusage usage{};
+  if (child > 0 && wait4(child, &out.status, 0, &usage) == child) {
+    out.seconds = seconds_since(start);
+    out.peak_bytes = 1024.0 * double(usage.ru_maxrss);
+    out.cpu = double(usage.ru_utime.tv_sec + usage.ru_stime.tv_sec) +
+              1e-6 * double(usage.ru_utime.tv_usec + usage.ru_stime.tv_usec);
+  }
+  return out;
+}
+
+// Best wall-clock and best processor time (all threads) of `repeat` runs.
+struct Timing {
+  double wall = 1e300, cpu = 1e300;
+};
+
+template <class Work>
+Timing best_of(int repeat, Work&& work) {
+  Timing best;
+  for (int r = 0; r < repeat; ++r) {
+    const auto start = std::chrono::steady_clock::now();
+    const double processor = process_seconds();
+    work();
+    best.wall = std::min(best.wall, seconds_since(start));
+    best.cpu = std::min(best.cpu, process_seconds() - processor);
+  }
+  return best;
+}
+
+void print_end_to_end(int frequency, int repeat, int samples, const std::string& executable) {
+  char directory[] = "/tmp/polystokes_bench_XXXXXX";
+  if (mkdtemp(directory) == nullptr) {
+    std::printf("\nend to end: no temporary directory\n");
+    return;
+  }
+  const std::string path = std::string(directory) + "/lumpy.obj",
+                    output = std::string(directory) + "/set.txt";
+  Mesh generated = lumpy_body(frequency);
+  write_obj(generated, path, LengthUnit::kilometer);
+  const double bytes = mesh_bytes(generated);
+  const long faces = long(generated.faces.rows());
+  generated = Mesh();
+  std::ifstream probe(path, std::ios::binary | std::ios::ate);
+  const double file_bytes = double(probe.tellg());
+
+  double checksum = 0;
+  const Timing floor = best_of(repeat, [&] { checksum += parse_floor(path); });
+  MeshReadOptions read_options;
+  read_options.unit = LengthUnit::kilometer;
+  Mesh mesh;
+  const Timing read = best_of(repeat, [&] { mesh = read_mesh(path, read_options); });
+  // Peak resident increase of each in-process stage: reading (file to Mesh), then checks and coefficients
+  // on the mesh in memory (the mesh itself not counted).
+  auto peak_increase = [&](auto&& work) {
+    malloc_trim(0);
+    const double before = status_bytes("VmRSS");
+    if (!reset_peak()) return 0.0;
+    work();
+    return status_bytes("VmHWM") - before;
+  };
+  mesh = Mesh();
+  const double read_peak = peak_increase([&] { mesh = read_mesh(path, read_options); });
+  const double work_peak = peak_increase([&] {
+                             Mesh copy = mesh;
+                             checksum += double(validate_mesh(copy).checks.size());
+                             ComputeOptions options;
+                             options.degree = 20;
+                             options.execution.threads = 2;
+                             checksum += compute_coefficients({{copy, 2000.0}}, options).C(2, 0);
+                           }) -
+                           bytes;
+  Timing checks, self_one, self_two;
+  {
+    tbb::global_control one(tbb::global_control::max_allowed_parallelism, 1);
+    checks = best_of(repeat, [&] { checksum += double(inspect_mesh(mesh).checks.size()); });
+    self_one = best_of(repeat, [&] { checksum += double(self_intersecting_pairs(mesh).count); });
+  }
+  {
+    tbb::global_control two(tbb::global_control::max_allowed_parallelism, 2);
+    self_two = best_of(repeat, [&] { checksum += double(self_intersecting_pairs(mesh).count); });
+  }
+  ChildRun command;
+  command.seconds = 1e300;
+  for (int r = 0; r < repeat; ++r) {
+    const ChildRun run = run_child({executable, "compute", path, "--unit", "km", "--density", "2000",
+                                    "--degree", "20", "--threads", "2", "-o", output});
+    if (run.status != 0) {
+      command = run;
+      break;
+    }
+    if (run.seconds < command.seconds) command.seconds = run.seconds;
+    command.cpu = r == 0 ? run.cpu : std::min(command.cpu, run.cpu);
+    command.peak_bytes = std::max(command.peak_bytes, run.peak_bytes);
+    command.status = 0;
+  }
+
+  // Monte Carlo: one shape-noise sample against one coefficient computation, both at degree 20 on 2 threads.
+  const std::vector<DensityRegion> regions{{mesh, 2000.0}};
+  ComputeOptions compute;
+  compute.degree = 20;
+  compute.execution.threads = 2;
+  const double coefficients =
+      best_of(repeat, [&] { checksum += compute_coefficients(regions, compute).C(2, 0); }).wall;
+  UncertaintySettings noise;
+  noise.samples = samples;
+  noise.shape.sigma = 1e-4 * mean_edge_length(mesh);
+  const UncertaintyPlan plan = plan_uncertainty(regions, compute, noise);
+  const auto start = std::chrono::steady_clock::now();
+  for (long i = 0; i < samples; ++i) checksum += run_sample(plan, i).gm_delta;
+  const double per_sample = seconds_since(start) / double(samples);
+
+  std::printf(
+      "\nend to end on a lumpy OBJ in km: %ld facets, %.1f MB file, mesh %.1f MB (24 B per vertex, 12 B "
+      "per face)\n",
+      faces, file_bytes / 1e6, bytes / 1e6);
+  std::printf("%-44s %9s %9s %9s %9s %9s\n", "stage", "seconds", "x floor", "cpu s", "cpu ratio", "target");
+  auto row = [&](const char* stage, const Timing& time, const char* target) {
+    std::printf("%-44s %9.3f %9.2f %9.3f %9.2f %9s\n", stage, time.wall, time.wall / floor.wall, time.cpu,
+                time.cpu / floor.cpu, target);
+  };
+  row("parse floor (read + from_chars, 1 thread)", floor, "");
+  row("read_mesh (library reader, welding)", read, "");
+  row("inspect_mesh (all checks, 1 thread)", checks, "");
+  row("self-intersections alone, 1 thread", self_one, "<= 2.5");
+  row("self-intersections alone, 2 threads", self_two, "<= 2.5");
+  if (command.status == 0) {
+    std::printf("%-44s %9.3f %9.2f %9.3f %9.2f %9s\n", "polystokes compute --degree 20 --threads 2",
+                command.seconds, command.seconds / floor.wall, command.cpu, command.cpu / floor.cpu, "<= 5");
+    std::printf("%-44s %7.1f MB %9.2f %9s\n", "peak resident of compute (x mesh size)",
+                command.peak_bytes / 1e6, command.peak_bytes / bytes, "<= 6");
+  } else {
+    std::printf("%-44s failed (status %d): %s\n", "polystokes compute", command.status, executable.c_str());
+  }
+  std::printf("%-44s %7.1f MB %9.2f\n", "in process: peak increase of read_mesh", read_peak / 1e6,
+              read_peak / bytes);
+  std::printf("%-44s %7.1f MB %9.2f\n", "  of checks + coefficients (mesh copy excl.)", work_peak / 1e6,
+              work_peak / bytes);
+  std::printf("%-44s %9.3f\n", "compute_coefficients, degree 20, 2 threads", coefficients);
+  std::printf("%-44s %9.3f %9.2f %9s\n", "Monte Carlo sample (x coefficient time)", per_sample,
+              per_sample / coefficients, "<= 2");
+  std::printf("(checksum %.6g)\n", checksum);
+  std::remove(output.c_str());
+  std::remove(path.c_str());
+  rmdir(directory);
+}
+
 struct Settings {
   std::vector<int> frequencies, degrees, threads;
   int repeat = 2;
   bool shuffled_row = true;
   int gravity_frequency = 71, gravity_points = 64;
-  int accuracy_degree = 0;  // 0: no accuracy section
+  int accuracy_degree = 0;         // 0: no accuracy section
+  int end_to_end_frequency = 224;  // 0: no end-to-end section
+  int samples = 4;                 // Monte Carlo samples timed
+  std::string executable;          // the polystokes program; default: beside this one
 };
 
 std::vector<int> parse_list(const char* text) {
@@ -316,12 +528,69 @@ void usage() {
       "usage: polystokes_bench [--quick] [--frequencies K,..] [--degrees N,..] [--threads T,..] [--repeat "
       "R]\n"
       "                        [--gravity-frequency K] [--gravity-points P] [--no-shuffled] [--accuracy N]\n"
+      "                        [--end-to-end K] [--polystokes PATH]\n"
       "Meshes are lumpy geodesic spheres with 20 K^2 facets (default K = 71, 100, 224: 1.0e5, 2.0e5, 1.0e6\n"
       "facets); --quick uses K = 23, 32 and degrees 20, 50 for a run of a few seconds. --accuracy N adds "
       "the\n"
       "error of the fast path against the quadrature reference (to degree 150) and against the same "
       "recursion\n"
-      "in extended precision (to degree N) on three small bodies.\n");
+      "in extended precision (to degree N) on three small bodies. --gravity-frequency 0 skips the gravity\n"
+      "and series figures. --end-to-end K (default 224, --quick 50, 0 skips): the compute command on a lumpy "
+      "OBJ file of 20 K^2\n"
+      "facets against the parse floor, the self-intersection test alone, peak memory and the Monte Carlo\n"
+      "per-sample cost; PATH is the polystokes program (default: beside this benchmark).\n");
+}
+
+// Exact polyhedron gravity (used by `field` and `validate`): cost per facet and point, near and far; then
+// series evaluation (the other half of `validate`) per point at the largest degree benchmarked.
+void print_gravity(const Settings& settings, double& checksum) {
+  const Mesh body = lumpy_body(settings.gravity_frequency);
+  const std::vector<DensityRegion> regions{{body, 2000.0}};
+  const PolyhedronGravity gravity(regions);
+  std::mt19937_64 random(7);
+  std::normal_distribution<double> normal;
+  std::printf("\npolyhedron gravity on %s (%ld facets), %d points per set: ns per facet-point\n",
+              body.source.c_str(), long(body.faces.rows()), settings.gravity_points);
+  std::printf("%-22s %7s %9s %12s %9s\n", "points", "threads", "seconds", "ns/facet-pt", "speedup");
+  for (double radius : {1.3e3, 3.0e3, 1.0e5}) {
+    Points points(settings.gravity_points, 3);
+    for (int i = 0; i < settings.gravity_points; ++i) {
+      Eigen::Vector3d d(normal(random), normal(random), normal(random));
+      points.row(i) = (radius * d.normalized()).transpose();
+    }
+    double one = 0;
+    for (int threads : settings.threads) {
+      double best = 1e300;
+      for (int r = 0; r < settings.repeat; ++r) {
+        const auto start = std::chrono::steady_clock::now();
+        const auto values = gravity.evaluate(points, threads);
+        best = std::min(best, seconds_since(start));
+        checksum += values.front().potential;
+      }
+      if (threads == 1) one = best;
+      const double per = best / (double(body.faces.rows()) * double(settings.gravity_points)) * 1e9;
+      std::printf("at r = %-15.0f %7d %9.3f %12.2f %9s\n", radius, threads, best, per,
+                  one > 0 ? std::to_string(one / best).substr(0, 4).c_str() : "-");
+    }
+  }
+
+  if (!settings.degrees.empty()) {
+    ComputeOptions options;
+    options.degree = *std::max_element(settings.degrees.begin(), settings.degrees.end());
+    const CoefficientSet set = compute_coefficients(regions, options);
+    const SeriesModel series(set);
+    Points points(1000, 3);
+    for (int i = 0; i < 1000; ++i) {
+      Eigen::Vector3d d(normal(random), normal(random), normal(random));
+      points.row(i) = (2.0 * set.reference_radius * d.normalized()).transpose();
+    }
+    const auto start = std::chrono::steady_clock::now();
+    const auto values = series.evaluate(points, 1);
+    const double seconds = seconds_since(start);
+    checksum += values.front().potential;
+    std::printf("\nseries to degree %d: %.2f us per point (potential, acceleration, gradient; 1 thread)\n",
+                options.degree, seconds / 1000 * 1e6);
+  }
 }
 
 }  // namespace
@@ -347,6 +616,8 @@ int main(int argc, char** argv) {
       settings.repeat = 1;
       settings.gravity_frequency = 16;
       settings.gravity_points = 16;
+      settings.end_to_end_frequency = 50;
+      settings.samples = 2;
     } else if (arg == "--frequencies") {
       settings.frequencies = parse_list(value());
     } else if (arg == "--degrees") {
@@ -361,6 +632,10 @@ int main(int argc, char** argv) {
       settings.gravity_points = std::max(1, std::atoi(value()));
     } else if (arg == "--accuracy") {
       settings.accuracy_degree = std::atoi(value());
+    } else if (arg == "--end-to-end") {
+      settings.end_to_end_frequency = std::atoi(value());
+    } else if (arg == "--polystokes") {
+      settings.executable = value();
     } else if (arg == "--no-shuffled") {
       settings.shuffled_row = false;
     } else if (arg == "--help" || arg == "-h") {
@@ -430,56 +705,18 @@ int main(int argc, char** argv) {
     }
   }
 
-  // Exact polyhedron gravity (used by `field` and `validate`): cost per facet and point, near and far.
-  const Mesh body = lumpy_body(settings.gravity_frequency);
-  const std::vector<DensityRegion> regions{{body, 2000.0}};
-  const PolyhedronGravity gravity(regions);
-  std::mt19937_64 random(7);
-  std::normal_distribution<double> normal;
-  std::printf("\npolyhedron gravity on %s (%ld facets), %d points per set: ns per facet-point\n",
-              body.source.c_str(), long(body.faces.rows()), settings.gravity_points);
-  std::printf("%-22s %7s %9s %12s %9s\n", "points", "threads", "seconds", "ns/facet-pt", "speedup");
-  for (double radius : {1.3e3, 3.0e3, 1.0e5}) {
-    Points points(settings.gravity_points, 3);
-    for (int i = 0; i < settings.gravity_points; ++i) {
-      Eigen::Vector3d d(normal(random), normal(random), normal(random));
-      points.row(i) = (radius * d.normalized()).transpose();
-    }
-    double one = 0;
-    for (int threads : settings.threads) {
-      double best = 1e300;
-      for (int r = 0; r < settings.repeat; ++r) {
-        const auto start = std::chrono::steady_clock::now();
-        const auto values = gravity.evaluate(points, threads);
-        best = std::min(best, seconds_since(start));
-        checksum += values.front().potential;
-      }
-      if (threads == 1) one = best;
-      const double per = best / (double(body.faces.rows()) * double(settings.gravity_points)) * 1e9;
-      std::printf("at r = %-15.0f %7d %9.3f %12.2f %9s\n", radius, threads, best, per,
-                  one > 0 ? std::to_string(one / best).substr(0, 4).c_str() : "-");
-    }
-  }
-
-  // Series evaluation (the other half of `validate`): per point at the largest degree benchmarked.
-  if (!settings.degrees.empty()) {
-    ComputeOptions options;
-    options.degree = *std::max_element(settings.degrees.begin(), settings.degrees.end());
-    const CoefficientSet set = compute_coefficients(regions, options);
-    const SeriesModel series(set);
-    Points points(1000, 3);
-    for (int i = 0; i < 1000; ++i) {
-      Eigen::Vector3d d(normal(random), normal(random), normal(random));
-      points.row(i) = (2.0 * set.reference_radius * d.normalized()).transpose();
-    }
-    const auto start = std::chrono::steady_clock::now();
-    const auto values = series.evaluate(points, 1);
-    const double seconds = seconds_since(start);
-    checksum += values.front().potential;
-    std::printf("\nseries to degree %d: %.2f us per point (potential, acceleration, gradient; 1 thread)\n",
-                options.degree, seconds / 1000 * 1e6);
-  }
+  if (settings.gravity_frequency > 0) print_gravity(settings, checksum);
   if (settings.accuracy_degree > 0) print_accuracy(settings.accuracy_degree);
+  if (settings.end_to_end_frequency > 0) {
+    std::string executable = settings.executable;
+    if (executable.empty()) {
+      char self[4096] = {};
+      const ssize_t length = readlink("/proc/self/exe", self, sizeof self - 1);
+      const std::string here(self, size_t(std::max<ssize_t>(0, length)));
+      executable = here.substr(0, here.rfind('/') + 1) + "polystokes";
+    }
+    print_end_to_end(settings.end_to_end_frequency, settings.repeat, settings.samples, executable);
+  }
   std::printf("\n(checksum %.6g)\n", checksum);
   return 0;
 }

@@ -1,11 +1,19 @@
 #include "polystokes/mesh/mesh_check.h"
 
+#include <CGAL/Exact_predicates_inexact_constructions_kernel.h>
+#include <CGAL/Polygon_mesh_processing/self_intersections.h>
+#include <CGAL/Surface_mesh.h>
+
 #include <Eigen/Geometry>
+#include <algorithm>
+#include <array>
 #include <chrono>
 #include <cmath>
 #include <limits>
+#include <numeric>
 #include <random>
 
+#include "mesh/self_intersections.h"
 #include "polystokes/core/errors.h"
 #include "polystokes/io/mesh_io.h"
 #include "polystokes/mesh/shapes.h"
@@ -400,4 +408,199 @@ TEST_CASE("check_regions accepts a void inside the body and refuses one that is 
   SECTION("the first region must have a positive density") {
     REQUIRE_THROWS_AS(check_regions({{outer, -1500}}), MeshError);
   }
+}
+
+// --- The self-intersection search (mesh/self_intersections.h) against cases decided by hand and against
+// CGAL's own whole-mesh test, Polygon_mesh_processing::self_intersections on a Surface_mesh (CGAL 5.5), as
+// an outside oracle: the search shares only CGAL's predicates, not that code.
+
+namespace {
+
+using OracleMesh = CGAL::Surface_mesh<CGAL::Exact_predicates_inexact_constructions_kernel::Point_3>;
+
+/// Intersecting face pairs by the oracle (pairs (f, f), which mark collinear faces, left out).
+long oracle_pairs(const Mesh& mesh) {
+  OracleMesh surface;
+  for (Eigen::Index v = 0; v < mesh.vertices.rows(); ++v)
+    surface.add_vertex({mesh.vertices(v, 0), mesh.vertices(v, 1), mesh.vertices(v, 2)});
+  for (Eigen::Index f = 0; f < mesh.faces.rows(); ++f)
+    REQUIRE(surface.add_face(OracleMesh::Vertex_index(mesh.faces(f, 0)),
+                             OracleMesh::Vertex_index(mesh.faces(f, 1)),
+                             OracleMesh::Vertex_index(mesh.faces(f, 2))) != OracleMesh::null_face());
+  std::vector<std::pair<OracleMesh::Face_index, OracleMesh::Face_index>> pairs;
+  CGAL::Polygon_mesh_processing::self_intersections(surface, std::back_inserter(pairs));
+  REQUIRE(CGAL::Polygon_mesh_processing::does_self_intersect(surface) == !pairs.empty());
+  return std::count_if(pairs.begin(), pairs.end(),
+                       [](const auto& pair) { return pair.first != pair.second; });
+}
+
+Mesh mesh_of(std::initializer_list<std::array<double, 3>> vertices,
+             std::initializer_list<std::array<int, 3>> faces) {
+  Mesh mesh;
+  mesh.vertices.resize(Eigen::Index(vertices.size()), 3);
+  mesh.faces.resize(Eigen::Index(faces.size()), 3);
+  Eigen::Index row = 0;
+  for (const auto& v : vertices) mesh.vertices.row(row++) << v[0], v[1], v[2];
+  row = 0;
+  for (const auto& f : faces) mesh.faces.row(row++) << f[0], f[1], f[2];
+  return mesh;
+}
+
+/// A tetrahedron with outward faces, vertices 0..3 (elementary geometry: any four points in general
+/// position; faces ordered so each normal points away from the opposite vertex).
+Mesh tetrahedron(const Eigen::Vector3d& a, const Eigen::Vector3d& b, const Eigen::Vector3d& c,
+                 const Eigen::Vector3d& d) {
+  Mesh mesh =
+      mesh_of({{a.x(), a.y(), a.z()}, {b.x(), b.y(), b.z()}, {c.x(), c.y(), c.z()}, {d.x(), d.y(), d.z()}},
+              {{0, 2, 1}, {0, 1, 3}, {0, 3, 2}, {1, 2, 3}});
+  if ((b - a).cross(c - a).dot(d - a) < 0) mesh.faces.col(1).swap(mesh.faces.col(2));
+  return mesh;
+}
+
+/// Two tetrahedra joined by `shared` (0, 1 or 2) of their vertex numbers: the second's first `shared`
+/// vertices are the first's.
+Mesh joined(const Mesh& first, const Mesh& second, int shared) {
+  Mesh out = merged(first, second);
+  const Eigen::Index offset = first.vertices.rows();
+  for (Eigen::Index f = first.faces.rows(); f < out.faces.rows(); ++f)
+    for (int k = 0; k < 3; ++k)
+      if (out.faces(f, k) - offset < shared)
+        out.faces(f, k) -= offset;
+      else
+        out.faces(f, k) -= shared;
+  Vertices vertices(out.vertices.rows() - shared, 3);
+  vertices << out.vertices.topRows(offset), out.vertices.bottomRows(out.vertices.rows() - offset - shared);
+  out.vertices = vertices;
+  return out;
+}
+
+/// The same mesh with its vertices renumbered at random and each face's corners rotated at random.
+Mesh renumbered(const Mesh& mesh, std::mt19937_64& random) {
+  std::vector<int> to(size_t(mesh.vertices.rows()));
+  std::iota(to.begin(), to.end(), 0);
+  std::shuffle(to.begin(), to.end(), random);
+  Mesh out = mesh;
+  for (Eigen::Index v = 0; v < mesh.vertices.rows(); ++v)
+    out.vertices.row(to[size_t(v)]) = mesh.vertices.row(v);
+  for (Eigen::Index f = 0; f < mesh.faces.rows(); ++f) {
+    const auto turn = int(random() % 3);
+    for (int k = 0; k < 3; ++k) out.faces(f, k) = to[size_t(mesh.faces(f, (k + turn) % 3))];
+  }
+  return out;
+}
+
+}  // namespace
+
+TEST_CASE(
+    "Self-intersection search: two tetrahedra, overlapping, apart, or joined at a vertex or an edge "
+    "(elementary geometry; CGAL PMP as oracle)",
+    "[mesh_check]") {
+  const Mesh first = tetrahedron({0, 0, 0}, {1, 0, 0}, {0, 1, 0}, {0, 0, 1});
+  SECTION("one tetrahedron's corner inside the other: its three faces cross the other's slanted face") {
+    const Mesh both =
+        merged(first, tetrahedron({0.2, 0.2, 0.2}, {2, 0.3, 0.3}, {0.3, 2, 0.3}, {0.3, 0.3, 2}));
+    const FacePairs pairs = self_intersecting_pairs(both);
+    REQUIRE(pairs.count == 3);
+    REQUIRE(pairs.count == oracle_pairs(both));
+    REQUIRE(pairs.first == 3);
+    REQUIRE(pairs.second >= 4);
+  }
+  SECTION("apart") {
+    const Mesh both = merged(first, tetrahedron({2, 0, 0}, {3, 0, 0}, {2, 1, 0}, {2, 0, 1}));
+    REQUIRE(self_intersecting_pairs(both).count == 0);
+    REQUIRE(oracle_pairs(both) == 0);
+  }
+  SECTION("touching at a shared vertex or edge is not an intersection") {
+    // The first fills x, y, z >= 0 below x + y + z = 1. The second lies in x <= 0 and meets it only in
+    // vertex 0, or in y <= 0 and meets it only in the edge 0-1.
+    const Mesh at_vertex =
+        joined(first, tetrahedron({0, 0, 0}, {-1, 0.2, 0.1}, {-0.3, 1, 0.2}, {-0.2, 0.1, 1}), 1);
+    // (A Surface_mesh cannot hold these non-manifold joins, so the oracle cannot judge them.)
+    REQUIRE(self_intersecting_pairs(at_vertex).count == 0);
+    const Mesh at_edge = joined(first, tetrahedron({0, 0, 0}, {1, 0, 0}, {0.3, -1, 0.2}, {0.5, -0.4, 1}), 2);
+    REQUIRE(self_intersecting_pairs(at_edge).count == 0);
+  }
+  SECTION("a shared vertex whose neighbour pokes into the other tetrahedron is an intersection") {
+    const Mesh poking =
+        joined(first, tetrahedron({0, 0, 0}, {0.3, 0.3, 0.3}, {-1, 0.3, 0.2}, {-0.4, -0.5, 1}), 1);
+    // Vertex (0.3, 0.3, 0.3) lies inside the first tetrahedron (x + y + z < 1), so the three faces of the
+    // second at that vertex each cross the first's slanted face, and the two of them that also hold the
+    // shared vertex 0 reach the first's faces at vertex 0 along their edges from it.
+    REQUIRE(self_intersecting_pairs(poking).count > 0);
+  }
+  SECTION("touching at a point without sharing the vertex number is an intersection") {
+    const Mesh touching =
+        merged(first, tetrahedron({0, 0, 0}, {-1, 0.2, 0.1}, {-0.3, 1, 0.2}, {-0.2, 0.1, 1}));
+    const long count = self_intersecting_pairs(touching).count;
+    REQUIRE(count == 9);  // each of the 3 faces at one corner meets each of the 3 at the other
+    REQUIRE(count == oracle_pairs(touching));
+  }
+}
+
+TEST_CASE(
+    "Self-intersection search: faces folded onto or through their neighbours (elementary geometry; "
+    "CGAL PMP as oracle)",
+    "[mesh_check]") {
+  // Faces (0, 1, 2) and (1, 0, 3) share the edge 0-1 along the x axis; vertex 2 is at y = 1, z = 0.
+  auto hinge = [](double y, double z) {
+    return mesh_of({{0, 0, 0}, {1, 0, 0}, {0.5, 1, 0}, {0.5, y, z}}, {{0, 1, 2}, {1, 0, 3}});
+  };
+  const struct {
+    const char* name;
+    Mesh mesh;
+    long expected;
+  } cases[] = {
+      {"folded flat onto the neighbour (coplanar, same side)", hinge(0.5, 0), 1},
+      {"flat continuation (coplanar, other side)", hinge(-1, 0), 0},
+      {"bent at the edge", hinge(0.5, 0.7), 0},
+      {"folded to within one unit in the last place of flat", hinge(0.5, 1e-300), 0},
+      // Faces (0, 1, 2) and (0, 3, 4) share vertex 0; the second's far edge 3-4 crosses the first.
+      {"a fan neighbour whose far edge pierces the face",
+       mesh_of({{0, 0, 0}, {1, 0, 0}, {0, 1, 0}, {0.3, 0.3, -0.5}, {0.3, 0.3, 0.5}}, {{0, 1, 2}, {0, 3, 4}}),
+       1},
+      {"a fan neighbour lying in the face's plane over it",
+       mesh_of({{0, 0, 0}, {1, 0, 0}, {0, 1, 0}, {0.2, 0.1, 0}, {0.1, 0.2, 0}}, {{0, 1, 2}, {0, 3, 4}}), 1},
+      {"a fan neighbour bent away",
+       mesh_of({{0, 0, 0}, {1, 0, 0}, {0, 1, 0}, {-0.3, -0.3, -0.5}, {-0.3, 0.3, 0.5}},
+               {{0, 1, 2}, {0, 3, 4}}),
+       0},
+  };
+  for (const auto& c : cases) {
+    CAPTURE(c.name);
+    REQUIRE(self_intersecting_pairs(c.mesh).count == c.expected);
+    REQUIRE(oracle_pairs(c.mesh) == c.expected);
+  }
+  SECTION("a closed mesh folding through itself: the fixture with a vertex pushed through the bottom") {
+    const Mesh mesh = read_fixture("self_intersecting.obj");
+    const long count = self_intersecting_pairs(mesh).count;
+    REQUIRE(count > 0);
+    REQUIRE(count == oracle_pairs(mesh));
+  }
+}
+
+TEST_CASE(
+    "Self-intersection search agrees with CGAL PMP on larger meshes, and a rigid motion or a "
+    "renumbering never changes its verdict (common practice: invariance)",
+    "[mesh_check]") {
+  const Mesh lumpy = polystokes::test::lumpy_test_mesh();
+  const Mesh overlapping = merged(lumpy, shifted(lumpy, 1500, 300, 200));
+  const Mesh sphere_pair = merged(make_icosphere(3), shifted(make_icosphere(3), 1.9, 0.3, 0.1));
+  std::mt19937_64 random(2026);
+  std::normal_distribution<double> normal;
+  for (const Mesh* mesh : {&lumpy, &overlapping, &sphere_pair}) {
+    const long expected = oracle_pairs(*mesh);
+    CAPTURE(expected);
+    REQUIRE(self_intersecting_pairs(*mesh).count == expected);
+    for (int trial = 0; trial < 4; ++trial) {
+      const Eigen::Quaterniond rotation =
+          Eigen::Quaterniond(normal(random), normal(random), normal(random), normal(random)).normalized();
+      const Eigen::Vector3d shift(1e3 * normal(random), 1e3 * normal(random), 1e3 * normal(random));
+      const Mesh moved = renumbered(transformed(*mesh, rotation.toRotationMatrix(), shift), random);
+      CAPTURE(trial);
+      REQUIRE((self_intersecting_pairs(moved).count > 0) == (expected > 0));
+      REQUIRE(self_intersecting_pairs(renumbered(*mesh, random)).count == expected);
+    }
+  }
+  REQUIRE(self_intersecting_pairs(lumpy).count == 0);
+  REQUIRE(self_intersecting_pairs(overlapping).count > 0);
 }

@@ -1,8 +1,6 @@
 #include "polystokes/mesh/mesh_check.h"
 
 #include <CGAL/Exact_predicates_inexact_constructions_kernel.h>
-#include <CGAL/Polygon_mesh_processing/self_intersections.h>
-#include <CGAL/Surface_mesh.h>
 #include <CGAL/box_intersection_d.h>
 #include <fmt/format.h>
 
@@ -14,6 +12,7 @@
 #include <numeric>
 
 #include "internal/disjoint_sets.h"
+#include "mesh/self_intersections.h"
 #include "polystokes/core/errors.h"
 #include "polystokes/mesh/mass_properties.h"
 #include "polystokes/mesh/mesh_measures.h"
@@ -60,37 +59,71 @@ class Context {
   int corner(int f, int k) const { return mesh.faces(f, k); }
   int face_count() const { return static_cast<int>(mesh.faces.rows()); }
 
-  /// Every face's three edges sorted by undirected edge, then face; `runs` delimits each undirected edge.
-  const std::vector<EdgeUse>& edges() {
-    if (edges_.empty() && face_count() > 0) {
-      edges_.reserve(3 * static_cast<size_t>(face_count()));
-      for (int f = 0; f < face_count(); ++f)
-        for (int k = 0; k < 3; ++k) {
-          const int a = corner(f, k), b = corner(f, (k + 1) % 3);
-          const auto lo = static_cast<std::uint64_t>(std::min(a, b)),
-                     hi = static_cast<std::uint64_t>(std::max(a, b));
-          edges_.push_back({lo << 32 | hi, f, a, b});
-        }
-      std::sort(edges_.begin(), edges_.end(), [](const EdgeUse& x, const EdgeUse& y) {
+  /// Calls visit(uses, count) for every undirected edge in ascending order of (lower, higher) vertex, with
+  /// the faces' uses of that edge sorted by face. Each vertex's edges to higher-numbered vertices are
+  /// gathered from the corners at that vertex, so the work is linear in the faces and the scratch is one
+  /// vertex's worth.
+  template <class Visit>
+  void for_each_edge(Visit&& visit) {
+    corners();
+    std::vector<EdgeUse> uses;
+    for (int a = 0; a + 1 < static_cast<int>(offset_.size()); ++a) {
+      uses.clear();
+      for (int i = offset_[static_cast<size_t>(a)]; i < offset_[static_cast<size_t>(a) + 1]; ++i) {
+        const int f = corners_[static_cast<size_t>(i)] / 3, k = corners_[static_cast<size_t>(i)] % 3;
+        const int next = corner(f, (k + 1) % 3), prev = corner(f, (k + 2) % 3);
+        // Each directed edge once: at its lower end, or for a loop (a, a) as it leaves a.
+        if (next >= a) uses.push_back({key(a, next), f, a, next});
+        if (prev > a) uses.push_back({key(a, prev), f, prev, a});
+      }
+      std::sort(uses.begin(), uses.end(), [](const EdgeUse& x, const EdgeUse& y) {
         return x.key != y.key ? x.key < y.key : x.face < y.face;
       });
-      for (size_t i = 0; i < edges_.size();) {
-        size_t j = i + 1;
-        while (j < edges_.size() && edges_[j].key == edges_[i].key) ++j;
-        runs_.emplace_back(i, j);
-        i = j;
+      for (size_t b = 0; b < uses.size();) {
+        size_t e = b + 1;
+        while (e < uses.size() && uses[e].key == uses[b].key) ++e;
+        visit(&uses[b], e - b);
+        b = e;
       }
     }
-    return edges_;
   }
-  const std::vector<std::pair<size_t, size_t>>& runs() {
-    edges();
-    return runs_;
+
+  /// Calls visit(v, corners, count) for every vertex with faces, its corners (3 f + k) ascending.
+  template <class Visit>
+  void for_each_vertex(Visit&& visit) {
+    corners();
+    for (size_t v = 0; v + 1 < offset_.size(); ++v)
+      if (offset_[v + 1] > offset_[v])
+        visit(static_cast<int>(v), &corners_[static_cast<size_t>(offset_[v])], offset_[v + 1] - offset_[v]);
+  }
+
+  /// Frees the corner lists once the topological checks are done.
+  void release() {
+    offset_ = {};
+    corners_ = {};
   }
 
  private:
-  std::vector<EdgeUse> edges_;
-  std::vector<std::pair<size_t, size_t>> runs_;
+  static std::uint64_t key(int a, int b) {
+    return static_cast<std::uint64_t>(std::min(a, b)) << 32 | static_cast<std::uint32_t>(std::max(a, b));
+  }
+
+  /// The corners at each vertex by a counting sort: 4 bytes per corner and per vertex.
+  void corners() {
+    if (!offset_.empty()) return;
+    offset_.assign(static_cast<size_t>(mesh.vertices.rows()) + 1, 0);
+    for (int f = 0; f < face_count(); ++f)
+      for (int k = 0; k < 3; ++k) ++offset_[static_cast<size_t>(corner(f, k)) + 1];
+    for (size_t v = 1; v < offset_.size(); ++v) offset_[v] += offset_[v - 1];
+    corners_.resize(3 * static_cast<size_t>(face_count()));
+    std::vector<int> fill(offset_.begin(), offset_.end() - 1);
+    for (int f = 0; f < face_count(); ++f)
+      for (int k = 0; k < 3; ++k)
+        corners_[static_cast<size_t>(fill[static_cast<size_t>(corner(f, k))]++)] = 3 * f + k;
+  }
+
+  std::vector<int> offset_;   ///< corners of vertex v: corners_[offset_[v] .. offset_[v + 1])
+  std::vector<int> corners_;  ///< 3 f + k, grouped by vertex, ascending within each
 };
 
 std::string edge_text(const EdgeUse& e) {
@@ -143,111 +176,79 @@ MeshCheck check_degenerate(Context& c) {
 
 MeshCheck check_closed(Context& c) {
   Tally tally;
-  const auto& edges = c.edges();
-  for (const auto& [begin, end] : c.runs())
-    if (end - begin == 1) tally.add(edges[begin].face, [&, begin = begin] { return edge_text(edges[begin]); });
+  c.for_each_edge([&](const EdgeUse* uses, size_t count) {
+    if (count == 1) tally.add(uses[0].face, [&] { return edge_text(uses[0]); });
+  });
   return tally.result("closed");
 }
 
 MeshCheck check_edge_manifold(Context& c) {
   Tally tally;
-  const auto& edges = c.edges();
-  for (const auto& [begin, end] : c.runs()) {
-    if (end - begin <= 2) continue;
-    tally.add(edges[begin].face, [&, begin = begin, end = end] {
+  c.for_each_edge([&](const EdgeUse* uses, size_t count) {
+    if (count <= 2) return;
+    tally.add(uses[0].face, [&] {
       std::string faces;
-      for (size_t i = begin; i < end && i < begin + 4; ++i)
-        faces += (i > begin ? ", " : "") + std::to_string(edges[i].face);
-      if (end - begin > 4) faces += ", ...";
-      return fmt::format("edge ({}, {}) shared by {} faces ({})", edges[begin].from, edges[begin].to,
-                         end - begin, faces);
+      for (size_t i = 0; i < count && i < 4; ++i) faces += (i > 0 ? ", " : "") + std::to_string(uses[i].face);
+      if (count > 4) faces += ", ...";
+      return fmt::format("edge ({}, {}) shared by {} faces ({})", uses[0].from, uses[0].to, count, faces);
     });
-  }
+  });
   return tally.result("edge_manifold");
 }
 
 /// A vertex is manifold if the opposite edges of its faces (its link) form one connected chain.
 MeshCheck check_vertex_manifold(Context& c) {
-  struct Corner {
-    int vertex, next, prev;
-  };
-  std::vector<Corner> corners;
-  corners.reserve(3 * static_cast<size_t>(c.face_count()));
-  for (int f = 0; f < c.face_count(); ++f)
-    for (int k = 0; k < 3; ++k)
-      corners.push_back({c.corner(f, k), c.corner(f, (k + 1) % 3), c.corner(f, (k + 2) % 3)});
-  std::sort(corners.begin(), corners.end(),
-            [](const Corner& a, const Corner& b) { return a.vertex < b.vertex; });
   Tally tally;
   std::vector<int> link;
-  for (size_t i = 0; i < corners.size();) {
-    size_t j = i;
+  c.for_each_vertex([&](int v, const int* corners, int count) {
+    auto next = [&](int i) { return c.corner(corners[i] / 3, (corners[i] % 3 + 1) % 3); };
+    auto prev = [&](int i) { return c.corner(corners[i] / 3, (corners[i] % 3 + 2) % 3); };
     link.clear();
-    while (j < corners.size() && corners[j].vertex == corners[i].vertex) {
-      link.push_back(corners[j].next);
-      link.push_back(corners[j].prev);
-      ++j;
+    for (int i = 0; i < count; ++i) {
+      link.push_back(next(i));
+      link.push_back(prev(i));
     }
     std::sort(link.begin(), link.end());
     link.erase(std::unique(link.begin(), link.end()), link.end());
     DisjointSets sets(link.size());
-    auto position = [&](int v) {
-      return static_cast<int>(std::lower_bound(link.begin(), link.end(), v) - link.begin());
+    auto position = [&](int u) {
+      return static_cast<int>(std::lower_bound(link.begin(), link.end(), u) - link.begin());
     };
-    for (size_t k = i; k < j; ++k) sets.unite(position(corners[k].next), position(corners[k].prev));
+    for (int i = 0; i < count; ++i) sets.unite(position(next(i)), position(prev(i)));
     int fans = 0;
     for (size_t k = 0; k < link.size(); ++k) fans += sets.find(static_cast<int>(k)) == static_cast<int>(k);
-    if (fans > 1) {
-      const int v = corners[i].vertex;
+    if (fans > 1)
       tally.add(v, [&] { return fmt::format("vertex {} (its faces form {} separate fans)", v, fans); });
-    }
-    i = j;
-  }
+  });
   return tally.result("vertex_manifold");
 }
 
 MeshCheck check_consistently_oriented(Context& c) {
   Tally tally;
-  const auto& edges = c.edges();
-  for (const auto& [begin, end] : c.runs()) {
-    if (end - begin != 2) continue;
-    const EdgeUse& a = edges[begin];
-    const EdgeUse& b = edges[begin + 1];
+  c.for_each_edge([&](const EdgeUse* uses, size_t count) {
+    if (count != 2) return;
+    const EdgeUse& a = uses[0];
+    const EdgeUse& b = uses[1];
     if (a.from == b.from)
       tally.add(a.face, [&] {
         return fmt::format("edge ({}, {}) of faces {} and {}", a.from, a.to, a.face, b.face);
       });
-  }
+  });
   return tally.result("consistently_oriented");
 }
 
 MeshCheck check_self_intersections(Context& c) {
-  using Kernel = CGAL::Exact_predicates_inexact_constructions_kernel;
-  using SurfaceMesh = CGAL::Surface_mesh<Kernel::Point_3>;
-  SurfaceMesh surface;
-  surface.reserve(static_cast<SurfaceMesh::size_type>(c.mesh.vertices.rows()),
-                  static_cast<SurfaceMesh::size_type>(3 * c.face_count() / 2),
-                  static_cast<SurfaceMesh::size_type>(c.face_count()));
-  for (Eigen::Index v = 0; v < c.mesh.vertices.rows(); ++v)
-    surface.add_vertex(Kernel::Point_3(c.mesh.vertices(v, 0), c.mesh.vertices(v, 1), c.mesh.vertices(v, 2)));
-  for (int f = 0; f < c.face_count(); ++f) {
-    const auto added =
-        surface.add_face(SurfaceMesh::Vertex_index(c.corner(f, 0)), SurfaceMesh::Vertex_index(c.corner(f, 1)),
-                         SurfaceMesh::Vertex_index(c.corner(f, 2)));
-    if (added == SurfaceMesh::null_face())
+  // A face with a repeated vertex has no triangle to test (no_degenerate_faces names it).
+  for (int f = 0; f < c.face_count(); ++f)
+    if (c.corner(f, 0) == c.corner(f, 1) || c.corner(f, 1) == c.corner(f, 2) ||
+        c.corner(f, 2) == c.corner(f, 0))
       return {"no_self_intersections", false, 0,
               fmt::format("not run: face {} cannot join a surface mesh", f), false};
-  }
-  std::vector<std::pair<SurfaceMesh::Face_index, SurfaceMesh::Face_index>> pairs;
-  CGAL::Polygon_mesh_processing::self_intersections(surface, std::back_inserter(pairs));
-  Tally tally;
-  for (const auto& [x, y] : pairs) {
-    // (f, f) marks a CGAL-degenerate face, which no_degenerate_faces reports.
-    if (x == y) continue;
-    const long f = std::min<long>(x.idx(), y.idx()), g = std::max<long>(x.idx(), y.idx());
-    tally.add(f * c.face_count() + g, [&] { return fmt::format("faces {} and {} intersect", f, g); });
-  }
-  return tally.result("no_self_intersections");
+  c.release();
+  const FacePairs pairs = self_intersecting_pairs(c.mesh);
+  if (pairs.count == 0) return {"no_self_intersections", true, 0, "", true};
+  return {"no_self_intersections", false, pairs.count,
+          fmt::format("faces {} and {} intersect", pairs.first, pairs.second), true};
 }
 
 /// Solid angle of triangle (a, b, c) seen from p, positive if abc runs counter-clockwise seen from p.
