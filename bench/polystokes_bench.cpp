@@ -24,11 +24,13 @@
 #include <thread>
 #include <vector>
 
-#include "polystokes/harmonics/harmonics.h"
+#include "polystokes/harmonics/compute.h"
+#include "harmonics/face_blocks.h"
 #include "harmonics/moment_kernel.h"
 #include "polystokes/field/polyhedron_gravity.h"
 #include "polystokes/field/series.h"
 #include "polystokes/mesh/shapes.h"
+#include "polystokes/uncertainty/uncertainty.h"
 
 #if defined(__x86_64__) && defined(__GNUC__) && !defined(__clang__)
 #define BENCH_CLONES __attribute__((target_clones("arch=x86-64-v3", "default")))
@@ -207,7 +209,7 @@ void extended_precision_sums(const Mesh& mesh, const HarmonicFrame& frame, int d
       }
     }
   }
-  // Normalization as in harmonics.cpp: int over a tetrahedron = det n!/(n+3)! h_n, and
+  // Normalization as in moments.cpp: int over a tetrahedron = det n!/(n+3)! h_n, and
   // Pnm r^n e^{im lon} = sqrt((2 - d_m0)(2n+1)) K~_nm H_m with K~_nm = sqrt((n-m)!(n+m)!)/(n! 2^m).
   const Real r3 = Real(frame.scale_radius) * frame.scale_radius * frame.scale_radius;
   for (int n = 0; n <= degree; ++n) {
@@ -428,6 +430,30 @@ int main(int argc, char** argv) {
         std::fflush(stdout);
       }
     }
+  }
+
+  // Monte Carlo shape samples reuse the body's prepared topology (moments.h): per-sample cost against one
+  // coefficient computation of the same body, degree and single thread.
+  if (!meshes.empty() && !settings.degrees.empty()) {
+    const std::vector<DensityRegion> regions{{meshes.front(), 2000.0}};
+    ComputeOptions options;
+    options.degree = settings.degrees.front();
+    options.execution.threads = 1;
+    auto start = std::chrono::steady_clock::now();
+    checksum += compute_coefficients(regions, options).C(options.degree, 0);
+    const double coefficients = seconds_since(start);
+    UncertaintySettings noise;
+    noise.samples = 4;
+    noise.shape.sigma = 1e-4 * brillouin_radius(regions, Eigen::Vector3d::Zero());
+    const UncertaintyPlan plan = plan_uncertainty(regions, options, noise);
+    start = std::chrono::steady_clock::now();
+    for (long i = 0; i < noise.samples; ++i) checksum += run_sample(plan, i).gm_delta;
+    const double per_sample = seconds_since(start) / double(noise.samples);
+    std::printf("
+Monte Carlo on %s, degree %d, 1 thread: %.3f s per sample, coefficients %.3f s, ratio %.2f
+",
+                meshes.front().source.c_str(), options.degree, per_sample, coefficients,
+                per_sample / coefficients);
   }
 
   // Exact polyhedron gravity (used by `field` and `validate`): cost per facet and point, near and far.

@@ -11,7 +11,8 @@
 
 #include "polystokes/core/errors.h"
 #include "harmonics/fan_decomposition.h"
-#include "polystokes/harmonics/harmonics.h"
+#include "polystokes/harmonics/moments.h"
+#include "harmonics/face_blocks.h"
 #include "polystokes/mesh/mass_properties.h"
 #include "polystokes/mesh/shapes.h"
 

@@ -8,6 +8,7 @@
 
 #include "polystokes/core/errors.h"
 #include "polystokes/io/mesh_io.h"
+#include "polystokes/mesh/geometry.h"
 #include "polystokes/mesh/shapes.h"
 #include "test_support.h"
 

@@ -23,7 +23,7 @@
 #include <unordered_map>
 
 #include "polystokes/core/errors.h"
-#include "polystokes/core/memory_budget.h"
+#include "internal/memory_budget.h"
 #include "io/mesh_preflight.h"
 #include "polystokes/io/output_file.h"
 

@@ -12,7 +12,7 @@
 #include <vector>
 
 #include "polystokes/core/errors.h"
-#include "polystokes/core/memory_budget.h"
+#include "internal/memory_budget.h"
 
 namespace polystokes {
 namespace {
