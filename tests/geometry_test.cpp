@@ -1,10 +1,11 @@
 // Solid angle, winding number, signed volume, distance, ray queries and the axis sign rule (mesh/geometry.h)
 // against closed forms.
+#include "polystokes/mesh/geometry.h"
+
 #include <Eigen/Geometry>
 #include <catch2/catch.hpp>
 #include <cmath>
 
-#include "polystokes/mesh/geometry.h"
 #include "polystokes/mesh/shapes.h"
 
 using namespace polystokes;
@@ -14,8 +15,8 @@ using Catch::Matchers::WithinRel;
 TEST_CASE("the octant triangle subtends pi/2 from the origin, with the sign of its orientation",
           "[geometry]") {
   // One eighth of the unit sphere's 4 pi (common practice).
-  const Eigen::Vector3d o = Eigen::Vector3d::Zero(), x = Eigen::Vector3d::UnitX(), y = Eigen::Vector3d::UnitY(),
-                        z = Eigen::Vector3d::UnitZ();
+  const Eigen::Vector3d o = Eigen::Vector3d::Zero(), x = Eigen::Vector3d::UnitX(),
+                        y = Eigen::Vector3d::UnitY(), z = Eigen::Vector3d::UnitZ();
   CHECK_THAT(solid_angle(o, x, y, z), WithinRel(M_PI / 2, 1e-15));
   CHECK_THAT(solid_angle(o, x, z, y), WithinRel(-M_PI / 2, 1e-15));
   // Scaled far away from the viewpoint, the edge-vector form keeps full precision.
@@ -56,7 +57,8 @@ TEST_CASE("signed volume of a box is its volume from any apex, and negative when
   CHECK_THAT(signed_volume(box, Eigen::Vector3d::Zero()), WithinRel(-24.0, 1e-14));
 }
 
-TEST_CASE("distance to the surface of a box: to a face, an edge and a corner (common practice)", "[geometry]") {
+TEST_CASE("distance to the surface of a box: to a face, an edge and a corner (common practice)",
+          "[geometry]") {
   const SurfaceTree box(make_box(2, 2, 2));
   CHECK_THAT(box.distance(Eigen::Vector3d(0, 0, 0)), WithinAbs(1.0, 1e-15));
   CHECK_THAT(box.distance(Eigen::Vector3d(0.1, -0.2, 0.6)), WithinAbs(0.4, 1e-15));
@@ -70,7 +72,8 @@ TEST_CASE("a ray from inside meets the farthest face of all meshes; a ray away f
           "[geometry]") {
   const Mesh inner = make_box(2, 2, 2), outer = make_box(6, 6, 6);
   const std::vector<const Mesh*> meshes{&inner, &outer};
-  CHECK_THAT(farthest_ray_hit(meshes, Eigen::Vector3d::Zero(), Eigen::Vector3d::UnitX()), WithinAbs(3.0, 1e-15));
+  CHECK_THAT(farthest_ray_hit(meshes, Eigen::Vector3d::Zero(), Eigen::Vector3d::UnitX()),
+             WithinAbs(3.0, 1e-15));
   const Eigen::Vector3d diagonal = Eigen::Vector3d(1, 1, 0).normalized();
   CHECK_THAT(farthest_ray_hit({&inner}, Eigen::Vector3d::Zero(), diagonal), WithinAbs(std::sqrt(2.0), 1e-14));
   CHECK(farthest_ray_hit({&inner}, Eigen::Vector3d(5, 0, 0), Eigen::Vector3d::UnitX()) == 0.0);

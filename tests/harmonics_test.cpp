@@ -1,5 +1,5 @@
-// Exact Stokes coefficients of polyhedra: closed forms for boxes, ellipsoids and spheres, Legendre functions
-// (Legendre functions: legendre_test), fast path against the quadrature reference path, and invariance properties.
+// Exact Stokes coefficients of polyhedra: closed forms for boxes, ellipsoids and spheres, fast path against
+// the quadrature reference path, and invariance properties (Legendre functions: legendre_test).
 #include <Eigen/Geometry>
 #include <catch2/catch.hpp>
 #include <cmath>

@@ -1,11 +1,12 @@
 // The one Legendre recursion (legendre.h) against GSL and Boost.Math, and its factors against the published
 // closed forms.
+#include "polystokes/harmonics/legendre.h"
+
+#include <gsl/gsl_sf_legendre.h>
+
 #include <boost/math/special_functions/legendre.hpp>
 #include <catch2/catch.hpp>
 #include <cmath>
-#include <gsl/gsl_sf_legendre.h>
-
-#include "polystokes/harmonics/legendre.h"
 
 using namespace polystokes;
 using Catch::Matchers::WithinAbs;
@@ -20,10 +21,12 @@ double full_norm(int n, int m) {
 
 }  // namespace
 
-TEST_CASE("fully normalized Legendre functions match GSL gsl_sf_legendre_array (FULL, no phase) to degree 200",
-          "[legendre]") {
+TEST_CASE(
+    "fully normalized Legendre functions match GSL gsl_sf_legendre_array (FULL, no phase) to degree 200",
+    "[legendre]") {
   // GSL's GSL_SF_LEGENDRE_FULL has integral over [-1,1] of P^2 = 1; the geodesy 4pi functions are
-  // sqrt(2 (2 - delta_m0)) times larger (GSL manual, "Associated Legendre Polynomials and Spherical Harmonics").
+  // sqrt(2 (2 - delta_m0)) times larger (GSL manual, "Associated Legendre Polynomials and Spherical
+  // Harmonics").
   const int lmax = 200;
   std::vector<double> gsl(gsl_sf_legendre_array_n(lmax));
   for (double t : {-0.93, -0.4, 0.0, 0.25, 0.7071, 0.999}) {
@@ -32,7 +35,8 @@ TEST_CASE("fully normalized Legendre functions match GSL gsl_sf_legendre_array (
     for (int n : {0, 1, 2, 7, 31, 150, 151, 200}) {
       for (int m = 0; m <= n; m += (n > 40 ? 7 : 1)) {
         CAPTURE(t, n, m);
-        const double expected = std::sqrt(2.0 * (m == 0 ? 1.0 : 2.0)) * gsl[gsl_sf_legendre_array_index(n, m)];
+        const double expected =
+            std::sqrt(2.0 * (m == 0 ? 1.0 : 2.0)) * gsl[gsl_sf_legendre_array_index(n, m)];
         CHECK_THAT(p(n, m), WithinAbs(expected, 1e-12 * std::max(1.0, std::abs(expected))));
       }
     }
@@ -53,8 +57,9 @@ TEST_CASE("Legendre functions match Boost.Math legendre_p (Condon-Shortley phase
   }
 }
 
-TEST_CASE("the sectorial factors multiply to N_mm (2m-1)!!, the closed form of P_mm (Heiskanen & Moritz 1967)",
-          "[legendre]") {
+TEST_CASE(
+    "the sectorial factors multiply to N_mm (2m-1)!!, the closed form of P_mm (Heiskanen & Moritz 1967)",
+    "[legendre]") {
   // Heiskanen & Moritz 1967, Physical Geodesy, eq. 1-62 with the 4pi norm: Pbar_mm(t) = N_mm (2m-1)!! u^m,
   // so the product of the sectorial factors up to m is N_mm (2m-1)!!.
   const LegendreRecursion recursion(40);

@@ -1,11 +1,12 @@
 // The one parallel-for and ordered block reduction (internal/parallel.h): every index once, results and
 // errors independent of the thread count.
+#include "internal/parallel.h"
+
 #include <catch2/catch.hpp>
 #include <cmath>
 #include <stdexcept>
 #include <vector>
 
-#include "internal/parallel.h"
 #include "polystokes/core/errors.h"
 
 using namespace polystokes;
@@ -14,6 +15,13 @@ TEST_CASE("0 threads means every core; a positive count is taken as given", "[pa
   CHECK(resolve_threads(3) == 3);
   CHECK(resolve_threads(0) >= 1);
   CHECK(resolve_threads(-1) == resolve_threads(0));
+}
+
+TEST_CASE("the threads that run never exceed the work items or the cores", "[parallel]") {
+  CHECK(worker_threads(64, 1000) == resolve_threads(0));
+  CHECK(worker_threads(0, 1) == 1);
+  CHECK(worker_threads(1, 1000) == 1);
+  CHECK(worker_threads(0, 0) == 1);
 }
 
 TEST_CASE("parallel_for runs every index exactly once for 1, 2, 3 and all threads", "[parallel]") {
@@ -26,7 +34,8 @@ TEST_CASE("parallel_for runs every index exactly once for 1, 2, 3 and all thread
   parallel_for(0, 4, [](size_t) { FAIL("no index to run"); });
 }
 
-TEST_CASE("an error in a task reaches the caller as the same family, the lowest failing index's", "[parallel]") {
+TEST_CASE("an error in a task reaches the caller as the same family, the lowest failing index's",
+          "[parallel]") {
   for (int threads : {1, 2, 4}) {
     CAPTURE(threads);
     auto work = [](size_t i) {
@@ -39,13 +48,15 @@ TEST_CASE("an error in a task reaches the caller as the same family, the lowest 
     } catch (const ConventionError& e) {
       CHECK(std::string(e.what()) == "index 37");
     }
-    CHECK_THROWS_AS(parallel_for(10, threads, [](size_t) { throw std::runtime_error("x"); }), std::runtime_error);
+    CHECK_THROWS_AS(parallel_for(10, threads, [](size_t) { throw std::runtime_error("x"); }),
+                    std::runtime_error);
   }
 }
 
-TEST_CASE("ordered_blocks adds partials strictly in block order, so a rounding-sensitive sum is the same "
-          "for any thread count",
-          "[parallel]") {
+TEST_CASE(
+    "ordered_blocks adds partials strictly in block order, so a rounding-sensitive sum is the same "
+    "for any thread count",
+    "[parallel]") {
   // Terms of alternating size whose floating-point sum depends on the order (common practice): the sum in
   // block order by a plain loop is the oracle.
   auto term = [](size_t b) { return (b % 3 == 0 ? 1e16 : 1.0) * (b % 2 ? -1.0 : 1.0) + 0.1 * double(b); };

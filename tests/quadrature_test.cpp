@@ -1,15 +1,17 @@
 // The one Gauss-Legendre rule (harmonics/quadrature.h) against GSL's tabulated fixed-order rules.
-#include <catch2/catch.hpp>
-#include <cmath>
+#include "harmonics/quadrature.h"
+
 #include <gsl/gsl_integration.h>
 
-#include "harmonics/quadrature.h"
+#include <catch2/catch.hpp>
+#include <cmath>
 
 using namespace polystokes;
 using Catch::Matchers::WithinAbs;
 
-TEST_CASE("Gauss-Legendre nodes and weights on [0, 1] match GSL gsl_integration_glfixed_table for 1..40 points",
-          "[quadrature]") {
+TEST_CASE(
+    "Gauss-Legendre nodes and weights on [0, 1] match GSL gsl_integration_glfixed_table for 1..40 points",
+    "[quadrature]") {
   for (int q = 1; q <= 40; ++q) {
     const GaussRule rule = gauss_legendre_unit(q);
     REQUIRE(rule.nodes.size() == size_t(q));
@@ -17,7 +19,7 @@ TEST_CASE("Gauss-Legendre nodes and weights on [0, 1] match GSL gsl_integration_
     gsl_integration_glfixed_table* table = gsl_integration_glfixed_table_alloc(size_t(q));
     REQUIRE(table != nullptr);
     // GSL lists its points in its own order; both rules are sets of q (node, weight) pairs.
-    std::vector<std::pair<double, double>> expected(size_t(q));
+    std::vector<std::pair<double, double>> expected(static_cast<size_t>(q));
     for (int i = 0; i < q; ++i)
       REQUIRE(gsl_integration_glfixed_point(0.0, 1.0, size_t(i), &expected[size_t(i)].first,
                                             &expected[size_t(i)].second, table) == 0);

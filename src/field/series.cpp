@@ -144,8 +144,8 @@ void SeriesModel::solid_harmonics(const Eigen::Vector3d& point, int top,
   for (int m = 0; m < effective; ++m) {
     table[index(m + 1, m)] = recursion_.first_step(m) * t * s * table[index(m, m)];
     for (int n = m + 2; n <= effective; ++n)
-      table[index(n, m)] =
-          recursion_.a(n, m) * t * s * table[index(n - 1, m)] - recursion_.b(n, m) * s2 * table[index(n - 2, m)];
+      table[index(n, m)] = recursion_.a(n, m) * t * s * table[index(n - 1, m)] -
+                           recursion_.b(n, m) * s2 * table[index(n - 2, m)];
   }
 }
 

@@ -5,10 +5,10 @@
 #include <cmath>
 
 #include "harmonics/moment_limits.h"
+#include "internal/memory_budget.h"
 #include "internal/parallel.h"
 #include "polystokes/core/constants.h"
 #include "polystokes/core/errors.h"
-#include "internal/memory_budget.h"
 #include "polystokes/sets/conventions.h"
 
 namespace polystokes {
@@ -89,9 +89,12 @@ CoefficientSet coefficients_with(const std::vector<DensityRegion>& regions, cons
 
 std::string to_string(OriginChoice origin) {
   switch (origin) {
-    case OriginChoice::center_of_mass: return "com";
-    case OriginChoice::mesh: return "mesh";
-    case OriginChoice::point: return "point";
+    case OriginChoice::center_of_mass:
+      return "com";
+    case OriginChoice::mesh:
+      return "mesh";
+    case OriginChoice::point:
+      return "point";
   }
   return "";
 }

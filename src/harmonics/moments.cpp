@@ -216,9 +216,9 @@ HarmonicMoments harmonic_moments(const std::vector<DensityRegion>& regions, cons
 
 struct PreparedMoments::Blocks {
   int degree = 0;
-  std::vector<Faces> faces;              // per region: the faces prepared
-  std::vector<size_t> region;            // per block
-  std::vector<FanDecomposition> fans;    // per block
+  std::vector<Faces> faces;            // per region: the faces prepared
+  std::vector<size_t> region;          // per block
+  std::vector<FanDecomposition> fans;  // per block
 };
 
 PreparedMoments::PreparedMoments(const std::vector<DensityRegion>& regions, int degree)
@@ -246,20 +246,20 @@ PreparedMoments& PreparedMoments::operator=(PreparedMoments&&) noexcept = defaul
 
 int PreparedMoments::degree() const { return blocks_->degree; }
 
-HarmonicMoments PreparedMoments::moments(const std::vector<DensityRegion>& regions, const HarmonicFrame& frame,
-                                         const MomentOptions& options, int degree) const {
+HarmonicMoments PreparedMoments::moments(const std::vector<DensityRegion>& regions,
+                                         const HarmonicFrame& frame, const MomentOptions& options,
+                                         int degree) const {
   if (degree < 0) degree = blocks_->degree;
   if (degree > blocks_->degree)
     throw ConventionError(
         fmt::format("moments of degree {} asked of a body prepared for degree {}", degree, blocks_->degree));
   if (regions.size() != blocks_->faces.size())
-    throw ConventionError(fmt::format("{} region(s) given to a body prepared with {}", regions.size(),
-                                      blocks_->faces.size()));
+    throw ConventionError(
+        fmt::format("{} region(s) given to a body prepared with {}", regions.size(), blocks_->faces.size()));
   for (size_t r = 0; r < regions.size(); ++r)
     if (regions[r].mesh.faces != blocks_->faces[r])
-      throw ConventionError(
-          fmt::format("region {} ({}) does not have the faces the body was prepared with", r + 1,
-                      regions[r].mesh.source));
+      throw ConventionError(fmt::format("region {} ({}) does not have the faces the body was prepared with",
+                                        r + 1, regions[r].mesh.source));
   check_frame(frame, regions, options.threads);
   return sum_blocks(blocks_->fans.size(), degree, frame.scale_radius, options,
                     [&](size_t b, BlockWorker& worker, BlockSum& sum) {

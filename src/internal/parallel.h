@@ -24,6 +24,13 @@ inline int resolve_threads(int requested) {
   return requested > 0 ? requested : std::max(1, tbb::info::default_concurrency());
 }
 
+/// Threads that actually run `items` work items on a request: no more than the items, nor than the cores
+/// (oneTBB never runs more, and warns on stderr when asked to; the results do not depend on the count).
+inline int worker_threads(int requested, size_t items) {
+  const size_t cores = size_t(std::max(1, tbb::info::default_concurrency()));
+  return int(std::max<size_t>(1, std::min({size_t(resolve_threads(requested)), cores, items})));
+}
+
 /// Runs work(i) for every i in [0, count) on up to `threads` threads (0 = all). Each index runs the same code
 /// whatever the thread count, so per-index results never depend on it. Error rule (shared with
 /// ordered_blocks): an exception thrown by work reaches the caller unchanged (same type and message); when
@@ -31,7 +38,7 @@ inline int resolve_threads(int requested) {
 /// timing. Indices above a failed one may be skipped.
 template <class Work>
 void parallel_for(size_t count, int threads, Work&& work) {
-  const int workers = int(std::min<size_t>(size_t(resolve_threads(threads)), std::max<size_t>(1, count)));
+  const int workers = worker_threads(threads, count);
   if (workers <= 1) {
     for (size_t i = 0; i < count; ++i) work(i);
     return;
@@ -74,7 +81,7 @@ void ordered_blocks(size_t blocks, int threads, size_t in_flight, Part&& part, A
     std::exception_ptr failure;
   };
   tbb::enumerable_thread_specific<Scratch> scratch;
-  const int workers = int(std::min<size_t>(size_t(resolve_threads(threads)), std::max<size_t>(1, blocks)));
+  const int workers = worker_threads(threads, blocks);
   if (workers <= 1) {
     Scratch& local = scratch.local();
     for (size_t b = 0; b < blocks; ++b) add(b, part(b, local));

@@ -405,7 +405,8 @@ SampleResult run_sample(const UncertaintyPlan& plan, long index) {
   // Density of the body regions, split into cones when the density varies laterally.
   std::vector<DensityRegion> sample;
   double homogeneous_mass = 0, body_mass = 0;
-  for (const auto& region : body) homogeneous_mass += region.density.constant() * signed_volume(region.mesh, origin);
+  for (const auto& region : body)
+    homogeneous_mass += region.density.constant() * signed_volume(region.mesh, origin);
   if (pre.cones.empty()) {
     sample = body;
     body_mass = homogeneous_mass;

@@ -26,7 +26,7 @@ struct ComputeOptions {
   OriginChoice origin = OriginChoice::center_of_mass;
   Eigen::Vector3d origin_point = Eigen::Vector3d::Zero();  ///< m, mesh frame; used when origin is point
   FrameChoice frame = FrameChoice::mesh;
-  Convention convention;  ///< output convention (computed fully normalized, then converted)
+  Convention convention;      ///< output convention (computed fully normalized, then converted)
   std::string body = "body";  ///< the set's body name
   MomentOptions execution;
 };

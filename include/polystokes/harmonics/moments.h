@@ -50,12 +50,12 @@ HarmonicMoments harmonic_moments(const std::vector<DensityRegion>& regions, cons
 
 /// Slow, simple reference path: Gauss product quadrature on each face triangle, exact for the polynomial
 /// integrands, with Legendre functions from the standard recursion. O(F * degree^4); for tests.
-HarmonicMoments harmonic_moments_reference(const std::vector<DensityRegion>& regions, const HarmonicFrame& frame,
-                                           int degree);
+HarmonicMoments harmonic_moments_reference(const std::vector<DensityRegion>& regions,
+                                           const HarmonicFrame& frame, int degree);
 
-/// The topology work of harmonic_moments done once: the regions' faces cut into blocks and grouped into vertex
-/// fans, for many bodies that differ only in vertex positions and densities (Monte Carlo samples of one
-/// shape). About 32 bytes per face.
+/// The topology work of harmonic_moments done once: the regions' faces cut into blocks and grouped into
+/// vertex fans, for many bodies that differ only in vertex positions and densities (Monte Carlo samples of
+/// one shape). About 32 bytes per face.
 class PreparedMoments {
  public:
   /// Prepares the faces of `regions` for moments up to `degree`; the vertex positions only choose the face

@@ -13,10 +13,10 @@ namespace polystokes {
 /// Signed solid angle (sr) of the triangle r[0] r[1] r[2] given relative to the viewpoint, with |r[k]| in
 /// norm[k] and `triple` = r[0] . ((r[1] - r[0]) x (r[2] - r[0])) (the edge-vector form, free of the
 /// cancellation of r[0] . (r[1] x r[2]) for a distant triangle): positive when the triangle's right-hand
-/// normal points away from the viewpoint, so an outward mesh's faces add up to 4 pi inside. Van Oosterom & Strackee 1983, "The solid angle of a plane
-/// triangle", IEEE Trans. Biomed. Eng. 30(2), 125-126: tan(omega/2) = triple / (|r0||r1||r2| + (r0.r1)|r2| +
-/// (r0.r2)|r1| + (r1.r2)|r0|). Zero when the viewpoint lies in the triangle's plane (the mean of the two
-/// one-sided limits +-2 pi on the triangle itself).
+/// normal points away from the viewpoint, so an outward mesh's faces add up to 4 pi inside. Van Oosterom &
+/// Strackee 1983, "The solid angle of a plane triangle", IEEE Trans. Biomed. Eng. 30(2), 125-126:
+/// tan(omega/2) = triple / (|r0||r1||r2| + (r0.r1)|r2| + (r0.r2)|r1| + (r1.r2)|r0|). Zero when the viewpoint
+/// lies in the triangle's plane (the mean of the two one-sided limits +-2 pi on the triangle itself).
 double solid_angle(const Eigen::Vector3d (&r)[3], const double (&norm)[3], double triple);
 
 /// The same for triangle (a, b, c) seen from `point` (all in one frame).
