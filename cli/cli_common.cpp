@@ -15,7 +15,8 @@
 
 #include "polystokes/io/coefficient_file.h"
 #include "polystokes/core/errors.h"
-#include "polystokes/harmonics/harmonics.h"
+#include "polystokes/core/constants.h"
+#include "polystokes/harmonics/compute.h"
 #include "polystokes/mesh/mesh_check.h"
 #include "polystokes/io/mesh_io.h"
 #include "polystokes/io/output_file.h"

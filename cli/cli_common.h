@@ -7,7 +7,7 @@
 
 #include "polystokes/core/coefficient_set.h"
 #include "commands.h"
-#include "polystokes/harmonics/harmonics.h"
+#include "polystokes/harmonics/compute.h"
 #include "polystokes/mesh/mass_properties.h"
 #include "polystokes/core/mesh.h"
 #include "polystokes/io/mesh_io.h"

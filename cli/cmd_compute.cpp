@@ -5,14 +5,13 @@
 #include <chrono>
 #include <cstdio>
 #include <memory>
-#include <thread>
 
 #include "cli_common.h"
 #include "polystokes/io/coefficient_file.h"
 #include "polystokes/sets/conventions.h"
 #include "polystokes/core/errors.h"
-#include "polystokes/harmonics/harmonics.h"
-#include "polystokes/core/memory_budget.h"
+#include "polystokes/core/constants.h"
+#include "polystokes/harmonics/compute.h"
 #include "polystokes/mesh/mesh_check.h"
 #include "polystokes/mesh/plausibility.h"
 
@@ -138,15 +137,11 @@ void run_compute(const ComputeCommandOptions& options, const GlobalOptions& glob
   for (const auto& path : input.meshes) check_input_path(path);
   check_set_output_paths(files);
   // Refused before any mesh is read: the tables, partial sums and written text of this degree.
-  const int threads =
-      options.threads > 0 ? options.threads : int(std::max(1u, std::thread::hardware_concurrency()));
   const bool json = !files.json.empty() || coefficient_form_for(files.output) == CoefficientForm::json;
-  const double run_bytes = coefficient_run_bytes(degree, threads, json);
-  require_memory(run_bytes,
-                 fmt::format("computing and writing a set of degree {} on {} thread(s)", degree, threads));
+  const ComputeMemory memory = require_compute_memory(degree, options.threads, json);
   print_verbose(global, 1,
                 fmt::format("degree {} needs about {:.3g} GB of memory; {:.3g} GB available", degree,
-                            run_bytes / 1e9, available_memory_bytes() / 1e9));
+                            memory.needed_bytes / 1e9, memory.available_bytes / 1e9));
   // Every option is interpreted before the first mesh is read, so a slip costs no reading time.
   std::vector<SummaryRow> echo{{"unit", to_string(unit), "of the mesh files and of bare lengths given here"}};
   if (read.merge_tolerance > 0)

@@ -8,6 +8,7 @@
 #include <optional>
 
 #include "cli_common.h"
+#include "polystokes/core/constants.h"
 #include "polystokes/core/errors.h"
 #include "polystokes/mesh/mass_properties.h"
 #include "polystokes/mesh/mesh_check.h"

@@ -8,6 +8,7 @@
 #include <memory>
 
 #include "cli_common.h"
+#include "polystokes/core/constants.h"
 #include "polystokes/io/coefficient_file.h"
 #include "polystokes/sets/conventions.h"
 #include "polystokes/core/errors.h"

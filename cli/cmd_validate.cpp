@@ -9,7 +9,7 @@
 #include "cli_common.h"
 #include "polystokes/io/coefficient_file.h"
 #include "polystokes/core/errors.h"
-#include "polystokes/harmonics/harmonics.h"
+#include "polystokes/core/constants.h"
 #include "polystokes/mesh/mesh_check.h"
 #include "polystokes/io/output_file.h"
 #include "polystokes/field/validation.h"

@@ -4,7 +4,8 @@
 #include <cmath>
 
 #include "polystokes/io/coefficient_file.h"
-#include "polystokes/harmonics/harmonics.h"
+#include "polystokes/core/constants.h"
+#include "polystokes/harmonics/moments.h"
 #include "polystokes/io/mesh_io.h"
 #include "polystokes/mesh/shapes.h"
 #include "test_support.h"

@@ -13,7 +13,7 @@
 
 #include "polystokes/io/coefficient_file.h"
 #include "polystokes/core/errors.h"
-#include "polystokes/harmonics/harmonics.h"
+#include "polystokes/harmonics/compute.h"
 #include "polystokes/field/polyhedron_gravity.h"
 #include "polystokes/mesh/shapes.h"
 #include "test_support.h"

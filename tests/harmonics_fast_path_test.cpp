@@ -1,6 +1,7 @@
 // The fast moment path (fan decomposition + vectorized spectral recursion) against the slow quadrature
 // reference at many degrees, its independence of thread count and face order, and the fan decomposition's
-// exact-cover invariants; also the geodesic sphere used to benchmark it.
+// exact-cover invariants, prepared topologies (Monte Carlo samples); also the geodesic sphere used to
+// benchmark it.
 #include <Eigen/Geometry>
 #include <algorithm>
 #include <catch2/catch.hpp>
@@ -11,7 +12,8 @@
 
 #include "polystokes/core/errors.h"
 #include "harmonics/fan_decomposition.h"
-#include "polystokes/harmonics/harmonics.h"
+#include "polystokes/harmonics/moments.h"
+#include "harmonics/face_blocks.h"
 #include "polystokes/mesh/mass_properties.h"
 #include "polystokes/mesh/shapes.h"
 
@@ -72,6 +74,16 @@ Mesh shuffled_faces(const Mesh& mesh, unsigned seed) {
     for (int k = 0; k < 3; ++k) out.faces(Eigen::Index(i), k) = mesh.faces(order[i], (k + r) % 3);
   }
   return out;
+}
+
+// The ellipsoid with every vertex moved: a Monte Carlo sample of the same topology.
+std::vector<DensityRegion> moved_sample(const std::vector<DensityRegion>& nominal, int seed) {
+  std::vector<DensityRegion> sample = nominal;
+  for (auto& region : sample)
+    for (Eigen::Index v = 0; v < region.mesh.vertices.rows(); ++v)
+      region.mesh.vertices.row(v) *= 1.0 + 0.02 * std::sin(3.0 * double(v) + seed);
+  sample.front().density *= 1.1;
+  return sample;
 }
 
 }  // namespace
@@ -343,4 +355,57 @@ TEST_CASE("geodesic sphere: 20 k^2 outward faces, 10 k^2 + 2 vertices, volume te
     previous = error;
   }
   CHECK_THROWS_AS(make_geodesic_sphere(0), ConventionError);
+}
+
+TEST_CASE("prepared moments of moved vertices match the quadrature reference path (degree 10, 1e-12)",
+          "[harmonics_fast_path]") {
+  const std::vector<DensityRegion> nominal{{make_ellipsoid(2, 1.0, 0.8, 0.6), 2000.0},
+                                           {make_ellipsoid(1, 0.3, 0.3, 0.3), -500.0}};
+  const PreparedMoments prepared(nominal, 10);
+  CHECK(prepared.degree() == 10);
+  for (int seed : {1, 2}) {
+    const auto sample = moved_sample(nominal, seed);
+    const HarmonicFrame frame = frame_about(sample, Eigen::Vector3d(0.05, -0.02, 0.01));
+    const HarmonicMoments fast = prepared.moments(sample, frame);
+    const HarmonicMoments reference = harmonic_moments_reference(sample, frame, 10);
+    for (int n = 0; n <= 10; ++n) {
+      CAPTURE(seed, n);
+      CHECK(relative_difference(fast, reference, n) < 1e-12);
+    }
+  }
+}
+
+TEST_CASE("prepared moments equal the fast path bit for bit for any thread count, also at a lower degree",
+          "[harmonics_fast_path]") {
+  const std::vector<DensityRegion> nominal{{make_geodesic_sphere(24), 1000.0}};
+  const PreparedMoments prepared(nominal, 16);
+  const auto sample = moved_sample(nominal, 3);
+  const HarmonicFrame frame = frame_about(sample, Eigen::Vector3d(0.05, -0.02, 0.01));
+  for (int threads : {1, 2, 3}) {
+    MomentOptions options;
+    options.threads = threads;
+    CAPTURE(threads);
+    const HarmonicMoments a = prepared.moments(sample, frame, options);
+    const HarmonicMoments b = harmonic_moments(sample, frame, 16, options);
+    CHECK((a.re.array() == b.re.array()).all());
+    CHECK((a.im.array() == b.im.array()).all());
+  }
+  const HarmonicMoments low = prepared.moments(sample, frame, {}, 6);
+  const HarmonicMoments reference = harmonic_moments_reference(sample, frame, 6);
+  for (int n = 0; n <= 6; ++n) CHECK(relative_difference(low, reference, n) < 1e-12);
+}
+
+TEST_CASE("prepared moments refuse another topology, more regions and a higher degree",
+          "[harmonics_fast_path]") {
+  const std::vector<DensityRegion> nominal{{make_ellipsoid(1, 1.0, 0.8, 0.6), 2000.0}};
+  const PreparedMoments prepared(nominal, 8);
+  const HarmonicFrame frame = frame_about(nominal, Eigen::Vector3d::Zero());
+  std::vector<DensityRegion> other = nominal;
+  other.front().mesh.faces.col(1).swap(other.front().mesh.faces.col(2));
+  CHECK_THROWS_AS(prepared.moments(other, frame), ConventionError);
+  std::vector<DensityRegion> two = nominal;
+  two.push_back(nominal.front());
+  CHECK_THROWS_AS(prepared.moments(two, frame), ConventionError);
+  CHECK_THROWS_AS(prepared.moments(nominal, frame, {}, 9), ConventionError);
+  CHECK_THROWS_AS(PreparedMoments(nominal, -1), ConventionError);
 }

@@ -1,14 +1,13 @@
-// Exact Stokes coefficients of polyhedra: closed forms for boxes, ellipsoids and spheres, Legendre functions
-// against GSL and Boost.Math, fast path against the quadrature reference path, and invariance properties.
+// Exact Stokes coefficients of polyhedra: closed forms for boxes, ellipsoids and spheres, fast path against
+// the quadrature reference path, and invariance properties (Legendre functions: legendre_test).
 #include <Eigen/Geometry>
-#include <boost/math/special_functions/legendre.hpp>
 #include <catch2/catch.hpp>
 #include <cmath>
-#include <gsl/gsl_sf_legendre.h>
 
 #include "polystokes/sets/conventions.h"
 #include "polystokes/core/errors.h"
-#include "polystokes/harmonics/harmonics.h"
+#include "polystokes/core/constants.h"
+#include "polystokes/harmonics/compute.h"
 #include "polystokes/mesh/shapes.h"
 #include "test_support.h"
 
@@ -53,39 +52,6 @@ double max_relative_difference(const HarmonicMoments& a, const HarmonicMoments& 
 }
 
 }  // namespace
-
-TEST_CASE("fully normalized Legendre functions match GSL gsl_sf_legendre_array (FULL, no phase) to degree 200",
-          "[harmonics]") {
-  // GSL's GSL_SF_LEGENDRE_FULL has integral over [-1,1] of P^2 = 1; the geodesy 4pi functions are
-  // sqrt(2 (2 - delta_m0)) times larger (GSL manual, "Associated Legendre Polynomials and Spherical Harmonics").
-  const int lmax = 200;
-  std::vector<double> gsl(gsl_sf_legendre_array_n(lmax));
-  for (double t : {-0.93, -0.4, 0.0, 0.25, 0.7071, 0.999}) {
-    REQUIRE(gsl_sf_legendre_array_e(GSL_SF_LEGENDRE_FULL, lmax, t, 1.0, gsl.data()) == 0);
-    const Eigen::MatrixXd p = fully_normalized_legendre(lmax, t);
-    for (int n : {0, 1, 2, 7, 31, 150, 151, 200}) {
-      for (int m = 0; m <= n; m += (n > 40 ? 7 : 1)) {
-        CAPTURE(t, n, m);
-        const double expected = std::sqrt(2.0 * (m == 0 ? 1.0 : 2.0)) * gsl[gsl_sf_legendre_array_index(n, m)];
-        CHECK_THAT(p(n, m), WithinAbs(expected, 1e-12 * std::max(1.0, std::abs(expected))));
-      }
-    }
-  }
-}
-
-TEST_CASE("Legendre functions match Boost.Math legendre_p (Condon-Shortley phase removed) to degree 30",
-          "[harmonics]") {
-  // boost::math::legendre_p(l, m, x) includes the (-1)^m phase (Boost.Math documentation, Legendre).
-  for (double t : {-0.6, 0.1, 0.85}) {
-    const Eigen::MatrixXd p = fully_normalized_legendre(30, t);
-    for (int n = 0; n <= 30; ++n)
-      for (int m = 0; m <= n; ++m) {
-        CAPTURE(t, n, m);
-        const double boost_value = boost::math::legendre_p(n, m, t) * (m % 2 ? -1.0 : 1.0) * full_norm(n, m);
-        CHECK_THAT(p(n, m), WithinAbs(boost_value, 1e-12 * std::max(1.0, std::abs(boost_value))));
-      }
-  }
-}
 
 TEST_CASE("unit cube: degree 4 matches closed-form monomial box integrals, odd and degree-2 terms vanish",
           "[harmonics]") {

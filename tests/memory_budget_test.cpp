@@ -9,7 +9,7 @@
 #include <sstream>
 
 #include "polystokes/core/errors.h"
-#include "polystokes/core/memory_budget.h"
+#include "internal/memory_budget.h"
 #include "test_support.h"
 
 using namespace polystokes;

@@ -16,6 +16,7 @@
 #include "mesh/self_intersections.h"
 #include "polystokes/core/errors.h"
 #include "polystokes/io/mesh_io.h"
+#include "polystokes/mesh/geometry.h"
 #include "polystokes/mesh/shapes.h"
 #include "test_support.h"
 

@@ -9,7 +9,7 @@
 #include <ctime>
 
 #include "polystokes/core/errors.h"
-#include "polystokes/harmonics/harmonics.h"
+#include "polystokes/core/constants.h"
 #include "polystokes/mesh/shapes.h"
 
 using namespace polystokes;

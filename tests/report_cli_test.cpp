@@ -6,7 +6,8 @@
 #include <catch2/catch.hpp>
 
 #include "polystokes/io/coefficient_file.h"
-#include "polystokes/harmonics/harmonics.h"
+#include "polystokes/core/constants.h"
+#include "polystokes/harmonics/compute.h"
 #include "polystokes/io/mesh_io.h"
 #include "polystokes/mesh/shapes.h"
 #include "render/svg_plot.h"

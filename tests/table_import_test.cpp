@@ -10,7 +10,7 @@
 #include "polystokes/io/coefficient_file.h"
 #include "polystokes/sets/conventions.h"
 #include "polystokes/core/errors.h"
-#include "polystokes/harmonics/harmonics.h"
+#include "polystokes/harmonics/compute.h"
 #include "polystokes/mesh/shapes.h"
 #include "test_support.h"
 #include "polystokes/sets/transforms.h"

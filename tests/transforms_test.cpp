@@ -11,7 +11,8 @@
 
 #include "polystokes/sets/conventions.h"
 #include "polystokes/core/errors.h"
-#include "polystokes/harmonics/harmonics.h"
+#include "polystokes/harmonics/legendre.h"
+#include "polystokes/harmonics/compute.h"
 #include "polystokes/field/series.h"
 #include "polystokes/mesh/shapes.h"
 #include "test_support.h"
@@ -99,7 +100,7 @@ double worst_relative_by_degree(const CoefficientSet& a, const CoefficientSet& b
 TEST_CASE("real Wigner-D matrices satisfy Y_l(Q x) = D_l(Q) Y_l(x) and are orthogonal to degree 400",
           "[transforms]") {
   // Defining property of the rotation matrices of real spherical harmonics (Ivanic & Ruedenberg 1996,
-  // J. Phys. Chem. 100, 6342, eq. 1.4); Y from the Holmes & Featherstone 2002 recursion in harmonics.h.
+  // J. Phys. Chem. 100, 6342, eq. 1.4); Y from the Holmes & Featherstone 2002 recursion in legendre.h.
   // Rotations near the z-y-z singularities (beta ~ 0, pi) are included.
   std::mt19937 rng(7);
   std::vector<Eigen::Matrix3d> rotations{random_rotation(rng),
@@ -232,7 +233,7 @@ TEST_CASE(
 
 TEST_CASE("rotating a set equals the set computed exactly from the rotated mesh to degree 20 (1e-12)",
           "[transforms]") {
-  // Independent path: the exact polyhedron coefficients (harmonics.h) of the mesh rotated by x -> Q x about
+  // Independent path: the exact polyhedron coefficients (compute.h) of the mesh rotated by x -> Q x about
   // the mesh origin, with the same origin and reference radius.
   const Mesh mesh = transformed(lumpy_body(3), Eigen::Matrix3d::Identity(), Eigen::Vector3d(150, -90, 60));
   std::mt19937 rng(11);

@@ -1,6 +1,7 @@
 // Monte Carlo uncertainty: shape-noise sigmas against the first-order perturbation formula, density and
 // core scenarios against closed forms (mass scaling, shell theorem, point-mass coefficients), and the
 // reproducibility guarantees (same seed, any thread count, shards merged = one run, bit for bit).
+#include "polystokes/core/constants.h"
 #include "polystokes/uncertainty/uncertainty.h"
 
 #include <gsl/gsl_sf_legendre.h>

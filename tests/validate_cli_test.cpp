@@ -8,7 +8,7 @@
 #include <sstream>
 
 #include "polystokes/io/coefficient_file.h"
-#include "polystokes/harmonics/harmonics.h"
+#include "polystokes/harmonics/compute.h"
 #include "polystokes/io/mesh_io.h"
 #include "polystokes/field/polyhedron_gravity.h"
 #include "polystokes/mesh/shapes.h"

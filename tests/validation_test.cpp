@@ -8,7 +8,7 @@
 #include <nlohmann/json.hpp>
 
 #include "polystokes/core/errors.h"
-#include "polystokes/harmonics/harmonics.h"
+#include "polystokes/harmonics/compute.h"
 #include "polystokes/mesh/shapes.h"
 #include "polystokes/sets/transforms.h"
 

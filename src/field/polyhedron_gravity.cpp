@@ -3,14 +3,15 @@
 #include <fmt/format.h>
 
 #include <Eigen/Dense>
-#include <Eigen/Eigenvalues>
 #include <cmath>
 #include <limits>
 #include <string>
 
 #include "polystokes/core/errors.h"
-#include "polystokes/harmonics/harmonics.h"
-#include "internal/parallel_rows.h"
+#include "polystokes/core/constants.h"
+#include "polystokes/mesh/geometry.h"
+#include "harmonics/quadrature.h"
+#include "internal/parallel.h"
 
 namespace polystokes {
 
@@ -24,20 +25,6 @@ namespace {
 constexpr double kClosedFormLimit = 64.0;
 constexpr double kBudget = 2e-15;
 constexpr int kMaxRule = 12;
-
-// Gauss-Legendre rule on [0, 1] by the Golub & Welsch 1969 eigenvalue method (Math. Comp. 23, 221-230):
-// nodes are the eigenvalues of the symmetric Jacobi matrix of the Legendre recurrence, weights the squared
-// first eigenvector components.
-void gauss_legendre(int q, std::vector<double>& nodes, std::vector<double>& weights) {
-  Eigen::MatrixXd jacobi = Eigen::MatrixXd::Zero(q, q);
-  for (int k = 1; k < q; ++k) jacobi(k, k - 1) = jacobi(k - 1, k) = k / std::sqrt(4.0 * k * k - 1.0);
-  Eigen::SelfAdjointEigenSolver<Eigen::MatrixXd> solver(jacobi);
-  for (int k = 0; k < q; ++k) {
-    nodes.push_back(0.5 * (1.0 + solver.eigenvalues()[k]));
-    const double v = solver.eigenvectors()(0, k);
-    weights.push_back(v * v);  // 2 v^2 on [-1, 1], halved for [0, 1]
-  }
-}
 
 // The q x q Gauss product rule on the triangle collapsed at v0 (Duffy): y = v0 + s(1-t) e1 + s t e2, dA = 2A
 // s ds dt, exact for polynomials of degree 2q - 2. For 1/|x - y| at `ratio` face radii its relative error was
@@ -78,27 +65,16 @@ double edge_factor(const Eigen::Vector3d& ri, double norm_i, double norm_j, cons
   return std::log1p(length * (1.0 + w) / di);
 }
 
-// Signed solid angle of triangle (r0, r1, r2) seen from the origin, van Oosterom & Strackee 1983:
-// tan(omega/2) = r0 . (r1 x r2) / (|r0||r1||r2| + (r0.r1)|r2| + (r0.r2)|r1| + (r1.r2)|r0|). The triple
-// product is passed in as r0 . ((v1 - v0) x (v2 - v0)), which is free of the cancellation of r0 . (r1 x r2).
-// Zero when the point lies in the face's plane (the mean of the two one-sided limits +-2 pi on the face).
-double solid_angle(const Eigen::Vector3d (&r)[3], const double (&norm)[3], double triple) {
-  if (triple == 0) return 0.0;
-  const double denominator = norm[0] * norm[1] * norm[2] + r[0].dot(r[1]) * norm[2] +
-                             r[0].dot(r[2]) * norm[1] + r[1].dot(r[2]) * norm[0];
-  return 2.0 * std::atan2(triple, denominator);
-}
-
 }  // namespace
 
 PolyhedronGravity::PolyhedronGravity(const std::vector<DensityRegion>& regions) {
   if (regions.empty()) throw ConventionError("no density region given");
   for (const auto& input : regions) {
     const Mesh& mesh = input.mesh;
-    if (!std::isfinite(input.density))
+    if (!std::isfinite(input.density.constant()))
       throw ConventionError(fmt::format("{}: density is not finite", mesh.source));
     Region region;
-    region.density = input.density;
+    region.density = input.density.constant();
     // Centre of the face data: the volume centroid keeps the stored coordinates as small as possible.
     const VolumeMoments moments = volume_moments(mesh);
     region.center = std::abs(moments.volume) > 0
@@ -136,8 +112,8 @@ PolyhedronGravity::PolyhedronGravity(const std::vector<DensityRegion>& regions) 
   }
   rules_.resize(kMaxRule + 1);
   for (int q = 1; q <= kMaxRule; ++q) {
-    std::vector<double> nodes, weights;
-    gauss_legendre(q, nodes, weights);
+    const GaussRule rule = gauss_legendre_unit(q);
+    const std::vector<double>&nodes = rule.nodes, &weights = rule.weights;
     for (int i = 0; i < q; ++i)
       for (int k = 0; k < q; ++k)
         rules_[size_t(q)].push_back({nodes[size_t(i)] * (1.0 - nodes[size_t(k)]),
@@ -254,16 +230,11 @@ FieldValue PolyhedronGravity::evaluate(const Eigen::Vector3d& point) const {
 
 std::vector<FieldValue> PolyhedronGravity::evaluate(const Points& points, int threads) const {
   std::vector<FieldValue> out(size_t(points.rows()));
-  std::vector<char> bad(size_t(points.rows()), 0);
-  parallel_rows(long(points.rows()), threads, [&](long i) {
-    const Eigen::Vector3d p = points.row(i).transpose();
-    if (p.allFinite())
-      out[size_t(i)] = evaluate(p);
-    else
-      bad[size_t(i)] = 1;
+  parallel_for(size_t(points.rows()), threads, [&](size_t i) {
+    const Eigen::Vector3d p = points.row(Eigen::Index(i)).transpose();
+    if (!p.allFinite()) throw ConventionError(fmt::format("point {} is not finite", i + 1));
+    out[i] = evaluate(p);
   });
-  for (Eigen::Index i = 0; i < points.rows(); ++i)
-    if (bad[size_t(i)]) throw ConventionError(fmt::format("point {} is not finite", i + 1));
   return out;
 }
 

@@ -8,7 +8,7 @@
 
 #include "polystokes/sets/conventions.h"
 #include "polystokes/core/errors.h"
-#include "internal/parallel_rows.h"
+#include "internal/parallel.h"
 
 namespace polystokes {
 
@@ -118,18 +118,8 @@ SeriesModel::SeriesModel(const CoefficientSet& input, int max_degree) {
   coefficients_[8] = derive(coefficients_[2], degree_ + 1, axis_z, radius_);
   coefficients_[9] = derive(coefficients_[3], degree_ + 1, axis_z, radius_);
 
-  // Column recursion of Holmes & Featherstone 2002 (J. Geodesy 76, eq. 11) for Pbar_nm, m < n - 1.
-  const int top = degree_ + 2;
-  recursion_a_.assign(triangle_size(top), 0.0);
-  recursion_b_.assign(triangle_size(top), 0.0);
-  for (int n = 2; n <= top; ++n) {
-    for (int m = 0; m <= n - 2; ++m) {
-      const double nm = (n - m) * double(n + m);
-      recursion_a_[index(n, m)] = std::sqrt((2.0 * n - 1.0) * (2.0 * n + 1.0) / nm);
-      recursion_b_[index(n, m)] =
-          std::sqrt((2.0 * n + 1.0) * (n + m - 1.0) * (n - m - 1.0) / (nm * (2.0 * n - 3.0)));
-    }
-  }
+  // The solid harmonics run the one Legendre recursion (legendre.h) to degree + 2.
+  recursion_ = LegendreRecursion(degree_ + 2);
 }
 
 void SeriesModel::solid_harmonics(const Eigen::Vector3d& point, int top,
@@ -149,14 +139,13 @@ void SeriesModel::solid_harmonics(const Eigen::Vector3d& point, int top,
   }
   table[0] = s;
   for (int m = 1; m <= effective; ++m)
-    table[index(m, m)] = (m == 1 ? std::sqrt(3.0) : std::sqrt((2.0 * m + 1.0) / (2.0 * m))) * s * w *
-                         table[index(m - 1, m - 1)];
+    table[index(m, m)] = recursion_.sectorial(m) * s * w * table[index(m - 1, m - 1)];
   const double s2 = s * s;
   for (int m = 0; m < effective; ++m) {
-    table[index(m + 1, m)] = std::sqrt(2.0 * m + 3.0) * t * s * table[index(m, m)];
+    table[index(m + 1, m)] = recursion_.first_step(m) * t * s * table[index(m, m)];
     for (int n = m + 2; n <= effective; ++n)
-      table[index(n, m)] = recursion_a_[index(n, m)] * t * s * table[index(n - 1, m)] -
-                           recursion_b_[index(n, m)] * s2 * table[index(n - 2, m)];
+      table[index(n, m)] = recursion_.a(n, m) * t * s * table[index(n - 1, m)] -
+                           recursion_.b(n, m) * s2 * table[index(n - 2, m)];
   }
 }
 
@@ -207,18 +196,13 @@ std::vector<FieldValue> SeriesModel::partial_sums(const Eigen::Vector3d& point) 
 
 std::vector<FieldValue> SeriesModel::evaluate(const Points& points, int threads) const {
   std::vector<FieldValue> out(size_t(points.rows()));
-  // Errors (a point at the origin) are captured per row and the first one rethrown after the join.
-  std::vector<std::string> errors(size_t(points.rows()));
-  parallel_rows(long(points.rows()), threads, [&](long i) {
+  parallel_for(size_t(points.rows()), threads, [&](size_t i) {
     try {
-      out[size_t(i)] = evaluate(Eigen::Vector3d(points.row(i).transpose()));
+      out[i] = evaluate(Eigen::Vector3d(points.row(Eigen::Index(i)).transpose()));
     } catch (const Error& e) {
-      errors[size_t(i)] = e.what();
+      throw ConventionError(fmt::format("point {}: {}", i + 1, e.what()));
     }
   });
-  for (Eigen::Index i = 0; i < points.rows(); ++i)
-    if (!errors[size_t(i)].empty())
-      throw ConventionError(fmt::format("point {}: {}", i + 1, errors[size_t(i)]));
   return out;
 }
 

@@ -10,8 +10,9 @@
 
 #include "polystokes/sets/conventions.h"
 #include "polystokes/core/errors.h"
-#include "polystokes/harmonics/harmonics.h"
-#include "internal/parallel_rows.h"
+#include "polystokes/core/constants.h"
+#include "polystokes/mesh/geometry.h"
+#include "internal/parallel.h"
 #include "polystokes/field/polyhedron_gravity.h"
 #include "polystokes/field/series.h"
 
@@ -114,30 +115,6 @@ std::vector<Eigen::Vector3d> fibonacci_directions(int n) {
   return out;
 }
 
-double outermost_crossing(const std::vector<DensityRegion>& regions, const Eigen::Vector3d& origin,
-                          const Eigen::Vector3d& u) {
-  double best = 0;
-  for (const auto& region : regions) {
-    const Mesh& mesh = region.mesh;
-    for (Eigen::Index f = 0; f < mesh.faces.rows(); ++f) {
-      const Eigen::Vector3d a = mesh.vertices.row(mesh.faces(f, 0)).transpose();
-      const Eigen::Vector3d e1 = mesh.vertices.row(mesh.faces(f, 1)).transpose() - a;
-      const Eigen::Vector3d e2 = mesh.vertices.row(mesh.faces(f, 2)).transpose() - a;
-      const Eigen::Vector3d p = u.cross(e2);
-      const double det = e1.dot(p);
-      if (det == 0) continue;  // ray parallel to the face
-      const Eigen::Vector3d s = origin - a;
-      const double b1 = s.dot(p) / det;
-      if (b1 < 0 || b1 > 1) continue;
-      const Eigen::Vector3d q = s.cross(e1);
-      const double b2 = u.dot(q) / det;
-      if (b2 < 0 || b1 + b2 > 1) continue;
-      best = std::max(best, e2.dot(q) / det);
-    }
-  }
-  return best;
-}
-
 ValidationReport validate_series(const std::vector<DensityRegion>& regions, const CoefficientSet& given,
                                  const ValidationOptions& options) {
   check_options(options);
@@ -155,7 +132,7 @@ ValidationReport validate_series(const std::vector<DensityRegion>& regions, cons
   report.gm_set = set.gm;
   report.gm_field = set.gm * set.C(0, 0) * coefficient_factor(set.convention, Convention{}, 0, 0);
   for (const auto& region : regions)
-    report.gm_mesh += gravitational_constant * region.density * volume_moments(region.mesh).volume;
+    report.gm_mesh += gravitational_constant * region.density.constant() * volume_moments(region.mesh).volume;
   report.faces = long(exact.face_count());
   report.samples = options.samples;
   add_consistency_warnings(regions, set, report);
@@ -180,9 +157,10 @@ ValidationReport validate_series(const std::vector<DensityRegion>& regions, cons
   }
   if (!options.altitudes.empty()) {
     std::vector<double> surface(directions.size());
-    parallel_rows(long(directions.size()), options.threads, [&](long i) {
-      surface[size_t(i)] = outermost_crossing(regions, origin, directions[size_t(i)]);
-    });
+    std::vector<const Mesh*> meshes;
+    for (const auto& region : regions) meshes.push_back(&region.mesh);
+    parallel_for(directions.size(), options.threads,
+                 [&](size_t i) { surface[i] = farthest_ray_hit(meshes, origin, directions[i]); });
     const long missed = long(std::count(surface.begin(), surface.end(), 0.0));
     if (missed > 0)
       report.warnings.push_back(
@@ -206,20 +184,17 @@ ValidationReport validate_series(const std::vector<DensityRegion>& regions, cons
   // errors[i * (degree + 1) + L]: relative acceleration error of point i at truncation degree L.
   const size_t levels = size_t(report.degree) + 1;
   std::vector<double> errors(points.size() * levels, 0.0);
-  std::vector<std::string> failures(points.size());
-  parallel_rows(long(points.size()), options.threads, [&](long i) {
+  parallel_for(points.size(), options.threads, [&](size_t i) {
     try {
-      const Eigen::Vector3d& p = points[size_t(i)];
+      const Eigen::Vector3d& p = points[i];
       const Eigen::Vector3d reference = set.axes_in_mesh * exact.evaluate(p).acceleration;
       const std::vector<FieldValue> sums = series.partial_sums(to_set_frame(set, p));
       for (size_t L = 0; L < levels; ++L)
-        errors[size_t(i) * levels + L] = (sums[L].acceleration - reference).norm() / reference.norm();
+        errors[i * levels + L] = (sums[L].acceleration - reference).norm() / reference.norm();
     } catch (const Error& e) {
-      failures[size_t(i)] = e.what();
+      throw ConventionError(fmt::format("sample point {}: {}", i + 1, e.what()));
     }
   });
-  for (size_t i = 0; i < points.size(); ++i)
-    if (!failures[i].empty()) throw ConventionError(fmt::format("sample point {}: {}", i + 1, failures[i]));
 
   for (auto& shell : report.shells) {
     shell.max_error.assign(levels, 0.0);

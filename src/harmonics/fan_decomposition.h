@@ -1,5 +1,5 @@
 // Grouping a block of mesh faces into vertex fans that share their edge and vertex terms, so the spectral
-// moment recursion (harmonics.cpp) costs about one operator product per face instead of three.
+// moment recursion (moments.cpp) costs about one operator product per face instead of three.
 #pragma once
 
 #include <Eigen/Core>

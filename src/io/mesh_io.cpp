@@ -17,7 +17,7 @@
 
 #include "io/mesh_format_registry.h"
 #include "polystokes/core/errors.h"
-#include "polystokes/core/memory_budget.h"
+#include "internal/memory_budget.h"
 #include "polystokes/io/output_file.h"
 
 namespace polystokes {

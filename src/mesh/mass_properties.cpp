@@ -5,7 +5,8 @@
 #include <cmath>
 
 #include "polystokes/core/errors.h"
-#include "internal/parallel_rows.h"
+#include "polystokes/mesh/geometry.h"
+#include "internal/parallel.h"
 
 namespace polystokes {
 
@@ -18,8 +19,9 @@ std::vector<Result> chunk_results(Eigen::Index count, int threads, Range&& range
   constexpr Eigen::Index chunk = 1 << 16;
   const long chunks = long((count + chunk - 1) / chunk);
   std::vector<Result> results(static_cast<size_t>(chunks));
-  parallel_rows(chunks, threads,
-                [&](long i) { results[size_t(i)] = range(i * chunk, std::min(count, (i + 1) * chunk)); });
+  parallel_for(size_t(chunks), threads, [&](size_t i) {
+    results[i] = range(Eigen::Index(i) * chunk, std::min(count, Eigen::Index(i + 1) * chunk));
+  });
   return results;
 }
 
@@ -78,10 +80,12 @@ MassProperties mass_properties(const std::vector<DensityRegion>& regions, int th
   for (const auto& region : regions) {
     const VolumeMoments m = volume_moments(region.mesh, threads);
     props.region_volumes.push_back(m.volume);
-    if (region.density > 0) props.volume += m.volume;
-    props.mass += region.density * m.volume;
-    first += region.density * m.first;
-    second += region.density * m.second;
+    // A constant density scales the volume moments (the one case of density.h so far).
+    const double rho = region.density.constant();
+    if (rho > 0) props.volume += m.volume;
+    props.mass += rho * m.volume;
+    first += rho * m.first;
+    second += rho * m.second;
   }
   if (!(props.mass > 0))
     throw ConventionError("total mass is not positive; check densities and region meshes");
@@ -91,14 +95,7 @@ MassProperties mass_properties(const std::vector<DensityRegion>& regions, int th
 
   Eigen::SelfAdjointEigenSolver<Eigen::Matrix3d> solver(props.inertia);
   props.principal_moments = solver.eigenvalues();  // ascending
-  Eigen::Matrix3d axes = solver.eigenvectors();
-  for (int k = 0; k < 2; ++k) {
-    Eigen::Index largest;
-    axes.col(k).cwiseAbs().maxCoeff(&largest);
-    if (axes(largest, k) < 0) axes.col(k) = -axes.col(k);
-  }
-  axes.col(2) = axes.col(0).cross(axes.col(1));
-  props.principal_axes = axes;
+  props.principal_axes = with_axis_sign_rule(solver.eigenvectors());
   return props;
 }
 

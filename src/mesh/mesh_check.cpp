@@ -1,4 +1,5 @@
 #include "polystokes/mesh/mesh_check.h"
+#include "polystokes/mesh/geometry.h"
 
 #include <CGAL/Exact_predicates_inexact_constructions_kernel.h>
 #include <CGAL/box_intersection_d.h>
@@ -251,16 +252,6 @@ MeshCheck check_self_intersections(Context& c) {
           fmt::format("faces {} and {} intersect", pairs.first, pairs.second), true};
 }
 
-/// Solid angle of triangle (a, b, c) seen from p, positive if abc runs counter-clockwise seen from p.
-/// Van Oosterom & Strackee (1983), "The solid angle of a plane triangle", IEEE Trans. Biomed. Eng. 30(2).
-double solid_angle(const Point& p, const Point& a, const Point& b, const Point& c) {
-  const Point x = a - p, y = b - p, z = c - p;
-  const double lx = x.norm(), ly = y.norm(), lz = z.norm();
-  const double numerator = x.dot(y.cross(z));
-  const double denominator = lx * ly * lz + x.dot(y) * lz + x.dot(z) * ly + y.dot(z) * lx;
-  return 2.0 * std::atan2(numerator, denominator);
-}
-
 struct Component {
   std::vector<int> faces;
   Eigen::AlignedBox3d box;
@@ -288,12 +279,7 @@ OrientationResult check_outward(Context& c) {
   }
   OrientationResult out;
   for (Component& part : components) {
-    const Point o = part.box.center();
-    for (int f : part.faces) {
-      const Point a = c.vertex(c.corner(f, 0)) - o, b = c.vertex(c.corner(f, 1)) - o,
-                  d = c.vertex(c.corner(f, 2)) - o;
-      part.volume += a.dot(b.cross(d)) / 6.0;
-    }
+    part.volume = signed_volume(c.mesh, part.faces, part.box.center());
     out.volume += part.volume;
   }
 
@@ -437,15 +423,6 @@ MeshError check_failure(const Mesh& mesh, const MeshCheck& check) {
                     fmt::format("mesh check '{}' failed: {}", check.name, describe(check)));
 }
 
-double winding_number(const Mesh& mesh, const Eigen::Vector3d& point) {
-  double angle = 0;
-  for (Eigen::Index f = 0; f < mesh.faces.rows(); ++f)
-    angle += solid_angle(point, mesh.vertices.row(mesh.faces(f, 0)).transpose(),
-                         mesh.vertices.row(mesh.faces(f, 1)).transpose(),
-                         mesh.vertices.row(mesh.faces(f, 2)).transpose());
-  return angle / (4.0 * std::acos(-1.0));
-}
-
 namespace {
 
 /// Face pairs (face of `inner`, face of `outer`) whose closed triangles share a point: CGAL's box
@@ -488,17 +465,17 @@ std::pair<long, std::pair<int, int>> touching_faces(const Mesh& inner, const Mes
 void check_regions(const std::vector<DensityRegion>& regions) {
   if (regions.empty()) return;
   const Mesh& body = regions.front().mesh;
-  if (!(regions.front().density > 0))
+  if (!(regions.front().density.constant() > 0))
     throw mesh_error(body.source,
                      fmt::format("the first region is the body and needs a positive density, got "
                                  "{} kg/m^3",
-                                 regions.front().density));
+                                 regions.front().density.constant()));
   for (size_t r = 1; r < regions.size(); ++r) {
-    if (!(regions[r].density < 0)) continue;
+    if (!(regions[r].density.constant() < 0)) continue;
     const Mesh& part = regions[r].mesh;
     const std::string what =
         fmt::format("region {} (density {} kg/m^3) must lie inside the first mesh {}, but", r + 1,
-                    regions[r].density, body.source);
+                    regions[r].density.constant(), body.source);
     const auto [count, pair] = touching_faces(part, body);
     if (count > 0)
       throw mesh_error(part.source,

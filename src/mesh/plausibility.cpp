@@ -68,7 +68,7 @@ std::vector<std::string> computation_warnings(const std::vector<DensityRegion>& 
     if (warning) warnings.push_back(std::move(*warning));
   };
   for (const DensityRegion& region : regions)
-    add(density_warning(region.density, "the density of " + region.mesh.source));
+    add(density_warning(region.density.constant(), "the density of " + region.mesh.source));
   if (regions.size() > 1 && props.volume > 0)
     add(density_warning(props.mass / props.volume, "the bulk density"));
   add(body_size_warning(brillouin_radius));

@@ -9,7 +9,7 @@
 
 #include "polystokes/sets/conventions.h"
 #include "polystokes/core/errors.h"
-#include "polystokes/harmonics/harmonics.h"
+#include "polystokes/core/constants.h"
 #include "polystokes/mesh/mass_properties.h"
 #include "polystokes/field/series.h"
 #include "render/svg_plot.h"

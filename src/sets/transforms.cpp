@@ -10,7 +10,8 @@
 
 #include "polystokes/sets/conventions.h"
 #include "polystokes/core/errors.h"
-#include "polystokes/harmonics/harmonics.h"
+#include "polystokes/harmonics/legendre.h"
+#include "polystokes/mesh/geometry.h"
 
 namespace polystokes {
 
@@ -113,7 +114,7 @@ Eigen::Vector3d center_of_mass_offset(const CoefficientSet& set) {
 }
 
 // Translation. With G_n^m(x) the coefficient of e^{-imu} in l_u(x)^n / n!, l_u(x) = z + i(x cos u + y sin u)
-// (Whittaker's representation, as in harmonics.cpp), G_n^m = i^m r^n Pnm e^{im lon} / (n+m)! for m >= 0 and
+// (Whittaker's representation, as in moments.cpp), G_n^m = i^m r^n Pnm e^{im lon} / (n+m)! for m >= 0 and
 // G_n^{-m} = (-1)^m conj(G_n^m). Expanding l_u(a + b)^n / n! binomially gives the addition theorem
 //   G_n^m(a + b) = sum_{k <= n} sum_{|l| <= k} G_k^l(a) G_{n-k}^{m-l}(b).
 // Moments mu_n^m = int G_n^m(x) dm about the old origin become, about old origin + d,
@@ -562,13 +563,7 @@ Eigen::Matrix3d principal_axes_rotation(const CoefficientSet& set) {
   for (int k = 0; k < 3; ++k) in_set.col(k) = solver.eigenvectors().col(2 - k);
   // Same sign rule as mass_properties, applied in the mesh frame.
   const Eigen::Matrix3d& A = set.axes_in_mesh;
-  Eigen::Matrix3d in_mesh = A.transpose() * in_set;
-  for (int k = 0; k < 2; ++k) {
-    Eigen::Index largest;
-    in_mesh.col(k).cwiseAbs().maxCoeff(&largest);
-    if (in_mesh(largest, k) < 0) in_mesh.col(k) = -in_mesh.col(k);
-  }
-  in_mesh.col(2) = in_mesh.col(0).cross(in_mesh.col(1));
+  const Eigen::Matrix3d in_mesh = with_axis_sign_rule(A.transpose() * in_set);
   return (A * in_mesh).transpose();
 }
 

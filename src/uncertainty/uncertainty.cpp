@@ -10,16 +10,19 @@
 #include <cstring>
 #include <exception>
 #include <limits>
+#include <memory>
 #include <random>
 #include <sstream>
-#include <thread>
 
 #include "polystokes/io/coefficient_file.h"
 #include "polystokes/sets/conventions.h"
+#include "polystokes/core/constants.h"
 #include "polystokes/core/errors.h"
+#include "polystokes/mesh/geometry.h"
 #include "polystokes/mesh/mesh_check.h"
 #include "polystokes/mesh/mesh_measures.h"
 #include "polystokes/mesh/shapes.h"
+#include "internal/parallel.h"
 
 namespace polystokes {
 
@@ -34,6 +37,8 @@ struct UncertaintyPlan::Precomputed {
     std::vector<int> vertex_ids;  // region vertex numbers used by the cone's faces
   };
   std::vector<Cone> cones;  // empty without lateral variation
+  // The samples' topology (body pieces, then inclusions) cut into blocks and fans once for all samples.
+  std::unique_ptr<PreparedMoments> moments;
 };
 
 namespace {
@@ -117,44 +122,15 @@ Vertices unit_vertex_normals(const Mesh& mesh) {
   return normals;
 }
 
-// Volume of the signed cones (apex, face): the volume of a closed mesh for any apex.
-double cone_volume(const Mesh& mesh, const Eigen::Vector3d& apex) {
-  double volume = 0;
-  for (Eigen::Index f = 0; f < mesh.faces.rows(); ++f)
-    volume +=
-        (vertex(mesh, f, 0) - apex).dot((vertex(mesh, f, 1) - apex).cross(vertex(mesh, f, 2) - apex)) / 6.0;
-  return volume;
-}
-
-// Closest point of triangle abc to p by Voronoi regions (Ericson 2005, Real-Time Collision Detection, 5.1.5).
-Eigen::Vector3d closest_on_triangle(const Eigen::Vector3d& p, const Eigen::Vector3d& a,
-                                    const Eigen::Vector3d& b, const Eigen::Vector3d& c) {
-  const Eigen::Vector3d ab = b - a, ac = c - a, ap = p - a;
-  const double d1 = ab.dot(ap), d2 = ac.dot(ap);
-  if (d1 <= 0 && d2 <= 0) return a;
-  const Eigen::Vector3d bp = p - b;
-  const double d3 = ab.dot(bp), d4 = ac.dot(bp);
-  if (d3 >= 0 && d4 <= d3) return b;
-  const double vc = d1 * d4 - d3 * d2;
-  if (vc <= 0 && d1 >= 0 && d3 <= 0) return a + d1 / (d1 - d3) * ab;
-  const Eigen::Vector3d cp = p - c;
-  const double d5 = ab.dot(cp), d6 = ac.dot(cp);
-  if (d6 >= 0 && d5 <= d6) return c;
-  const double vb = d5 * d2 - d1 * d6;
-  if (vb <= 0 && d2 >= 0 && d6 <= 0) return a + d2 / (d2 - d6) * ac;
-  const double va = d3 * d6 - d5 * d4;
-  if (va <= 0 && d4 - d3 >= 0 && d5 - d6 >= 0) return b + (d4 - d3) / ((d4 - d3) + (d5 - d6)) * (c - b);
-  const double scale = 1.0 / (va + vb + vc);
-  return a + ab * (vb * scale) + ac * (vc * scale);
-}
-
-double distance_to_surface(const Mesh& mesh, const Eigen::Vector3d& p) {
-  double best = std::numeric_limits<double>::infinity();
-  for (Eigen::Index f = 0; f < mesh.faces.rows(); ++f)
-    best = std::min(best,
-                    (closest_on_triangle(p, vertex(mesh, f, 0), vertex(mesh, f, 1), vertex(mesh, f, 2)) - p)
-                        .squaredNorm());
-  return std::sqrt(best);
+// The piece of a region's mesh that a lateral-density cone covers, with the region's current vertices.
+Mesh cone_mesh(const UncertaintyPlan::Precomputed::Cone& cone, const Mesh& region) {
+  Mesh piece;
+  piece.source = region.source;
+  piece.faces = cone.faces;
+  piece.vertices.resize(Eigen::Index(cone.vertex_ids.size()), 3);
+  for (size_t i = 0; i < cone.vertex_ids.size(); ++i)
+    piece.vertices.row(Eigen::Index(i)) = region.vertices.row(cone.vertex_ids[i]);
+  return piece;
 }
 
 // FNV-1a, 64 bit (Fowler, Noll & Vo): a consistency check between shards, not a security measure.
@@ -177,7 +153,7 @@ class Fingerprint {
 std::string model_fingerprint(const std::vector<DensityRegion>& regions, const ComputeOptions& compute) {
   Fingerprint print;
   for (const auto& region : regions) {
-    print.add_value(region.density);
+    print.add_value(region.density.constant());
     print.add(region.mesh.vertices.data(), sizeof(double) * size_t(region.mesh.vertices.size()));
     print.add(region.mesh.faces.data(), sizeof(int) * size_t(region.mesh.faces.size()));
   }
@@ -248,14 +224,22 @@ void check_settings(const UncertaintySettings& s) {
 
 // Where an inclusion's sphere may go: wholly inside the first region, crossing no region surface and
 // overlapping no inclusion placed before it.
-bool fits(const std::vector<DensityRegion>& body, const Eigen::Vector3d& center, double radius,
+// `surfaces` holds the regions' surface trees, built once for all tries.
+bool fits(const std::vector<DensityRegion>& body, const std::vector<SurfaceTree>& surfaces,
+          const Eigen::Vector3d& center, double radius,
           const std::vector<std::pair<Eigen::Vector3d, double>>& placed) {
   for (const auto& [other, other_radius] : placed)
     if ((other - center).norm() < other_radius + radius) return false;
   if (winding_number(body.front().mesh, center) < 0.5) return false;
-  for (const auto& region : body)
-    if (distance_to_surface(region.mesh, center) < radius) return false;
+  for (const auto& surface : surfaces)
+    if (surface.distance(center) < radius) return false;
   return true;
+}
+
+std::vector<SurfaceTree> surface_trees(const std::vector<DensityRegion>& regions) {
+  std::vector<SurfaceTree> trees;
+  for (const auto& region : regions) trees.emplace_back(region.mesh);
+  return trees;
 }
 
 std::string describe_point(const Eigen::Vector3d& p) {
@@ -310,12 +294,14 @@ UncertaintyPlan plan_uncertainty(const std::vector<DensityRegion>& regions, cons
   }
 
   std::vector<std::pair<Eigen::Vector3d, double>> fixed;
+  const std::vector<SurfaceTree> surfaces =
+      plan.settings.inclusions.empty() ? std::vector<SurfaceTree>() : surface_trees(regions);
   for (auto& inclusion : plan.settings.inclusions) {
     if (!inclusion.center) inclusion.center = plan.nominal.center_of_mass;
     pre->unit_spheres.push_back(make_icosphere(inclusion.subdivisions));
     const char* name = inclusion.empty ? "void" : "core";
     if (inclusion.offset == 0) {
-      if (!fits(regions, *inclusion.center, inclusion.radius, fixed))
+      if (!fits(regions, surfaces, *inclusion.center, inclusion.radius, fixed))
         throw ConventionError(
             fmt::format("the {} of radius {} m at {} is not inside the body (or overlaps another "
                         "inclusion)",
@@ -361,6 +347,13 @@ UncertaintyPlan plan_uncertainty(const std::vector<DensityRegion>& regions, cons
       }
     }
   }
+  // Every sample has the same pieces with the same faces: the nominal body's (or its cones), then the
+  // inclusions' spheres.
+  std::vector<DensityRegion> topology;
+  if (pre->cones.empty()) topology = regions;
+  for (const auto& cone : pre->cones) topology.push_back({cone_mesh(cone, regions[cone.region].mesh), 0.0});
+  for (const auto& sphere : pre->unit_spheres) topology.push_back({sphere, 0.0});
+  pre->moments = std::make_unique<PreparedMoments>(topology, plan.nominal.degree);
   plan.precomputed = std::move(pre);
   return plan;
 }
@@ -412,7 +405,8 @@ SampleResult run_sample(const UncertaintyPlan& plan, long index) {
   // Density of the body regions, split into cones when the density varies laterally.
   std::vector<DensityRegion> sample;
   double homogeneous_mass = 0, body_mass = 0;
-  for (const auto& region : body) homogeneous_mass += region.density * cone_volume(region.mesh, origin);
+  for (const auto& region : body)
+    homogeneous_mass += region.density.constant() * signed_volume(region.mesh, origin);
   if (pre.cones.empty()) {
     sample = body;
     body_mass = homogeneous_mass;
@@ -422,13 +416,9 @@ SampleResult run_sample(const UncertaintyPlan& plan, long index) {
     for (auto& f : factor) f = 1.0 + s.lateral.sigma * random.truncated_normal();
     for (const auto& cone : pre.cones) {
       DensityRegion piece;
-      piece.density = body[cone.region].density * factor[size_t(cone.sector)];
-      piece.mesh.source = body[cone.region].mesh.source;
-      piece.mesh.faces = cone.faces;
-      piece.mesh.vertices.resize(Eigen::Index(cone.vertex_ids.size()), 3);
-      for (size_t i = 0; i < cone.vertex_ids.size(); ++i)
-        piece.mesh.vertices.row(Eigen::Index(i)) = body[cone.region].mesh.vertices.row(cone.vertex_ids[i]);
-      body_mass += piece.density * cone_volume(piece.mesh, origin);
+      piece.density = body[cone.region].density.scaled(factor[size_t(cone.sector)]);
+      piece.mesh = cone_mesh(cone, body[cone.region].mesh);
+      body_mass += piece.density.constant() * signed_volume(piece.mesh, origin);
       sample.push_back(std::move(piece));
     }
   }
@@ -439,6 +429,7 @@ SampleResult run_sample(const UncertaintyPlan& plan, long index) {
   if (!s.inclusions.empty()) {
     SampleRandom random(s.seed, index, Stream::inclusions);
     std::vector<std::pair<Eigen::Vector3d, double>> placed;
+    const std::vector<SurfaceTree> surfaces = surface_trees(body);
     for (size_t k = 0; k < s.inclusions.size(); ++k) {
       const Inclusion& inclusion = s.inclusions[k];
       Eigen::Vector3d center = *inclusion.center;
@@ -451,7 +442,7 @@ SampleResult run_sample(const UncertaintyPlan& plan, long index) {
           while (u.squaredNorm() > 1);
           center = *inclusion.center + inclusion.offset * u;
         }
-        ok = fits(body, center, inclusion.radius, placed);
+        ok = fits(body, surfaces, center, inclusion.radius, placed);
       }
       if (!ok)
         throw ConventionError(fmt::format(
@@ -465,7 +456,7 @@ SampleResult run_sample(const UncertaintyPlan& plan, long index) {
       DensityRegion sphere;
       sphere.mesh = transformed(pre.unit_spheres[k], inclusion.radius * Eigen::Matrix3d::Identity(), center);
       sphere.mesh.source = inclusion.empty ? "void" : "core";
-      const double volume = cone_volume(sphere.mesh, origin);
+      const double volume = signed_volume(sphere.mesh, origin);
       if (inclusion.empty) {
         void_volume += volume;
       } else {
@@ -477,7 +468,7 @@ SampleResult run_sample(const UncertaintyPlan& plan, long index) {
   }
 
   // Body scale q: 1, or what keeps the homogeneous mass when asked. A void is empty: contrast -q rho.
-  const double void_density = plan.regions.front().density;
+  const double void_density = plan.regions.front().density.constant();
   double q = 1.0;
   if (s.preserve_mass) {
     q = (homogeneous_mass - core_mass) / (body_mass - void_density * void_volume);
@@ -498,7 +489,7 @@ SampleResult run_sample(const UncertaintyPlan& plan, long index) {
     if (k < body_pieces) sample[k].density *= q;
     if (is_void) sample[k].density = -void_density * q;
     sample[k].density *= density_scale;
-    mass += sample[k].density * cone_volume(sample[k].mesh, origin);
+    mass += sample[k].density.constant() * signed_volume(sample[k].mesh, origin);
   }
 
   HarmonicFrame frame;
@@ -507,7 +498,7 @@ SampleResult run_sample(const UncertaintyPlan& plan, long index) {
   frame.scale_radius = brillouin_radius(sample, origin);
   MomentOptions serial;
   serial.threads = 1;
-  const HarmonicMoments moments = harmonic_moments(sample, frame, plan.nominal.degree, serial);
+  const HarmonicMoments moments = pre.moments->moments(sample, frame, serial);
   CoefficientSet coefficients = make_empty_set(plan.nominal.degree);
   moments_to_coefficients(moments, mass, plan.nominal.reference_radius, coefficients);
 
@@ -528,32 +519,13 @@ SampleResult run_sample(const UncertaintyPlan& plan, long index) {
 std::vector<SampleResult> run_samples(const UncertaintyPlan& plan, const std::vector<long>& indices,
                                       const SampleOptions& options) {
   std::vector<SampleResult> results(indices.size());
-  std::vector<std::exception_ptr> errors(indices.size());
-  std::atomic<size_t> next{0};
   std::atomic<long> done{0};
-  auto worker = [&]() {
-    for (;;) {
-      const size_t k = next.fetch_add(1);
-      if (k >= indices.size()) return;
-      try {
-        results[k] = run_sample(plan, indices[k]);
-      } catch (...) {
-        errors[k] = std::current_exception();
-      }
-      const long finished = done.fetch_add(1) + 1;
-      if (options.progress) options.progress(finished, long(indices.size()));
-    }
-  };
-  const unsigned hardware = std::max(1u, std::thread::hardware_concurrency());
-  const size_t threads =
-      std::min(indices.size(), size_t(options.threads > 0 ? unsigned(options.threads) : hardware));
-  std::vector<std::thread> pool;
-  for (size_t t = 1; t < threads; ++t) pool.emplace_back(worker);
-  worker();
-  for (auto& thread : pool) thread.join();
   // The error of the lowest-numbered failing sample, so the message does not depend on thread timing.
-  for (const auto& error : errors)
-    if (error) std::rethrow_exception(error);
+  parallel_for(indices.size(), options.threads, [&](size_t k) {
+    results[k] = run_sample(plan, indices[k]);
+    const long finished = done.fetch_add(1) + 1;
+    if (options.progress) options.progress(finished, long(indices.size()));
+  });
   return results;
 }
 

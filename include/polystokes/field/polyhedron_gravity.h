@@ -40,7 +40,7 @@ namespace polystokes {
 class PolyhedronGravity {
  public:
   /// Regions must be closed, outward-oriented meshes (mesh_check); density in kg/m^3 (negative: a void).
-  /// Degenerate (zero-area) faces contribute nothing. Uses G = gravitational_constant (harmonics.h).
+  /// Degenerate (zero-area) faces contribute nothing. Uses G = gravitational_constant (constants.h).
   explicit PolyhedronGravity(const std::vector<DensityRegion>& regions);
 
   /// Field at `point` (mesh frame, metres). Throws ConventionError for a non-finite point.

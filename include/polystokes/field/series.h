@@ -8,6 +8,7 @@
 
 #include "polystokes/core/coefficient_set.h"
 #include "polystokes/core/field_value.h"
+#include "polystokes/harmonics/legendre.h"
 
 namespace polystokes {
 
@@ -51,7 +52,7 @@ class SeriesModel {
   // Potential and its first and second derivatives as coefficients on the same harmonic basis:
   // f = (GM/R) Re sum B_nm Ibar_nm; [0] potential, [1..3] d/dx, d/dy, d/dz, [4..9] xx, xy, xz, yy, yz, zz.
   Triangle coefficients_[10];
-  std::vector<double> recursion_a_, recursion_b_;  // Holmes & Featherstone column recursion factors
+  LegendreRecursion recursion_{0};  // to degree + 2 (the second derivatives)
 };
 
 /// Field of `set` at `point` (metres, in the set's own frame about its origin, see to_set_frame).

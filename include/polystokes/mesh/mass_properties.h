@@ -5,15 +5,16 @@
 #include <Eigen/Core>
 #include <vector>
 
+#include "polystokes/core/density.h"
 #include "polystokes/core/mesh.h"
 
 namespace polystokes {
 
-/// One constant-density piece of a body: a checked closed mesh and its density (kg/m^3).
+/// One piece of a body: a checked closed mesh and what fills it (density.h; today a constant in kg/m^3).
 /// A negative density is a contrast: a void or lighter inclusion nested in another region.
 struct DensityRegion {
   Mesh mesh;
-  double density = 0;
+  Density density;
 };
 
 /// Raw volume moments of one closed mesh about the mesh origin (m^3, m^4, m^5).

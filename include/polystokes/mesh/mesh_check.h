@@ -69,11 +69,6 @@ MeshError check_failure(const Mesh& mesh, const MeshCheck& check);
 /// "6 border edges, first edge (12, 40) of face 17" (or why the check was not run).
 std::string describe(const MeshCheck& check);
 
-/// Winding number of a closed mesh about `point` (m): the sum of the faces' solid angles over 4 pi (Van
-/// Oosterom & Strackee 1983, "The solid angle of a plane triangle", IEEE Trans. Biomed. Eng. 30). 1 inside a
-/// closed outward mesh, 0 outside and in its cavities; not an integer on the surface. O(F).
-double winding_number(const Mesh& mesh, const Eigen::Vector3d& point);
-
 /// Checks how superposed density regions fit together, after each mesh passed validate_mesh: the first
 /// region is the body and needs a positive density; every later region with a negative density (a void or
 /// lighter inclusion) must lie strictly inside the first mesh's solid. Its surface must neither touch nor

@@ -12,7 +12,7 @@
 #include <vector>
 
 #include "polystokes/core/coefficient_set.h"
-#include "polystokes/harmonics/harmonics.h"
+#include "polystokes/harmonics/compute.h"
 #include "polystokes/mesh/mass_properties.h"
 
 namespace polystokes {

@@ -1,4 +1,4 @@
-#include "polystokes/core/memory_budget.h"
+#include "internal/memory_budget.h"
 
 #include <sys/resource.h>
 #include <unistd.h>

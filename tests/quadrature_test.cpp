@@ -1,0 +1,50 @@
+// The one Gauss-Legendre rule (harmonics/quadrature.h) against GSL's tabulated fixed-order rules.
+#include "harmonics/quadrature.h"
+
+#include <gsl/gsl_integration.h>
+
+#include <catch2/catch.hpp>
+#include <cmath>
+
+using namespace polystokes;
+using Catch::Matchers::WithinAbs;
+
+TEST_CASE(
+    "Gauss-Legendre nodes and weights on [0, 1] match GSL gsl_integration_glfixed_table for 1..40 points",
+    "[quadrature]") {
+  for (int q = 1; q <= 40; ++q) {
+    const GaussRule rule = gauss_legendre_unit(q);
+    REQUIRE(rule.nodes.size() == size_t(q));
+    REQUIRE(rule.weights.size() == size_t(q));
+    gsl_integration_glfixed_table* table = gsl_integration_glfixed_table_alloc(size_t(q));
+    REQUIRE(table != nullptr);
+    // GSL lists its points in its own order; both rules are sets of q (node, weight) pairs.
+    std::vector<std::pair<double, double>> expected(static_cast<size_t>(q));
+    for (int i = 0; i < q; ++i)
+      REQUIRE(gsl_integration_glfixed_point(0.0, 1.0, size_t(i), &expected[size_t(i)].first,
+                                            &expected[size_t(i)].second, table) == 0);
+    gsl_integration_glfixed_table_free(table);
+    std::sort(expected.begin(), expected.end());
+    for (int i = 0; i < q; ++i) {
+      CAPTURE(q, i);
+      CHECK_THAT(rule.nodes[size_t(i)], WithinAbs(expected[size_t(i)].first, 2e-15));
+      CHECK_THAT(rule.weights[size_t(i)], WithinAbs(expected[size_t(i)].second, 2e-15));
+    }
+  }
+}
+
+TEST_CASE("a q-point rule integrates x^k exactly for k <= 2q - 1 and not for 2q (common practice)",
+          "[quadrature]") {
+  for (int q = 1; q <= 12; ++q) {
+    const GaussRule rule = gauss_legendre_unit(q);
+    for (int k = 0; k <= 2 * q; ++k) {
+      double sum = 0;
+      for (int i = 0; i < q; ++i) sum += rule.weights[size_t(i)] * std::pow(rule.nodes[size_t(i)], k);
+      CAPTURE(q, k);
+      if (k <= 2 * q - 1)
+        CHECK_THAT(sum, WithinAbs(1.0 / (k + 1), 1e-14));
+      else
+        CHECK(std::abs(sum - 1.0 / (k + 1)) > 1e-6);
+    }
+  }
+}
