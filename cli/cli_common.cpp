@@ -164,9 +164,8 @@ void add_expansion_options(CLI::App* cmd, ExpansionOptions& expansion) {
   cmd->add_option("--frame", expansion.frame, "Axes: mesh or principal (principal axes of inertia)")
       ->check(CLI::IsMember({"mesh", "principal"}))
       ->capture_default_str();
-  cmd->add_option("--normalization", expansion.normalization,
-                  "fully (4pi), unnormalized, schmidt or orthonormal")
-      ->check(CLI::IsMember({"fully", "unnormalized", "schmidt", "orthonormal"}))
+  cmd->add_option("--normalization", expansion.normalization, normalization_choices(true))
+      ->check(CLI::IsMember(normalization_words()))
       ->capture_default_str();
   cmd->add_flag("--condon-shortley", expansion.condon_shortley, "Include the (-1)^m Condon-Shortley phase");
   cmd->add_flag("--zonal-j", expansion.zonal_as_j, "Write zonal terms as J_n = -C_n0");

@@ -9,10 +9,11 @@
 
 #include "cli_common.h"
 #include "polystokes/core/constants.h"
-#include "polystokes/io/coefficient_file.h"
-#include "polystokes/sets/conventions.h"
 #include "polystokes/core/errors.h"
+#include "polystokes/io/coefficient_file.h"
 #include "polystokes/io/output_file.h"
+#include "polystokes/io/shard_file.h"
+#include "polystokes/sets/conventions.h"
 #include "polystokes/uncertainty/uncertainty.h"
 
 namespace polystokes::cli {
