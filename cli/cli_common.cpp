@@ -29,6 +29,13 @@ void print_notice(const GlobalOptions& global, const std::string& text) {
 
 void print_warning(const std::string& text) { std::fprintf(stderr, "polystokes: warning: %s\n", text.c_str()); }
 
+bool progress_wanted(const GlobalOptions& global) { return !global.quiet && ::isatty(STDERR_FILENO); }
+
+void print_progress(const std::string& text, bool done) {
+  std::fprintf(stderr, "\rpolystokes: %s", text.c_str());
+  if (done) std::fprintf(stderr, "\n");
+}
+
 void record_warnings(CoefficientSet& set, const std::vector<std::string>& warnings) {
   for (const std::string& warning : warnings) {
     set.notes.push_back("Warning: " + warning);
@@ -99,14 +106,23 @@ std::vector<Quantity> mesh_densities(const MeshInputOptions& input) {
   return densities;
 }
 
-std::vector<DensityRegion> load_regions(const MeshInputOptions& input, const GlobalOptions& global) {
-  const std::vector<Quantity> densities = mesh_densities(input);
-  const MeshReadOptions read = mesh_read_options(input);
+std::vector<DensityRegion> make_regions(std::vector<Mesh> meshes, const std::vector<double>& densities) {
   std::vector<DensityRegion> regions;
-  for (size_t i = 0; i < input.meshes.size(); ++i)
-    regions.push_back({load_checked_mesh(input.meshes[i], read, global), densities[i].value});
+  for (size_t i = 0; i < meshes.size(); ++i) regions.push_back({std::move(meshes[i]), densities.at(i)});
   check_regions(regions);
   return regions;
+}
+
+std::vector<DensityRegion> load_regions(const MeshInputOptions& input, const GlobalOptions& global) {
+  const std::vector<Quantity> quantities = mesh_densities(input);
+  const MeshReadOptions read = mesh_read_options(input);
+  std::vector<Mesh> meshes;
+  std::vector<double> densities;
+  for (size_t i = 0; i < input.meshes.size(); ++i) {
+    meshes.push_back(load_checked_mesh(input.meshes[i], read, global));
+    densities.push_back(quantities[i].value);
+  }
+  return make_regions(std::move(meshes), densities);
 }
 
 MeshListOptions add_mesh_list_options(CLI::App* cmd, MeshInputOptions& input) {

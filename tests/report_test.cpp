@@ -24,30 +24,12 @@
 #include "xml_check.h"
 
 using namespace polystokes;
+using polystokes::test::power_law_set;
 using Catch::Matchers::WithinRel;
 
 namespace {
 
 const double pi = std::acos(-1.0);
-
-// Fully normalized set whose degree variances are exactly K n^-beta (n >= 2): the variance of degree n is
-// spread evenly over its 2n + 1 coefficients (n + 1 cosine terms, n sine terms).
-CoefficientSet power_law_set(int degree, double k, double beta) {
-  CoefficientSet set = make_empty_set(degree);
-  set.body = "power-law test body";
-  set.gm = 4.2e5;
-  set.reference_radius = 1500;
-  set.brillouin_radius = 1500;
-  set.C(0, 0) = 1;
-  for (int n = 2; n <= degree; ++n) {
-    const double each = std::sqrt(k * std::pow(double(n), -beta) / (2 * n + 1));
-    for (int m = 0; m <= n; ++m) {
-      set.C(n, m) = each;
-      if (m > 0) set.S(n, m) = -each;
-    }
-  }
-  return set;
-}
 
 size_t count(const std::string& haystack, const std::string& needle) {
   size_t found = 0;

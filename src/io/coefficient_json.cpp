@@ -12,6 +12,7 @@
 #include <vector>
 
 #include "io/coefficient_common.h"
+#include "io/coefficient_fields.h"
 #include "polystokes/core/errors.h"
 #include "polystokes/io/coefficient_file.h"
 #include "polystokes/sets/conventions.h"
@@ -87,29 +88,7 @@ class JsonReader {
   CoefficientSet read() {
     const Json root = parse();
     if (!root.is_object()) fail(1, "the top-level JSON value must be an object");
-    check_keys(root,
-               {"format",
-                "units",
-                "body",
-                "degree",
-                "gm",
-                "reference_radius",
-                "brillouin_radius",
-                "normalization",
-                "condon_shortley",
-                "zonal_as_j",
-                "origin",
-                "frame",
-                "center_of_mass",
-                "mass",
-                "volume",
-                "mesh_length_unit",
-                "regions",
-                "created",
-                "history",
-                "notes",
-                "coefficients"},
-               "top level", lines_.top);
+    check_keys(root, top_level_keys(), "top level", lines_.top);
 
     const Json& format = member(root, "format");
     const long format_line = key_line("format");
@@ -124,49 +103,17 @@ class JsonReader {
     check_units(member(root, "units"));
 
     CoefficientSet set;
-    set.body = text(root, "body");
-    const long long degree = integer(member(root, "degree"), "degree", key_line("degree"));
-    if (degree < 0 || degree >= INT_MAX)
-      fail(key_line("degree"), fmt::format("degree must be in 0..{}, got {}", INT_MAX - 1, degree));
-    set.gm = real(root, "gm");
-    set.reference_radius = real(root, "reference_radius");
-    set.brillouin_radius = real(root, "brillouin_radius");
-    try {
-      set.convention.normalization = parse_normalization(text(root, "normalization"));
-    } catch (const ConventionError& error) {
-      fail(key_line("normalization"), error.what());
+    std::vector<std::string> checked_objects;
+    bool regions_read = false;
+    for (const HeaderField* field : json_ordered_fields()) {
+      // The regions sit between the body and expansion fields and the provenance.
+      if (field->section == coefficient_io::Section::provenance && !regions_read) {
+        read_regions(member(root, "regions"), set);
+        regions_read = true;
+      }
+      read_field(root, *field, checked_objects, set);
     }
-    set.convention.condon_shortley = boolean(root, "condon_shortley");
-    set.convention.zonal_as_j = boolean(root, "zonal_as_j");
-
-    const Json& origin = member(root, "origin");
-    const long origin_line = key_line("origin");
-    check_keys(origin, {"label", "position"}, "\"origin\"", origin_line);
-    set.origin = text(member(origin, "label", origin_line), "origin.label", origin_line);
-    const Json& position = member(origin, "position", origin_line);
-    set.origin_known = !position.is_null();
-    if (set.origin_known) set.origin_in_mesh = vector(position, "origin.position", origin_line);
-
-    const Json& frame = member(root, "frame");
-    const long frame_line = key_line("frame");
-    check_keys(frame, {"label", "axes"}, "\"frame\"", frame_line);
-    set.frame = text(member(frame, "label", frame_line), "frame.label", frame_line);
-    const Json& axes = member(frame, "axes", frame_line);
-    set.axes_known = !axes.is_null();
-    if (set.axes_known && (!axes.is_array() || axes.size() != 3))
-      fail(frame_line, "\"frame\".\"axes\" must be an array of 3 rows or null");
-    for (int row = 0; row < 3 && set.axes_known; ++row)
-      set.axes_in_mesh.row(row) = vector(axes[row], fmt::format("frame.axes[{}]", row), frame_line);
-
-    set.center_of_mass = vector(member(root, "center_of_mass"), "center_of_mass", key_line("center_of_mass"));
-    set.mass = real(root, "mass");
-    set.volume = real(root, "volume");
-    set.length_unit = text(root, "mesh_length_unit");
-    read_regions(member(root, "regions"), set);
-    set.created = text(root, "created");
-    set.history = text_list(root, "history");
-    set.notes = text_list(root, "notes");
-    read_coefficients(member(root, "coefficients"), static_cast<int>(degree), set);
+    read_coefficients(member(root, "coefficients"), set.degree, set);
     return set;
   }
 
@@ -238,11 +185,11 @@ class JsonReader {
     return index < lines.size() ? lines[index] : fallback;
   }
 
-  void check_keys(const Json& object, std::initializer_list<const char*> allowed, const std::string& where,
+  void check_keys(const Json& object, const std::vector<std::string>& allowed, const std::string& where,
                   long line) const {
     if (!object.is_object()) fail(line, fmt::format("{} must be a JSON object", where));
     for (const auto& item : object.items()) {
-      if (std::none_of(allowed.begin(), allowed.end(), [&](const char* key) { return item.key() == key; })) {
+      if (std::find(allowed.begin(), allowed.end(), item.key()) == allowed.end()) {
         const long at = where == "top level" ? key_line(item.key()) : line;
         fail(at, fmt::format("unknown key \"{}\" in {}", item.key(), where));
       }
@@ -261,7 +208,6 @@ class JsonReader {
     if (!std::isfinite(result)) fail(line, fmt::format("\"{}\" must be finite", what));
     return result;
   }
-  double real(const Json& root, const char* key) const { return real(member(root, key), key, key_line(key)); }
 
   long long integer(const Json& value, const std::string& what, long line) const {
     if (!value.is_number_integer()) fail(line, fmt::format("\"{}\" must be an integer", what));
@@ -274,13 +220,9 @@ class JsonReader {
     if (!value.is_string()) fail(line, fmt::format("\"{}\" must be a string", what));
     return value.get<std::string>();
   }
-  std::string text(const Json& root, const char* key) const {
-    return text(member(root, key), key, key_line(key));
-  }
 
-  bool boolean(const Json& root, const char* key) const {
-    const Json& value = member(root, key);
-    if (!value.is_boolean()) fail(key_line(key), fmt::format("\"{}\" must be true or false", key));
+  bool boolean(const Json& value, const std::string& what, long line) const {
+    if (!value.is_boolean()) fail(line, fmt::format("\"{}\" must be true or false", what));
     return value.get<bool>();
   }
 
@@ -290,12 +232,97 @@ class JsonReader {
     return {real(value[0], what, line), real(value[1], what, line), real(value[2], what, line)};
   }
 
-  std::vector<std::string> text_list(const Json& root, const char* key) const {
-    const Json& list = member(root, key);
-    if (!list.is_array()) fail(key_line(key), fmt::format("\"{}\" must be an array of strings", key));
+  std::vector<std::string> text_list(const Json& list, const std::string& what, long line) const {
+    if (!list.is_array()) fail(line, fmt::format("\"{}\" must be an array of strings", what));
     std::vector<std::string> out;
-    for (const Json& item : list) out.push_back(text(item, key, key_line(key)));
+    for (const Json& item : list) out.push_back(text(item, what, line));
     return out;
+  }
+
+  // Every key the top level may hold: the fixed format and units blocks, the header fields (an object
+  // counted once), the regions and the coefficient table.
+  static std::vector<std::string> top_level_keys() {
+    std::vector<std::string> keys = {"format", "units", "regions", "coefficients"};
+    for (const HeaderField& field : header_fields()) {
+      const std::string key = std::string(field.json_key).substr(0, std::string(field.json_key).find('.'));
+      if (std::find(keys.begin(), keys.end(), key) == keys.end()) keys.push_back(key);
+    }
+    return keys;
+  }
+
+  // One header field, spelled as its kind says (HeaderField). A field inside an object ("origin.label")
+  // checks that object's keys when the first of its fields is read; messages give the object's line.
+  void read_field(const Json& root, const HeaderField& field, std::vector<std::string>& checked_objects,
+                  CoefficientSet& set) const {
+    const std::string path = field.json_key;
+    const size_t dot = path.find('.');
+    const std::string top = path.substr(0, dot);
+    const long line = key_line(top);
+    const Json* value = nullptr;
+    if (dot == std::string::npos) {
+      value = &member(root, top.c_str());
+    } else {
+      const Json& object = member(root, top.c_str());
+      if (std::find(checked_objects.begin(), checked_objects.end(), top) == checked_objects.end()) {
+        std::vector<std::string> children;
+        for (const HeaderField& f : header_fields())
+          if (std::string(f.json_key).rfind(top + ".", 0) == 0)
+            children.push_back(f.json_key + top.size() + 1);
+        check_keys(object, children, "\"" + top + "\"", line);
+        checked_objects.push_back(top);
+      }
+      value = &member(object, path.substr(dot + 1).c_str(), line);
+    }
+    switch (field.kind) {
+      case Kind::text:
+        set.*field.text = text(*value, path, line);
+        break;
+      case Kind::real:
+        set.*field.real = real(*value, path, line);
+        break;
+      case Kind::vector:
+        set.*field.vector = vector(*value, path, line);
+        break;
+      case Kind::degree: {
+        const long long degree = integer(*value, path, line);
+        if (degree < 0 || degree >= INT_MAX)
+          fail(line, fmt::format("degree must be in 0..{}, got {}", INT_MAX - 1, degree));
+        set.degree = static_cast<int>(degree);
+        break;
+      }
+      case Kind::normalization:
+        try {
+          set.convention.normalization = parse_normalization(text(*value, path, line));
+        } catch (const ConventionError& error) {
+          fail(line, error.what());
+        }
+        break;
+      case Kind::phase:
+        set.convention.condon_shortley = boolean(*value, path, line);
+        break;
+      case Kind::zonal:
+        set.convention.zonal_as_j = boolean(*value, path, line);
+        break;
+      case Kind::position:
+        set.origin_known = !value->is_null();
+        if (set.origin_known) set.origin_in_mesh = vector(*value, path, line);
+        break;
+      case Kind::axes: {
+        const Json& axes = *value;
+        set.axes_known = !axes.is_null();
+        if (set.axes_known && (!axes.is_array() || axes.size() != 3))
+          fail(line,
+               fmt::format("\"{}\".\"{}\" must be an array of 3 rows or null", top, path.substr(dot + 1)));
+        for (int row = 0; row < 3 && set.axes_known; ++row)
+          set.axes_in_mesh.row(row) = vector(axes[row], fmt::format("{}[{}]", path, row), line);
+        break;
+      }
+      case Kind::text_list:
+        set.*field.list = text_list(*value, path, line);
+        break;
+      case Kind::count:
+        break;  // region fields only
+    }
   }
 
   void check_units(const Json& units) const {
@@ -318,14 +345,17 @@ class JsonReader {
       const Json& entry = regions[i];
       const long line = entry_line(lines_.regions, i, list_line);
       const std::string where = fmt::format("regions[{}]", i);
-      check_keys(entry, {"mesh", "sha256", "unit", "density", "volume", "faces"}, where, line);
+      std::vector<std::string> keys;
+      for (const RegionField& field : region_fields()) keys.emplace_back(field.json_key);
+      check_keys(entry, keys, where, line);
       Region region;
-      region.mesh = text(member(entry, "mesh", line), where + ".mesh", line);
-      region.checksum = text(member(entry, "sha256", line), where + ".sha256", line);
-      region.unit = text(member(entry, "unit", line), where + ".unit", line);
-      region.density = real(member(entry, "density", line), where + ".density", line);
-      region.volume = real(member(entry, "volume", line), where + ".volume", line);
-      region.faces = static_cast<long>(integer(member(entry, "faces", line), where + ".faces", line));
+      for (const RegionField& field : region_fields()) {
+        const Json& value = member(entry, field.json_key, line);
+        const std::string what = where + "." + field.json_key;
+        if (field.kind == Kind::text) region.*field.text = text(value, what, line);
+        if (field.kind == Kind::real) region.*field.real = real(value, what, line);
+        if (field.kind == Kind::count) region.*field.count = static_cast<long>(integer(value, what, line));
+      }
       set.regions.push_back(region);
     }
   }
@@ -357,6 +387,62 @@ class JsonReader {
   long line_ = 1;
 };
 
+// One header field as its kind spells it (HeaderField); `name` is the top-level key, named when a text is
+// not UTF-8.
+Json json_value(const HeaderField& field, const CoefficientSet& set, const std::string& name) {
+  switch (field.kind) {
+    case Kind::text:
+      return utf8_field(set.*field.text, name);
+    case Kind::real:
+      return set.*field.real;
+    case Kind::vector:
+      return json_vector(set.*field.vector);
+    case Kind::degree:
+      return set.degree;
+    case Kind::normalization:
+      return to_string(set.convention.normalization);
+    case Kind::phase:
+      return set.convention.condon_shortley;
+    case Kind::zonal:
+      return set.convention.zonal_as_j;
+    case Kind::position:
+      return set.origin_known ? json_vector(set.origin_in_mesh) : Json(nullptr);
+    case Kind::axes: {
+      Json axes = set.axes_known ? Json::array() : Json(nullptr);
+      for (int row = 0; row < 3 && set.axes_known; ++row)
+        axes.push_back(json_vector(set.axes_in_mesh.row(row)));
+      return axes;
+    }
+    case Kind::text_list: {
+      Json list = Json::array();
+      const std::vector<std::string>& entries = set.*field.list;
+      for (size_t i = 0; i < entries.size(); ++i)
+        list.push_back(utf8_field(entries[i], fmt::format("{}[{}]", name, i)));
+      return list;
+    }
+    case Kind::count:
+      break;  // region fields only
+  }
+  return Json(nullptr);
+}
+
+Json json_regions(const CoefficientSet& set) {
+  Json regions = Json::array();
+  for (size_t i = 0; i < set.regions.size(); ++i) {
+    const Region& region = set.regions[i];
+    Json entry = Json::object();
+    for (const RegionField& field : region_fields()) {
+      Json& slot = entry[field.json_key];
+      if (field.kind == Kind::text)
+        slot = utf8_field(region.*field.text, fmt::format("regions[{}].{}", i, field.json_key));
+      if (field.kind == Kind::real) slot = region.*field.real;
+      if (field.kind == Kind::count) slot = region.*field.count;
+    }
+    regions.push_back(std::move(entry));
+  }
+  return regions;
+}
+
 }  // namespace
 
 std::string format_coefficient_json(const CoefficientSet& set) {
@@ -366,44 +452,19 @@ std::string format_coefficient_json(const CoefficientSet& set) {
   Json units = Json::object();
   for (const auto& [key, unit] : json_units()) units[key] = unit;
   root["units"] = units;
-  root["body"] = utf8_field(set.body, "body");
-  root["degree"] = set.degree;
-  root["gm"] = set.gm;
-  root["reference_radius"] = set.reference_radius;
-  root["brillouin_radius"] = set.brillouin_radius;
-  root["normalization"] = to_string(set.convention.normalization);
-  root["condon_shortley"] = set.convention.condon_shortley;
-  root["zonal_as_j"] = set.convention.zonal_as_j;
-  root["origin"] = {{"label", utf8_field(set.origin, "origin")},
-                    {"position", set.origin_known ? json_vector(set.origin_in_mesh) : Json(nullptr)}};
-  Json axes = set.axes_known ? Json::array() : Json(nullptr);
-  for (int row = 0; row < 3 && set.axes_known; ++row) axes.push_back(json_vector(set.axes_in_mesh.row(row)));
-  root["frame"] = {{"label", utf8_field(set.frame, "frame")}, {"axes", axes}};
-  root["center_of_mass"] = json_vector(set.center_of_mass);
-  root["mass"] = set.mass;
-  root["volume"] = set.volume;
-  root["mesh_length_unit"] = utf8_field(set.length_unit, "mesh_length_unit");
-  Json regions = Json::array();
-  for (size_t i = 0; i < set.regions.size(); ++i) {
-    const Region& region = set.regions[i];
-    Json entry = Json::object();
-    entry["mesh"] = utf8_field(region.mesh, fmt::format("regions[{}].mesh", i));
-    entry["sha256"] = utf8_field(region.checksum, fmt::format("regions[{}].sha256", i));
-    entry["unit"] = utf8_field(region.unit, fmt::format("regions[{}].unit", i));
-    entry["density"] = region.density;
-    entry["volume"] = region.volume;
-    entry["faces"] = region.faces;
-    regions.push_back(std::move(entry));
+  bool regions_written = false;
+  for (const HeaderField* field : json_ordered_fields()) {
+    // The regions sit between the body and expansion fields and the provenance.
+    if (field->section == coefficient_io::Section::provenance && !regions_written) {
+      root["regions"] = json_regions(set);
+      regions_written = true;
+    }
+    const std::string path = field->json_key;
+    const size_t dot = path.find('.');
+    const std::string top = path.substr(0, dot);
+    Json& slot = dot == std::string::npos ? root[top] : root[top][path.substr(dot + 1)];
+    slot = json_value(*field, set, top);
   }
-  root["regions"] = std::move(regions);
-  root["created"] = utf8_field(set.created, "created");
-  Json history = Json::array(), notes = Json::array();
-  for (size_t i = 0; i < set.history.size(); ++i)
-    history.push_back(utf8_field(set.history[i], fmt::format("history[{}]", i)));
-  for (size_t i = 0; i < set.notes.size(); ++i)
-    notes.push_back(utf8_field(set.notes[i], fmt::format("notes[{}]", i)));
-  root["history"] = std::move(history);
-  root["notes"] = std::move(notes);
   Json coefficients = Json::array();
   for (int n = 0; n <= set.degree; ++n) {
     for (int m = 0; m <= n; ++m) {

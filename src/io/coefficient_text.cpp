@@ -2,6 +2,7 @@
 #include <fmt/format.h>
 
 #include <algorithm>
+#include <array>
 #include <charconv>
 #include <climits>
 #include <cmath>
@@ -12,6 +13,7 @@
 #include <vector>
 
 #include "io/coefficient_common.h"
+#include "io/coefficient_fields.h"
 #include "polystokes/core/errors.h"
 #include "polystokes/io/coefficient_file.h"
 #include "polystokes/sets/conventions.h"
@@ -110,38 +112,23 @@ constexpr const char* kSectionNames[kRankCount] = {"body",       "expansion",   
                                                    "provenance", "coefficients", "end"};
 
 struct KeySpec {
-  const char* name;
+  std::string name;
   bool repeatable;
 };
 
+// The keys a section may hold, from the field tables.
 const std::vector<KeySpec>& keys_of(Rank rank) {
-  static const std::vector<KeySpec> specs[kProvenance + 1] = {
-      {{"label", false},
-       {"gm_m3_s2", false},
-       {"mass_kg", false},
-       {"volume_m3", false},
-       {"center_of_mass_m", false},
-       {"mesh_length_unit", false}},
-      {{"degree", false},
-       {"reference_radius_m", false},
-       {"brillouin_radius_m", false},
-       {"normalization", false},
-       {"condon_shortley_phase", false},
-       {"zonal_column", false},
-       {"origin", false},
-       {"origin_m", false},
-       {"frame", false},
-       {"frame_x_axis", false},
-       {"frame_y_axis", false},
-       {"frame_z_axis", false}},
-      {{"mesh_file", false},
-       {"sha256", false},
-       {"length_unit", false},
-       {"density_kg_m3", false},
-       {"volume_m3", false},
-       {"faces", false}},
-      {{"created", false}, {"history", true}, {"note", true}},
-  };
+  static const std::array<std::vector<KeySpec>, kProvenance + 1> specs = [] {
+    std::array<std::vector<KeySpec>, kProvenance + 1> out;
+    const std::pair<Rank, Section> sections[] = {
+        {kBody, Section::body}, {kExpansion, Section::expansion}, {kProvenance, Section::provenance}};
+    for (const auto& [rank, section] : sections)
+      for (const HeaderField* field : fields_of(section))
+        for (const std::string& key : text_keys(*field))
+          out[rank].push_back({key, field->kind == Kind::text_list});
+    for (const RegionField& field : region_fields()) out[kRegion].push_back({field.text_key, false});
+    return out;
+  }();
   return specs[rank];
 }
 
@@ -255,7 +242,7 @@ class TextReader {
     entries.push_back({value, line.number});
   }
 
-  const Entry& single(const Section& section, const char* key) const {
+  const Entry& single(const Section& section, const std::string& key) const {
     const auto found = section.entries.find(key);
     if (found == section.entries.end()) {
       fail(section.line, fmt::format("section [{}] lacks the key '{}'", kSectionNames[section.rank], key));
@@ -263,7 +250,7 @@ class TextReader {
     return found->second.front();
   }
 
-  static const std::vector<Entry>& all(const Section& section, const char* key) {
+  static const std::vector<Entry>& all(const Section& section, const std::string& key) {
     static const std::vector<Entry> none;
     const auto found = section.entries.find(key);
     return found == section.entries.end() ? none : found->second;
@@ -318,7 +305,7 @@ class TextReader {
     return out;
   }
 
-  double real(std::string_view token, long line, const char* what) const {
+  double real(std::string_view token, long line, std::string_view what) const {
     double value = 0;
     const auto result = std::from_chars(token.data(), token.data() + token.size(), value);
     if (result.ec != std::errc() || result.ptr != token.data() + token.size() || !std::isfinite(value))
@@ -326,7 +313,7 @@ class TextReader {
     return value;
   }
 
-  long long integer(std::string_view token, long line, const char* what) const {
+  long long integer(std::string_view token, long line, std::string_view what) const {
     long long value = 0;
     const auto result = std::from_chars(token.data(), token.data() + token.size(), value);
     if (result.ec != std::errc() || result.ptr != token.data() + token.size())
@@ -334,21 +321,21 @@ class TextReader {
     return value;
   }
 
-  double real_value(const Section& section, const char* key) const {
+  double real_value(const Section& section, const std::string& key) const {
     const Entry& entry = single(section, key);
     return real(entry.value, entry.line, key);
   }
 
-  std::string text_value(const Section& section, const char* key) const {
+  std::string text_value(const Section& section, const std::string& key) const {
     return text_value(single(section, key));
   }
 
   // A position or axis written as the bare word `unknown` (CoefficientSet::origin_known, axes_known).
-  bool is_unknown(const Section& section, const char* key) const {
+  bool is_unknown(const Section& section, const std::string& key) const {
     return single(section, key).value == kUnknownLabel;
   }
 
-  Eigen::Vector3d vector_value(const Section& section, const char* key) const {
+  Eigen::Vector3d vector_value(const Section& section, const std::string& key) const {
     const Entry& entry = single(section, key);
     const auto parts = tokens(entry.value);
     if (parts.size() != 3)
@@ -357,7 +344,8 @@ class TextReader {
             real(parts[2], entry.line, key)};
   }
 
-  bool choice(const Section& section, const char* key, std::string_view yes, std::string_view no) const {
+  bool choice(const Section& section, const std::string& key, std::string_view yes,
+              std::string_view no) const {
     const Entry& entry = single(section, key);
     if (entry.value == yes) return true;
     if (entry.value == no) return false;
@@ -365,60 +353,85 @@ class TextReader {
   }
 
   void read_header(CoefficientSet& set) const {
-    const Section& body = sections_.at(0);
-    set.body = text_value(body, "label");
-    set.gm = real_value(body, "gm_m3_s2");
-    set.mass = real_value(body, "mass_kg");
-    set.volume = real_value(body, "volume_m3");
-    set.center_of_mass = vector_value(body, "center_of_mass_m");
-    set.length_unit = text_value(body, "mesh_length_unit");
-
-    const Section& expansion = sections_.at(1);
-    const Entry& degree = single(expansion, "degree");
-    const long long value = integer(degree.value, degree.line, "degree");
-    if (value < 0 || value >= INT_MAX)
-      fail(degree.line, fmt::format("degree must be in 0..{}, got {}", INT_MAX - 1, value));
-    set.degree = static_cast<int>(value);
-    set.reference_radius = real_value(expansion, "reference_radius_m");
-    set.brillouin_radius = real_value(expansion, "brillouin_radius_m");
-    const Entry& normalization = single(expansion, "normalization");
-    try {
-      set.convention.normalization = parse_normalization(std::string(normalization.value));
-    } catch (const ConventionError& error) {
-      fail(normalization.line, error.what());
-    }
-    set.convention.condon_shortley = choice(expansion, "condon_shortley_phase", "yes", "no");
-    set.convention.zonal_as_j = choice(expansion, "zonal_column", "J", "C");
-    set.origin = text_value(expansion, "origin");
-    set.origin_known = !is_unknown(expansion, "origin_m");
-    if (set.origin_known) set.origin_in_mesh = vector_value(expansion, "origin_m");
-    set.frame = text_value(expansion, "frame");
-    const char* axis_keys[3] = {"frame_x_axis", "frame_y_axis", "frame_z_axis"};
-    set.axes_known = !is_unknown(expansion, axis_keys[0]);
-    for (int row = 0; row < 3; ++row) {
-      if (is_unknown(expansion, axis_keys[row]) == set.axes_known)
-        fail(single(expansion, axis_keys[row]).line,
-             fmt::format("{}: the three axes must all be given or all be {}", axis_keys[row], kUnknownLabel));
-      if (set.axes_known) set.axes_in_mesh.row(row) = vector_value(expansion, axis_keys[row]);
-    }
-
+    for (const HeaderField* field : fields_of(coefficient_io::Section::body))
+      read_field(*field, sections_.at(0), set);
+    for (const HeaderField* field : fields_of(coefficient_io::Section::expansion))
+      read_field(*field, sections_.at(1), set);
     for (const Section& section : sections_) {
       if (section.rank != kRegion) continue;
       Region region;
-      region.mesh = text_value(section, "mesh_file");
-      region.checksum = text_value(section, "sha256");
-      region.unit = text_value(section, "length_unit");
-      region.density = real_value(section, "density_kg_m3");
-      region.volume = real_value(section, "volume_m3");
-      const Entry& faces = single(section, "faces");
-      region.faces = static_cast<long>(integer(faces.value, faces.line, "faces"));
+      for (const RegionField& field : region_fields()) {
+        if (field.kind == Kind::text) region.*field.text = text_value(section, field.text_key);
+        if (field.kind == Kind::real) region.*field.real = real_value(section, field.text_key);
+        if (field.kind == Kind::count) {
+          const Entry& entry = single(section, field.text_key);
+          region.*field.count = static_cast<long>(integer(entry.value, entry.line, field.text_key));
+        }
+      }
       set.regions.push_back(region);
     }
+    for (const HeaderField* field : fields_of(coefficient_io::Section::provenance))
+      read_field(*field, sections_.back(), set);
+  }
 
-    const Section& provenance = sections_.back();
-    set.created = text_value(provenance, "created");
-    for (const Entry& entry : all(provenance, "history")) set.history.push_back(text_value(entry));
-    for (const Entry& entry : all(provenance, "note")) set.notes.push_back(text_value(entry));
+  // One header field, spelled as its kind says (HeaderField).
+  void read_field(const HeaderField& field, const Section& section, CoefficientSet& set) const {
+    const char* key = field.text_key;
+    switch (field.kind) {
+      case Kind::text:
+        set.*field.text = text_value(section, key);
+        break;
+      case Kind::real:
+        set.*field.real = real_value(section, key);
+        break;
+      case Kind::vector:
+        set.*field.vector = vector_value(section, key);
+        break;
+      case Kind::degree: {
+        const Entry& degree = single(section, key);
+        const long long value = integer(degree.value, degree.line, key);
+        if (value < 0 || value >= INT_MAX)
+          fail(degree.line, fmt::format("degree must be in 0..{}, got {}", INT_MAX - 1, value));
+        set.degree = static_cast<int>(value);
+        break;
+      }
+      case Kind::normalization: {
+        const Entry& normalization = single(section, key);
+        try {
+          set.convention.normalization = parse_normalization(std::string(normalization.value));
+        } catch (const ConventionError& error) {
+          fail(normalization.line, error.what());
+        }
+        break;
+      }
+      case Kind::phase:
+        set.convention.condon_shortley = choice(section, key, "yes", "no");
+        break;
+      case Kind::zonal:
+        set.convention.zonal_as_j = choice(section, key, "J", "C");
+        break;
+      case Kind::position:
+        set.origin_known = !is_unknown(section, key);
+        if (set.origin_known) set.origin_in_mesh = vector_value(section, key);
+        break;
+      case Kind::axes: {
+        const std::vector<std::string> keys = text_keys(field);
+        set.axes_known = !is_unknown(section, keys[0]);
+        for (int row = 0; row < 3; ++row) {
+          const std::string& axis_key = keys[size_t(row)];
+          if (is_unknown(section, axis_key) == set.axes_known)
+            fail(single(section, axis_key).line,
+                 fmt::format("{}: the three axes must all be given or all be {}", axis_key, kUnknownLabel));
+          if (set.axes_known) set.axes_in_mesh.row(row) = vector_value(section, axis_key);
+        }
+        break;
+      }
+      case Kind::text_list:
+        for (const Entry& entry : all(section, key)) (set.*field.list).push_back(text_value(entry));
+        break;
+      case Kind::count:
+        break;  // region fields only
+    }
   }
 
   Row read_row(const Line& line) const {
@@ -440,6 +453,56 @@ class TextReader {
   std::vector<Section> sections_;
 };
 
+// One header field as its kind spells it (HeaderField), after its comment.
+void write_field(const HeaderField& field, const CoefficientSet& set, fmt::memory_buffer& out) {
+  const auto put = [&](auto&&... args) {
+    fmt::format_to(std::back_inserter(out), std::forward<decltype(args)>(args)...);
+  };
+  if (field.kind == Kind::normalization)
+    put(fmt::runtime(field.comment), fmt::join(normalization_words(), " | "));
+  else
+    put("{}", field.comment);
+  const auto line = [&](const std::string& key, const std::string& value) { put("{} = {}\n", key, value); };
+  const char* key = field.text_key;
+  switch (field.kind) {
+    case Kind::text:
+      line(key, quote_text(set.*field.text));
+      break;
+    case Kind::real:
+      line(key, number(set.*field.real));
+      break;
+    case Kind::vector:
+      line(key, vector_text(set.*field.vector));
+      break;
+    case Kind::degree:
+      line(key, std::to_string(set.degree));
+      break;
+    case Kind::normalization:
+      line(key, to_string(set.convention.normalization));
+      break;
+    case Kind::phase:
+      line(key, set.convention.condon_shortley ? "yes" : "no");
+      break;
+    case Kind::zonal:
+      line(key, set.convention.zonal_as_j ? "J" : "C");
+      break;
+    case Kind::position:
+      line(key, set.origin_known ? vector_text(set.origin_in_mesh) : kUnknownLabel);
+      break;
+    case Kind::axes: {
+      const std::vector<std::string> keys = text_keys(field);
+      for (int row = 0; row < 3; ++row)
+        line(keys[size_t(row)], set.axes_known ? vector_text(set.axes_in_mesh.row(row)) : kUnknownLabel);
+      break;
+    }
+    case Kind::text_list:
+      for (const std::string& entry : set.*field.list) line(key, quote_text(entry));
+      break;
+    case Kind::count:
+      break;  // region fields only
+  }
+}
+
 }  // namespace
 
 std::string format_coefficient_text(const CoefficientSet& set) {
@@ -455,46 +518,23 @@ std::string format_coefficient_text(const CoefficientSet& set) {
       "# Text values are double-quoted with escapes \\\\ \\\" \\n \\r \\t \\xHH. Lines starting with # are "
       "comments.\n");
 
-  put("\n[body]\nlabel = {}\n", quote_text(set.body));
-  put("# G times the mass (m^3 s^-2); mass (kg) and volume (m^3) are 0 when unknown\n");
-  put("gm_m3_s2 = {}\nmass_kg = {}\nvolume_m3 = {}\n", number(set.gm), number(set.mass), number(set.volume));
-  put("# centre of mass in the mesh frame (m)\ncenter_of_mass_m = {}\n", vector_text(set.center_of_mass));
-  put("# length unit the source mesh was given in\nmesh_length_unit = {}\n", quote_text(set.length_unit));
-
-  put("\n[expansion]\n"
-      "# U(r, lat, lon) = GM/r sum_n (R/r)^n sum_m P_nm(sin lat) (C_nm cos(m lon) + S_nm sin(m lon)), with\n"
-      "# R the reference radius; valid outside the Brillouin sphere (radius about the origin, m; 0 = "
-      "unknown)\n");
-  put("degree = {}\nreference_radius_m = {}\nbrillouin_radius_m = {}\n", set.degree,
-      number(set.reference_radius), number(set.brillouin_radius));
-  put("# normalization of P_nm: {}\nnormalization = {}\n", fmt::join(normalization_words(), " | "),
-      to_string(set.convention.normalization));
-  put("# yes: P_nm carries the Condon-Shortley phase (-1)^m\ncondon_shortley_phase = {}\n",
-      set.convention.condon_shortley ? "yes" : "no");
-  put("# C: the m = 0 column holds C_n0; J: it holds J_n = -C_n0\nzonal_column = {}\n",
-      set.convention.zonal_as_j ? "J" : "C");
-  put("# expansion origin: label and position in the mesh frame (m), or unknown\norigin = {}\norigin_m = "
-      "{}\n",
-      quote_text(set.origin), set.origin_known ? vector_text(set.origin_in_mesh) : kUnknownLabel);
-  put("# expansion axes: label and each axis as a unit vector in mesh-frame components, or unknown\n"
-      "frame = {}\n",
-      quote_text(set.frame));
-  const auto axis_text = [&](int row) {
-    return set.axes_known ? vector_text(set.axes_in_mesh.row(row)) : std::string(kUnknownLabel);
+  const auto put_fields = [&](coefficient_io::Section section) {
+    for (const HeaderField* field : fields_of(section)) write_field(*field, set, out);
   };
-  put("frame_x_axis = {}\nframe_y_axis = {}\nframe_z_axis = {}\n", axis_text(0), axis_text(1), axis_text(2));
-
+  put("\n[body]\n");
+  put_fields(coefficient_io::Section::body);
+  put("\n[expansion]\n");
+  put_fields(coefficient_io::Section::expansion);
   for (const Region& region : set.regions) {
-    put("\n[region]\n# one constant-density piece: density kg m^-3 (negative for a void), volume m^3\n");
-    put("mesh_file = {}\nsha256 = {}\nlength_unit = {}\n", quote_text(region.mesh),
-        quote_text(region.checksum), quote_text(region.unit));
-    put("density_kg_m3 = {}\nvolume_m3 = {}\nfaces = {}\n", number(region.density), number(region.volume),
-        region.faces);
+    put("\n[region]\n{}", kRegionComment);
+    for (const RegionField& field : region_fields()) {
+      if (field.kind == Kind::text) put("{} = {}\n", field.text_key, quote_text(region.*field.text));
+      if (field.kind == Kind::real) put("{} = {}\n", field.text_key, number(region.*field.real));
+      if (field.kind == Kind::count) put("{} = {}\n", field.text_key, region.*field.count);
+    }
   }
-
-  put("\n[provenance]\ncreated = {}\n", quote_text(set.created));
-  for (const std::string& line : set.history) put("history = {}\n", quote_text(line));
-  for (const std::string& line : set.notes) put("note = {}\n", quote_text(line));
+  put("\n[provenance]\n");
+  put_fields(coefficient_io::Section::provenance);
 
   put("\n[coefficients]\n# n m C S sigma_C sigma_S (sigma: one-sigma uncertainty, 0 when not estimated)\n");
   for (int n = 0; n <= set.degree; ++n) {

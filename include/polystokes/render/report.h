@@ -15,7 +15,6 @@
 
 namespace polystokes {
 
-
 /// Everything the report shows.
 struct ReportInput {
   CoefficientSet set;
