@@ -1,5 +1,6 @@
 #include "render/silhouette_raster.h"
 
+#include <Eigen/Geometry>
 #include <algorithm>
 #include <cmath>
 #include <limits>
