@@ -29,6 +29,13 @@ void print_notice(const GlobalOptions& global, const std::string& text) {
 
 void print_warning(const std::string& text) { std::fprintf(stderr, "polystokes: warning: %s\n", text.c_str()); }
 
+bool progress_wanted(const GlobalOptions& global) { return !global.quiet && ::isatty(STDERR_FILENO); }
+
+void print_progress(const std::string& text, bool done) {
+  std::fprintf(stderr, "\rpolystokes: %s", text.c_str());
+  if (done) std::fprintf(stderr, "\n");
+}
+
 void record_warnings(CoefficientSet& set, const std::vector<std::string>& warnings) {
   for (const std::string& warning : warnings) {
     set.notes.push_back("Warning: " + warning);
@@ -99,14 +106,23 @@ std::vector<Quantity> mesh_densities(const MeshInputOptions& input) {
   return densities;
 }
 
-std::vector<DensityRegion> load_regions(const MeshInputOptions& input, const GlobalOptions& global) {
-  const std::vector<Quantity> densities = mesh_densities(input);
-  const MeshReadOptions read = mesh_read_options(input);
+std::vector<DensityRegion> make_regions(std::vector<Mesh> meshes, const std::vector<double>& densities) {
   std::vector<DensityRegion> regions;
-  for (size_t i = 0; i < input.meshes.size(); ++i)
-    regions.push_back({load_checked_mesh(input.meshes[i], read, global), densities[i].value});
+  for (size_t i = 0; i < meshes.size(); ++i) regions.push_back({std::move(meshes[i]), densities.at(i)});
   check_regions(regions);
   return regions;
+}
+
+std::vector<DensityRegion> load_regions(const MeshInputOptions& input, const GlobalOptions& global) {
+  const std::vector<Quantity> quantities = mesh_densities(input);
+  const MeshReadOptions read = mesh_read_options(input);
+  std::vector<Mesh> meshes;
+  std::vector<double> densities;
+  for (size_t i = 0; i < input.meshes.size(); ++i) {
+    meshes.push_back(load_checked_mesh(input.meshes[i], read, global));
+    densities.push_back(quantities[i].value);
+  }
+  return make_regions(std::move(meshes), densities);
 }
 
 MeshListOptions add_mesh_list_options(CLI::App* cmd, MeshInputOptions& input) {
@@ -164,9 +180,8 @@ void add_expansion_options(CLI::App* cmd, ExpansionOptions& expansion) {
   cmd->add_option("--frame", expansion.frame, "Axes: mesh or principal (principal axes of inertia)")
       ->check(CLI::IsMember({"mesh", "principal"}))
       ->capture_default_str();
-  cmd->add_option("--normalization", expansion.normalization,
-                  "fully (4pi), unnormalized, schmidt or orthonormal")
-      ->check(CLI::IsMember({"fully", "unnormalized", "schmidt", "orthonormal"}))
+  cmd->add_option("--normalization", expansion.normalization, normalization_choices(true))
+      ->check(CLI::IsMember(normalization_words()))
       ->capture_default_str();
   cmd->add_flag("--condon-shortley", expansion.condon_shortley, "Include the (-1)^m Condon-Shortley phase");
   cmd->add_flag("--zonal-j", expansion.zonal_as_j, "Write zonal terms as J_n = -C_n0");

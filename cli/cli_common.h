@@ -34,8 +34,11 @@ MeshReadOptions mesh_read_options(const MeshInputOptions& input);
 /// throws ConventionError otherwise.
 std::vector<Quantity> mesh_densities(const MeshInputOptions& input);
 
-/// Reads and checks every mesh of `input` (load_checked_mesh), pairs it with its density and checks that the
-/// regions fit together (check_regions: a void lies inside the first mesh).
+/// Pairs each mesh with its density, in order, and checks that the regions fit together (check_regions: a
+/// void lies inside the first mesh). The one place meshes and densities become regions.
+std::vector<DensityRegion> make_regions(std::vector<Mesh> meshes, const std::vector<double>& densities);
+
+/// Reads and checks every mesh of `input` (load_checked_mesh) and pairs it with its density (make_regions).
 std::vector<DensityRegion> load_regions(const MeshInputOptions& input, const GlobalOptions& global);
 
 
@@ -123,6 +126,12 @@ void print_notice(const GlobalOptions& global, const std::string& text);
 
 /// Prints "polystokes: warning: TEXT" on stderr, even when quiet: a warning is never silent.
 void print_warning(const std::string& text);
+
+/// Whether a running command shows progress: not when quiet, nor when stderr is not a terminal.
+bool progress_wanted(const GlobalOptions& global);
+
+/// Rewrites the progress line on stderr ("\rpolystokes: TEXT"), ending it with a newline when `done`.
+void print_progress(const std::string& text, bool done);
 
 /// Records each warning in the set's notes ("Warning: TEXT") and prints it (print_warning).
 void record_warnings(CoefficientSet& set, const std::vector<std::string>& warnings);

@@ -6,9 +6,10 @@
 
 #include "cli_common.h"
 #include "polystokes/io/coefficient_file.h"
+#include "polystokes/io/output_file.h"
+#include "polystokes/render/comparison.h"
 #include "polystokes/sets/compare.h"
 #include "polystokes/sets/conventions.h"
-#include "polystokes/io/output_file.h"
 
 namespace polystokes::cli {
 namespace {

@@ -1,6 +1,5 @@
 // polystokes compute: shape mesh(es) with densities -> exact constant-density Stokes coefficients.
 #include <fmt/format.h>
-#include <unistd.h>
 
 #include <chrono>
 #include <cstdio>
@@ -151,15 +150,12 @@ void run_compute(const ComputeCommandOptions& options, const GlobalOptions& glob
   for (const auto& path : input.meshes) meshes.push_back(load_checked_mesh(path, read, global));
   print_verbose(global, 1, fmt::format("meshes read and checked in {:.3f} s", elapsed_since(start)));
   const std::vector<double> densities = resolve_densities(options, meshes, echo);
-  std::vector<DensityRegion> regions;
-  for (size_t i = 0; i < meshes.size(); ++i) regions.push_back({std::move(meshes[i]), densities[i]});
-  check_regions(regions);
+  const std::vector<DensityRegion> regions = make_regions(std::move(meshes), densities);
 
   compute.execution.threads = options.threads;
-  if (!global.quiet && ::isatty(STDERR_FILENO)) {
+  if (progress_wanted(global)) {
     compute.execution.progress = [](double fraction) {
-      std::fprintf(stderr, "\rpolystokes: computing %5.1f%%", 100.0 * fraction);
-      if (fraction >= 1.0) std::fprintf(stderr, "\n");
+      print_progress(fmt::format("computing {:5.1f}%", 100.0 * fraction), fraction >= 1.0);
     };
   }
   const auto compute_start = std::chrono::steady_clock::now();

@@ -145,8 +145,14 @@ void run_convert(const ConvertOptions& options, const GlobalOptions& global) {
   set.history.push_back("inputs as interpreted: " + fmt::format("{}", fmt::join(echo, "; ")));
   const double gm_before = set.gm;
 
-  if (!options.shift.empty())
-    set = shift_origin(set, shift ? *shift : center_of_mass_offset(set), ShiftOptions{options.allow_outside});
+  if (!options.shift.empty()) {
+    try {
+      set =
+          shift_origin(set, shift ? *shift : center_of_mass_offset(set), ShiftOptions{options.allow_outside});
+    } catch (const ShiftOutsideError& refusal) {
+      throw ConventionError(std::string(refusal.what()) + " (use --allow-outside to proceed anyway)");
+    }
+  }
   if (!options.rotate_matrix.empty()) set = rotate_set(set, parse_matrix(options.rotate_matrix));
   if (euler_degrees) {
     const Eigen::Vector3d angles = *euler_degrees * (M_PI / 180.0);
@@ -222,10 +228,8 @@ void setup_convert(CLI::App& app, const GlobalOptions& global) {
       ->capture_default_str();
   cmd->add_option("--body", options->body, "New body label");
   auto* group = cmd->add_option_group("target", "What to convert to (unchanged when not given)");
-  group
-      ->add_option("--to-normalization", options->to_normalization,
-                   "fully (4pi), unnormalized, schmidt or orthonormal")
-      ->check(CLI::IsMember({"fully", "unnormalized", "schmidt", "orthonormal"}));
+  group->add_option("--to-normalization", options->to_normalization, normalization_choices(true))
+      ->check(CLI::IsMember(normalization_words()));
   group->add_option("--to-condon-shortley", options->to_condon_shortley, "Condon-Shortley phase: on or off")
       ->check(CLI::IsMember({"on", "off"}));
   group->add_option("--to-zonal", options->to_zonal, "Zonal terms as c (C_n0) or j (J_n = -C_n0)")
@@ -258,7 +262,7 @@ void setup_convert(CLI::App& app, const GlobalOptions& global) {
   table->add_option("--skip-lines", options->skip_lines, "Header lines to skip")
       ->check(CLI::NonNegativeNumber);
   table->add_option("--normalization", options->normalization, "The table's normalization")
-      ->check(CLI::IsMember({"fully", "unnormalized", "schmidt", "orthonormal"}));
+      ->check(CLI::IsMember(normalization_words()));
   auto* phase =
       table->add_flag("--condon-shortley,!--no-condon-shortley", options->condon_shortley,
                       "Whether the table's functions carry the Condon-Shortley phase (one is required)");

@@ -66,8 +66,12 @@ std::vector<FieldValue> series_field(const FieldOptions& options, const Points& 
     values = series.evaluate(points, options.threads);
   } else {
     Points local(points.rows(), 3);
-    for (Eigen::Index i = 0; i < points.rows(); ++i)
-      local.row(i) = to_set_frame(set, points.row(i).transpose()).transpose();
+    try {
+      for (Eigen::Index i = 0; i < points.rows(); ++i)
+        local.row(i) = to_set_frame(set, points.row(i).transpose()).transpose();
+    } catch (const UnplacedSetError& refusal) {
+      throw ConventionError(std::string(refusal.what()) + " (field --set-frame)");
+    }
     values = series.evaluate(local, options.threads);
     for (auto& value : values) value = to_mesh_frame(set, value);
   }

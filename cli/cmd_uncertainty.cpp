@@ -1,7 +1,6 @@
 // polystokes uncertainty / uncertainty-merge: Monte Carlo sigmas and notes for a coefficient set, in one run
 // or in shards that a batch scheduler runs anywhere and a merge step combines bit-identically.
 #include <fmt/format.h>
-#include <unistd.h>
 
 #include <chrono>
 #include <cstdio>
@@ -9,10 +8,11 @@
 
 #include "cli_common.h"
 #include "polystokes/core/constants.h"
-#include "polystokes/io/coefficient_file.h"
-#include "polystokes/sets/conventions.h"
 #include "polystokes/core/errors.h"
+#include "polystokes/io/coefficient_file.h"
 #include "polystokes/io/output_file.h"
+#include "polystokes/io/shard_file.h"
+#include "polystokes/sets/conventions.h"
 #include "polystokes/uncertainty/uncertainty.h"
 
 namespace polystokes::cli {
@@ -49,10 +49,9 @@ struct MergeCommandOptions {
 };
 
 std::function<void(long, long)> progress_printer(const GlobalOptions& global) {
-  if (global.quiet || !::isatty(STDERR_FILENO)) return {};
+  if (!progress_wanted(global)) return {};
   return [](long done, long total) {
-    std::fprintf(stderr, "\rpolystokes: sample %ld of %ld", done, total);
-    if (done == total) std::fprintf(stderr, "\n");
+    print_progress(fmt::format("sample {} of {}", done, total), done == total);
   };
 }
 

@@ -12,7 +12,9 @@
 #include "polystokes/core/constants.h"
 #include "polystokes/mesh/mesh_check.h"
 #include "polystokes/io/output_file.h"
+#include "polystokes/field/series.h"
 #include "polystokes/field/validation.h"
+#include "polystokes/render/validation_report.h"
 
 namespace polystokes::cli {
 namespace {
@@ -102,15 +104,23 @@ void run_validate(const ValidateOptions& options, bool unit_given, const GlobalO
   validation.target = options.target;
   validation.samples = options.samples;
   validation.threads = options.threads;
-  const ValidationReport report = validate_series(regions, set, validation);
+  const ValidationReport report = [&] {
+    try {
+      return validate_series(regions, set, validation);
+    } catch (const UnplacedSetError& refusal) {
+      throw ConventionError(std::string(refusal.what()) +
+                            (refusal.axes_missing
+                                 ? " (for a table, declare --table-axes mesh if it uses the mesh's axes)"
+                                 : " (for a table, declare --table-origin com or x,y,z)"));
+    }
+  }();
   if (!options.json.empty()) write_file_atomically(options.json, format_validation_json(report));
   if (!global.quiet) {
     std::FILE* out = options.json == "-" ? stderr : stdout;
     fmt::print(out, "{}", format_validation_text(report));
     fmt::print(out, "{}\n", operational_caution());
   } else {
-    for (const auto& warning : report.warnings)
-      std::fprintf(stderr, "polystokes: warning: %s\n", warning.c_str());
+    for (const auto& warning : report.warnings) print_warning(warning);
   }
 }
 

@@ -20,6 +20,7 @@
 #include "polystokes/io/mesh_io.h"
 #include "polystokes/mesh/mass_properties.h"
 #include "polystokes/mesh/mesh_check.h"
+#include "polystokes/render/comparison.h"
 #include "polystokes/sets/compare.h"
 #include "polystokes/sets/conventions.h"
 #include "polystokes/sets/transforms.h"

@@ -17,6 +17,7 @@
 #include <string>
 #include <vector>
 
+#include "io/coefficient_fields.h"
 #include "polystokes/core/errors.h"
 #include "test_support.h"
 
@@ -884,4 +885,85 @@ TEST_CASE("degree 0 is C00 = +1 in J form; an earlier file's -1 reads as +1 with
 }
 
 }  // namespace
+}  // namespace polystokes
+
+namespace polystokes {
+namespace {
+
+// Whether the field that `field` names holds the same value in a and b (bitwise for numbers).
+bool same_field(const coefficient_io::HeaderField& field, const CoefficientSet& a, const CoefficientSet& b) {
+  using coefficient_io::Kind;
+  switch (field.kind) {
+    case Kind::text:
+      return a.*field.text == b.*field.text;
+    case Kind::real:
+      return bits(a.*field.real) == bits(b.*field.real);
+    case Kind::vector:
+      for (int i = 0; i < 3; ++i)
+        if (bits((a.*field.vector)[i]) != bits((b.*field.vector)[i])) return false;
+      return true;
+    case Kind::degree:
+      return a.degree == b.degree;
+    case Kind::normalization:
+      return a.convention.normalization == b.convention.normalization;
+    case Kind::phase:
+      return a.convention.condon_shortley == b.convention.condon_shortley;
+    case Kind::zonal:
+      return a.convention.zonal_as_j == b.convention.zonal_as_j;
+    case Kind::position:
+      return a.origin_known == b.origin_known && a.origin_in_mesh == b.origin_in_mesh;
+    case Kind::axes:
+      return a.axes_known == b.axes_known && a.axes_in_mesh == b.axes_in_mesh;
+    case Kind::text_list:
+      return a.*field.list == b.*field.list;
+    case Kind::count:
+      break;
+  }
+  return false;
+}
+
+}  // namespace
+
+TEST_CASE(
+    "every field of the field table appears in the text and the JSON form and round-trips through both "
+    "(write -> read, common practice)",
+    "[coefficient_file]") {
+  const CoefficientSet set = awkward_set();
+  const std::string text = format_coefficient_text(set);
+  const std::string json_text = format_coefficient_json(set);
+  const Json json = Json::parse(json_text);
+  const CoefficientSet from_text = parse_coefficient_text(text, "field-table.txt");
+  const CoefficientSet from_json = parse_coefficient_json(json_text, "field-table.json");
+  for (const coefficient_io::HeaderField& field : coefficient_io::header_fields()) {
+    CAPTURE(field.text_key, field.json_key);
+    for (const std::string& key : coefficient_io::text_keys(field))
+      CHECK(text.find("\n" + key + " = ") != std::string::npos);
+    const std::string path = field.json_key;
+    const size_t dot = path.find('.');
+    const Json& top = json.at(path.substr(0, dot));
+    CHECK((dot == std::string::npos || top.contains(path.substr(dot + 1))));
+    CHECK(same_field(field, set, from_text));
+    CHECK(same_field(field, set, from_json));
+  }
+  REQUIRE(from_text.regions.size() == set.regions.size());
+  REQUIRE(from_json.regions.size() == set.regions.size());
+  for (const coefficient_io::RegionField& field : coefficient_io::region_fields()) {
+    CAPTURE(field.text_key, field.json_key);
+    CHECK(text.find("\n" + std::string(field.text_key) + " = ") != std::string::npos);
+    for (size_t i = 0; i < set.regions.size(); ++i) {
+      CHECK(json.at("regions").at(i).contains(field.json_key));
+      for (const CoefficientSet* read : {&from_text, &from_json}) {
+        const Region& a = set.regions[i];
+        const Region& b = read->regions[i];
+        if (field.text) CHECK(a.*field.text == b.*field.text);
+        if (field.real) CHECK(bits(a.*field.real) == bits(b.*field.real));
+        if (field.count) CHECK(a.*field.count == b.*field.count);
+      }
+    }
+  }
+  // Writing what was read gives the same bytes in both forms.
+  CHECK(format_coefficient_text(from_text) == text);
+  CHECK(format_coefficient_json(from_json) == json_text);
+}
+
 }  // namespace polystokes

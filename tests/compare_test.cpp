@@ -3,17 +3,19 @@
 #include "polystokes/sets/compare.h"
 
 #include <Eigen/Geometry>
+#include <algorithm>
 #include <catch2/catch.hpp>
 #include <cmath>
 #include <nlohmann/json.hpp>
 
-#include "polystokes/io/coefficient_file.h"
-#include "polystokes/sets/conventions.h"
 #include "polystokes/core/errors.h"
 #include "polystokes/harmonics/compute.h"
+#include "polystokes/io/coefficient_file.h"
 #include "polystokes/mesh/shapes.h"
-#include "test_support.h"
+#include "polystokes/render/comparison.h"
+#include "polystokes/sets/conventions.h"
 #include "polystokes/sets/transforms.h"
+#include "test_support.h"
 
 using namespace polystokes;
 using namespace polystokes::test;
@@ -176,7 +178,7 @@ TEST_CASE("diagnosis names each injected exchange mistake and the corrected set 
     const Comparison c = compare_sets(a, item.b, options);
     CAPTURE(comparison_text(c));
     REQUIRE(!c.agree);
-    CHECK(best(c).kind == item.kind);
+    CHECK(best(c).kind() == item.kind);
     CHECK(best(c).explains);
     CHECK(best(c).misfit < 1e-6 * c.misfit);
     if (item.parameter != 0) CHECK_THAT(best(c).parameter, WithinRel(item.parameter, 1e-9));
@@ -198,7 +200,7 @@ TEST_CASE("at degree 40 parameters fitted on the low degrees explain every degre
   CoefficientSet turned = rotate_about_z(a, 37.5 * M_PI / 180.0);
   turned.axes_in_mesh = a.axes_in_mesh;
   const Comparison c = compare_sets(a, turned, options);
-  CHECK(best(c).kind == "z_rotation");
+  CHECK(best(c).kind() == "z_rotation");
   CHECK(best(c).explains);
   CHECK_THAT(best(c).parameter, WithinAbs(-37.5, 1e-9));
   // B recorded in another frame and about another origin, with a radius label off by 10%: aligned, diagnosed.
@@ -208,7 +210,7 @@ TEST_CASE("at degree 40 parameters fitted on the low degrees explain every degre
   moved.reference_radius = 1650.0;
   options.align_frame = true;
   const Comparison aligned = compare_sets(a, moved, options);
-  CHECK(best(aligned).kind == "radius");
+  CHECK(best(aligned).kind() == "radius");
   CHECK(best(aligned).explains);
   CHECK_THAT(best(aligned).parameter, WithinRel(1500.0 / 1650.0, 1e-9));
 }
@@ -339,7 +341,7 @@ TEST_CASE(
     const Comparison c = compare_sets(a, b, options);
     CAPTURE(c.verdict);
     REQUIRE(!c.agree);
-    CHECK(best(c).kind == "radius");
+    CHECK(best(c).kind() == "radius");
     CHECK(best(c).explains);
     CHECK_THAT(best(c).parameter, WithinRel(f, 1e-9));
     for (const Hypothesis& h : c.hypotheses) CHECK(!std::isnan(h.misfit));
@@ -363,7 +365,7 @@ TEST_CASE(
   b.reference_radius = a.reference_radius * 1.1;
   const Comparison c = compare_sets(a, b, options);
   CAPTURE(comparison_text(c));
-  CHECK(best(c).kind == "normalization+radius");
+  CHECK(best(c).kind() == "normalization+radius");
   CHECK(best(c).explains);
   CHECK_THAT(best(c).parameter, WithinRel(1 / 1.1, 1e-9));
   CHECK(c.verdict.find("most likely normalization+radius") != std::string::npos);
@@ -373,7 +375,7 @@ TEST_CASE(
   scaled.reference_radius = a.reference_radius * 1.3;
   scaled.gm = a.gm * 0.8;
   const Comparison both = compare_sets(a, scaled, options);
-  CHECK(best(both).kind == "radius+gm");
+  CHECK(best(both).kind() == "radius+gm");
   CHECK(best(both).explains);
   CHECK_THAT(best(both).parameter, WithinRel(1 / 1.3, 1e-9));
   CHECK_THAT(best(both).second_parameter, WithinRel(1 / 0.8, 1e-9));
@@ -430,4 +432,21 @@ TEST_CASE("unknown origins and axes are not aligned and are reported; two centre
   const Comparison moved = compare_sets(a, about_mesh_origin, options);
   CHECK(moved.origin_relation == "aligned");
   CHECK(moved.agree);
+}
+
+TEST_CASE("the mistake-kind name table round-trips every kind, and a pair's kind joins its words with '+'",
+          "[compare]") {
+  std::vector<std::string> words;
+  for (const auto& [kind, word] : mistake_kind_names()) {
+    CAPTURE(word);
+    CHECK(to_string(kind) == word);
+    CHECK(parse_mistake_kind(word) == kind);
+    CHECK(std::count(words.begin(), words.end(), std::string(word)) == 0);
+    words.emplace_back(word);
+  }
+  CHECK(words.size() == 9);
+  CHECK_THROWS_AS(parse_mistake_kind("radius+gm"), ConventionError);
+  Hypothesis pair;
+  pair.mistakes = {MistakeKind::normalization, MistakeKind::radius};
+  CHECK(pair.kind() == "normalization+radius");
 }

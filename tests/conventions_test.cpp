@@ -6,6 +6,7 @@
 #include <fmt/format.h>
 #include <gsl/gsl_sf_legendre.h>
 
+#include <algorithm>
 #include <boost/math/special_functions/legendre.hpp>
 #include <catch2/catch.hpp>
 #include <cmath>
@@ -378,4 +379,28 @@ TEST_CASE("degree 0 stays C00 = +1 in every zonal form and through every convers
     CHECK(zonal_sign(from, 2, 0) == (from.zonal_as_j ? -1.0 : 1.0));
     CHECK(zonal_sign(from, 2, 1) == 1.0);
   }
+}
+
+TEST_CASE(
+    "the normalization name table round-trips every normalization and names each once (common practice)",
+    "[conventions]") {
+  const auto& names = normalization_names();
+  REQUIRE(names.size() == 4);
+  std::vector<std::string> words;
+  for (const NormalizationName& name : names) {
+    CAPTURE(name.word);
+    CHECK(parse_normalization(name.word) == name.value);
+    CHECK(to_string(name.value) == name.word);
+    CHECK(describe(name.value) == name.description);
+    CHECK(std::count(words.begin(), words.end(), std::string(name.word)) == 0);
+    words.emplace_back(name.word);
+  }
+  CHECK(normalization_words() == words);
+  CHECK(normalization_choices(true) == "fully (4pi), unnormalized, schmidt or orthonormal");
+  CHECK(normalization_choices(false) == "fully, unnormalized, schmidt or orthonormal");
+  CHECK_THROWS_WITH(parse_normalization("full"),
+                    "unknown normalization 'full' (expected fully, unnormalized, schmidt or orthonormal)");
+  // describe(Convention) opens with the normalization's description.
+  for (const Convention& convention : all_conventions())
+    CHECK(describe(convention).rfind(describe(convention.normalization) + ", ", 0) == 0);
 }

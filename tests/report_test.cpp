@@ -1,10 +1,10 @@
 // Tests of the HTML report and its SVG helpers: the page is well-formed XML with every section, plot, number
 // and caution, and no external reference; degree variances and the power-law fit follow their definitions and
-// agree with GSL; the field map matches the point-mass and degree-2 closed forms; contours match geometry.
+// agree with GSL (tests/spectrum_test.cpp); the field map matches the point-mass and degree-2 closed forms;
+// contours match geometry.
 #include "polystokes/render/report.h"
 
 #include <fmt/format.h>
-#include <gsl/gsl_fit.h>
 
 #include <Eigen/Dense>
 #include <Eigen/Geometry>
@@ -24,30 +24,12 @@
 #include "xml_check.h"
 
 using namespace polystokes;
+using polystokes::test::power_law_set;
 using Catch::Matchers::WithinRel;
 
 namespace {
 
 const double pi = std::acos(-1.0);
-
-// Fully normalized set whose degree variances are exactly K n^-beta (n >= 2): the variance of degree n is
-// spread evenly over its 2n + 1 coefficients (n + 1 cosine terms, n sine terms).
-CoefficientSet power_law_set(int degree, double k, double beta) {
-  CoefficientSet set = make_empty_set(degree);
-  set.body = "power-law test body";
-  set.gm = 4.2e5;
-  set.reference_radius = 1500;
-  set.brillouin_radius = 1500;
-  set.C(0, 0) = 1;
-  for (int n = 2; n <= degree; ++n) {
-    const double each = std::sqrt(k * std::pow(double(n), -beta) / (2 * n + 1));
-    for (int m = 0; m <= n; ++m) {
-      set.C(n, m) = each;
-      if (m > 0) set.S(n, m) = -each;
-    }
-  }
-  return set;
-}
 
 size_t count(const std::string& haystack, const std::string& needle) {
   size_t found = 0;
@@ -132,82 +114,6 @@ TEST_CASE("the XML check accepts well-formed documents and rejects broken ones (
   CHECK(!xml_problem("<a>\x01</a>").empty());
   CHECK(!xml_problem("<a>\xff</a>").empty());
   CHECK(!xml_problem("<a><!-- a -- b --></a>").empty());
-}
-
-TEST_CASE(
-    "degree variances are sums of squared fully normalized coefficients in any stored convention "
-    "(IERS Conventions 2010, ch. 6 normalization)",
-    "[report]") {
-  // A set stored unnormalized: the fully normalized value is C / N with
-  // N = sqrt((2 - delta_m0)(2n + 1)(n - m)!/(n + m)!), the 4pi normalization factor.
-  CoefficientSet set = make_empty_set(4);
-  set.gm = 1e5;
-  set.reference_radius = 700;
-  set.convention.normalization = Normalization::unnormalized;
-  set.C(0, 0) = 1;
-  std::vector<double> expected(5, 0.0);
-  expected[0] = 1;
-  for (int n = 1; n <= 4; ++n) {
-    for (int m = 0; m <= n; ++m) {
-      set.C(n, m) = 0.01 * (n + 1) - 0.003 * m;
-      set.S(n, m) = m == 0 ? 0 : 0.002 * m * n;
-      set.sigma_C(n, m) = 1e-4 * (n + m + 1);
-      const double norm =
-          std::sqrt((m == 0 ? 1.0 : 2.0) * (2 * n + 1) * std::tgamma(n - m + 1.0) / std::tgamma(n + m + 1.0));
-      expected[size_t(n)] += std::pow(set.C(n, m) / norm, 2) + std::pow(set.S(n, m) / norm, 2);
-    }
-  }
-  const DegreeSpectrum spectrum = degree_spectrum(set);
-  REQUIRE(spectrum.variance.size() == 5);
-  CHECK(spectrum.has_sigmas);
-  for (int n = 0; n <= 4; ++n) {
-    CAPTURE(n);
-    CHECK_THAT(spectrum.variance[size_t(n)], WithinRel(expected[size_t(n)], 1e-13));
-  }
-  CHECK(spectrum.sigma_variance[0] == 0);
-  CHECK(spectrum.sigma_variance[1] > 0);
-  CHECK(!degree_spectrum(make_empty_set(3)).has_sigmas);
-}
-
-TEST_CASE(
-    "the fitted power law recovers K and beta of an exact law sigma_n^2 = K n^-beta "
-    "(least-squares line through exact points, common practice)",
-    "[report]") {
-  for (const auto& [k, beta] :
-       std::vector<std::pair<double, double>>{{1e-3, 2.0}, {7.2e-5, 3.7}, {0.31, 4.5}}) {
-    CAPTURE(k, beta);
-    const CoefficientSet set = power_law_set(30, k, beta);
-    const DegreeSpectrum spectrum = degree_spectrum(set);
-    for (int n = 2; n <= 30; ++n)
-      CHECK_THAT(spectrum.variance[size_t(n)], WithinRel(k * std::pow(n, -beta), 1e-13));
-    const PowerLaw law = fit_power_law(spectrum.variance, 2);
-    CHECK(std::abs(law.beta - beta) <= 1e-10);
-    CHECK_THAT(law.k, WithinRel(k, 1e-10));
-    CHECK(law.points == 29);
-    CHECK(law.first_degree == 2);
-    CHECK(law.last_degree == 30);
-    CHECK(law.rms_residual < 1e-12);
-  }
-}
-
-TEST_CASE("the power-law fit equals GSL's linear least squares on scattered data (gsl_fit_linear)",
-          "[report]") {
-  std::vector<double> variance(41, 0.0);
-  std::vector<double> x, y;
-  for (int n = 2; n <= 40; ++n) {
-    if (n == 7) continue;  // a zero degree is skipped by the fit
-    variance[size_t(n)] = 3e-4 * std::pow(n, -3.1) * std::exp(0.4 * std::sin(1.7 * n));
-    x.push_back(std::log(double(n)));
-    y.push_back(std::log(variance[size_t(n)]));
-  }
-  double c0, c1, cov00, cov01, cov11, sumsq;
-  gsl_fit_linear(x.data(), 1, y.data(), 1, x.size(), &c0, &c1, &cov00, &cov01, &cov11, &sumsq);
-  const PowerLaw law = fit_power_law(variance, 2);
-  CHECK_THAT(law.beta, WithinRel(-c1, 1e-12));
-  CHECK_THAT(law.k, WithinRel(std::exp(c0), 1e-12));
-  CHECK_THAT(law.rms_residual, WithinRel(std::sqrt(sumsq / double(x.size())) / std::log(10.0), 1e-10));
-  CHECK(law.points == int(x.size()));
-  CHECK_THROWS_AS(fit_power_law({1.0, 0.0, 1e-3}, 2), ConventionError);
 }
 
 TEST_CASE("the radial-acceleration map of a point mass is -GM/r^2 everywhere (Newton)", "[report]") {

@@ -106,4 +106,21 @@ std::vector<std::string> subcommand_names() {
   return names;
 }
 
+CoefficientSet power_law_set(int degree, double k, double beta) {
+  CoefficientSet set = make_empty_set(degree);
+  set.body = "power-law test body";
+  set.gm = 4.2e5;
+  set.reference_radius = 1500;
+  set.brillouin_radius = 1500;
+  set.C(0, 0) = 1;
+  for (int n = 2; n <= degree; ++n) {
+    const double each = std::sqrt(k * std::pow(double(n), -beta) / (2 * n + 1));
+    for (int m = 0; m <= n; ++m) {
+      set.C(n, m) = each;
+      if (m > 0) set.S(n, m) = -each;
+    }
+  }
+  return set;
+}
+
 }  // namespace polystokes::test

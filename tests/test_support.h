@@ -38,6 +38,11 @@ CommandResult run_cli(const std::string& arguments);
 /// 1280 faces, about the mesh origin.
 Mesh lumpy_test_mesh();
 
+/// Fully normalized set of the given degree whose degree variances are exactly K n^-beta (n >= 2): the
+/// variance of degree n is spread evenly over its 2n + 1 coefficients (n + 1 cosine terms, n sine terms);
+/// C00 = 1, degree 1 zero, GM 4.2e5 m^3 s^-2, reference and Brillouin radius 1500 m.
+CoefficientSet power_law_set(int degree, double k, double beta);
+
 /// Subcommand names listed by `polystokes --help` (the indented names under "Subcommands:"), in order.
 std::vector<std::string> subcommand_names();
 

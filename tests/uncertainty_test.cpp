@@ -14,6 +14,7 @@
 #include <numeric>
 
 #include "polystokes/core/errors.h"
+#include "polystokes/io/shard_file.h"
 #include "polystokes/mesh/mass_properties.h"
 #include "polystokes/mesh/shapes.h"
 #include "test_support.h"

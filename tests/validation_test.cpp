@@ -2,6 +2,7 @@
 // sphere (error falls with degree; 1e-10 at twice R_B for a smooth body), recommendations, warnings,
 // sampling.
 #include "polystokes/field/validation.h"
+#include "polystokes/render/validation_report.h"
 
 #include <catch2/catch.hpp>
 #include <cmath>

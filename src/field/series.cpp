@@ -215,11 +215,16 @@ namespace {
 // Mesh-frame points need the set's origin and axes in the mesh frame; an imported table may not know them.
 void require_placed(const CoefficientSet& set) {
   if (!set.origin_known || !set.axes_known)
-    throw ConventionError(fmt::format(
-        "the set '{}' does not know its {} in the mesh frame (origin '{}', axes '{}'): give points in the "
-        "set's own frame about its origin (field --set-frame)",
-        set.body, !set.origin_known && !set.axes_known ? "origin and axes" : !set.origin_known ? "origin" : "axes",
-        set.origin, set.frame));
+    throw UnplacedSetError(
+        fmt::format(
+            "the set '{}' does not know its {} in the mesh frame (origin '{}', axes '{}'): give points "
+            "in the set's own frame about its origin",
+            set.body,
+            !set.origin_known && !set.axes_known ? "origin and axes"
+            : !set.origin_known                  ? "origin"
+                                                 : "axes",
+            set.origin, set.frame),
+        !set.origin_known, !set.axes_known);
 }
 
 }  // namespace

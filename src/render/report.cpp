@@ -7,115 +7,22 @@
 #include <cmath>
 #include <limits>
 
-#include "polystokes/sets/conventions.h"
 #include "polystokes/core/errors.h"
 #include "polystokes/core/constants.h"
 #include "polystokes/mesh/mass_properties.h"
-#include "polystokes/field/series.h"
+#include "polystokes/render/comparison.h"
+#include "polystokes/sets/conventions.h"
+#include "polystokes/sets/transforms.h"
+#include "render/report_parts.h"
+#include "render/silhouette_raster.h"
 #include "render/svg_plot.h"
 
 namespace polystokes {
 
+using namespace report_parts;
 using svg::escape;
 
-DegreeSpectrum degree_spectrum(const CoefficientSet& set) {
-  const CoefficientSet fully = expressed_in(set, Convention{});
-  DegreeSpectrum out;
-  out.variance.assign(size_t(set.degree + 1), 0.0);
-  out.sigma_variance.assign(size_t(set.degree + 1), 0.0);
-  for (int n = 0; n <= set.degree; ++n) {
-    for (int m = 0; m <= n; ++m) {
-      out.variance[size_t(n)] += fully.C(n, m) * fully.C(n, m) + fully.S(n, m) * fully.S(n, m);
-      out.sigma_variance[size_t(n)] +=
-          fully.sigma_C(n, m) * fully.sigma_C(n, m) + fully.sigma_S(n, m) * fully.sigma_S(n, m);
-    }
-    if (out.sigma_variance[size_t(n)] > 0) out.has_sigmas = true;
-  }
-  return out;
-}
-
-PowerLaw fit_power_law(const std::vector<double>& variance, int min_degree) {
-  std::vector<double> x, y;
-  PowerLaw law;
-  for (size_t n = size_t(std::max(1, min_degree)); n < variance.size(); ++n) {
-    if (!(variance[n] > 0) || !std::isfinite(variance[n])) continue;
-    if (x.empty()) law.first_degree = int(n);
-    law.last_degree = int(n);
-    x.push_back(std::log(double(n)));
-    y.push_back(std::log(variance[n]));
-  }
-  if (x.size() < 2)
-    throw ConventionError(
-        fmt::format("power-law fit needs at least two degrees n >= {} with a positive degree "
-                    "variance, found {}",
-                    min_degree, x.size()));
-  // Least squares line y = a + b x through centred data (normal equations of simple linear regression).
-  const double count = double(x.size());
-  double mean_x = 0, mean_y = 0;
-  for (size_t i = 0; i < x.size(); ++i) {
-    mean_x += x[i];
-    mean_y += y[i];
-  }
-  mean_x /= count;
-  mean_y /= count;
-  double sxx = 0, sxy = 0;
-  for (size_t i = 0; i < x.size(); ++i) {
-    sxx += (x[i] - mean_x) * (x[i] - mean_x);
-    sxy += (x[i] - mean_x) * (y[i] - mean_y);
-  }
-  const double slope = sxy / sxx;
-  const double intercept = mean_y - slope * mean_x;
-  double residual2 = 0;
-  for (size_t i = 0; i < x.size(); ++i) {
-    const double r = y[i] - (intercept + slope * x[i]);
-    residual2 += r * r;
-  }
-  law.beta = -slope;
-  law.k = std::exp(intercept);
-  law.points = int(x.size());
-  law.rms_residual = std::sqrt(residual2 / count) / std::log(10.0);
-  return law;
-}
-
-FieldMap radial_acceleration_map(const CoefficientSet& set, double radius, int columns, int rows) {
-  if (!(radius > 0) || !std::isfinite(radius))
-    throw ConventionError(fmt::format("field map radius must be positive, got {} m", radius));
-  if (columns < 1 || rows < 1)
-    throw ConventionError(fmt::format("field map needs at least one cell, got {} x {}", columns, rows));
-  const SeriesModel model(set);
-  Points points(long(columns) * rows, 3);
-  const double pi = std::acos(-1.0);
-  for (int row = 0; row < rows; ++row) {
-    const double lat = (90.0 - (row + 0.5) * 180.0 / rows) * pi / 180;
-    for (int col = 0; col < columns; ++col) {
-      const double lon = (-180.0 + (col + 0.5) * 360.0 / columns) * pi / 180;
-      points.row(long(row) * columns + col) =
-          radius *
-          Eigen::RowVector3d(std::cos(lat) * std::cos(lon), std::cos(lat) * std::sin(lon), std::sin(lat));
-    }
-  }
-  const std::vector<FieldValue> field = model.evaluate(points);
-  FieldMap map;
-  map.columns = columns;
-  map.rows = rows;
-  map.radius = radius;
-  map.values.resize(field.size());
-  map.min = std::numeric_limits<double>::infinity();
-  map.max = -map.min;
-  for (size_t i = 0; i < field.size(); ++i) {
-    const Eigen::Vector3d r_hat = points.row(long(i)).transpose() / radius;
-    map.values[i] = field[i].acceleration.dot(r_hat);
-    map.min = std::min(map.min, map.values[i]);
-    map.max = std::max(map.max, map.values[i]);
-  }
-  return map;
-}
-
 namespace {
-
-std::string exact(double v) { return fmt::format("{}", v); }
-std::string sci(double v) { return v == 0 ? "0" : fmt::format("{:.9e}", v); }
-std::string short_number(double v) { return fmt::format("{:.6g}", v); }
 
 std::string vector_text(const Eigen::Vector3d& v) {
   return fmt::format("({}, {}, {})", exact(v.x()), exact(v.y()), exact(v.z()));
@@ -138,7 +45,6 @@ std::string row(const std::string& key, const std::string& value, const std::str
   return "<tr><th>" + key + "</th><td>" + value + "</td>" + (extra.empty() ? "" : "<td>" + extra + "</td>") +
          "</tr>\n";
 }
-std::string num(const std::string& text) { return "<span class=\"num\">" + text + "</span>"; }
 std::string unknown_if_zero(double v, const std::string& unit) {
   return v == 0 ? std::string("not known (0)") : num(exact(v)) + " " + unit;
 }
@@ -283,12 +189,8 @@ std::string mass_section(const ReportInput& input, const MeshFacts* facts) {
   line("centre of mass (m, mesh frame)", num(vector_short(set.center_of_mass)),
        with_mesh ? num(vector_short(facts->props.center_of_mass)) : "");
   if (set.degree >= 1 && set.C(0, 0) != 0) {
-    // Degree 1 of a field about an origin offset by d from the centre of mass is, fully normalized,
-    // (C11, S11, C10) = (dx, dy, dz) C00 / (sqrt(3) R) (common practice: the dipole term of the expansion).
-    const CoefficientSet fully = expressed_in(set, Convention{});
-    const Eigen::Vector3d offset = std::sqrt(3.0) * set.reference_radius / fully.C(0, 0) *
-                                   Eigen::Vector3d(fully.C(1, 1), fully.S(1, 1), fully.C(1, 0));
-    const Eigen::Vector3d from_degree_one = set.origin_in_mesh + set.axes_in_mesh.transpose() * offset;
+    const Eigen::Vector3d from_degree_one =
+        set.origin_in_mesh + set.axes_in_mesh.transpose() * center_of_mass_offset(set);
     line("centre of mass implied by the degree-1 terms (m, mesh frame)", num(vector_short(from_degree_one)),
          "");
   }
@@ -502,39 +404,7 @@ std::string silhouette_svg(const ReportInput& input, const MeshFacts& facts, con
   const double spacing = frame_px / samples;
   const auto grid_x = [&](double u) { return (plot.to_x(u / unit.metres) - plot.left()) / spacing - 0.5; };
   const auto grid_y = [&](double v) { return (plot.to_y(v / unit.metres) - plot.top()) / spacing - 0.5; };
-  std::vector<float> depth(size_t(samples) * samples, -std::numeric_limits<float>::infinity());
-  std::vector<int> front(size_t(samples) * samples, -1);
-  for (long f = 0; f < mesh.faces.rows(); ++f) {
-    Eigen::Vector2d p[3];
-    double d[3];
-    for (int k = 0; k < 3; ++k) {
-      const Eigen::Vector3d v = mesh.vertices.row(mesh.faces(f, k)).transpose();
-      p[k] = {grid_x(v[view.right]), grid_y(v[view.up])};
-      d[k] = v.dot(view.toward);
-    }
-    const double area = (p[1] - p[0]).x() * (p[2] - p[0]).y() - (p[1] - p[0]).y() * (p[2] - p[0]).x();
-    if (std::abs(area) < 1e-12) continue;
-    const int x0 = std::max(0, int(std::ceil(std::min({p[0].x(), p[1].x(), p[2].x()}))));
-    const int x1 = std::min(samples - 1, int(std::floor(std::max({p[0].x(), p[1].x(), p[2].x()}))));
-    const int y0 = std::max(0, int(std::ceil(std::min({p[0].y(), p[1].y(), p[2].y()}))));
-    const int y1 = std::min(samples - 1, int(std::floor(std::max({p[0].y(), p[1].y(), p[2].y()}))));
-    for (int j = y0; j <= y1; ++j) {
-      for (int i = x0; i <= x1; ++i) {
-        const Eigen::Vector2d q(i, j);
-        // Barycentric weights; a sample on a shared edge belongs to both faces, so no gaps open.
-        const double w0 = ((p[1] - q).x() * (p[2] - q).y() - (p[1] - q).y() * (p[2] - q).x()) / area;
-        const double w1 = ((p[2] - q).x() * (p[0] - q).y() - (p[2] - q).y() * (p[0] - q).x()) / area;
-        const double w2 = 1 - w0 - w1;
-        if (w0 < -1e-9 || w1 < -1e-9 || w2 < -1e-9) continue;
-        const float z = float(w0 * d[0] + w1 * d[1] + w2 * d[2]);
-        const size_t s = size_t(j) * samples + i;
-        if (z > depth[s]) {
-          depth[s] = z;
-          front[s] = int(f);
-        }
-      }
-    }
-  }
+  const std::vector<int> front = front_faces(mesh, view.right, view.up, view.toward, samples, grid_x, grid_y);
   svg::Grid coverage{samples, samples, std::vector<float>(front.size())};
   for (size_t s = 0; s < front.size(); ++s) coverage.values[s] = front[s] >= 0 ? 1.0f : 0.0f;
   const std::string outline =
@@ -564,20 +434,7 @@ std::string silhouette_svg(const ReportInput& input, const MeshFacts& facts, con
       run_level = -1;
     };
     for (int ci = 0; ci < cells; ++ci) {
-      double sum = 0;
-      int count = 0;
-      for (int j = cj * cell; j < std::min(samples, (cj + 1) * cell); ++j)
-        for (int i = ci * cell; i < std::min(samples, (ci + 1) * cell); ++i) {
-          const int f = front[size_t(j) * samples + i];
-          if (f < 0) continue;
-          const Eigen::Vector3d a = mesh.vertices.row(mesh.faces(f, 0)).transpose();
-          const Eigen::Vector3d b = mesh.vertices.row(mesh.faces(f, 1)).transpose();
-          const Eigen::Vector3d c = mesh.vertices.row(mesh.faces(f, 2)).transpose();
-          const Eigen::Vector3d normal = (b - a).cross(c - a).normalized();
-          sum += 0.22 + 0.78 * std::max(0.0, normal.dot(light));
-          ++count;
-        }
-      const int level = count == 0 ? -1 : int(std::lround(24 * sum / count));
+      const int level = shade_level(mesh, front, samples, cell, ci, cj, light);
       if (run_start >= 0 && level == run_level) continue;
       flush(ci);
       if (level >= 0) {
@@ -715,107 +572,6 @@ std::string map_section(const ReportInput& input, double brillouin, const std::s
       map.columns, map.rows, num(fmt::format("{:.6e}", map.min)), num(fmt::format("{:.6e}", map.max)),
       num(fmt::format("{:.6e}", -set.gm / (radius * radius))));
   out += "</figcaption>\n</figure>\n";
-  return out + "</section>\n";
-}
-
-std::string comparison_section(const ReportInput& input) {
-  const Comparison c = compare_sets(input.set, *input.other, input.compare_options);
-  const CoefficientSet& b = *input.other;
-  std::string out = "<section id=\"comparison\">\n<h2>Comparison with a second set</h2>\n";
-  out += fmt::format(
-      "<p>A: this set (<em>{}</em>, degree {}). B: <em>{}</em> from {} (degree {}, {}). Compared "
-      "in A's conventions to degree {}, tolerance {} relative to A's spectrum at each degree (A being the "
-      "reference).</p>\n",
-      escape(input.set.body), c.degree_a, escape(b.body), escape(input.other_source), c.degree_b,
-      escape(describe(b.convention)), c.degree, short_number(c.tolerance));
-  out += std::string("<p class=\"verdict ") + (c.agree ? "agree" : "disagree") + "\">" + escape(c.verdict) +
-         "</p>\n";
-  if (!c.alignment.empty()) {
-    out += "<h3>B brought to A</h3>\n<ul>\n";
-    for (const auto& step : c.alignment) out += "<li>" + escape(step) + "</li>\n";
-    out += "</ul>\n";
-  }
-  if (c.degree >= 2) {
-    std::vector<double> n, rms_a, rms_b, difference, threshold, range;
-    for (const auto& d : c.degrees) {
-      if (d.degree < 2) continue;
-      n.push_back(d.degree);
-      rms_a.push_back(d.rms_a);
-      rms_b.push_back(d.rms_b);
-      difference.push_back(d.rms_difference);
-      // The scale compare_sets judged the degree by, so the line crosses A - B exactly where the verdict
-      // changes (rounding-level differences aside, which agree regardless).
-      threshold.push_back(c.tolerance * d.scale);
-    }
-    for (const auto* v : {&rms_a, &rms_b, &difference, &threshold})
-      range.insert(range.end(), v->begin(), v->end());
-    const svg::Axis x{1.5, c.degree + 0.5, false, "degree n", {}};
-    const svg::Axis y = svg::axis_for(range, true, "RMS per coefficient (dimensionless)");
-    svg::Plot plot(820, 400, x, y);
-    const svg::Style style_a{"#1f5fa8", 1.8, false, true, true}, style_b{"#e08a1e", 1.6, true, true, true},
-        style_d{"#c0392b", 1.8, false, true, true}, style_t{"#777777", 1.2, true, true, false};
-    plot.series(n, rms_a, style_a);
-    plot.series(n, rms_b, style_b);
-    plot.series(n, difference, style_d);
-    plot.series(n, threshold, style_t);
-    plot.legend({{"A", style_a},
-                 {"B (in A's conventions)", style_b},
-                 {"A \u2212 B", style_d},
-                 {"agreement threshold", style_t}},
-                svg::Plot::Corner::bottom_left);
-    const bool identical = std::all_of(difference.begin(), difference.end(), [](double v) { return v == 0; });
-    out += "<figure>\n" + plot.svg("difference", "Per-degree difference of the two sets") + "\n<figcaption>";
-    out += fmt::format(
-        "RMS per coefficient \u221a(\u03a3\u2098 (C\u2099\u2098\u00b2 + S\u2099\u2098\u00b2) / (2n+1)) of A, "
-        "of B "
-        "and of their difference A \u2212 B, fully normalized, against degree n = 2 to {} (log scale). A "
-        "degree "
-        "agrees where the difference is below the dashed threshold, {} \u00d7 the scale it is measured "
-        "against: the RMS of A at that degree, or {} \u00d7 the largest RMS of A from that degree on where "
-        "that is larger (so terms that should vanish are judged against the body's following terms). "
-        "Differences up to {} are rounding and always agree.{}",
-        c.degree, short_number(c.tolerance), short_number(input.compare_options.relative_floor),
-        short_number(input.compare_options.absolute_floor),
-        identical ? " The two sets are identical at every degree shown." : "");
-    out += "</figcaption>\n</figure>\n";
-  }
-  if (!c.hypotheses.empty()) {
-    out += fmt::format(
-        "<h3>Diagnosis</h3>\n<p>Each usual exchange mistake applied to B as read, ranked by the misfit "
-        "left (RMS over degrees of the relative difference; {} as given).</p>\n",
-        num(fmt::format("{:.3e}", c.misfit)));
-    // The five best in view, the rest folded away.
-    const std::string header =
-        "<table class=\"grid\">\n<tr><th>hypothesis</th><th>what it says</th><th>misfit</th>"
-        "<th>reduced by</th><th>agrees to degree</th><th>explains all</th></tr>\n";
-    out += header;
-    for (size_t i = 0; i < c.hypotheses.size(); ++i) {
-      const Hypothesis& h = c.hypotheses[i];
-      if (i == 5)
-        out += fmt::format("</table>\n<details>\n<summary>{} more hypotheses</summary>\n{}",
-                           c.hypotheses.size() - 5, header);
-      out += fmt::format(
-          "<tr{}><td>{}</td><td>{}</td><td class=\"num\">{:.3e}</td><td class=\"num\">{}</td>"
-          "<td class=\"num\">{}</td><td>{}</td></tr>\n",
-          h.explains ? " class=\"best\"" : "", escape(h.kind), escape(h.description), h.misfit,
-          h.misfit > 0 ? fmt::format("\u00d7{:.3g}", c.misfit / h.misfit) : std::string("all"),
-          h.agree_degree, h.explains ? "yes" : "no");
-    }
-    out += c.hypotheses.size() > 5 ? "</table>\n</details>\n" : "</table>\n";
-  }
-  if (!c.largest.empty()) {
-    out +=
-        "<h3>Largest differences</h3>\n<table class=\"grid\">\n<tr><th>coefficient</th><th>A</th>"
-        "<th>B (in A's conventions)</th><th>A \u2212 B</th></tr>\n";
-    for (const auto& d : c.largest)
-      out += fmt::format(
-          "<tr><td>{}<sub>{},{}</sub></td><td class=\"num\">{}</td><td class=\"num\">{}</td>"
-          "<td class=\"num\">{}</td></tr>\n",
-          d.sine ? "S" : "C", d.n, d.m, sci(d.a), sci(d.b), sci(d.a - d.b));
-    out += "</table>\n";
-  }
-  out += "<details>\n<summary>Comparison, full text</summary>\n<pre>" + escape(comparison_text(c)) +
-         "</pre>\n</details>\n";
   return out + "</section>\n";
 }
 

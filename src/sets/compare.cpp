@@ -7,14 +7,48 @@
 #include <cmath>
 #include <functional>
 #include <limits>
-#include <nlohmann/json.hpp>
 #include <optional>
 
-#include "polystokes/sets/conventions.h"
 #include "polystokes/core/errors.h"
+#include "polystokes/sets/conventions.h"
+#include "polystokes/sets/spectrum.h"
 #include "polystokes/sets/transforms.h"
+#include "sets/frame_relation.h"
 
 namespace polystokes {
+
+const std::vector<std::pair<MistakeKind, const char*>>& mistake_kind_names() {
+  static const std::vector<std::pair<MistakeKind, const char*>> names = {
+      {MistakeKind::normalization, "normalization"},
+      {MistakeKind::phase, "phase"},
+      {MistakeKind::j_sign, "j_sign"},
+      {MistakeKind::radius, "radius"},
+      {MistakeKind::gm, "gm"},
+      {MistakeKind::longitude_sign, "longitude_sign"},
+      {MistakeKind::z_rotation, "z_rotation"},
+      {MistakeKind::swapped_cs, "swapped_cs"},
+      {MistakeKind::origin, "origin"},
+  };
+  return names;
+}
+
+std::string to_string(MistakeKind kind) {
+  for (const auto& [value, word] : mistake_kind_names())
+    if (value == kind) return word;
+  throw ConventionError(fmt::format("mistake kind {} has no name", static_cast<int>(kind)));
+}
+
+MistakeKind parse_mistake_kind(const std::string& word) {
+  for (const auto& [value, name] : mistake_kind_names())
+    if (word == name) return value;
+  throw ConventionError("unknown mistake kind '" + word + "'");
+}
+
+std::string Hypothesis::kind() const {
+  std::string text;
+  for (MistakeKind mistake : mistakes) text += (text.empty() ? "" : "+") + to_string(mistake);
+  return text;
+}
 
 namespace {
 
@@ -65,8 +99,7 @@ std::string vector_text(const Eigen::Vector3d& v) {
 std::string convention_difference(const Convention& x, const Convention& y) {
   std::vector<std::string> parts;
   if (x.normalization != y.normalization) {
-    const std::string full = describe(Convention{x.normalization, false, false});
-    parts.push_back(full.substr(0, full.find(',')) + " functions");
+    parts.push_back(describe(x.normalization) + " functions");
   }
   if (x.condon_shortley != y.condon_shortley)
     parts.push_back(x.condon_shortley ? "the Condon-Shortley phase" : "no Condon-Shortley phase");
@@ -75,67 +108,6 @@ std::string convention_difference(const Convention& x, const Convention& y) {
   std::string text;
   for (size_t i = 0; i < parts.size(); ++i) text += (i ? ", " : "") + parts[i];
   return text;
-}
-
-// How B's origin and axes stand to A's, as far as the two sets say. A set may not know its origin or axes
-// in the mesh frame (a table imported without declarations); a set whose origin is the centre of mass
-// shares it with any other set of the same body even when neither knows its mesh-frame place.
-struct FrameRelation {
-  std::optional<Eigen::Vector3d> shift;     // B's origin -> A's origin, in B's axes, m
-  std::optional<Eigen::Matrix3d> rotation;  // x_A = Q x_B
-  std::string origin_unknown_because, axes_unknown_because;
-};
-
-// Mesh-frame centre of mass of a set whose origin and (unless the offset vanishes) axes are known.
-std::optional<Eigen::Vector3d> mesh_center_of_mass(const CoefficientSet& set) {
-  if (!set.origin_known) return std::nullopt;
-  const Eigen::Vector3d offset =
-      set.degree >= 1 && set.C(0, 0) != 0 ? center_of_mass_offset(set) : Eigen::Vector3d::Zero();
-  if (!set.axes_known && offset.norm() > 1e-9 * set.reference_radius) return std::nullopt;
-  return Eigen::Vector3d(set.origin_in_mesh + set.axes_in_mesh.transpose() * offset);
-}
-
-std::string unknown_origin_text(const char* which, const CoefficientSet& set) {
-  return set.origin == kUnknownLabel
-             ? fmt::format("{}'s origin is unknown (a table imported without an origin declaration)", which)
-             : fmt::format("{}'s origin ('{}') has no known place in the mesh frame", which, set.origin);
-}
-
-std::string unknown_axes_text(const char* which, const CoefficientSet& set) {
-  return set.frame == kUnknownLabel
-             ? fmt::format("{}'s axes are unknown (a table imported without an axes declaration)", which)
-             : fmt::format("{}'s axes ('{}') have no known directions in the mesh frame", which, set.frame);
-}
-
-FrameRelation relate_frames(const CoefficientSet& a, const CoefficientSet& b) {
-  FrameRelation out;
-  if (a.axes_known && b.axes_known)
-    out.rotation = Eigen::Matrix3d(a.axes_in_mesh * b.axes_in_mesh.transpose());
-  else if (a.frame == b.frame && a.frame != kUnknownLabel)
-    out.rotation = Eigen::Matrix3d::Identity();  // the same axes by declaration, e.g. both "principal"
-  else
-    out.axes_unknown_because = unknown_axes_text(a.axes_known ? "B" : "A", a.axes_known ? b : a);
-
-  std::optional<Eigen::Vector3d> a_place, b_place;  // mesh frame
-  if (a.origin_known) a_place = a.origin_in_mesh;
-  if (b.origin_known) b_place = b.origin_in_mesh;
-  if (!b_place && b.origin == "com") b_place = mesh_center_of_mass(a);
-  if (!a_place && a.origin == "com") a_place = mesh_center_of_mass(b);
-  if (!a_place && !b_place && a.origin == "com" && b.origin == "com") {
-    out.shift = Eigen::Vector3d::Zero();  // both about the centre of mass
-  } else if (!a_place || !b_place) {
-    out.origin_unknown_because = !a_place ? unknown_origin_text("A", a) : unknown_origin_text("B", b);
-  } else {
-    const Eigen::Vector3d d = *a_place - *b_place;
-    if (b.axes_known)
-      out.shift = Eigen::Vector3d(b.axes_in_mesh * d);
-    else if (d.norm() <= 1e-9 * a.reference_radius)
-      out.shift = Eigen::Vector3d::Zero();
-    else
-      out.origin_unknown_because =
-          fmt::format("the origins are {:.6g} m apart, but {}", d.norm(), unknown_axes_text("B", b));
-  }
-  return out;
 }
 
 // The per-degree factor (R_B/R_A)^n GM_B/GM_A that takes B's numbers to A's radius and GM. At a radius off
@@ -176,11 +148,7 @@ struct LogSpectrum {
 LogSpectrum log_spectrum(const CoefficientSet& fully, int top, const CompareOptions& options) {
   LogSpectrum out;
   std::vector<double> rms(size_t(top + 1), 0.0);
-  for (int n = 0; n <= top; ++n) {
-    double sum = 0;
-    for (int m = 0; m <= n; ++m) sum += fully.C(n, m) * fully.C(n, m) + fully.S(n, m) * fully.S(n, m);
-    rms[size_t(n)] = std::sqrt(sum / (2.0 * n + 1.0));
-  }
+  for (int n = 0; n <= top; ++n) rms[size_t(n)] = degree_rms(fully.C, fully.S, n);
   out.log_rms.assign(rms.size(), -std::numeric_limits<double>::infinity());
   out.significant.assign(rms.size(), false);
   double envelope = 0;
@@ -197,7 +165,8 @@ LogSpectrum log_spectrum(const CoefficientSet& fully, int top, const CompareOpti
 // A mistake that changes B's numbers or labels without a fitted parameter (convention, longitude sign,
 // C/S swap): tested alone and paired with a fitted radius or GM factor.
 struct Mistake {
-  std::string kind, description;
+  MistakeKind kind;
+  std::string description;
   CoefficientSet b;
 };
 
@@ -238,12 +207,7 @@ class Comparer {
     scale_floor_.assign(size_t(degree_ + 1), 0.0);
     double envelope = 0;
     for (int n = degree_; n >= 0; --n) {
-      if (n >= 1) {
-        double sum = 0;
-        for (int m = 0; m <= n; ++m)
-          sum += fully_a_.C(n, m) * fully_a_.C(n, m) + fully_a_.S(n, m) * fully_a_.S(n, m);
-        envelope = std::max(envelope, std::sqrt(sum / (2.0 * n + 1.0)));
-      }
+      if (n >= 1) envelope = std::max(envelope, degree_rms(fully_a_.C, fully_a_.S, n));
       scale_floor_[size_t(n)] =
           options_.relative_floor * (envelope > 0 ? envelope : std::abs(fully_a_.C(0, 0)));
     }
@@ -370,10 +334,10 @@ class Comparer {
     return stats(bring(low, &scaling, nullptr), scaling, top);
   }
 
-  Hypothesis judge(const std::string& kind, const std::string& description, double parameter,
+  Hypothesis judge(MistakeKind kind, const std::string& description, double parameter,
                    const CoefficientSet& b_raw) const {
     Hypothesis h;
-    h.kind = kind;
+    h.mistakes = {kind};
     h.description = description;
     h.parameter = parameter;
     return judge(Fit{h, b_raw});
@@ -399,7 +363,7 @@ class Comparer {
     if (degree_ >= 1) {
       const double angle = fit_z_rotation(b);
       out.push_back(
-          judge("z_rotation",
+          judge(MistakeKind::z_rotation,
                 fmt::format("B's axes are turned about z: rotating B by {:.9g} deg about z matches A "
                             "(longitude origins differ)",
                             angle * 180.0 / M_PI),
@@ -416,7 +380,7 @@ class Comparer {
             b.origin_in_mesh;  // the hypothesis: B's coefficients were not about its origin
         moved.origin_known = b.origin_known;
         out.push_back(
-            judge("origin",
+            judge(MistakeKind::origin,
                   fmt::format("B is expanded about another point: its degree-1 terms put the centre of mass "
                               "{} m from its origin, A's at {} m; moving B's origin by {} m ({:.6g} m) "
                               "matches A",
@@ -432,7 +396,7 @@ class Comparer {
       for (const Mistake& mistake : mistakes)
         for (Scale scale : {Scale::radius, Scale::gm})
           if (auto fit = fit_scale(mistake.b, scale)) {
-            fit->hypothesis.kind = mistake.kind + "+" + fit->hypothesis.kind;
+            fit->hypothesis.mistakes.insert(fit->hypothesis.mistakes.begin(), mistake.kind);
             fit->hypothesis.description = mistake.description + "; and " + fit->hypothesis.description;
             pairs.push_back(std::move(*fit));
           }
@@ -472,11 +436,12 @@ class Comparer {
       CoefficientSet relabeled = b;
       relabeled.convention = c;
       const bool same_norm = c.normalization == b.convention.normalization;
-      const std::string kind = same_norm && c.condon_shortley == b.convention.condon_shortley ? "j_sign"
-                               : same_norm && c.zonal_as_j == b.convention.zonal_as_j         ? "phase"
-                                                                                      : "normalization";
+      const MistakeKind kind =
+          same_norm && c.condon_shortley == b.convention.condon_shortley ? MistakeKind::j_sign
+          : same_norm && c.zonal_as_j == b.convention.zonal_as_j         ? MistakeKind::phase
+                                                                         : MistakeKind::normalization;
       const std::string description =
-          kind == "j_sign"
+          kind == MistakeKind::j_sign
               ? fmt::format("B's zonal terms have the opposite sign: they are {}, not {} as declared",
                             c.zonal_as_j ? "J_n = -C_n0" : "C_n0", b.convention.zonal_as_j ? "J_n" : "C_n0")
               : fmt::format("B's numbers use {} (declared: {})", convention_difference(c, b.convention),
@@ -486,8 +451,8 @@ class Comparer {
     {
       CoefficientSet flipped = b;
       flipped.S = -b.S;
-      out.push_back(
-          {"longitude_sign", "B's longitudes run the other way (S -> -S, a y -> -y reflection)", flipped});
+      out.push_back({MistakeKind::longitude_sign,
+                     "B's longitudes run the other way (S -> -S, a y -> -y reflection)", flipped});
     }
     {
       CoefficientSet swapped = b;
@@ -496,7 +461,7 @@ class Comparer {
           std::swap(swapped.C(n, m), swapped.S(n, m));
           std::swap(swapped.sigma_C(n, m), swapped.sigma_S(n, m));
         }
-      out.push_back({"swapped_cs", "B's C and S columns are swapped (m >= 1)", swapped});
+      out.push_back({MistakeKind::swapped_cs, "B's C and S columns are swapped (m >= 1)", swapped});
     }
     return out;
   }
@@ -555,7 +520,7 @@ class Comparer {
     const double t = refine(start, misfit, step);
     const double factor = std::exp(t);
     Fit fit{Hypothesis{}, with(t)};
-    fit.hypothesis.kind = radius ? "radius" : "gm";
+    fit.hypothesis.mistakes = {radius ? MistakeKind::radius : MistakeKind::gm};
     fit.hypothesis.description =
         radius ? radius_description(factor, b.reference_radius) : gm_description(factor, b.gm);
     fit.hypothesis.parameter = factor;
@@ -587,7 +552,7 @@ class Comparer {
     }
     const double k = std::exp(log_k), g = std::exp(log_g);
     Fit fit{Hypothesis{}, with_scales(b, log_k, log_g)};
-    fit.hypothesis.kind = "radius+gm";
+    fit.hypothesis.mistakes = {MistakeKind::radius, MistakeKind::gm};
     fit.hypothesis.description =
         radius_description(k, b.reference_radius) + "; and " + gm_description(g, b.gm);
     fit.hypothesis.parameter = k;
@@ -634,31 +599,6 @@ class Comparer {
   Eigen::Vector3d shift_ = Eigen::Vector3d::Zero();
   Eigen::Matrix3d rotation_ = Eigen::Matrix3d::Identity();
 };
-
-// Alignment lines and the origin/axes relation words of the comparison (see Comparison).
-void describe_frames(const CoefficientSet& a, const FrameRelation& relation, bool align, Comparison& out) {
-  const bool shifted = relation.shift && relation.shift->norm() > 1e-9 * a.reference_radius;
-  const bool rotated =
-      relation.rotation && (*relation.rotation - Eigen::Matrix3d::Identity()).cwiseAbs().maxCoeff() > 1e-12;
-  out.origin_relation = !relation.shift ? "unknown" : !shifted ? "same" : align ? "aligned" : "different";
-  out.axes_relation = !relation.rotation ? "unknown" : !rotated ? "same" : align ? "aligned" : "different";
-  if (!align && (shifted || rotated))
-    out.alignment.push_back(fmt::format(
-        "{} recorded in the sets differ; not aligned (ask for frame alignment)", shifted && rotated
-                                                                                     ? "origins and axes"
-                                                                                 : shifted ? "origins"
-                                                                                           : "axes"));
-  if (!relation.shift)
-    out.alignment.push_back(fmt::format("origin not {}: {}; B is compared as if expanded about A's origin",
-                                        align ? "aligned" : "checked", relation.origin_unknown_because));
-  if (!relation.rotation)
-    out.alignment.push_back(fmt::format("axes not {}: {}; B is compared as if in A's axes",
-                                        align ? "aligned" : "checked", relation.axes_unknown_because));
-}
-
-std::string coefficient_name(const CoefficientDifference& d) {
-  return fmt::format("{}({},{})", d.sine ? "S" : "C", d.n, d.m);
-}
 
 }  // namespace
 
@@ -731,108 +671,25 @@ Comparison compare_sets(const CoefficientSet& a, const CoefficientSet& b, const 
       const Hypothesis& best = out.hypotheses.front();
       std::string equivalents;
       for (size_t i = 1; i < out.hypotheses.size() && out.hypotheses[i].explains && best.explains; ++i)
-        equivalents += (equivalents.empty() ? "" : ", ") + out.hypotheses[i].kind;
+        equivalents += (equivalents.empty() ? "" : ", ") + out.hypotheses[i].kind();
       if (best.explains)
         text += fmt::format("; most likely {}: {} (misfit {:.3g} -> {:.3g}, agreeing at every degree{})",
-                            best.kind, best.description, out.misfit, best.misfit,
+                            best.kind(), best.description, out.misfit, best.misfit,
                             equivalents.empty() ? "" : "; equally explained by " + equivalents);
       else if (best.misfit < 0.5 * out.misfit)
         text += fmt::format(
             "; the best explanation, {}, only partly explains it: {} (misfit {:.3g} -> {:.3g}, agreeing up "
             "to degree {} of {}); something else differs as well",
-            best.kind, best.description, out.misfit, best.misfit, best.agree_degree, out.degree);
+            best.kind(), best.description, out.misfit, best.misfit, best.agree_degree, out.degree);
       else
         text += fmt::format(
             "; none of the usual mismatches explains it (best, {}, only takes the misfit from {:.3g} "
             "to {:.3g})",
-            best.kind, out.misfit, best.misfit);
+            best.kind(), out.misfit, best.misfit);
     }
     out.verdict = text;
   }
   return out;
-}
-
-std::string comparison_text(const Comparison& c) {
-  std::string out;
-  if (!c.alignment.empty()) {
-    out += "B brought to A:\n";
-    for (const auto& step : c.alignment) out += "  " + step + "\n";
-  }
-  out += "per degree (fully normalized; RMS per coefficient; relative = RMS(A-B) / RMS A):\n";
-  out += fmt::format("  {:>5} {:>12} {:>12} {:>12} {:>10} {:>12}  {}\n", "n", "RMS A", "RMS B", "RMS A-B",
-                     "relative", "correlation", "agree");
-  for (const auto& d : c.degrees) {
-    const std::string correlation = std::isnan(d.correlation) ? "-" : fmt::format("{:.9f}", d.correlation);
-    out += fmt::format("  {:>5} {:>12.5e} {:>12.5e} {:>12.5e} {:>10.3e} {:>12}  {}\n", d.degree, d.rms_a,
-                       d.rms_b, d.rms_difference, d.relative, correlation, d.agrees ? "yes" : "NO");
-  }
-  if (!c.largest.empty()) {
-    out += "largest differences (A's convention):\n";
-    for (const auto& d : c.largest)
-      out += fmt::format("  {:<10} A {:>24} B {:>24} A-B {:.5e}\n", coefficient_name(d),
-                         fmt::format("{}", d.a), fmt::format("{}", d.b), d.a - d.b);
-  }
-  if (!c.hypotheses.empty()) {
-    out += fmt::format(
-        "diagnosis (misfit = RMS over degrees of the relative difference; as given: {:.3e}):\n", c.misfit);
-    constexpr size_t shown = 6;
-    for (size_t i = 0; i < c.hypotheses.size() && i < shown; ++i) {
-      const Hypothesis& h = c.hypotheses[i];
-      out += fmt::format("  {:<22} misfit {:.3e} (x{:<9.3g}) agree to degree {:>3}{}  {}\n", h.kind, h.misfit,
-                         h.misfit > 0 ? c.misfit / h.misfit : std::numeric_limits<double>::infinity(),
-                         h.agree_degree, h.explains ? " ALL" : "    ", h.description);
-    }
-    if (c.hypotheses.size() > shown)
-      out += fmt::format("  ({} less likely explanations tested; all are in the JSON report)\n",
-                         c.hypotheses.size() - shown);
-  }
-  out += "verdict: " + c.verdict + "\n";
-  return out;
-}
-
-std::string comparison_json(const Comparison& c) {
-  using nlohmann::json;
-  auto number = [](double x) { return std::isfinite(x) ? json(x) : json(nullptr); };
-  json root;
-  root["degree"] = c.degree;
-  root["degree_a"] = c.degree_a;
-  root["degree_b"] = c.degree_b;
-  root["tolerance"] = c.tolerance;
-  root["alignment"] = c.alignment;
-  root["origin"] = c.origin_relation;
-  root["axes"] = c.axes_relation;
-  root["agree"] = c.agree;
-  root["agree_degree"] = c.agree_degree;
-  root["misfit"] = number(c.misfit);
-  root["verdict"] = c.verdict;
-  json degrees = json::array();
-  for (const auto& d : c.degrees)
-    degrees.push_back({{"n", d.degree},
-                       {"rms_a", d.rms_a},
-                       {"rms_b", d.rms_b},
-                       {"rms_difference", d.rms_difference},
-                       {"scale", d.scale},
-                       {"relative", d.relative},
-                       {"correlation", number(d.correlation)},
-                       {"agrees", d.agrees}});
-  root["degrees"] = degrees;
-  json largest = json::array();
-  for (const auto& d : c.largest)
-    largest.push_back({{"coefficient", d.sine ? "S" : "C"}, {"n", d.n}, {"m", d.m}, {"a", d.a}, {"b", d.b}});
-  root["largest_differences"] = largest;
-  json hypotheses = json::array();
-  for (const auto& h : c.hypotheses) {
-    json entry = {{"kind", h.kind},
-                  {"description", h.description},
-                  {"parameter", number(h.parameter)},
-                  {"misfit", number(h.misfit)},
-                  {"agree_degree", h.agree_degree},
-                  {"explains", h.explains}};
-    if (h.second_parameter != 0) entry["gm_factor"] = number(h.second_parameter);
-    hypotheses.push_back(entry);
-  }
-  root["diagnosis"] = hypotheses;
-  return root.dump(2) + "\n";
 }
 
 }  // namespace polystokes

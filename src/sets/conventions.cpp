@@ -4,9 +4,58 @@
 
 #include <cmath>
 
+#include "polystokes/core/coefficient_set.h"
 #include "polystokes/core/errors.h"
 
 namespace polystokes {
+
+const std::vector<NormalizationName>& normalization_names() {
+  static const std::vector<NormalizationName> names = {
+      {Normalization::fully, "fully", "fully normalized (4pi)", "4pi"},
+      {Normalization::unnormalized, "unnormalized", "unnormalized", ""},
+      {Normalization::schmidt, "schmidt", "Schmidt semi-normalized", ""},
+      {Normalization::orthonormal, "orthonormal", "orthonormal", ""},
+  };
+  return names;
+}
+
+namespace {
+
+const NormalizationName& name_of(Normalization normalization) {
+  for (const NormalizationName& name : normalization_names())
+    if (name.value == normalization) return name;
+  throw ConventionError(fmt::format("normalization {} has no name", static_cast<int>(normalization)));
+}
+
+}  // namespace
+
+std::string to_string(Normalization normalization) { return name_of(normalization).word; }
+
+std::string describe(Normalization normalization) { return name_of(normalization).description; }
+
+Normalization parse_normalization(const std::string& text) {
+  for (const NormalizationName& name : normalization_names())
+    if (text == name.word) return name.value;
+  throw ConventionError("unknown normalization '" + text + "' (expected " + normalization_choices(false) +
+                        ")");
+}
+
+std::vector<std::string> normalization_words() {
+  std::vector<std::string> words;
+  for (const NormalizationName& name : normalization_names()) words.push_back(name.word);
+  return words;
+}
+
+std::string normalization_choices(bool with_hints) {
+  const auto& names = normalization_names();
+  std::string text;
+  for (size_t i = 0; i < names.size(); ++i) {
+    if (i > 0) text += i + 1 == names.size() ? " or " : ", ";
+    text += names[i].word;
+    if (with_hints && *names[i].hint) text += fmt::format(" ({})", names[i].hint);
+  }
+  return text;
+}
 
 double legendre_normalization(Normalization normalization, int n, int m) {
   if (m < 0 || m > n) throw ConventionError(fmt::format("invalid degree/order n = {}, m = {}", n, m));
@@ -88,21 +137,7 @@ CoefficientSet convert_convention(const CoefficientSet& set, const Convention& t
 }
 
 std::string describe(const Convention& convention) {
-  std::string text;
-  switch (convention.normalization) {
-    case Normalization::fully:
-      text = "fully normalized (4pi)";
-      break;
-    case Normalization::unnormalized:
-      text = "unnormalized";
-      break;
-    case Normalization::schmidt:
-      text = "Schmidt semi-normalized";
-      break;
-    case Normalization::orthonormal:
-      text = "orthonormal";
-      break;
-  }
+  std::string text = describe(convention.normalization);
   text += convention.condon_shortley ? ", Condon-Shortley phase" : ", no Condon-Shortley phase";
   text += convention.zonal_as_j ? ", zonal as J_n = -C_n0" : ", zonal as C_n0";
   return text;
@@ -117,10 +152,9 @@ std::string short_name(const Convention& convention) {
 
 std::vector<Convention> all_conventions() {
   std::vector<Convention> out;
-  for (Normalization normalization : {Normalization::fully, Normalization::unnormalized,
-                                      Normalization::schmidt, Normalization::orthonormal})
+  for (const NormalizationName& name : normalization_names())
     for (bool phase : {false, true})
-      for (bool zonal : {false, true}) out.push_back(Convention{normalization, phase, zonal});
+      for (bool zonal : {false, true}) out.push_back(Convention{name.value, phase, zonal});
   return out;
 }
 

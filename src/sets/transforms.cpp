@@ -168,10 +168,9 @@ CoefficientSet shift_origin(const CoefficientSet& set, const Eigen::Vector3d& sh
   const double length = shift.norm();
   const bool outside = length > brillouin;
   if (outside && !options.allow_outside)
-    throw ConventionError(fmt::format(
+    throw ShiftOutsideError(fmt::format(
         "a shift of {:.9g} m moves the expansion origin outside the {} ({:.9g} m) of '{}'; the shifted "
-        "series "
-        "would hold only outside {:.9g} m about the new origin (use --allow-outside to proceed anyway)",
+        "series would hold only outside {:.9g} m about the new origin",
         length, known_brillouin ? "Brillouin sphere" : "reference sphere (Brillouin radius unknown)",
         brillouin, set.body, brillouin + length));
 

@@ -8,28 +8,9 @@
 #include <vector>
 
 #include "polystokes/core/mesh.h"
+#include "polystokes/sets/conventions.h"
 
 namespace polystokes {
-
-/// Normalization of the associated Legendre functions the coefficients refer to.
-///  - fully:        4pi geodesy normalization, mean square of Pnm cos(m lon) over the sphere = 1
-///                  (IERS Conventions 2010, ch. 6)
-///  - unnormalized: plain Ferrers functions Pnm
-///  - schmidt:      Schmidt semi-normalized, mean square = 1/(2n+1)
-///  - orthonormal:  integral of Ynm^2 over the sphere = 1 (4pi fully normalized / sqrt(4pi))
-enum class Normalization { fully, unnormalized, schmidt, orthonormal };
-
-/// Option word of a normalization: "fully", "unnormalized", "schmidt", "orthonormal".
-std::string to_string(Normalization normalization);
-/// Parses the option word; throws ConventionError on anything else.
-Normalization parse_normalization(const std::string& text);
-
-/// Everything needed to interpret C and S numerically.
-struct Convention {
-  Normalization normalization = Normalization::fully;
-  bool condon_shortley = false;  ///< true: Legendre functions carry the (-1)^m phase
-  bool zonal_as_j = false;       ///< true: column m = 0 of C holds J_n = -C_n0
-};
 
 /// The origin or frame label of a set that does not know it (files: "unknown").
 inline constexpr const char* kUnknownLabel = "unknown";

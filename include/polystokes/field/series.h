@@ -7,10 +7,22 @@
 #include <vector>
 
 #include "polystokes/core/coefficient_set.h"
+#include "polystokes/core/errors.h"
 #include "polystokes/core/field_value.h"
 #include "polystokes/harmonics/legendre.h"
 
 namespace polystokes {
+
+/// A set whose origin or axes have no known place in the mesh frame (an imported table that did not declare
+/// them), met where mesh-frame positions are needed: a ConventionError saying which is missing, so that the
+/// caller can add how its user declares or avoids it.
+class UnplacedSetError : public ConventionError {
+ public:
+  UnplacedSetError(const std::string& message, bool origin_missing, bool axes_missing)
+      : ConventionError(message), origin_missing(origin_missing), axes_missing(axes_missing) {}
+  bool origin_missing;
+  bool axes_missing;
+};
 
 /// A coefficient set prepared for repeated evaluation. Method: the series is a sum of fully normalized
 /// exterior solid harmonics (R/r)^(n+1) Pnm(sin lat) e^(i m lon), built at each point by a Cartesian
@@ -61,12 +73,12 @@ class SeriesModel {
 FieldValue evaluate_series(const CoefficientSet& set, const Eigen::Vector3d& point, int max_degree = -1);
 
 /// Mesh-frame point (metres) expressed in the set's frame about its origin: axes_in_mesh * (p -
-/// origin_in_mesh). Throws ConventionError for a set whose origin or axes are not known in the mesh frame
+/// origin_in_mesh). Throws UnplacedSetError for a set whose origin or axes are not known in the mesh frame
 /// (origin_known, axes_known: a table imported without declarations).
 Eigen::Vector3d to_set_frame(const CoefficientSet& set, const Eigen::Vector3d& mesh_point);
 
 /// A field value computed in the set's frame, expressed in the mesh frame (vectors and tensor rotated back).
-/// Throws ConventionError as to_set_frame does.
+/// Throws UnplacedSetError as to_set_frame does.
 FieldValue to_mesh_frame(const CoefficientSet& set, const FieldValue& set_value);
 
 }  // namespace polystokes

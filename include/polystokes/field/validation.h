@@ -59,7 +59,8 @@ struct ValidationReport {
 /// regions (mesh frame). A set about the centre of mass that does not record its mesh-frame place is taken
 /// about the mesh's centre of mass (with a note). Cost: samples * shells * (faces + degree^2). Throws
 /// ConventionError for bad options (no shells, samples < 1, non-positive factors, negative altitudes,
-/// target <= 0) and for a set whose axes, or origin (other than the centre of mass), are unknown.
+/// target <= 0), and UnplacedSetError (series.h) for a set whose axes, or origin (other than the centre of
+/// mass), are unknown.
 ValidationReport validate_series(const std::vector<DensityRegion>& regions, const CoefficientSet& set,
                                  const ValidationOptions& options);
 
@@ -71,11 +72,5 @@ std::vector<Eigen::Vector3d> fibonacci_directions(int n);
 /// Tools 2, ray-triangle test); 0 if the ray meets none. O(faces).
 double outermost_crossing(const std::vector<DensityRegion>& regions, const Eigen::Vector3d& origin,
                           const Eigen::Vector3d& u);
-
-/// Plain-text report: header, error table (degrees x shells), per-shell recommendation, warnings.
-std::string format_validation_text(const ValidationReport& report);
-
-/// The same content as JSON (2-space indent, doubles in round-trip form).
-std::string format_validation_json(const ValidationReport& report);
 
 }  // namespace polystokes

@@ -8,51 +8,12 @@
 #include <vector>
 
 #include "polystokes/core/coefficient_set.h"
-#include "polystokes/sets/compare.h"
 #include "polystokes/core/mesh.h"
+#include "polystokes/field/field_map.h"
+#include "polystokes/sets/compare.h"
+#include "polystokes/sets/spectrum.h"
 
 namespace polystokes {
-
-/// Degree variances in fully normalized terms (the set is converted from its own convention first):
-///   variance[n] = sum_m (C_nm^2 + S_nm^2),  sigma_variance[n] = sum_m (sigma_C_nm^2 + sigma_S_nm^2),
-/// n = 0..degree. O(degree^2).
-struct DegreeSpectrum {
-  std::vector<double> variance;
-  std::vector<double> sigma_variance;
-  bool has_sigmas = false;  ///< some sigma is non-zero
-};
-DegreeSpectrum degree_spectrum(const CoefficientSet& set);
-
-/// variance[n] ~ K n^-beta, fitted by ordinary least squares of ln variance[n] on ln n.
-struct PowerLaw {
-  double k = 0;          ///< K, the law's value at n = 1
-  double beta = 0;       ///< exponent (positive for a decaying spectrum)
-  int first_degree = 0;  ///< lowest and highest degree used
-  int last_degree = 0;
-  int points = 0;           ///< number of degrees used
-  double rms_residual = 0;  ///< RMS of the fit residuals in log10 units (decades)
-};
-
-/// Fits the law to every degree n >= min_degree with a positive, finite variance[n]. Centred sums, so an
-/// exact power law is recovered to rounding. Throws ConventionError if fewer than two degrees qualify.
-PowerLaw fit_power_law(const std::vector<double>& variance, int min_degree = 2);
-
-/// Radial component of the acceleration, g_r = a . r_hat (m s^-2, negative toward the body), on a sphere of
-/// radius `radius` about the set's origin, in the set's frame. Cell (col, row) is centred at longitude
-/// -180 + (col + 0.5) 360 / columns degrees and latitude 90 - (row + 0.5) 180 / rows degrees.
-struct FieldMap {
-  int columns = 0;
-  int rows = 0;
-  double radius = 0;           ///< m
-  std::vector<double> values;  ///< row-major, row 0 northernmost, column 0 westernmost
-  double min = 0;
-  double max = 0;
-};
-
-/// Evaluates the series (SeriesModel) at the cell centres. Throws ConventionError for a non-positive radius
-/// or grid size, or a set the series cannot evaluate. O(columns * rows * degree^2).
-FieldMap radial_acceleration_map(const CoefficientSet& set, double radius, int columns = 72, int rows = 36);
-
 
 /// Everything the report shows.
 struct ReportInput {

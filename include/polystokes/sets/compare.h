@@ -3,6 +3,7 @@
 #pragma once
 
 #include <string>
+#include <utility>
 #include <vector>
 
 #include "polystokes/core/coefficient_set.h"
@@ -49,12 +50,33 @@ struct CoefficientDifference {
   double a = 0, b = 0;
 };
 
+/// A usual exchange mistake that a hypothesis names.
+enum class MistakeKind {
+  normalization,   ///< another normalization than declared
+  phase,           ///< the Condon-Shortley phase the other way
+  j_sign,          ///< J_n where C_n0 is declared, or the reverse
+  radius,          ///< a reference radius off by a fitted factor
+  gm,              ///< a GM off by a fitted factor
+  longitude_sign,  ///< longitudes reversed (S -> -S)
+  z_rotation,      ///< axes turned about z by a fitted angle
+  swapped_cs,      ///< C and S exchanged
+  origin           ///< expanded about another point
+};
+
+/// The name table of MistakeKind: enumerator and its word in reports, in declaration order.
+const std::vector<std::pair<MistakeKind, const char*>>& mistake_kind_names();
+/// Word of a mistake, e.g. "j_sign".
+std::string to_string(MistakeKind kind);
+/// The mistake a word names; throws ConventionError for any other word.
+MistakeKind parse_mistake_kind(const std::string& word);
+
 /// One tested explanation of a disagreement: B corrected as the hypothesis says, then compared again.
 struct Hypothesis {
-  /// normalization, phase, j_sign, radius, gm, longitude_sign, z_rotation, swapped_cs, origin; a pair of
-  /// mistakes joins two with '+': normalization/phase/j_sign/longitude_sign/swapped_cs + radius or gm, and
-  /// radius+gm.
-  std::string kind;
+  /// The mistake, or a pair of them: a label mistake (normalization, phase, j_sign, longitude_sign,
+  /// swapped_cs) with a fitted radius or gm factor, or radius with gm.
+  std::vector<MistakeKind> mistakes;
+  /// The words of `mistakes` joined by '+', e.g. "radius" or "normalization+radius".
+  std::string kind() const;
   std::string description;      ///< what the hypothesis says, with the fitted parameter if any
   double parameter = 0;         ///< radius or GM factor, angle (degrees), shift length (m); 0 if none
   double second_parameter = 0;  ///< the GM factor of radius+gm (parameter is its radius factor); else 0
@@ -94,11 +116,5 @@ struct Comparison {
 /// Throws ConventionError if a set lacks GM or radius.
 /// O(degree^2) per tested hypothesis (O(degree^3) with align_frame).
 Comparison compare_sets(const CoefficientSet& a, const CoefficientSet& b, const CompareOptions& options = {});
-
-/// Plain-text report: alignment, per-degree table, largest differences, diagnosis, verdict.
-std::string comparison_text(const Comparison& comparison);
-
-/// The same content as JSON (2-space indent); NaN correlations are null.
-std::string comparison_json(const Comparison& comparison);
 
 }  // namespace polystokes

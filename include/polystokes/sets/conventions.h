@@ -5,9 +5,51 @@
 #include <string>
 #include <vector>
 
-#include "polystokes/core/coefficient_set.h"
-
 namespace polystokes {
+
+struct CoefficientSet;
+
+/// Normalization of the associated Legendre functions the coefficients refer to.
+///  - fully:        4pi geodesy normalization, mean square of Pnm cos(m lon) over the sphere = 1
+///                  (IERS Conventions 2010, ch. 6)
+///  - unnormalized: plain Ferrers functions Pnm
+///  - schmidt:      Schmidt semi-normalized, mean square = 1/(2n+1)
+///  - orthonormal:  integral of Ynm^2 over the sphere = 1 (4pi fully normalized / sqrt(4pi))
+/// A new normalization is one enumerator here, one row in normalization_names() and its factor in
+/// legendre_normalization (conventions.cpp); parsing, printing, the file formats and the CLI follow the
+/// table.
+enum class Normalization { fully, unnormalized, schmidt, orthonormal };
+
+/// One row of the normalization name table: the enumerator, its option and file word, its description
+/// in prose, and a hint shown beside the word in option help (empty for none).
+struct NormalizationName {
+  Normalization value;
+  const char* word;         ///< e.g. "schmidt"
+  const char* description;  ///< e.g. "Schmidt semi-normalized"
+  const char* hint;         ///< e.g. "4pi" for fully
+};
+
+/// The table, in the order the words are listed everywhere (fully first).
+const std::vector<NormalizationName>& normalization_names();
+
+/// Option word of a normalization: "fully", "unnormalized", "schmidt", "orthonormal".
+std::string to_string(Normalization normalization);
+/// Parses the option word; throws ConventionError naming the known words on anything else.
+Normalization parse_normalization(const std::string& text);
+/// Every option word, in table order (for option validators).
+std::vector<std::string> normalization_words();
+/// The words joined as prose, each with its hint in parentheses when `with_hints`, e.g.
+/// "fully (4pi), unnormalized, schmidt or orthonormal".
+std::string normalization_choices(bool with_hints);
+/// Prose name of the normalization alone, e.g. "fully normalized (4pi)".
+std::string describe(Normalization normalization);
+
+/// Everything needed to interpret C and S numerically.
+struct Convention {
+  Normalization normalization = Normalization::fully;
+  bool condon_shortley = false;  ///< true: Legendre functions carry the (-1)^m phase
+  bool zonal_as_j = false;       ///< true: column m = 0 of C holds J_n = -C_n0
+};
 
 /// Factor N such that P_X(n,m) = N * P_unnormalized(n,m) for normalization X (no phase).
 ///   fully: sqrt((2 - d_m0)(2n+1)(n-m)!/(n+m)!)   schmidt: sqrt((2 - d_m0)(n-m)!/(n+m)!)

@@ -7,6 +7,7 @@
 #include <vector>
 
 #include "polystokes/core/coefficient_set.h"
+#include "polystokes/core/errors.h"
 
 namespace polystokes {
 
@@ -24,9 +25,15 @@ Eigen::Vector3d center_of_mass_offset(const CoefficientSet& set);
 
 struct ShiftOptions {
   /// A shift longer than the Brillouin radius puts the new origin outside the sphere the input is valid
-  /// outside of; refused unless this is set (the set then carries a note saying so). The refusal names
-  /// the convert option --allow-outside.
+  /// outside of; refused (ShiftOutsideError) unless this is set (the set then carries a note saying so).
   bool allow_outside = false;
+};
+
+/// The refusal of a shift that leaves the Brillouin sphere without ShiftOptions::allow_outside: a
+/// ConventionError the caller may complete with how its user gives that permission.
+class ShiftOutsideError : public ConventionError {
+ public:
+  using ConventionError::ConventionError;
 };
 
 /// Moves the expansion origin by `shift` (m, set frame): the new origin is old origin + shift. Exact to the

@@ -164,13 +164,6 @@ struct UncertaintyShard {
 UncertaintyShard run_shard(const UncertaintyPlan& plan, const Shard& shard,
                            const SampleOptions& options = {});
 
-/// Shard file text, format "polystokes-uncertainty-shard 1" (docs/uncertainty.md): settings one per line,
-/// the nominal set embedded in the coefficient text format, then one line per sample; doubles written in
-/// shortest round-trip form, so parse_shard_text gives back identical values.
-std::string format_shard_text(const UncertaintyShard& shard);
-/// Throws FormatError "source:line: problem".
-UncertaintyShard parse_shard_text(const std::string& text, const std::string& source_name);
-
 /// Checks the shards belong to one run (same fingerprint, mesh checksums, settings, nominal set) and hold
 /// every sample exactly once, then summarizes. names[i] is used in messages for shards[i]. Throws
 /// ConventionError naming the shards and the first disagreement, duplicate or missing sample.
