@@ -28,6 +28,7 @@
 #include <thread>
 #include <vector>
 
+#include "harmonics/face_blocks.h"
 #include "harmonics/moment_kernel.h"
 #include "mesh/self_intersections.h"
 #include "polystokes/field/polyhedron_gravity.h"
