@@ -554,7 +554,7 @@ TEST_CASE(
       {"folded flat onto the neighbour (coplanar, same side)", hinge(0.5, 0), 1},
       {"flat continuation (coplanar, other side)", hinge(-1, 0), 0},
       {"bent at the edge", hinge(0.5, 0.7), 0},
-      {"folded to within one unit in the last place of flat", hinge(0.5, 1e-300), 0},
+      {"bent out of the plane by 1e-300 (only exact arithmetic tells it from flat)", hinge(0.5, 1e-300), 0},
       // Faces (0, 1, 2) and (0, 3, 4) share vertex 0; the second's far edge 3-4 crosses the first.
       {"a fan neighbour whose far edge pierces the face",
        mesh_of({{0, 0, 0}, {1, 0, 0}, {0, 1, 0}, {0.3, 0.3, -0.5}, {0.3, 0.3, 0.5}}, {{0, 1, 2}, {0, 3, 4}}),

@@ -2,10 +2,6 @@
 
 #include <CGAL/Exact_predicates_inexact_constructions_kernel.h>
 #include <CGAL/intersections.h>
-#include <tbb/blocked_range.h>
-#include <tbb/combinable.h>
-#include <tbb/parallel_for.h>
-#include <tbb/parallel_invoke.h>
 
 #include <Eigen/Geometry>
 #include <algorithm>
@@ -15,6 +11,8 @@
 #include <cstring>
 #include <limits>
 #include <vector>
+
+#include "internal/parallel.h"
 
 namespace polystokes {
 
@@ -71,7 +69,7 @@ std::uint32_t spread_bits(std::uint32_t v) {
   return v;
 }
 
-/// Lowest intersecting pair and count, merged over threads by sum and minimum (order-free, so the result
+/// Lowest intersecting pair and count of one task, merged by sum and minimum (order-free, so the result
 /// does not depend on the thread count).
 struct Found {
   long count = 0;
@@ -92,19 +90,35 @@ class Search {
   }
 
   FacePairs run() {
-    if (!order_.empty()) self(1, 0);
+    // The descent to kTaskDepth is done here; what lies below each node (pair) there is one task.
+    std::vector<Task> tasks;
+    if (!order_.empty()) self(1, 0, nullptr, &tasks);
+    std::vector<Found> found(tasks.size());
+    parallel_for(tasks.size(), 0, [&](size_t t) {
+      const Task& task = tasks[t];
+      if (task.self)
+        self(task.a, kTaskDepth, &found[t], nullptr);
+      else
+        cross(task.a, task.b, kTaskDepth, &found[t], nullptr);
+    });
     Found all;
-    found_.combine_each([&](const Found& part) {
+    for (const Found& part : found) {
       all.count += part.count;
       all.first = std::min(all.first, part.first);
-    });
+    }
     if (all.count == 0) return {};
     return {all.count, static_cast<int>(all.first >> 32), static_cast<int>(all.first & 0xffffffffu)};
   }
 
  private:
   static constexpr int kLeafFaces = 8;
-  static constexpr int kParallelDepth = 6;  ///< levels of the tree whose work is split into tasks
+  static constexpr int kTaskDepth = 6;  ///< tree depth at which the work is split into parallel tasks
+
+  /// Pairs under one node (self) or under two nodes of the same depth (cross).
+  struct Task {
+    bool self;
+    size_t a, b;
+  };
 
   Point3 point(int v) const {
     return Point3(mesh_.vertices(v, 0), mesh_.vertices(v, 1), mesh_.vertices(v, 2));
@@ -130,8 +144,9 @@ class Search {
     // Collinear faces get the key kNone, which sorts last (a face's key has its number in the low bits).
     constexpr std::uint64_t kNone = std::numeric_limits<std::uint64_t>::max();
     std::vector<std::uint64_t> keys(static_cast<size_t>(faces));
-    tbb::parallel_for(tbb::blocked_range<int>(0, faces, 4096), [&](const tbb::blocked_range<int>& range) {
-      for (int f = range.begin(); f < range.end(); ++f) {
+    parallel_for(chunks(static_cast<size_t>(faces)), 0, [&](size_t chunk) {
+      for (int f = static_cast<int>(chunk * kChunk);
+           f < std::min(faces, static_cast<int>((chunk + 1) * kChunk)); ++f) {
         const int a = mesh_.faces(f, 0), b = mesh_.faces(f, 1), c = mesh_.faces(f, 2);
         if (maybe_collinear(a, b, c) && CGAL::collinear(point(a), point(b), point(c))) {
           keys[static_cast<size_t>(f)] = kNone;
@@ -161,21 +176,23 @@ class Search {
     for (size_t i = 0; i < keys.size(); ++i) order_[i] = static_cast<int>(keys[i] & 0xffffffffu);
     keys = {};
     boxes_.resize(order_.size());
-    tbb::parallel_for(tbb::blocked_range<size_t>(0, order_.size(), 4096),
-                      [&](const tbb::blocked_range<size_t>& range) {
-                        for (size_t i = range.begin(); i < range.end(); ++i) {
-                          const int f = order_[i];
-                          Box& box = boxes_[i];
-                          for (int axis = 0; axis < 3; ++axis) {
-                            const double x = mesh_.vertices(mesh_.faces(f, 0), axis),
-                                         y = mesh_.vertices(mesh_.faces(f, 1), axis),
-                                         z = mesh_.vertices(mesh_.faces(f, 2), axis);
-                            box.lo[axis] = round_down(std::min({x, y, z}));
-                            box.hi[axis] = round_up(std::max({x, y, z}));
-                          }
-                        }
-                      });
+    parallel_for(chunks(order_.size()), 0, [&](size_t chunk) {
+      for (size_t i = chunk * kChunk; i < std::min(order_.size(), (chunk + 1) * kChunk); ++i) {
+        const int f = order_[i];
+        Box& box = boxes_[i];
+        for (int axis = 0; axis < 3; ++axis) {
+          const double x = mesh_.vertices(mesh_.faces(f, 0), axis),
+                       y = mesh_.vertices(mesh_.faces(f, 1), axis),
+                       z = mesh_.vertices(mesh_.faces(f, 2), axis);
+          box.lo[axis] = round_down(std::min({x, y, z}));
+          box.hi[axis] = round_up(std::max({x, y, z}));
+        }
+      }
+    });
   }
+
+  static constexpr size_t kChunk = 4096;  ///< faces per parallel work item of the per-face loops
+  static size_t chunks(size_t count) { return (count + kChunk - 1) / kChunk; }
 
   /// A complete binary tree in heap layout (root 1, children 2i and 2i+1) over leaves of kLeafFaces
   /// consecutive faces; leaves past the last face hold empty boxes, which overlap nothing.
@@ -199,47 +216,40 @@ class Search {
     return {std::min(begin, order_.size()), std::min(begin + kLeafFaces, order_.size())};
   }
 
-  /// Pairs within the subtree of `node`.
-  void self(size_t node, int depth) {
+  /// Pairs within the subtree of `node`: into `found`, or, at kTaskDepth when `tasks` is given, listed there
+  /// as a task.
+  void self(size_t node, int depth, Found* found, std::vector<Task>* tasks) {
+    if (tasks != nullptr && (depth == kTaskDepth || is_leaf(node))) {
+      tasks->push_back({true, node, node});
+      return;
+    }
     if (is_leaf(node)) {
       const auto [begin, end] = leaf_range(node);
-      Found& found = found_.local();
       for (size_t i = begin; i < end; ++i)
-        for (size_t j = i + 1; j < end; ++j) test(i, j, found);
+        for (size_t j = i + 1; j < end; ++j) test(i, j, *found);
       return;
     }
-    if (depth < kParallelDepth)
-      tbb::parallel_invoke([&] { self(2 * node, depth + 1); }, [&] { self(2 * node + 1, depth + 1); },
-                           [&] { cross(2 * node, 2 * node + 1, depth + 1); });
-    else {
-      self(2 * node, depth + 1);
-      self(2 * node + 1, depth + 1);
-      cross(2 * node, 2 * node + 1, depth + 1);
-    }
+    self(2 * node, depth + 1, found, tasks);
+    self(2 * node + 1, depth + 1, found, tasks);
+    cross(2 * node, 2 * node + 1, depth + 1, found, tasks);
   }
 
-  /// Pairs with one face under `a` and one under `b` (disjoint subtrees of the same depth).
-  void cross(size_t a, size_t b, int depth) {
+  /// Pairs with one face under `a` and one under `b` (disjoint subtrees of the same depth), as self.
+  void cross(size_t a, size_t b, int depth, Found* found, std::vector<Task>* tasks) {
     if (!overlap(nodes_[a], nodes_[b])) return;
-    if (is_leaf(a)) {
-      const auto [a_begin, a_end] = leaf_range(a);
-      const auto [b_begin, b_end] = leaf_range(b);
-      Found& found = found_.local();
-      for (size_t i = a_begin; i < a_end; ++i)
-        if (overlap(boxes_[i], nodes_[b]))
-          for (size_t j = b_begin; j < b_end; ++j) test(i, j, found);
+    if (tasks != nullptr && (depth == kTaskDepth || is_leaf(a))) {
+      tasks->push_back({false, a, b});
       return;
     }
-    if (depth < kParallelDepth)
-      tbb::parallel_invoke(
-          [&] { cross(2 * a, 2 * b, depth + 1); }, [&] { cross(2 * a, 2 * b + 1, depth + 1); },
-          [&] { cross(2 * a + 1, 2 * b, depth + 1); }, [&] { cross(2 * a + 1, 2 * b + 1, depth + 1); });
-    else {
-      cross(2 * a, 2 * b, depth + 1);
-      cross(2 * a, 2 * b + 1, depth + 1);
-      cross(2 * a + 1, 2 * b, depth + 1);
-      cross(2 * a + 1, 2 * b + 1, depth + 1);
+    if (is_leaf(a)) {
+      const size_t b_begin = leaf_range(b).first, b_end = leaf_range(b).second;
+      for (size_t i = leaf_range(a).first; i < leaf_range(a).second; ++i)
+        if (overlap(boxes_[i], nodes_[b]))
+          for (size_t j = b_begin; j < b_end; ++j) test(i, j, *found);
+      return;
     }
+    for (const size_t x : {2 * a, 2 * a + 1})
+      for (const size_t y : {2 * b, 2 * b + 1}) cross(x, y, depth + 1, found, tasks);
   }
 
   void test(size_t i, size_t j, Found& found) const {
@@ -334,7 +344,6 @@ class Search {
   std::vector<Box> boxes_;  ///< box of order_[i]
   std::vector<Box> nodes_;  ///< tree nodes, heap layout
   size_t first_leaf_ = 1;
-  tbb::combinable<Found> found_;
 };
 
 }  // namespace

@@ -20,8 +20,8 @@ struct FacePairs {
 /// EPICK kernel); a bounding-volume hierarchy over the faces in Morton order of their centroids, with
 /// single-precision boxes rounded outward, proposes the candidate pairs. Expects valid indices, finite
 /// coordinates and faces of three distinct vertices. O(F log F) for meshes whose faces do not crowd one
-/// place; about 60 bytes per face while it runs. Uses the threads of the current oneTBB arena; the result
-/// does not depend on their number.
+/// place; about 60 bytes per face while it runs. Runs on every core (internal/parallel.h); the result does
+/// not depend on the thread count.
 FacePairs self_intersecting_pairs(const Mesh& mesh);
 
 }  // namespace polystokes
