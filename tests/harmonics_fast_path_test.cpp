@@ -377,7 +377,7 @@ TEST_CASE("prepared moments of moved vertices match the quadrature reference pat
 
 TEST_CASE("prepared moments equal the fast path bit for bit for any thread count, also at a lower degree",
           "[harmonics_fast_path]") {
-  const std::vector<DensityRegion> nominal{{make_geodesic_sphere(24), 1000.0}};
+  const std::vector<DensityRegion> nominal{{bent_body(24), 1000.0}};
   const PreparedMoments prepared(nominal, 16);
   const auto sample = moved_sample(nominal, 3);
   const HarmonicFrame frame = frame_about(sample, Eigen::Vector3d(0.05, -0.02, 0.01));

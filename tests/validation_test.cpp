@@ -10,6 +10,7 @@
 
 #include "polystokes/core/errors.h"
 #include "polystokes/harmonics/compute.h"
+#include "polystokes/mesh/geometry.h"
 #include "polystokes/mesh/shapes.h"
 #include "polystokes/sets/transforms.h"
 
@@ -143,13 +144,14 @@ TEST_CASE("sampling geometry: Fibonacci directions are unit and balanced; ray cr
   CHECK(mean.norm() < 2.0 / 500.0);  // a lattice is balanced to O(1/n) (Gonzalez 2010)
   // Box of half sizes 2, 1.5, 1: the ray along +x leaves through x = 2, along a diagonal through the nearest
   // face.
-  const std::vector<DensityRegion> box{{make_box(4.0, 3.0, 2.0), 1.0}};
-  CHECK(outermost_crossing(box, Eigen::Vector3d::Zero(), Eigen::Vector3d(1, 0, 0)) ==
+  const Mesh box_mesh = make_box(4.0, 3.0, 2.0);
+  const std::vector<const Mesh*> box{&box_mesh};
+  CHECK(farthest_ray_hit(box, Eigen::Vector3d::Zero(), Eigen::Vector3d(1, 0, 0)) ==
         Approx(2.0).epsilon(1e-15));
   const Eigen::Vector3d d = Eigen::Vector3d(1, 1, 1).normalized();
-  CHECK(outermost_crossing(box, Eigen::Vector3d::Zero(), d) == Approx(std::sqrt(3.0)).epsilon(1e-14));
+  CHECK(farthest_ray_hit(box, Eigen::Vector3d::Zero(), d) == Approx(std::sqrt(3.0)).epsilon(1e-14));
   // From outside a ray away from the box meets nothing.
-  CHECK(outermost_crossing(box, Eigen::Vector3d(10, 0, 0), Eigen::Vector3d(1, 0, 0)) == 0.0);
+  CHECK(farthest_ray_hit(box, Eigen::Vector3d(10, 0, 0), Eigen::Vector3d(1, 0, 0)) == 0.0);
 }
 
 TEST_CASE("bad validation options are refused", "[validation]") {

@@ -68,9 +68,4 @@ ValidationReport validate_series(const std::vector<DensityRegion>& regions, cons
 /// 49-64).
 std::vector<Eigen::Vector3d> fibonacci_directions(int n);
 
-/// Largest t > 0 at which origin + t u crosses a face of any region (Moller & Trumbore 1997, J. Graphics
-/// Tools 2, ray-triangle test); 0 if the ray meets none. O(faces).
-double outermost_crossing(const std::vector<DensityRegion>& regions, const Eigen::Vector3d& origin,
-                          const Eigen::Vector3d& u);
-
 }  // namespace polystokes
