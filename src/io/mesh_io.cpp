@@ -326,9 +326,10 @@ Mesh read_mesh(const std::string& path, const MeshReadOptions& options) {
   if (!(options.merge_tolerance >= 0) || !std::isfinite(options.merge_tolerance))
     throw ConventionError(
         fmt::format("merge tolerance must be finite and >= 0, got {}", options.merge_tolerance));
-  const MeshFormatEntry& format = format_entry(path, options.format);
+  // A file that cannot be read says so first, whatever its name, as every other input of every command does.
   check_file_read_budget(path);
   const std::string bytes = read_file(path);
+  const MeshFormatEntry& format = format_entry(path, options.format);
   if (bytes.find_first_not_of(" \t\r\n") == std::string::npos) throw mesh_error(path, "file is empty");
 
   PolygonSoup soup;
