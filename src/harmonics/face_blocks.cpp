@@ -8,22 +8,10 @@
 
 #include "harmonics/fan_decomposition.h"
 #include "harmonics/moment_kernel.h"
+#include "mesh/face_order.h"
 #include "polystokes/core/errors.h"
 
 namespace polystokes {
-
-namespace {
-
-// Interleaves the low 21 bits of three coordinates (Morton code).
-uint64_t morton3(uint32_t x, uint32_t y, uint32_t z) {
-  uint64_t code = 0;
-  for (int bit = 0; bit < 21; ++bit)
-    code |= (uint64_t((x >> bit) & 1u) << (3 * bit)) | (uint64_t((y >> bit) & 1u) << (3 * bit + 1)) |
-            (uint64_t((z >> bit) & 1u) << (3 * bit + 2));
-  return code;
-}
-
-}  // namespace
 
 // The fan recursion keeps two rows per entity (about one entity per face); a block's rows should stay in the
 // second-level cache while every degree sweeps over them.
@@ -36,8 +24,8 @@ Eigen::Index moment_block_faces(int degree) {
 // Fans share work only between neighbouring faces of the same block. Meshes written by tessellating or
 // re-meshing programs list faces in compact patches (about 0.9 products per face); a list without locality
 // (shuffled, merged from pieces) costs up to 3. Four sample blocks decide: above 1.5 products per face the
-// region is blocked in Morton order of its face centroids instead (about 1.0 per face), at the price of one
-// sort and 4 bytes per face.
+// region is blocked in Morton order of its face centroids instead (about 1.0 per face; face_order.h), at the
+// price of one linear sort and 4 bytes per face kept.
 std::vector<int> blocking_order(const Mesh& mesh, Eigen::Index block_faces) {
   const Eigen::Index faces = mesh.faces.rows();
   if (faces <= 2 * block_faces) return {};
@@ -50,29 +38,7 @@ std::vector<int> blocking_order(const Mesh& mesh, Eigen::Index block_faces) {
         double(probe.decompose(mesh.faces, mesh.vertices.rows(), begin, begin + block_faces).products());
   }
   if (products <= 1.5 * samples * double(block_faces)) return {};
-  const Eigen::Vector3d low = mesh.vertices.colwise().minCoeff().transpose();
-  const Eigen::Vector3d extent = mesh.vertices.colwise().maxCoeff().transpose() - low;
-  const double cells = double(1u << 21) - 1;
-  std::vector<std::pair<uint64_t, int>> keys(static_cast<size_t>(faces));
-  for (Eigen::Index f = 0; f < faces; ++f) {
-    Eigen::Vector3d centroid = Eigen::Vector3d::Zero();
-    for (int k = 0; k < 3; ++k) {
-      const int vertex = mesh.faces(f, k);
-      if (vertex < 0 || vertex >= mesh.vertices.rows())
-        throw MeshError(fmt::format("face {} refers to vertex {}, but the mesh has {} vertices", f, vertex,
-                                    mesh.vertices.rows()));
-      centroid += mesh.vertices.row(vertex).transpose() / 3.0;
-    }
-    uint32_t cell[3];
-    for (int c = 0; c < 3; ++c)
-      cell[c] =
-          extent[c] > 0 ? uint32_t(std::clamp((centroid[c] - low[c]) / extent[c], 0.0, 1.0) * cells) : 0;
-    keys[size_t(f)] = {morton3(cell[0], cell[1], cell[2]), int(f)};
-  }
-  std::sort(keys.begin(), keys.end());
-  std::vector<int> order(static_cast<size_t>(faces));
-  for (size_t i = 0; i < keys.size(); ++i) order[i] = keys[i].second;
-  return order;
+  return morton_face_order(mesh);
 }
 
 double moment_products_per_face(const Mesh& mesh, int degree) {

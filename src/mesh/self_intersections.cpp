@@ -13,6 +13,7 @@
 #include <vector>
 
 #include "internal/parallel.h"
+#include "mesh/face_order.h"
 
 namespace polystokes {
 
@@ -58,16 +59,6 @@ float round_down(double x) {
 }
 
 float round_up(double x) { return -round_down(-x); }
-
-/// Spreads the low 10 bits of v to every third bit (Morton code in 30 bits).
-std::uint32_t spread_bits(std::uint32_t v) {
-  v &= 0x3ffu;
-  v = (v | v << 16) & 0x030000ffu;
-  v = (v | v << 8) & 0x0300f00fu;
-  v = (v | v << 4) & 0x030c30c3u;
-  v = (v | v << 2) & 0x09249249u;
-  return v;
-}
 
 /// Lowest intersecting pair and count of one task, merged by sum and minimum (order-free, so the result
 /// does not depend on the thread count).
@@ -135,46 +126,21 @@ class Search {
     return !(u.cross(v).cwiseAbs().maxCoeff() > 1e-14 * scale * scale);
   }
 
-  /// Non-collinear faces sorted by the Morton code of their centroid (ties by face number): neighbours in
-  /// this order are neighbours in space, so consecutive runs make tight leaves. LSD radix sort, 3 x 10 bits.
+  /// Non-collinear faces in Morton order of their centroids (face_order.h): neighbours in this order are
+  /// neighbours in space, so consecutive runs make tight leaves.
   void sort_faces() {
     const auto faces = static_cast<int>(mesh_.faces.rows());
-    const Eigen::Vector3d low = mesh_.vertices.colwise().minCoeff().transpose();
-    const Eigen::Vector3d extent = mesh_.vertices.colwise().maxCoeff().transpose() - low;
-    // Collinear faces get the key kNone, which sorts last (a face's key has its number in the low bits).
-    constexpr std::uint64_t kNone = std::numeric_limits<std::uint64_t>::max();
-    std::vector<std::uint64_t> keys(static_cast<size_t>(faces));
+    std::vector<char> collinear(static_cast<size_t>(faces), 0);
     parallel_for(chunks(static_cast<size_t>(faces)), 0, [&](size_t chunk) {
       for (int f = static_cast<int>(chunk * kChunk);
            f < std::min(faces, static_cast<int>((chunk + 1) * kChunk)); ++f) {
         const int a = mesh_.faces(f, 0), b = mesh_.faces(f, 1), c = mesh_.faces(f, 2);
-        if (maybe_collinear(a, b, c) && CGAL::collinear(point(a), point(b), point(c))) {
-          keys[static_cast<size_t>(f)] = kNone;
-          continue;
-        }
-        std::uint32_t code = 0;
-        for (int axis = 0; axis < 3; ++axis) {
-          const double centre =
-              (mesh_.vertices(a, axis) + mesh_.vertices(b, axis) + mesh_.vertices(c, axis)) / 3.0 - low[axis];
-          const double cell = extent[axis] > 0 ? std::clamp(centre / extent[axis], 0.0, 1.0) * 1023.0 : 0.0;
-          code |= spread_bits(static_cast<std::uint32_t>(cell)) << axis;
-        }
-        keys[static_cast<size_t>(f)] = static_cast<std::uint64_t>(code) << 32 | static_cast<std::uint32_t>(f);
+        collinear[static_cast<size_t>(f)] =
+            maybe_collinear(a, b, c) && CGAL::collinear(point(a), point(b), point(c));
       }
     });
-    keys.erase(std::remove(keys.begin(), keys.end(), kNone), keys.end());
-    std::vector<std::uint64_t> spare(keys.size());
-    for (int shift = 32; shift < 62; shift += 10) {
-      std::array<size_t, 1025> start{};
-      for (const std::uint64_t key : keys) ++start[(key >> shift & 0x3ffu) + 1];
-      for (size_t d = 1; d < start.size(); ++d) start[d] += start[d - 1];
-      for (const std::uint64_t key : keys) spare[start[key >> shift & 0x3ffu]++] = key;
-      keys.swap(spare);
-    }
-    spare = {};
-    order_.resize(keys.size());
-    for (size_t i = 0; i < keys.size(); ++i) order_[i] = static_cast<int>(keys[i] & 0xffffffffu);
-    keys = {};
+    order_ = morton_face_order(mesh_, collinear);
+    collinear = {};
     boxes_.resize(order_.size());
     parallel_for(chunks(order_.size()), 0, [&](size_t chunk) {
       for (size_t i = chunk * kChunk; i < std::min(order_.size(), (chunk + 1) * kChunk); ++i) {
