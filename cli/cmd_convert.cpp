@@ -8,11 +8,11 @@
 #include <sstream>
 
 #include "cli_common.h"
-#include "polystokes/io/coefficient_file.h"
-#include "polystokes/sets/conventions.h"
 #include "polystokes/core/errors.h"
-#include "polystokes/mesh/plausibility.h"
+#include "polystokes/io/coefficient_file.h"
 #include "polystokes/io/table_import.h"
+#include "polystokes/mesh/plausibility.h"
+#include "polystokes/sets/conventions.h"
 #include "polystokes/sets/transforms.h"
 
 namespace polystokes::cli {
@@ -29,6 +29,7 @@ struct ConvertOptions {
   bool allow_outside = false;
   std::string rotate_matrix, rotate_euler;
   bool to_principal = false;
+  int max_degree = -1;  // -1: keep the set's degree
   std::string body;
   // Plain-table input.
   std::string columns, comment = "#";
@@ -144,6 +145,8 @@ void run_convert(const ConvertOptions& options, const GlobalOptions& global) {
   }
   set.history.push_back("inputs as interpreted: " + fmt::format("{}", fmt::join(echo, "; ")));
   const double gm_before = set.gm;
+  // First, so later steps work on the degrees kept (a shift or rotation of degree n uses degrees <= n only).
+  if (options.max_degree >= 0) set = truncate_degree(set, options.max_degree);
 
   if (!options.shift.empty()) {
     try {
@@ -207,12 +210,12 @@ void setup_convert(CLI::App& app, const GlobalOptions& global) {
   auto* cmd = app.add_subcommand(
       "convert",
       "The same gravity field under other conventions, reference radius, GM, origin or axes.\n"
-      "Steps run in this order: --shift, rotation, --to-ref-radius, --to-gm, conventions; each is exact and\n"
-      "recorded in the output's history. IN is a polystokes set (text or JSON) or, with the table options, "
-      "a\n"
-      "plain table of another tool. Bare lengths on the command line are in --unit; a bare GM is in m^3 "
-      "s^-2\n"
-      "in every command (or give a unit: 5.08e-7km3/s2); angles are in degrees (docs/units.md).\n"
+      "Steps run in this order: --max-degree, --shift, rotation, --to-ref-radius, --to-gm, conventions; "
+      "each\n"
+      "is exact and recorded in the output's history. IN is a polystokes set (text or JSON) or, with the\n"
+      "table options, a plain table of another tool. Bare lengths on the command line are in --unit; a bare\n"
+      "GM is in m^3 s^-2 in every command (or give a unit: 5.08e-7km3/s2); angles are in degrees\n"
+      "(docs/units.md).\n"
       "Examples:\n"
       "  polystokes convert varnek.txt -o varnek_schmidt.txt --to-normalization schmidt --to-condon-shortley "
       "on\n"
@@ -234,6 +237,9 @@ void setup_convert(CLI::App& app, const GlobalOptions& global) {
       ->check(CLI::IsMember({"on", "off"}));
   group->add_option("--to-zonal", options->to_zonal, "Zonal terms as c (C_n0) or j (J_n = -C_n0)")
       ->check(CLI::IsMember({"c", "j"}));
+  group->add_option("--max-degree", options->max_degree, "Cut the set at this degree (0 to the set's degree)")
+      ->check(strict_integer())
+      ->check(CLI::NonNegativeNumber);
   add_quantity_option(group, "--to-ref-radius", options->to_ref_radius, QuantityKind::length,
                       "New reference radius");
   add_quantity_option(group, "--to-gm", options->to_gm, QuantityKind::gm, "New GM");

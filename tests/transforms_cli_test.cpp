@@ -53,3 +53,34 @@ TEST_CASE("a far shift at degree 70 says how much accuracy it lost; compute --or
   CHECK(direct.origin_in_mesh == Eigen::Vector3d(0, 1350, 0));
   CHECK(worst_relative_difference(shifted_set, direct, 2) > 1e-10);  // the loss the note speaks of is real
 }
+
+TEST_CASE("convert --max-degree keeps degrees 0..N bit for bit and refuses a degree the set does not have",
+          "[transforms_cli]") {
+  // A cut series is the same series summed to N (common practice): the kept coefficients must be the input's.
+  const std::string dir = temp_directory();
+  const std::string mesh = dir + "/body.obj";
+  write_obj(make_ellipsoid(3, 1800.0, 900.0, 700.0), mesh, LengthUnit::kilometer);
+  REQUIRE(
+      run_cli("compute " + arg(mesh) + " --unit km --density 2000 --degree 8 -q -o " + arg(dir + "/d8.txt"))
+          .exit_code == 0);
+  const CommandResult cut =
+      run_cli("convert " + arg(dir + "/d8.txt") + " --max-degree 3 -o " + arg(dir + "/d3.txt"));
+  REQUIRE(cut.exit_code == 0);
+  const CoefficientSet full = read_coefficient_file(dir + "/d8.txt");
+  const CoefficientSet part = read_coefficient_file(dir + "/d3.txt");
+  REQUIRE(part.degree == 3);
+  CHECK(part.C == full.C.topLeftCorner(4, 4));
+  CHECK(part.S == full.S.topLeftCorner(4, 4));
+  CHECK(part.gm == full.gm);
+  CHECK(part.reference_radius == full.reference_radius);
+  CHECK_THAT(cut.output, Catch::Contains("degree cut from 8 to 3"));
+
+  const CommandResult too_high =
+      run_cli("convert " + arg(dir + "/d8.txt") + " --max-degree 9 -o " + arg(dir + "/d9.txt"));
+  CHECK(too_high.exit_code == 2);
+  CHECK_THAT(too_high.output, Catch::Contains("cannot cut a set of degree 8 at degree 9"));
+  CHECK_FALSE(file_exists(dir + "/d9.txt"));
+  CHECK(
+      run_cli("convert " + arg(dir + "/d8.txt") + " --max-degree -1 -o " + arg(dir + "/dm.txt")).exit_code ==
+      1);
+}

@@ -15,9 +15,9 @@
 #include <string_view>
 #include <unordered_map>
 
+#include "internal/memory_budget.h"
 #include "io/mesh_format_registry.h"
 #include "polystokes/core/errors.h"
-#include "internal/memory_budget.h"
 #include "polystokes/io/output_file.h"
 
 namespace polystokes {

@@ -51,8 +51,11 @@ std::vector<int> morton_face_order(const Mesh& mesh, const std::vector<char>& sk
       }
       std::uint32_t code = 0;
       for (int axis = 0; axis < 3; ++axis) {
-        const double centre = (mesh.vertices(mesh.faces(face, 0), axis) + mesh.vertices(mesh.faces(face, 1), axis) +
-                               mesh.vertices(mesh.faces(face, 2), axis)) / 3.0 - low[axis];
+        const double centre =
+            (mesh.vertices(mesh.faces(face, 0), axis) + mesh.vertices(mesh.faces(face, 1), axis) +
+             mesh.vertices(mesh.faces(face, 2), axis)) /
+                3.0 -
+            low[axis];
         const double cell = extent[axis] > 0 ? std::clamp(centre / extent[axis], 0.0, 1.0) * 1023.0 : 0.0;
         code |= spread_bits(static_cast<std::uint32_t>(cell)) << axis;
       }

@@ -4,14 +4,14 @@
 
 #include <Eigen/Dense>
 #include <cmath>
+#include <complex>
 #include <limits>
 #include <optional>
-#include <complex>
 
-#include "polystokes/sets/conventions.h"
 #include "polystokes/core/errors.h"
 #include "polystokes/harmonics/legendre.h"
 #include "polystokes/mesh/geometry.h"
+#include "polystokes/sets/conventions.h"
 
 namespace polystokes {
 
@@ -87,6 +87,23 @@ CoefficientSet rescale_reference_radius(const CoefficientSet& set, double radius
   return out;
 }
 
+CoefficientSet truncate_degree(const CoefficientSet& set, int degree) {
+  check_matrices(set);
+  if (degree < 0 || degree > set.degree)
+    throw ConventionError(fmt::format("cannot cut a set of degree {} at degree {}: give 0 to {}", set.degree,
+                                      degree, set.degree));
+  CoefficientSet out = set;
+  const Eigen::Index size = degree + 1;
+  out.C = set.C.topLeftCorner(size, size);
+  out.S = set.S.topLeftCorner(size, size);
+  out.sigma_C = set.sigma_C.topLeftCorner(size, size);
+  out.sigma_S = set.sigma_S.topLeftCorner(size, size);
+  out.degree = degree;
+  out.history.push_back(
+      fmt::format("degree cut from {} to {} (degrees above {} dropped)", set.degree, degree, degree));
+  return out;
+}
+
 CoefficientSet rescale_gm(const CoefficientSet& set, double gm) {
   check_matrices(set);
   if (!(gm > 0) || !std::isfinite(gm))
@@ -144,8 +161,10 @@ std::optional<std::string> shift_rounding_note(const Eigen::VectorXd& bound, con
   }
   if (first < 0) return std::nullopt;
   return fmt::format(
-      "Accuracy after the origin shift: rounding in the translation sums is amplified like ((r_B + |d|)/R')^n "
-      "(R' the body's farthest point from the new origin); its bound exceeds {} of the coefficients from degree {} "
+      "Accuracy after the origin shift: rounding in the translation sums is amplified like ((r_B + "
+      "|d|)/R')^n "
+      "(R' the body's farthest point from the new origin); its bound exceeds {} of the coefficients from "
+      "degree {} "
       "on and reaches {:.2g} of the RMS at degree {}. Computing the set about the wanted origin directly "
       "(compute --origin X,Y,Z) avoids this loss.",
       threshold, first, worst_ratio, worst);

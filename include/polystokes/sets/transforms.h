@@ -19,6 +19,11 @@ CoefficientSet rescale_reference_radius(const CoefficientSet& set, double radius
 /// C00 = GM_old/GM_new afterwards). Throws ConventionError for a non-positive GM. O(degree^2).
 CoefficientSet rescale_gm(const CoefficientSet& set, double gm);
 
+/// The same set cut at `degree` (0 <= degree <= set.degree): C, S and sigmas of degrees 0..degree kept bit for
+/// bit, the rest dropped; a history line records the cut. Any convention. Throws ConventionError for a degree
+/// outside that range. O(degree^2).
+CoefficientSet truncate_degree(const CoefficientSet& set, int degree);
+
 /// Centre of mass relative to the expansion origin implied by the degree-1 terms (m, set frame):
 /// (x, y, z) = sqrt(3) R (C11, S11, C10) / C00 in fully normalized terms. Zero for a degree-0 set.
 Eigen::Vector3d center_of_mass_offset(const CoefficientSet& set);
