@@ -19,20 +19,10 @@ using namespace polystokes;
 using polystokes::test::read_bytes;
 using polystokes::test::source_path;
 using polystokes::test::temp_directory;
+using polystokes::test::volume_of;
 using polystokes::test::write_text;
 
 namespace {
-
-/// Signed volume as the sum of origin tetrahedra (divergence theorem; common practice).
-double volume_of(const Mesh& mesh) {
-  double volume = 0;
-  for (Eigen::Index f = 0; f < mesh.faces.rows(); ++f) {
-    const Eigen::Vector3d a = mesh.vertices.row(mesh.faces(f, 0)), b = mesh.vertices.row(mesh.faces(f, 1)),
-                          c = mesh.vertices.row(mesh.faces(f, 2));
-    volume += a.dot(b.cross(c)) / 6.0;
-  }
-  return volume;
-}
 
 // Unit cube [0,1]^3, corner i at (i&1, i&2, i&4), six outward quads (zero-based).
 const double kCube[8][3] = {{0, 0, 0}, {1, 0, 0}, {0, 1, 0}, {1, 1, 0},
@@ -378,8 +368,8 @@ TEST_CASE("Unreadable mesh files give one-line errors naming the file and the pr
                             path + ":2:", "cannot parse vertex coordinate 'zero'");
   }
   SECTION("a vertex keyword in capitals names the line instead of surfacing later as an index error") {
-    // Wavefront OBJ keywords are lower case ("v x y z"); skipping "V" (as tinyobjloader did) would leave face 4
-    // pointing at a vertex that was never read.
+    // Wavefront OBJ keywords are lower case ("v x y z"); skipping "V" (as tinyobjloader did) would leave face
+    // 4 pointing at a vertex that was never read.
     const std::string path = temp_directory() + "/capital.obj";
     write_text(path, "v 0 0 0\nv 1 0 0\nv 0 1 0\nV 0 0 1\nf 1 3 2\nf 1 2 4\nf 1 4 3\nf 2 3 4\n");
     require_one_line_naming(message_of<FormatError>([&] { read_mesh(path, {}); }),

@@ -1,6 +1,6 @@
-// The mesh readers (src/io/mesh_formats/*.cpp): every ordinary variant of the formats reads to the same mesh, lying
-// counts and malformed records are refused with one-line errors, and the bare vertex-facet layout reads to
-// the same mesh as OBJ. Record layouts: OFF as in the Geomview manual ("OFF files", Geomview 1.9
+// The mesh readers (src/io/mesh_formats/*.cpp): every ordinary variant of the formats reads to the same mesh,
+// lying counts and malformed records are refused with one-line errors, and the bare vertex-facet layout reads
+// to the same mesh as OBJ. Record layouts: OFF as in the Geomview manual ("OFF files", Geomview 1.9
 // documentation, from memory; the binary form stores big-endian 32-bit counts and floats), PLY as in G. Turk,
 // "The PLY Polygon File Format" (1994), binary STL as in the 3D Systems StereoLithography Interface
 // Specification (1989): an 80-byte header, a 32-bit facet count and 50 bytes per facet.
@@ -200,17 +200,6 @@ MeshReadOptions as_vertex_facet() {
   MeshReadOptions options;
   options.format = "vertex-facet";
   return options;
-}
-
-/// Signed volume as the sum of origin tetrahedra (divergence theorem; common practice).
-double volume_of(const Mesh& mesh) {
-  double volume = 0;
-  for (Eigen::Index f = 0; f < mesh.faces.rows(); ++f) {
-    const Eigen::Vector3d a = mesh.vertices.row(mesh.faces(f, 0)), b = mesh.vertices.row(mesh.faces(f, 1)),
-                          c = mesh.vertices.row(mesh.faces(f, 2));
-    volume += a.dot(b.cross(c)) / 6.0;
-  }
-  return volume;
 }
 
 void require_error(const std::string& name, const std::string& bytes, const std::string& expected) {

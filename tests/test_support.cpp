@@ -1,5 +1,9 @@
 #include "test_support.h"
 
+#include <sys/wait.h>
+#include <unistd.h>
+
+#include <Eigen/Geometry>
 #include <array>
 #include <atomic>
 #include <cmath>
@@ -7,11 +11,9 @@
 #include <filesystem>
 #include <fstream>
 #include <sstream>
-#include <sys/wait.h>
-#include <unistd.h>
 
-#include "polystokes/sets/conventions.h"
 #include "polystokes/mesh/shapes.h"
+#include "polystokes/sets/conventions.h"
 
 namespace polystokes::test {
 
@@ -55,7 +57,9 @@ std::string temp_directory() {
   return dir.string();
 }
 
-std::string source_path(const std::string& relative) { return std::string(POLYSTOKES_SOURCE_DIR) + "/" + relative; }
+std::string source_path(const std::string& relative) {
+  return std::string(POLYSTOKES_SOURCE_DIR) + "/" + relative;
+}
 
 CommandResult run_cli(const std::string& arguments) {
   const std::string command = std::string("'") + POLYSTOKES_CLI + "' " + arguments + " 2>&1";
@@ -121,6 +125,16 @@ CoefficientSet power_law_set(int degree, double k, double beta) {
     }
   }
   return set;
+}
+
+double volume_of(const Mesh& mesh) {
+  double volume = 0;
+  for (Eigen::Index f = 0; f < mesh.faces.rows(); ++f) {
+    const Eigen::Vector3d a = mesh.vertices.row(mesh.faces(f, 0)), b = mesh.vertices.row(mesh.faces(f, 1)),
+                          c = mesh.vertices.row(mesh.faces(f, 2));
+    volume += a.dot(b.cross(c)) / 6.0;
+  }
+  return volume;
 }
 
 }  // namespace polystokes::test

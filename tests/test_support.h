@@ -22,6 +22,10 @@ void require_sets_identical(const CoefficientSet& a, const CoefficientSet& b);
 double max_coefficient_difference(const CoefficientSet& a, const CoefficientSet& b, int max_degree);
 
 /// A fresh empty directory under the system temp directory, unique per call.
+/// Signed volume of a closed mesh as the sum of origin tetrahedra (divergence theorem; common practice),
+/// written here independently of the library's own volume code so that reader tests check against it. m^3.
+double volume_of(const Mesh& mesh);
+
 std::string temp_directory();
 
 /// Path of a file in the source tree (e.g. "shapes-demo/unit_cube.obj").

@@ -325,13 +325,7 @@ class Comparer {
   Stats stats_of_raw(const CoefficientSet& b_raw, int top = -1) const {
     Scaling scaling;
     if (top < 0 || top >= b_raw.degree) return stats(bring(b_raw, &scaling, nullptr), scaling, top);
-    CoefficientSet low = b_raw;
-    low.degree = top;
-    low.C = b_raw.C.topLeftCorner(top + 1, top + 1);
-    low.S = b_raw.S.topLeftCorner(top + 1, top + 1);
-    low.sigma_C = b_raw.sigma_C.topLeftCorner(top + 1, top + 1);
-    low.sigma_S = b_raw.sigma_S.topLeftCorner(top + 1, top + 1);
-    return stats(bring(low, &scaling, nullptr), scaling, top);
+    return stats(bring(truncate_degree(b_raw, top), &scaling, nullptr), scaling, top);
   }
 
   Hypothesis judge(MistakeKind kind, const std::string& description, double parameter,
@@ -471,13 +465,7 @@ class Comparer {
   std::vector<std::pair<int, double>> log_spectrum_ratio(const CoefficientSet& b) const {
     Scaling scaling;
     const int top = std::min(fit_degree(), b.degree);
-    CoefficientSet low = b;
-    low.degree = top;
-    low.C = b.C.topLeftCorner(top + 1, top + 1);
-    low.S = b.S.topLeftCorner(top + 1, top + 1);
-    low.sigma_C = b.sigma_C.topLeftCorner(top + 1, top + 1);
-    low.sigma_S = b.sigma_S.topLeftCorner(top + 1, top + 1);
-    const CoefficientSet fb = expressed_in(bring(low, &scaling, nullptr), Convention{});
+    const CoefficientSet fb = expressed_in(bring(truncate_degree(b, top), &scaling, nullptr), Convention{});
     const LogSpectrum spectrum_b = log_spectrum(fb, top, options_);
     std::vector<std::pair<int, double>> out;
     for (int n = 0; n <= top; ++n)
