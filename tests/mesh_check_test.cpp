@@ -3,6 +3,7 @@
 #include <CGAL/Exact_predicates_inexact_constructions_kernel.h>
 #include <CGAL/Polygon_mesh_processing/self_intersections.h>
 #include <CGAL/Surface_mesh.h>
+#include <oneapi/tbb/global_control.h>
 
 #include <Eigen/Geometry>
 #include <algorithm>
@@ -10,6 +11,7 @@
 #include <chrono>
 #include <cmath>
 #include <limits>
+#include <map>
 #include <numeric>
 #include <random>
 
@@ -170,6 +172,61 @@ TEST_CASE("A face run the wrong way fails 'consistently_oriented'", "[mesh_check
   Mesh box = make_box(1, 1, 1);
   std::swap(box.faces(0, 1), box.faces(0, 2));
   REQUIRE(contains(validation_error(box), "mesh check 'consistently_oriented' failed: 3 edges"));
+}
+
+TEST_CASE(
+    "Topological checks on a mesh of many vertex blocks: counts and first offenders equal a plain count over "
+    "all edges, on one thread and on two",
+    "[mesh_check]") {
+  // The checks walk the vertices in blocks on several threads; the reference here is a single ordered map of
+  // every directed edge use (common practice), independent of that walk. Holes and reversed faces are put
+  // in several places so that offenders fall in different blocks.
+  Mesh sphere = make_geodesic_sphere(80);
+  REQUIRE(sphere.vertices.rows() > 3 * 16384);
+  std::vector<Eigen::Index> keep;
+  for (Eigen::Index f = 0; f < sphere.faces.rows(); ++f)
+    if (f % 9973 != 17) keep.push_back(f);
+  Mesh holed = sphere;
+  holed.faces.resize(Eigen::Index(keep.size()), 3);
+  for (size_t i = 0; i < keep.size(); ++i) holed.faces.row(Eigen::Index(i)) = sphere.faces.row(keep[i]);
+  for (Eigen::Index f = 31000; f < holed.faces.rows(); f += 23011)
+    std::swap(holed.faces(f, 1), holed.faces(f, 2));
+
+  std::map<std::pair<int, int>, std::vector<std::pair<int, int>>> uses;  // lower, higher -> (face, from)
+  for (int f = 0; f < int(holed.faces.rows()); ++f)
+    for (int k = 0; k < 3; ++k) {
+      const int a = holed.faces(f, k), b = holed.faces(f, (k + 1) % 3);
+      uses[{std::min(a, b), std::max(a, b)}].push_back({f, a});
+    }
+  long border = 0, same_direction = 0;
+  int first_border_face = INT_MAX, first_same_face = INT_MAX;
+  for (auto& [edge, list] : uses) {
+    std::sort(list.begin(), list.end());
+    if (list.size() == 1) {
+      ++border;
+      first_border_face = std::min(first_border_face, list[0].first);
+    }
+    if (list.size() == 2 && list[0].second == list[1].second) {
+      ++same_direction;
+      first_same_face = std::min(first_same_face, list[0].first);
+    }
+  }
+  REQUIRE(border > 0);
+  REQUIRE(same_direction > 0);
+
+  for (int threads : {1, 2}) {
+    CAPTURE(threads);
+    tbb::global_control limit(tbb::global_control::max_allowed_parallelism, size_t(threads));
+    const MeshCheckReport report = inspect_mesh(holed);
+    const MeshCheck& closed = check_named(report, "closed");
+    REQUIRE(closed.count == border);
+    REQUIRE(contains(closed.first_offender, "of face " + std::to_string(first_border_face)));
+    const MeshCheck& oriented = check_named(report, "consistently_oriented");
+    REQUIRE(oriented.count == same_direction);
+    REQUIRE(contains(oriented.first_offender, "of faces " + std::to_string(first_same_face) + " and"));
+    REQUIRE(check_named(report, "edge_manifold").passed);
+    REQUIRE(check_named(report, "vertex_manifold").passed);
+  }
 }
 
 TEST_CASE("Self-intersecting meshes fail 'no_self_intersections' (CGAL exact predicates)", "[mesh_check]") {

@@ -16,6 +16,7 @@
 #include <unordered_map>
 
 #include "internal/memory_budget.h"
+#include "io/file_bytes.h"
 #include "io/mesh_format_registry.h"
 #include "polystokes/core/errors.h"
 #include "polystokes/io/output_file.h"
@@ -27,7 +28,7 @@ namespace {
 using Point = Eigen::Vector3d;
 using Triangle = std::array<int, 3>;
 
-std::string sha256_hex(const std::string& bytes) {
+std::string sha256_hex(std::string_view bytes) {
   unsigned char digest[EVP_MAX_MD_SIZE];
   unsigned int length = 0;
   if (EVP_Digest(bytes.data(), bytes.size(), digest, &length, EVP_sha256(), nullptr) != 1)
@@ -328,16 +329,18 @@ Mesh read_mesh(const std::string& path, const MeshReadOptions& options) {
         fmt::format("merge tolerance must be finite and >= 0, got {}", options.merge_tolerance));
   // A file that cannot be read says so first, whatever its name, as every other input of every command does.
   check_file_read_budget(path);
-  std::string bytes = read_file(path);
+  FileBytes file(path);
+  const std::string_view bytes = file.view();
   const MeshFormatEntry& format = format_entry(path, options.format);
-  if (bytes.find_first_not_of(" \t\r\n") == std::string::npos) throw mesh_error(path, "file is empty");
+  if (bytes.find_first_not_of(" \t\r\n") == std::string_view::npos) throw mesh_error(path, "file is empty");
   const std::string checksum = sha256_hex(bytes);
   const size_t file_size = bytes.size();
 
   PolygonSoup soup;
   format.read(path, bytes, soup);
-  // The file's text is not needed once parsed; freeing it before welding lowers the peak by the file's size.
-  std::string().swap(bytes);
+  // The file's bytes are not needed once parsed; releasing them before welding lowers the peak by the
+  // file's size.
+  file.release();
   check_soup(path, soup);
   if (soup.polygon_count() == 0) throw mesh_error(path, "no faces found");
   require_memory(mesh_read_bytes(static_cast<double>(file_size), static_cast<double>(soup.vertex_count()),
@@ -367,6 +370,6 @@ void write_obj(const Mesh& mesh, const std::string& path, LengthUnit unit) {
   write_file_atomically(path, fmt::to_string(text));
 }
 
-std::string sha256_file_hex(const std::string& path) { return sha256_hex(read_file(path)); }
+std::string sha256_file_hex(const std::string& path) { return sha256_hex(FileBytes(path).view()); }
 
 }  // namespace polystokes

@@ -232,10 +232,21 @@ std::string read_file(const std::string& path) {
   if (std::filesystem::is_directory(path, error)) throw format_error(path, 0, "cannot read: is a directory");
   std::ifstream in(path, std::ios::binary);
   if (!in) throw format_error(path, 0, "cannot read: " + reason(errno));
-  std::ostringstream content;
-  content << in.rdbuf();
+  // One read of the known size; a file whose size is not known ahead (a pipe, /proc) is read to its end.
+  std::string content;
+  const auto size = std::filesystem::file_size(path, error);
+  if (!error && size > 0) {
+    content.resize(static_cast<size_t>(size));
+    in.read(content.data(), static_cast<std::streamsize>(size));
+    content.resize(static_cast<size_t>(in.gcount()));
+    if (in.bad()) throw format_error(path, 0, "cannot read: " + reason(errno));
+    if (in.gcount() < static_cast<std::streamsize>(size)) return content;
+  }
+  std::ostringstream rest;
+  rest << in.rdbuf();
   if (in.bad()) throw format_error(path, 0, "cannot read: " + reason(errno));
-  return content.str();
+  content += rest.str();
+  return content;
 }
 
 }  // namespace polystokes

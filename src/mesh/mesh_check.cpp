@@ -1,5 +1,4 @@
 #include "polystokes/mesh/mesh_check.h"
-#include "polystokes/mesh/geometry.h"
 
 #include <CGAL/Exact_predicates_inexact_constructions_kernel.h>
 #include <CGAL/box_intersection_d.h>
@@ -11,10 +10,13 @@
 #include <cmath>
 #include <cstdint>
 #include <numeric>
+#include <optional>
 
 #include "internal/disjoint_sets.h"
+#include "internal/parallel.h"
 #include "mesh/self_intersections.h"
 #include "polystokes/core/errors.h"
+#include "polystokes/mesh/geometry.h"
 #include "polystokes/mesh/mass_properties.h"
 #include "polystokes/mesh/mesh_measures.h"
 
@@ -40,6 +42,14 @@ struct Tally {
       offender = describe();
     }
   }
+  /// Adds the offenders of a tally over later keys' ranges (ties keep this one's, as one pass would).
+  void merge(Tally&& later) {
+    count += later.count;
+    if (later.best < best) {
+      best = later.best;
+      offender = std::move(later.offender);
+    }
+  }
   MeshCheck result(const char* name) const { return {name, count == 0, count, offender, true}; }
 };
 
@@ -60,42 +70,38 @@ class Context {
   int corner(int f, int k) const { return mesh.faces(f, k); }
   int face_count() const { return static_cast<int>(mesh.faces.rows()); }
 
-  /// Calls visit(uses, count) for every undirected edge in ascending order of (lower, higher) vertex, with
-  /// the faces' uses of that edge sorted by face. Each vertex's edges to higher-numbered vertices are
-  /// gathered from the corners at that vertex, so the work is linear in the faces and the scratch is one
-  /// vertex's worth.
+  /// Builds the corner lists (once); the per-vertex walks below need them.
+  void prepare() { corners(); }
+  int vertex_count() const { return static_cast<int>(offset_.size()) - 1; }
+
+  /// Calls visit(uses, count) for every undirected edge whose lower vertex is `a`, in ascending order of the
+  /// higher vertex, with the faces' uses of that edge sorted by face. The edges are gathered from the corners
+  /// at `a`, so a walk over all vertices is linear in the faces; `uses` is the caller's scratch.
   template <class Visit>
-  void for_each_edge(Visit&& visit) {
-    corners();
-    std::vector<EdgeUse> uses;
-    for (int a = 0; a + 1 < static_cast<int>(offset_.size()); ++a) {
-      uses.clear();
-      for (int i = offset_[static_cast<size_t>(a)]; i < offset_[static_cast<size_t>(a) + 1]; ++i) {
-        const int f = corners_[static_cast<size_t>(i)] / 3, k = corners_[static_cast<size_t>(i)] % 3;
-        const int next = corner(f, (k + 1) % 3), prev = corner(f, (k + 2) % 3);
-        // Each directed edge once: at its lower end, or for a loop (a, a) as it leaves a.
-        if (next >= a) uses.push_back({key(a, next), f, a, next});
-        if (prev > a) uses.push_back({key(a, prev), f, prev, a});
-      }
-      std::sort(uses.begin(), uses.end(), [](const EdgeUse& x, const EdgeUse& y) {
-        return x.key != y.key ? x.key < y.key : x.face < y.face;
-      });
-      for (size_t b = 0; b < uses.size();) {
-        size_t e = b + 1;
-        while (e < uses.size() && uses[e].key == uses[b].key) ++e;
-        visit(&uses[b], e - b);
-        b = e;
-      }
+  void edges_at(int a, std::vector<EdgeUse>& uses, Visit&& visit) const {
+    uses.clear();
+    for (int i = offset_[static_cast<size_t>(a)]; i < offset_[static_cast<size_t>(a) + 1]; ++i) {
+      const int f = corners_[static_cast<size_t>(i)] / 3, k = corners_[static_cast<size_t>(i)] % 3;
+      const int next = corner(f, (k + 1) % 3), prev = corner(f, (k + 2) % 3);
+      // Each directed edge once: at its lower end, or for a loop (a, a) as it leaves a.
+      if (next >= a) uses.push_back({key(a, next), f, a, next});
+      if (prev > a) uses.push_back({key(a, prev), f, prev, a});
+    }
+    std::sort(uses.begin(), uses.end(), [](const EdgeUse& x, const EdgeUse& y) {
+      return x.key != y.key ? x.key < y.key : x.face < y.face;
+    });
+    for (size_t b = 0; b < uses.size();) {
+      size_t e = b + 1;
+      while (e < uses.size() && uses[e].key == uses[b].key) ++e;
+      visit(&uses[b], e - b);
+      b = e;
     }
   }
 
-  /// Calls visit(v, corners, count) for every vertex with faces, its corners (3 f + k) ascending.
-  template <class Visit>
-  void for_each_vertex(Visit&& visit) {
-    corners();
-    for (size_t v = 0; v + 1 < offset_.size(); ++v)
-      if (offset_[v + 1] > offset_[v])
-        visit(static_cast<int>(v), &corners_[static_cast<size_t>(offset_[v])], offset_[v + 1] - offset_[v]);
+  /// The corners (3 f + k, ascending) at vertex v.
+  std::pair<const int*, int> corners_at(int v) const {
+    const int first = offset_[static_cast<size_t>(v)];
+    return {corners_.data() + first, offset_[static_cast<size_t>(v) + 1] - first};
   }
 
   /// Frees the corner lists once the topological checks are done.
@@ -175,67 +181,93 @@ MeshCheck check_degenerate(Context& c) {
   return tally.result("no_degenerate_faces");
 }
 
-MeshCheck check_closed(Context& c) {
-  Tally tally;
-  c.for_each_edge([&](const EdgeUse* uses, size_t count) {
-    if (count == 1) tally.add(uses[0].face, [&] { return edge_text(uses[0]); });
-  });
-  return tally.result("closed");
-}
+/// The four topological checks, each a tally over the vertices (edges are visited at their lower vertex).
+struct TopologyTallies {
+  Tally closed, edge_manifold, vertex_manifold, consistently_oriented;
 
-MeshCheck check_edge_manifold(Context& c) {
-  Tally tally;
-  c.for_each_edge([&](const EdgeUse* uses, size_t count) {
-    if (count <= 2) return;
-    tally.add(uses[0].face, [&] {
-      std::string faces;
-      for (size_t i = 0; i < count && i < 4; ++i) faces += (i > 0 ? ", " : "") + std::to_string(uses[i].face);
-      if (count > 4) faces += ", ...";
-      return fmt::format("edge ({}, {}) shared by {} faces ({})", uses[0].from, uses[0].to, count, faces);
-    });
+  void merge(TopologyTallies&& later) {
+    closed.merge(std::move(later.closed));
+    edge_manifold.merge(std::move(later.edge_manifold));
+    vertex_manifold.merge(std::move(later.vertex_manifold));
+    consistently_oriented.merge(std::move(later.consistently_oriented));
+  }
+};
+
+/// Per-thread scratch of the topological walk.
+struct TopologyScratch {
+  std::vector<EdgeUse> uses;
+  std::vector<int> link;
+};
+
+/// The edges at vertex a: closed (an edge of one face), edge-manifold (no more than two faces) and
+/// consistently oriented (the two faces run their edge in opposite directions).
+void tally_edges(const Context& c, int a, TopologyScratch& scratch, TopologyTallies& out) {
+  c.edges_at(a, scratch.uses, [&](const EdgeUse* uses, size_t count) {
+    if (count == 1) out.closed.add(uses[0].face, [&] { return edge_text(uses[0]); });
+    if (count > 2)
+      out.edge_manifold.add(uses[0].face, [&] {
+        std::string faces;
+        for (size_t i = 0; i < count && i < 4; ++i)
+          faces += (i > 0 ? ", " : "") + std::to_string(uses[i].face);
+        if (count > 4) faces += ", ...";
+        return fmt::format("edge ({}, {}) shared by {} faces ({})", uses[0].from, uses[0].to, count, faces);
+      });
+    if (count == 2 && uses[0].from == uses[1].from)
+      out.consistently_oriented.add(uses[0].face, [&] {
+        return fmt::format("edge ({}, {}) of faces {} and {}", uses[0].from, uses[0].to, uses[0].face,
+                           uses[1].face);
+      });
   });
-  return tally.result("edge_manifold");
 }
 
 /// A vertex is manifold if the opposite edges of its faces (its link) form one connected chain.
-MeshCheck check_vertex_manifold(Context& c) {
-  Tally tally;
-  std::vector<int> link;
-  c.for_each_vertex([&](int v, const int* corners, int count) {
-    auto next = [&](int i) { return c.corner(corners[i] / 3, (corners[i] % 3 + 1) % 3); };
-    auto prev = [&](int i) { return c.corner(corners[i] / 3, (corners[i] % 3 + 2) % 3); };
-    link.clear();
-    for (int i = 0; i < count; ++i) {
-      link.push_back(next(i));
-      link.push_back(prev(i));
-    }
-    std::sort(link.begin(), link.end());
-    link.erase(std::unique(link.begin(), link.end()), link.end());
-    DisjointSets sets(link.size());
-    auto position = [&](int u) {
-      return static_cast<int>(std::lower_bound(link.begin(), link.end(), u) - link.begin());
-    };
-    for (int i = 0; i < count; ++i) sets.unite(position(next(i)), position(prev(i)));
-    int fans = 0;
-    for (size_t k = 0; k < link.size(); ++k) fans += sets.find(static_cast<int>(k)) == static_cast<int>(k);
-    if (fans > 1)
-      tally.add(v, [&] { return fmt::format("vertex {} (its faces form {} separate fans)", v, fans); });
-  });
-  return tally.result("vertex_manifold");
+void tally_vertex(const Context& c, int v, TopologyScratch& scratch, TopologyTallies& out) {
+  const auto [corners, count] = c.corners_at(v);
+  if (count == 0) return;
+  auto next = [&](int i) { return c.corner(corners[i] / 3, (corners[i] % 3 + 1) % 3); };
+  auto prev = [&](int i) { return c.corner(corners[i] / 3, (corners[i] % 3 + 2) % 3); };
+  std::vector<int>& link = scratch.link;
+  link.clear();
+  for (int i = 0; i < count; ++i) {
+    link.push_back(next(i));
+    link.push_back(prev(i));
+  }
+  std::sort(link.begin(), link.end());
+  link.erase(std::unique(link.begin(), link.end()), link.end());
+  DisjointSets sets(link.size());
+  auto position = [&](int u) {
+    return static_cast<int>(std::lower_bound(link.begin(), link.end(), u) - link.begin());
+  };
+  for (int i = 0; i < count; ++i) sets.unite(position(next(i)), position(prev(i)));
+  int fans = 0;
+  for (size_t k = 0; k < link.size(); ++k) fans += sets.find(static_cast<int>(k)) == static_cast<int>(k);
+  if (fans > 1)
+    out.vertex_manifold.add(
+        v, [&] { return fmt::format("vertex {} (its faces form {} separate fans)", v, fans); });
 }
 
-MeshCheck check_consistently_oriented(Context& c) {
-  Tally tally;
-  c.for_each_edge([&](const EdgeUse* uses, size_t count) {
-    if (count != 2) return;
-    const EdgeUse& a = uses[0];
-    const EdgeUse& b = uses[1];
-    if (a.from == b.from)
-      tally.add(a.face, [&] {
-        return fmt::format("edge ({}, {}) of faces {} and {}", a.from, a.to, a.face, b.face);
-      });
-  });
-  return tally.result("consistently_oriented");
+/// One walk over the vertices for all four topological checks, in blocks of vertices on the library's
+/// threads; the blocks' tallies are merged in vertex order, so counts and named offenders are those of a
+/// single pass whatever the thread count. Linear in the faces.
+TopologyTallies check_topology(Context& c) {
+  c.prepare();
+  constexpr int kBlock = 16384;
+  const int vertices = c.vertex_count();
+  const size_t blocks = static_cast<size_t>((vertices + kBlock - 1) / kBlock);
+  TopologyTallies total;
+  ordered_blocks<TopologyScratch>(
+      blocks, 0, 8,
+      [&](size_t b, TopologyScratch& scratch) {
+        TopologyTallies part;
+        const int end = std::min(vertices, static_cast<int>(b + 1) * kBlock);
+        for (int v = static_cast<int>(b) * kBlock; v < end; ++v) {
+          tally_edges(c, v, scratch, part);
+          tally_vertex(c, v, scratch, part);
+        }
+        return part;
+      },
+      [&](size_t, TopologyTallies&& part) { total.merge(std::move(part)); });
+  return total;
 }
 
 MeshCheck check_self_intersections(Context& c) {
@@ -351,10 +383,19 @@ MeshCheckReport run_checks(const Mesh& mesh, Mesh* fix, bool stop) {
   run("valid_indices", {}, [&] { return check_valid_indices(context); });
   run("finite", {}, [&] { return check_finite(context); });
   run("no_degenerate_faces", {"valid_indices", "finite"}, [&] { return check_degenerate(context); });
-  run("closed", {"valid_indices"}, [&] { return check_closed(context); });
-  run("edge_manifold", {"valid_indices"}, [&] { return check_edge_manifold(context); });
-  run("vertex_manifold", {"valid_indices"}, [&] { return check_vertex_manifold(context); });
-  run("consistently_oriented", {"valid_indices"}, [&] { return check_consistently_oriented(context); });
+  // The four topological checks share one walk; they are reported (and stop a validation) one by one.
+  std::optional<TopologyTallies> topology;
+  auto topological = [&](Tally TopologyTallies::*tally, const char* name) {
+    if (!topology) topology = check_topology(context);
+    return ((*topology).*tally).result(name);
+  };
+  run("closed", {"valid_indices"}, [&] { return topological(&TopologyTallies::closed, "closed"); });
+  run("edge_manifold", {"valid_indices"},
+      [&] { return topological(&TopologyTallies::edge_manifold, "edge_manifold"); });
+  run("vertex_manifold", {"valid_indices"},
+      [&] { return topological(&TopologyTallies::vertex_manifold, "vertex_manifold"); });
+  run("consistently_oriented", {"valid_indices"},
+      [&] { return topological(&TopologyTallies::consistently_oriented, "consistently_oriented"); });
   run("no_self_intersections", {"finite", "edge_manifold", "vertex_manifold", "consistently_oriented"},
       [&] { return check_self_intersections(context); });
   run("outward_oriented",
