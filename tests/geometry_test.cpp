@@ -72,11 +72,32 @@ TEST_CASE("a ray from inside meets the farthest face of all meshes; a ray away f
           "[geometry]") {
   const Mesh inner = make_box(2, 2, 2), outer = make_box(6, 6, 6);
   const std::vector<const Mesh*> meshes{&inner, &outer};
-  CHECK_THAT(farthest_ray_hit(meshes, Eigen::Vector3d::Zero(), Eigen::Vector3d::UnitX()),
+  CHECK_THAT(SurfaceTree(meshes).farthest_hit(Eigen::Vector3d::Zero(), Eigen::Vector3d::UnitX()),
              WithinAbs(3.0, 1e-15));
   const Eigen::Vector3d diagonal = Eigen::Vector3d(1, 1, 0).normalized();
-  CHECK_THAT(farthest_ray_hit({&inner}, Eigen::Vector3d::Zero(), diagonal), WithinAbs(std::sqrt(2.0), 1e-14));
-  CHECK(farthest_ray_hit({&inner}, Eigen::Vector3d(5, 0, 0), Eigen::Vector3d::UnitX()) == 0.0);
+  CHECK_THAT(SurfaceTree(inner).farthest_hit(Eigen::Vector3d::Zero(), diagonal),
+             WithinAbs(std::sqrt(2.0), 1e-14));
+  CHECK(SurfaceTree(inner).farthest_hit(Eigen::Vector3d(5, 0, 0), Eigen::Vector3d::UnitX()) == 0.0);
+}
+
+TEST_CASE(
+    "rays through the vertices of a star-shaped body leave it at the vertex distance (elementary "
+    "geometry)",
+    "[geometry]") {
+  // A radial relief on a geodesic sphere is star-shaped about the origin, so the ray towards a vertex leaves
+  // the body exactly there: a hit on a vertex shared by about six faces, the hardest case for a ray query.
+  Mesh body = make_geodesic_sphere(12);
+  for (Eigen::Index i = 0; i < body.vertices.rows(); ++i) {
+    const Eigen::Vector3d u = body.vertices.row(i).normalized().transpose();
+    body.vertices.row(i) =
+        ((1.0 + 0.2 * std::sin(3.0 * u.x()) * std::cos(2.0 * u.y())) * 700.0 * u).transpose();
+  }
+  const SurfaceTree tree(body);
+  for (Eigen::Index i = 0; i < body.vertices.rows(); i += 7) {
+    const Eigen::Vector3d v = body.vertices.row(i).transpose();
+    CAPTURE(i);
+    CHECK_THAT(tree.farthest_hit(Eigen::Vector3d::Zero(), v.normalized()), WithinRel(v.norm(), 1e-12));
+  }
 }
 
 TEST_CASE("axis sign rule: largest component of the first two axes positive, third their cross product",

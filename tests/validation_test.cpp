@@ -2,7 +2,6 @@
 // sphere (error falls with degree; 1e-10 at twice R_B for a smooth body), recommendations, warnings,
 // sampling.
 #include "polystokes/field/validation.h"
-#include "polystokes/render/validation_report.h"
 
 #include <catch2/catch.hpp>
 #include <cmath>
@@ -12,6 +11,7 @@
 #include "polystokes/harmonics/compute.h"
 #include "polystokes/mesh/geometry.h"
 #include "polystokes/mesh/shapes.h"
+#include "polystokes/render/validation_report.h"
 #include "polystokes/sets/transforms.h"
 
 using namespace polystokes;
@@ -146,12 +146,12 @@ TEST_CASE("sampling geometry: Fibonacci directions are unit and balanced; ray cr
   // face.
   const Mesh box_mesh = make_box(4.0, 3.0, 2.0);
   const std::vector<const Mesh*> box{&box_mesh};
-  CHECK(farthest_ray_hit(box, Eigen::Vector3d::Zero(), Eigen::Vector3d(1, 0, 0)) ==
+  CHECK(SurfaceTree(box).farthest_hit(Eigen::Vector3d::Zero(), Eigen::Vector3d(1, 0, 0)) ==
         Approx(2.0).epsilon(1e-15));
   const Eigen::Vector3d d = Eigen::Vector3d(1, 1, 1).normalized();
-  CHECK(farthest_ray_hit(box, Eigen::Vector3d::Zero(), d) == Approx(std::sqrt(3.0)).epsilon(1e-14));
+  CHECK(SurfaceTree(box).farthest_hit(Eigen::Vector3d::Zero(), d) == Approx(std::sqrt(3.0)).epsilon(1e-14));
   // From outside a ray away from the box meets nothing.
-  CHECK(farthest_ray_hit(box, Eigen::Vector3d(10, 0, 0), Eigen::Vector3d(1, 0, 0)) == 0.0);
+  CHECK(SurfaceTree(box).farthest_hit(Eigen::Vector3d(10, 0, 0), Eigen::Vector3d(1, 0, 0)) == 0.0);
 }
 
 TEST_CASE("bad validation options are refused", "[validation]") {

@@ -8,13 +8,13 @@
 #include <limits>
 #include <nlohmann/json.hpp>
 
-#include "polystokes/sets/conventions.h"
-#include "polystokes/core/errors.h"
-#include "polystokes/core/constants.h"
-#include "polystokes/mesh/geometry.h"
 #include "internal/parallel.h"
+#include "polystokes/core/constants.h"
+#include "polystokes/core/errors.h"
 #include "polystokes/field/polyhedron_gravity.h"
 #include "polystokes/field/series.h"
+#include "polystokes/mesh/geometry.h"
+#include "polystokes/sets/conventions.h"
 
 namespace polystokes {
 
@@ -129,8 +129,7 @@ ValidationReport validate_series(const std::vector<DensityRegion>& regions, cons
   report.reference_radius = set.reference_radius;
   report.gm_set = set.gm;
   report.gm_field = set.gm * set.C(0, 0) * coefficient_factor(set.convention, Convention{}, 0, 0);
-  for (const auto& region : regions)
-    report.gm_mesh += gravitational_constant * region.density.constant() * volume_moments(region.mesh).volume;
+  for (const auto& region : regions) report.gm_mesh += gravitational_constant * region_mass(region);
   report.faces = long(exact.face_count());
   report.samples = options.samples;
   add_consistency_warnings(regions, set, report);
@@ -157,8 +156,9 @@ ValidationReport validate_series(const std::vector<DensityRegion>& regions, cons
     std::vector<double> surface(directions.size());
     std::vector<const Mesh*> meshes;
     for (const auto& region : regions) meshes.push_back(&region.mesh);
+    const SurfaceTree surface_tree(meshes);
     parallel_for(directions.size(), options.threads,
-                 [&](size_t i) { surface[i] = farthest_ray_hit(meshes, origin, directions[i]); });
+                 [&](size_t i) { surface[i] = surface_tree.farthest_hit(origin, directions[i]); });
     const long missed = long(std::count(surface.begin(), surface.end(), 0.0));
     if (missed > 0)
       report.warnings.push_back(

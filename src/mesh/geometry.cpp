@@ -8,6 +8,7 @@
 #include <Eigen/Geometry>
 #include <algorithm>
 #include <cmath>
+#include <iterator>
 #include <limits>
 
 namespace polystokes {
@@ -65,15 +66,23 @@ struct SurfaceTree::Tree {
   CGAL::AABB_tree<CGAL::AABB_traits<Kernel, Primitive>> tree;
 };
 
-SurfaceTree::SurfaceTree(const Mesh& mesh) : tree_(std::make_unique<Tree>()) {
-  auto point = [&](Eigen::Index f, int k) {
-    const Eigen::Vector3d p = corner(mesh, f, k);
-    return Tree::Kernel::Point_3(p.x(), p.y(), p.z());
-  };
-  tree_->triangles.reserve(size_t(mesh.faces.rows()));
-  for (Eigen::Index f = 0; f < mesh.faces.rows(); ++f)
-    tree_->triangles.emplace_back(point(f, 0), point(f, 1), point(f, 2));
+SurfaceTree::SurfaceTree(const Mesh& mesh) : SurfaceTree(std::vector<const Mesh*>{&mesh}) {}
+
+SurfaceTree::SurfaceTree(const std::vector<const Mesh*>& meshes) : tree_(std::make_unique<Tree>()) {
+  size_t faces = 0;
+  for (const Mesh* mesh : meshes) faces += size_t(mesh->faces.rows());
+  tree_->triangles.reserve(faces);
+  for (const Mesh* mesh : meshes) {
+    auto point = [&](Eigen::Index f, int k) {
+      const Eigen::Vector3d p = corner(*mesh, f, k);
+      return Tree::Kernel::Point_3(p.x(), p.y(), p.z());
+    };
+    for (Eigen::Index f = 0; f < mesh->faces.rows(); ++f)
+      tree_->triangles.emplace_back(point(f, 0), point(f, 1), point(f, 2));
+  }
+  // Built here, not on the first query, so that queries from several threads only read the tree.
   tree_->tree.insert(tree_->triangles.begin(), tree_->triangles.end());
+  tree_->tree.build();
   tree_->tree.accelerate_distance_queries();
 }
 
@@ -86,25 +95,23 @@ double SurfaceTree::distance(const Eigen::Vector3d& point) const {
   return std::sqrt(tree_->tree.squared_distance(Tree::Kernel::Point_3(point.x(), point.y(), point.z())));
 }
 
-double farthest_ray_hit(const std::vector<const Mesh*>& meshes, const Eigen::Vector3d& origin,
-                        const Eigen::Vector3d& u) {
+double SurfaceTree::farthest_hit(const Eigen::Vector3d& origin, const Eigen::Vector3d& u) const {
+  using Kernel = Tree::Kernel;
+  if (tree_->triangles.empty()) return 0;
+  std::vector<Tree::Triangles::const_iterator> crossed;
+  const Kernel::Ray_3 ray(Kernel::Point_3(origin.x(), origin.y(), origin.z()),
+                          Kernel::Vector_3(u.x(), u.y(), u.z()));
+  tree_->tree.all_intersected_primitives(ray, std::back_inserter(crossed));
+  auto vector = [](const Kernel::Point_3& p) { return Eigen::Vector3d(p.x(), p.y(), p.z()); };
   double best = 0;
-  for (const Mesh* mesh : meshes) {
-    for (Eigen::Index f = 0; f < mesh->faces.rows(); ++f) {
-      const Eigen::Vector3d a = corner(*mesh, f, 0);
-      const Eigen::Vector3d e1 = corner(*mesh, f, 1) - a;
-      const Eigen::Vector3d e2 = corner(*mesh, f, 2) - a;
-      const Eigen::Vector3d p = u.cross(e2);
-      const double det = e1.dot(p);
-      if (det == 0) continue;  // ray parallel to the face
-      const Eigen::Vector3d s = origin - a;
-      const double b1 = s.dot(p) / det;
-      if (b1 < 0 || b1 > 1) continue;
-      const Eigen::Vector3d q = s.cross(e1);
-      const double b2 = u.dot(q) / det;
-      if (b2 < 0 || b1 + b2 > 1) continue;
-      best = std::max(best, e2.dot(q) / det);
-    }
+  for (const auto& triangle : crossed) {
+    const Eigen::Vector3d a = vector(triangle->vertex(0));
+    const Eigen::Vector3d e1 = vector(triangle->vertex(1)) - a, e2 = vector(triangle->vertex(2)) - a;
+    const Eigen::Vector3d p = u.cross(e2);
+    const double det = e1.dot(p);
+    if (det == 0) continue;  // the ray runs in the face's plane: its far end is on a neighbouring face
+    const Eigen::Vector3d q = (origin - a).cross(e1);
+    best = std::max(best, e2.dot(q) / det);
   }
   return best;
 }

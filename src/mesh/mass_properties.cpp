@@ -4,9 +4,9 @@
 #include <algorithm>
 #include <cmath>
 
+#include "internal/parallel.h"
 #include "polystokes/core/errors.h"
 #include "polystokes/mesh/geometry.h"
-#include "internal/parallel.h"
 
 namespace polystokes {
 
@@ -71,6 +71,10 @@ VolumeMoments volume_moments(const Mesh& mesh, int threads) {
     moments.second += p.second;
   }
   return moments;
+}
+
+double region_mass(const DensityRegion& region, const Eigen::Vector3d& origin) {
+  return region.density.constant() * signed_volume(region.mesh, origin);
 }
 
 MassProperties mass_properties(const std::vector<DensityRegion>& regions, int threads) {

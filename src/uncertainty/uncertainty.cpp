@@ -14,6 +14,7 @@
 #include <random>
 #include <sstream>
 
+#include "internal/parallel.h"
 #include "polystokes/core/constants.h"
 #include "polystokes/core/errors.h"
 #include "polystokes/io/coefficient_file.h"
@@ -22,7 +23,6 @@
 #include "polystokes/mesh/mesh_measures.h"
 #include "polystokes/mesh/shapes.h"
 #include "polystokes/sets/conventions.h"
-#include "internal/parallel.h"
 #include "uncertainty/sample_layout.h"
 
 namespace polystokes {
@@ -398,8 +398,7 @@ SampleResult run_sample(const UncertaintyPlan& plan, long index) {
   // Density of the body regions, split into cones when the density varies laterally.
   std::vector<DensityRegion> sample;
   double homogeneous_mass = 0, body_mass = 0;
-  for (const auto& region : body)
-    homogeneous_mass += region.density.constant() * signed_volume(region.mesh, origin);
+  for (const auto& region : body) homogeneous_mass += region_mass(region, origin);
   if (pre.cones.empty()) {
     sample = body;
     body_mass = homogeneous_mass;
@@ -411,7 +410,7 @@ SampleResult run_sample(const UncertaintyPlan& plan, long index) {
       DensityRegion piece;
       piece.density = body[cone.region].density.scaled(factor[size_t(cone.sector)]);
       piece.mesh = cone_mesh(cone, body[cone.region].mesh);
-      body_mass += piece.density.constant() * signed_volume(piece.mesh, origin);
+      body_mass += region_mass(piece, origin);
       sample.push_back(std::move(piece));
     }
   }
@@ -482,7 +481,7 @@ SampleResult run_sample(const UncertaintyPlan& plan, long index) {
     if (k < body_pieces) sample[k].density *= q;
     if (is_void) sample[k].density = -void_density * q;
     sample[k].density *= density_scale;
-    mass += sample[k].density.constant() * signed_volume(sample[k].mesh, origin);
+    mass += region_mass(sample[k], origin);
   }
 
   HarmonicFrame frame;

@@ -33,11 +33,13 @@ double winding_number(const Mesh& mesh, const Eigen::Vector3d& point);
 double signed_volume(const Mesh& mesh, const Eigen::Vector3d& apex);
 double signed_volume(const Mesh& mesh, const std::vector<int>& faces, const Eigen::Vector3d& apex);
 
-/// A mesh's faces in a bounding-box tree (CGAL's AABB_tree over EPICK triangles) for repeated point queries
-/// on one surface: O(F log F) to build, about O(log F) per query. Copies the triangles; the mesh may go.
+/// The faces of one or more meshes in a bounding-box tree (CGAL's AABB_tree over EPICK triangles) for
+/// repeated point and ray queries on one surface: O(F log F) to build, about O(log F) per query. Copies the
+/// triangles; the meshes may go.
 class SurfaceTree {
  public:
   explicit SurfaceTree(const Mesh& mesh);
+  explicit SurfaceTree(const std::vector<const Mesh*>& meshes);
   ~SurfaceTree();
   SurfaceTree(SurfaceTree&&) noexcept;
   SurfaceTree& operator=(SurfaceTree&&) noexcept;
@@ -45,16 +47,17 @@ class SurfaceTree {
   /// Distance (m) from `point` to the nearest point of the faces; infinity for a mesh without faces.
   double distance(const Eigen::Vector3d& point) const;
 
+  /// Largest distance (m) along the unit direction `u` from `origin` at which the ray meets a face, 0 when
+  /// it meets none. The tree picks the faces the ray crosses (CGAL's exact ray-triangle predicate); the
+  /// distance to each is the Moller & Trumbore 1997 solution ("Fast, minimum storage ray-triangle
+  /// intersection", J. Graphics Tools 2), so a hit on an edge or a vertex is counted once with the same
+  /// value from every face there.
+  double farthest_hit(const Eigen::Vector3d& origin, const Eigen::Vector3d& u) const;
+
  private:
   struct Tree;
   std::unique_ptr<Tree> tree_;
 };
-
-/// Largest distance (m) along the unit direction `u` from `origin` at which the ray meets a face of any of
-/// the meshes (Moller & Trumbore 1997, "Fast, minimum storage ray-triangle intersection", J. Graphics Tools
-/// 2), 0 when it meets none. O(F).
-double farthest_ray_hit(const std::vector<const Mesh*>& meshes, const Eigen::Vector3d& origin,
-                        const Eigen::Vector3d& u);
 
 /// The sign rule that makes eigenvector axes unique: the first two columns get their largest-magnitude
 /// component positive, and the third becomes their cross product (right-handed). Used for the principal

@@ -46,6 +46,10 @@ struct MassProperties {
 /// hardware threads) with a result that does not depend on the thread count.
 MassProperties mass_properties(const std::vector<DensityRegion>& regions, int threads = 1);
 
+/// The mass of one region (kg): its density integrated over its mesh's volume, by signed tetrahedra from
+/// `origin` (mesh frame, m), which changes only the rounding (put it near the region). O(F), one thread.
+double region_mass(const DensityRegion& region, const Eigen::Vector3d& origin = Eigen::Vector3d::Zero());
+
 /// Largest vertex distance from `origin` over all regions (m): the radius of the Brillouin sphere. O(V) split
 /// over `threads` (0 = all hardware threads).
 double brillouin_radius(const std::vector<DensityRegion>& regions, const Eigen::Vector3d& origin,
