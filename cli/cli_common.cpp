@@ -13,13 +13,13 @@
 #include <filesystem>
 #include <sstream>
 
-#include "polystokes/io/coefficient_file.h"
-#include "polystokes/core/errors.h"
 #include "polystokes/core/constants.h"
+#include "polystokes/core/errors.h"
 #include "polystokes/harmonics/compute.h"
-#include "polystokes/mesh/mesh_check.h"
+#include "polystokes/io/coefficient_file.h"
 #include "polystokes/io/mesh_io.h"
 #include "polystokes/io/output_file.h"
+#include "polystokes/mesh/mesh_check.h"
 
 namespace polystokes::cli {
 
@@ -27,7 +27,9 @@ void print_notice(const GlobalOptions& global, const std::string& text) {
   if (!global.quiet) std::fprintf(stderr, "polystokes: note: %s\n", text.c_str());
 }
 
-void print_warning(const std::string& text) { std::fprintf(stderr, "polystokes: warning: %s\n", text.c_str()); }
+void print_warning(const std::string& text) {
+  std::fprintf(stderr, "polystokes: warning: %s\n", text.c_str());
+}
 
 bool progress_wanted(const GlobalOptions& global) { return !global.quiet && ::isatty(STDERR_FILENO); }
 
@@ -54,7 +56,8 @@ void check_input_path(const std::string& path) {
   if (path == "-") return;
   std::error_code error;
   const auto status = std::filesystem::status(path, error);
-  if (!std::filesystem::exists(status)) throw format_error(path, 0, std::string("cannot read: ") + std::strerror(ENOENT));
+  if (!std::filesystem::exists(status))
+    throw format_error(path, 0, std::string("cannot read: ") + std::strerror(ENOENT));
   if (std::filesystem::is_directory(status)) throw format_error(path, 0, "cannot read: is a directory");
 }
 
@@ -69,7 +72,8 @@ void check_output_path(const std::string& path) {
   if (!std::filesystem::is_directory(directory, error))
     throw OutputError(path + ": cannot write: directory '" + directory.string() + "' does not exist");
   if (::access(directory.c_str(), W_OK | X_OK) != 0)
-    throw OutputError(path + ": cannot write in directory '" + directory.string() + "': " + std::strerror(errno));
+    throw OutputError(path + ": cannot write in directory '" + directory.string() +
+                      "': " + std::strerror(errno));
 }
 
 LengthUnit parse_unit_option(const std::string& text) { return parse_length_unit(text); }
@@ -78,11 +82,10 @@ MeshReadOptions mesh_read_options(const MeshInputOptions& input) {
   MeshReadOptions read;
   read.format = input.format;
   read.unit = parse_unit_option(input.unit);
-  read.merge_tolerance =
-      option_quantity(input.merge_tolerance, QuantityKind::length, read.unit, "--merge-tolerance",
-                      Bound::non_negative)
-          .value /
-      meters_per(read.unit);
+  read.merge_tolerance = option_quantity(input.merge_tolerance, QuantityKind::length, read.unit,
+                                         "--merge-tolerance", Bound::non_negative)
+                             .value /
+                         meters_per(read.unit);
   return read;
 }
 
@@ -95,12 +98,14 @@ std::vector<Quantity> mesh_densities(const MeshInputOptions& input) {
     const Quantity density =
         option_quantity(input.densities[i], QuantityKind::density, LengthUnit::meter, "--density");
     if (density.value == 0)
-      throw ConventionError(fmt::format("--density: density 0 for {} is not allowed (a region needs a "
-                                        "non-zero density or contrast)",
-                                        input.meshes[i]));
+      throw ConventionError(
+          fmt::format("--density: density 0 for {} is not allowed (a region needs a "
+                      "non-zero density or contrast)",
+                      input.meshes[i]));
     if (i == 0 && density.value < 0)
-      throw ConventionError(fmt::format("--density: the first (outer) mesh {} needs a positive density, got {}",
-                                        input.meshes[i], describe_quantity(density, QuantityKind::density)));
+      throw ConventionError(
+          fmt::format("--density: the first (outer) mesh {} needs a positive density, got {}",
+                      input.meshes[i], describe_quantity(density, QuantityKind::density)));
     densities.push_back(density);
   }
   return densities;
@@ -127,8 +132,9 @@ std::vector<DensityRegion> load_regions(const MeshInputOptions& input, const Glo
 
 MeshListOptions add_mesh_list_options(CLI::App* cmd, MeshInputOptions& input) {
   MeshListOptions added;
-  added.meshes =
-      cmd->add_option("meshes", input.meshes, "Shape mesh(es): .obj, .off, .ply, .stl, or another format with --format")->required();
+  added.meshes = cmd->add_option("meshes", input.meshes,
+                                 "Shape mesh(es): .obj, .off, .ply, .stl, or another format with --format")
+                     ->required();
   added.densities = cmd->add_option("--density", input.densities,
                                     "Density per mesh (repeat or list, in mesh order; bare: kg/m^3, or with "
                                     "kg/m3, g/cm3)")
@@ -144,8 +150,8 @@ void add_mesh_format_option(CLI::App* cmd, std::string& format) {
       ->check(CLI::IsMember(mesh_format_names()));
 }
 
-void add_mesh_file_options(CLI::App* cmd, std::string& unit, std::string& merge_tolerance, std::string& format,
-                           const std::string& unit_help) {
+void add_mesh_file_options(CLI::App* cmd, std::string& unit, std::string& merge_tolerance,
+                           std::string& format, const std::string& unit_help) {
   cmd->add_option("--unit", unit, unit_help)->check(CLI::IsMember({"m", "km"}))->capture_default_str();
   add_merge_tolerance_option(cmd, merge_tolerance);
   add_mesh_format_option(cmd, format);
@@ -189,13 +195,13 @@ void add_expansion_options(CLI::App* cmd, ExpansionOptions& expansion) {
                   "Body label written into the set (default: first mesh file name)");
 }
 
-ComputeOptions compute_options(const ExpansionOptions& expansion, LengthUnit unit, const std::string& first_mesh,
-                               std::vector<SummaryRow>& echo) {
+ComputeOptions compute_options(const ExpansionOptions& expansion, LengthUnit unit,
+                               const std::string& first_mesh, std::vector<SummaryRow>& echo) {
   ComputeOptions compute;
   compute.degree = expansion.degree;
   if (!expansion.reference_radius.empty()) {
-    const Quantity radius =
-        option_quantity(expansion.reference_radius, QuantityKind::length, unit, "--ref-radius", Bound::positive);
+    const Quantity radius = option_quantity(expansion.reference_radius, QuantityKind::length, unit,
+                                            "--ref-radius", Bound::positive);
     compute.reference_radius = radius.value;
     echo.push_back({"reference radius", describe_quantity(radius, QuantityKind::length), ""});
   }
@@ -266,13 +272,15 @@ std::string format_summary(const std::vector<SummaryRow>& rows) {
   size_t label_width = 0, value_width = 0;
   for (const auto& row : rows) {
     label_width = std::max(label_width, row.label.size());
-    if (!row.remark.empty() && row.value.size() <= long_value) value_width = std::max(value_width, row.value.size());
+    if (!row.remark.empty() && row.value.size() <= long_value)
+      value_width = std::max(value_width, row.value.size());
   }
   std::string out;
   for (const auto& row : rows) {
     std::string line = fmt::format("  {:<{}}  {}", row.label, label_width, row.value);
     if (!row.remark.empty())
-      line += std::string(row.value.size() < value_width ? value_width - row.value.size() + 2 : 2, ' ') + row.remark;
+      line += std::string(row.value.size() < value_width ? value_width - row.value.size() + 2 : 2, ' ') +
+              row.remark;
     while (!line.empty() && line.back() == ' ') line.pop_back();
     out += line + "\n";
   }
@@ -283,17 +291,19 @@ std::vector<SummaryRow> mass_property_rows(const MassProperties& props, LengthUn
   const double u = meters_per(unit);
   const std::string name = to_string(unit);
   std::vector<SummaryRow> rows;
-  rows.push_back({"volume", fmt::format("{:.9g} m^3", props.volume),
-                  unit == LengthUnit::meter ? "" : fmt::format("{:.9g} {}^3", props.volume / (u * u * u), name)});
+  rows.push_back(
+      {"volume", fmt::format("{:.9g} m^3", props.volume),
+       unit == LengthUnit::meter ? "" : fmt::format("{:.9g} {}^3", props.volume / (u * u * u), name)});
   rows.push_back({"mass", fmt::format("{:.9g} kg", props.mass), ""});
   rows.push_back({"GM", fmt::format("{:.9g} m^3 s^-2", gravitational_constant * props.mass),
                   fmt::format("G = {} m^3 kg^-1 s^-2 (CODATA 2018)", gravitational_constant)});
   const Eigen::Vector3d& c = props.center_of_mass;
-  rows.push_back({"centre of mass", fmt::format("({:.9g}, {:.9g}, {:.9g}) m", c.x(), c.y(), c.z()), "mesh axes"});
+  rows.push_back(
+      {"centre of mass", fmt::format("({:.9g}, {:.9g}, {:.9g}) m", c.x(), c.y(), c.z()), "mesh axes"});
   for (int i = 0; i < 3; ++i)
     rows.push_back({i == 0 ? "inertia about COM" : "",
-                    fmt::format("[{:>16.9g} {:>16.9g} {:>16.9g} ]{}", props.inertia(i, 0), props.inertia(i, 1),
-                                props.inertia(i, 2), i == 2 ? " kg m^2" : ""),
+                    fmt::format("[{:>16.9g} {:>16.9g} {:>16.9g} ]{}", props.inertia(i, 0),
+                                props.inertia(i, 1), props.inertia(i, 2), i == 2 ? " kg m^2" : ""),
                     i == 0 ? "mesh axes" : ""});
   rows.push_back({"principal moments",
                   fmt::format("{:.9g}, {:.9g}, {:.9g} kg m^2", props.principal_moments[0],
@@ -301,8 +311,8 @@ std::vector<SummaryRow> mass_property_rows(const MassProperties& props, LengthUn
                   ""});
   for (int k = 0; k < 3; ++k)
     rows.push_back({fmt::format("principal axis {}", k + 1),
-                    fmt::format("({:+.9f}, {:+.9f}, {:+.9f})", props.principal_axes(0, k), props.principal_axes(1, k),
-                                props.principal_axes(2, k)),
+                    fmt::format("({:+.9f}, {:+.9f}, {:+.9f})", props.principal_axes(0, k),
+                                props.principal_axes(1, k), props.principal_axes(2, k)),
                     ""});
   return rows;
 }
@@ -359,6 +369,10 @@ OutputSection::~OutputSection() {
       die_by(signal);
     }
   }
+}
+
+double elapsed_since(std::chrono::steady_clock::time_point start) {
+  return std::chrono::duration<double>(std::chrono::steady_clock::now() - start).count();
 }
 
 }  // namespace polystokes::cli

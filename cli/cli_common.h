@@ -2,15 +2,16 @@
 // Everything here is presentation; the work itself is done by the library.
 #pragma once
 
+#include <chrono>
 #include <string>
 #include <vector>
 
-#include "polystokes/core/coefficient_set.h"
 #include "commands.h"
-#include "polystokes/harmonics/compute.h"
-#include "polystokes/mesh/mass_properties.h"
+#include "polystokes/core/coefficient_set.h"
 #include "polystokes/core/mesh.h"
+#include "polystokes/harmonics/compute.h"
 #include "polystokes/io/mesh_io.h"
+#include "polystokes/mesh/mass_properties.h"
 #include "quantity_options.h"
 
 namespace polystokes::cli {
@@ -41,7 +42,6 @@ std::vector<DensityRegion> make_regions(std::vector<Mesh> meshes, const std::vec
 /// Reads and checks every mesh of `input` (load_checked_mesh) and pairs it with its density (make_regions).
 std::vector<DensityRegion> load_regions(const MeshInputOptions& input, const GlobalOptions& global);
 
-
 /// The options just registered, for a command's own requirements (required(), check()).
 struct MeshListOptions {
   CLI::Option* meshes;
@@ -55,9 +55,11 @@ MeshListOptions add_mesh_list_options(CLI::App* cmd, MeshInputOptions& input);
 void add_mesh_format_option(CLI::App* cmd, std::string& format);
 
 /// Registers --unit (m or km, default m) with `unit_help`, then --merge-tolerance and --format.
-void add_mesh_file_options(CLI::App* cmd, std::string& unit, std::string& merge_tolerance, std::string& format,
-                           const std::string& unit_help = "Length unit of the mesh files and of every bare "
-                                                          "length given here: m or km");
+void add_mesh_file_options(CLI::App* cmd, std::string& unit, std::string& merge_tolerance,
+                           std::string& format,
+                           const std::string& unit_help =
+                               "Length unit of the mesh files and of every bare "
+                               "length given here: m or km");
 
 /// Registers --merge-tolerance alone (for a command whose --unit means something else).
 void add_merge_tolerance_option(CLI::App* cmd, std::string& merge_tolerance);
@@ -74,7 +76,7 @@ struct ExpansionOptions {
   int degree = 8;
   std::string reference_radius;  ///< length quantity as given; empty = Brillouin radius about the origin
   std::string origin = "com";    ///< "com", "mesh" or a point x,y,z (lengths)
-  std::string frame = "mesh";   ///< "mesh" or "principal"
+  std::string frame = "mesh";    ///< "mesh" or "principal"
   std::string normalization = "fully";
   bool condon_shortley = false;
   bool zonal_as_j = false;
@@ -89,8 +91,8 @@ void add_expansion_options(CLI::App* cmd, ExpansionOptions& expansion);
 
 /// The library's options for `expansion` (lengths given in `unit`; body defaults to `first_mesh`), with the
 /// default execution settings. The lengths given are appended to `echo` as interpreted.
-ComputeOptions compute_options(const ExpansionOptions& expansion, LengthUnit unit, const std::string& first_mesh,
-                               std::vector<SummaryRow>& echo);
+ComputeOptions compute_options(const ExpansionOptions& expansion, LengthUnit unit,
+                               const std::string& first_mesh, std::vector<SummaryRow>& echo);
 
 /// A coefficient set to write: -o in the form its name asks for (coefficient_form_for: a .json name is JSON,
 /// any other name our text format), optionally a second copy as JSON with --json.
@@ -150,14 +152,15 @@ void check_output_path(const std::string& path);
 /// CLI11 validator/transformer for "m" / "km".
 LengthUnit parse_unit_option(const std::string& text);
 
-
 /// Prints "polystokes: TEXT" on stderr when -v was given at least `level` times (and not -q).
 void print_verbose(const GlobalOptions& global, int level, const std::string& text);
-
 
 /// The rows as a table: two-space indent, then label, value and remark columns, each as wide as its widest
 /// entry (rows with an empty label continue the row above).
 std::string format_summary(const std::vector<SummaryRow>& rows);
+
+/// Seconds of wall-clock time since `start`, for a summary's "time" line.
+double elapsed_since(std::chrono::steady_clock::time_point start);
 
 /// Summary rows of mass properties: volume, mass, GM; COM, inertia about it and principal axes (unit
 /// vectors, moments ascending), all in the mesh frame.

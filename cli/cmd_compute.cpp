@@ -6,13 +6,13 @@
 #include <memory>
 
 #include "cli_common.h"
-#include "polystokes/io/coefficient_file.h"
-#include "polystokes/sets/conventions.h"
-#include "polystokes/core/errors.h"
 #include "polystokes/core/constants.h"
+#include "polystokes/core/errors.h"
 #include "polystokes/harmonics/compute.h"
+#include "polystokes/io/coefficient_file.h"
 #include "polystokes/mesh/mesh_check.h"
 #include "polystokes/mesh/plausibility.h"
+#include "polystokes/sets/conventions.h"
 
 namespace polystokes::cli {
 namespace {
@@ -59,10 +59,6 @@ std::vector<double> resolve_densities(const ComputeCommandOptions& options, cons
   const double density = mass / volume_moments(meshes.front()).volume;
   echo.push_back({"density 1", fmt::format("{} kg m^-3", density), "implied: mass / volume"});
   return {density};
-}
-
-double elapsed_since(std::chrono::steady_clock::time_point start) {
-  return std::chrono::duration<double>(std::chrono::steady_clock::now() - start).count();
 }
 
 /// "LABEL VALUE; ..." of interpreted inputs, for the set's history.

@@ -24,5 +24,6 @@ void setup_report(CLI::App& app, const GlobalOptions& global);
 void setup_uncertainty(CLI::App& app, const GlobalOptions& global);
 void setup_field(CLI::App& app, const GlobalOptions& global);
 void setup_validate(CLI::App& app, const GlobalOptions& global);
+void setup_surface(CLI::App& app, const GlobalOptions& global);
 
 }  // namespace polystokes::cli

@@ -34,6 +34,7 @@ int main(int argc, char** argv) {
   cli::setup_uncertainty(app, global);
   cli::setup_field(app, global);
   cli::setup_validate(app, global);
+  cli::setup_surface(app, global);
   cli::install_signal_handlers();
   try {
     app.parse(argc, argv);
