@@ -102,6 +102,7 @@ TEST_CASE("every command refuses a missing input file with exit code 2 and the s
       {"uncertainty", "@ --density 1000 --degree 2 -o " + shell_arg(out + ".txt")},
       {"uncertainty-merge", "@ -o " + shell_arg(out + ".txt")},
       {"uncertainty-merge", shell_arg(in.shard) + " @ -o " + shell_arg(out + ".txt")},
+      {"surface", "@.obj --density 1000 --spin-period 4h -o " + shell_arg(out + ".csv")},
   };
   std::set<std::string> covered;
   for (const auto& [command, arguments] : reads) {
