@@ -375,4 +375,41 @@ double elapsed_since(std::chrono::steady_clock::time_point start) {
   return std::chrono::duration<double>(std::chrono::steady_clock::now() - start).count();
 }
 
+void add_spin_options(CLI::App* cmd, SpinOptions& spin, bool required) {
+  auto* period =
+      add_quantity_option(cmd, "--spin-period", spin.period, QuantityKind::time,
+                          "Rotation period (uniform rotation about the axis through the centre of mass)");
+  if (required) period->required();
+  cmd->add_option("--spin-axis", spin.axis,
+                  "Rotation axis x,y,z in the mesh frame, right-handed (default 0,0,1: the mesh z axis)");
+}
+
+GivenSpin spin_from_options(const SpinOptions& options, LengthUnit unit) {
+  GivenSpin given;
+  Spin& spin = given.spin;
+  const Quantity period =
+      option_quantity(options.period, QuantityKind::time, unit, "--spin-period", Bound::positive);
+  spin.period = period.value;
+  given.period_echo = describe_quantity(period, QuantityKind::time);
+  if (!options.axis.empty()) {
+    const auto fail = [&] {
+      return ConventionError(
+          fmt::format("--spin-axis '{}': expected three numbers x,y,z, not all zero", options.axis));
+    };
+    double values[3];
+    size_t start = 0, count = 0;
+    while (start <= options.axis.size()) {
+      const size_t comma = std::min(options.axis.find(',', start), options.axis.size());
+      const auto value = parse_strict_number(std::string_view(options.axis).substr(start, comma - start));
+      if (!value || count == 3) throw fail();
+      values[count++] = *value;
+      start = comma + 1;
+    }
+    const Eigen::Vector3d axis(values[0], values[1], values[2]);
+    if (count != 3 || !(axis.norm() > 0)) throw fail();
+    spin.axis = axis.normalized();
+  }
+  return given;
+}
+
 }  // namespace polystokes::cli

@@ -9,6 +9,7 @@
 #include "commands.h"
 #include "polystokes/core/coefficient_set.h"
 #include "polystokes/core/mesh.h"
+#include "polystokes/field/surface_environment.h"
 #include "polystokes/harmonics/compute.h"
 #include "polystokes/io/mesh_io.h"
 #include "polystokes/mesh/mass_properties.h"
@@ -158,6 +159,26 @@ void print_verbose(const GlobalOptions& global, int level, const std::string& te
 /// The rows as a table: two-space indent, then label, value and remark columns, each as wide as its widest
 /// entry (rows with an empty label continue the row above).
 std::string format_summary(const std::vector<SummaryRow>& rows);
+
+/// A uniform rotation as given on the command line (surface, report).
+struct SpinOptions {
+  std::string period;  ///< time quantity as given; empty = not given
+  std::string axis;    ///< "x,y,z" as given; empty = the mesh z axis
+};
+
+/// Registers --spin-period (required when `required`) and --spin-axis.
+void add_spin_options(CLI::App* cmd, SpinOptions& spin, bool required);
+
+/// A rotation as interpreted, with the period echoed as describe_quantity writes it.
+struct GivenSpin {
+  Spin spin;
+  std::string period_echo;  ///< e.g. "18720 s (given as 5.2 h)"
+};
+
+/// The rotation `spin` asks for (period positive, axis a non-zero vector, normalized); throws
+/// ConventionError naming the option otherwise. The axis passes through spin.center, left at the origin for
+/// the caller to set.
+GivenSpin spin_from_options(const SpinOptions& spin, LengthUnit unit);
 
 /// Seconds of wall-clock time since `start`, for a summary's "time" line.
 double elapsed_since(std::chrono::steady_clock::time_point start);

@@ -8,11 +8,11 @@
 #include <memory>
 
 #include "cli_common.h"
-#include "polystokes/io/coefficient_file.h"
 #include "polystokes/core/errors.h"
-#include "polystokes/io/point_file.h"
 #include "polystokes/field/polyhedron_gravity.h"
 #include "polystokes/field/series.h"
+#include "polystokes/io/coefficient_file.h"
+#include "polystokes/io/point_file.h"
 
 namespace polystokes::cli {
 namespace {
@@ -127,7 +127,8 @@ void setup_field(CLI::App& app, const GlobalOptions& global) {
       "field",
       "Potential and acceleration at points, from a coefficient set (series) or from meshes (exact "
       "polyhedron).\n"
-      "Points: CSV x,y,z in the mesh frame, in --unit unless a header x_m,y_m,z_m or x_km,y_km,z_km declares\n"
+      "Points: CSV x,y,z in the mesh frame, in --unit unless a header x_m,y_m,z_m or x_km,y_km,z_km "
+      "declares\n"
       "the file's unit ('#' comments). Output columns carry their SI units in the header.\n"
       "Examples: polystokes field body.txt --points pts.csv -o series.csv\n"
       "          polystokes field body.obj --unit km --density 1900 --points pts.csv -o exact.csv");

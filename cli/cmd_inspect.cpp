@@ -10,11 +10,11 @@
 #include "cli_common.h"
 #include "polystokes/core/constants.h"
 #include "polystokes/core/errors.h"
+#include "polystokes/io/mesh_io.h"
+#include "polystokes/io/output_file.h"
 #include "polystokes/mesh/mass_properties.h"
 #include "polystokes/mesh/mesh_check.h"
-#include "polystokes/io/mesh_io.h"
 #include "polystokes/mesh/mesh_measures.h"
-#include "polystokes/io/output_file.h"
 
 namespace polystokes::cli {
 namespace {
@@ -155,7 +155,8 @@ void print_findings(std::FILE* out, const Findings& found, const InspectOptions&
   }
   if (!found.props) return;
   const double u = meters_per(unit);
-  fmt::print(out, "mass properties (density {}{}):\n", describe_quantity(found.density, QuantityKind::density),
+  fmt::print(out, "mass properties (density {}{}):\n",
+             describe_quantity(found.density, QuantityKind::density),
              options.density == "1000" ? ", the default; pass --density" : "");
   std::vector<SummaryRow> rows = mass_property_rows(*found.props, unit);
   rows.push_back({"Brillouin radius", fmt::format("{:.9g} m", found.brillouin_com),
@@ -169,9 +170,11 @@ void print_findings(std::FILE* out, const Findings& found, const InspectOptions&
 
 void run_inspect(const InspectOptions& options, const GlobalOptions& global) {
   if (!options.json.empty()) check_output_path(options.json);
-  const MeshReadOptions read = mesh_read_options({{options.mesh}, {}, options.unit, options.merge_tolerance, options.format});
+  const MeshReadOptions read =
+      mesh_read_options({{options.mesh}, {}, options.unit, options.merge_tolerance, options.format});
   Findings found;
-  found.density = option_quantity(options.density, QuantityKind::density, read.unit, "--density", Bound::positive);
+  found.density =
+      option_quantity(options.density, QuantityKind::density, read.unit, "--density", Bound::positive);
   found.mesh = read_mesh(options.mesh, read);
   // One rule with every other command: an inside-out mesh is reversed with a notice, not failed.
   found.report = check_mesh(found.mesh);
@@ -200,7 +203,8 @@ void setup_inspect(CLI::App& app, const GlobalOptions& global) {
       "An inside-out mesh is reversed with a notice. A failed check is printed with its first offender and\n"
       "the command exits with code 2; with -q only that error is printed.\n"
       "Example: polystokes inspect shapes-demo/varnek.obj --unit km --density 1900 --json varnek-mesh.json");
-  cmd->add_option("mesh", options->mesh, "Shape mesh (.obj, .off, .ply, .stl; other formats with --format)")->required();
+  cmd->add_option("mesh", options->mesh, "Shape mesh (.obj, .off, .ply, .stl; other formats with --format)")
+      ->required();
   add_mesh_file_options(cmd, options->unit, options->merge_tolerance, options->format,
                         "Length unit of the mesh file: m or km");
   add_quantity_option(cmd, "--density", options->density, QuantityKind::density, "Bulk density")

@@ -4,9 +4,12 @@
 #include <memory>
 
 #include "cli_common.h"
+#include "polystokes/core/errors.h"
+#include "polystokes/field/equilibrium_points.h"
 #include "polystokes/io/coefficient_file.h"
 #include "polystokes/io/mesh_io.h"
 #include "polystokes/io/output_file.h"
+#include "polystokes/mesh/mass_properties.h"
 #include "polystokes/render/report.h"
 
 namespace polystokes::cli {
@@ -17,12 +20,13 @@ struct ReportOptions {
   std::string mesh;
   std::string unit = "m";
   std::string merge_tolerance = "0";
-  std::string format;  ///< --format; empty = by extension
+  std::string format;   ///< --format; empty = by extension
   std::string density;  ///< empty: from the set
   double map_radius = 1.2;
   std::string compare;
   double tolerance = CompareOptions{}.tolerance;
   std::string output;
+  SpinOptions spin;
 };
 
 void run_report(const ReportOptions& options, bool unit_given, const GlobalOptions& global) {
@@ -38,7 +42,9 @@ void run_report(const ReportOptions& options, bool unit_given, const GlobalOptio
         input.set, sha256_file_hex(options.mesh),
         unit_given ? std::optional(parse_unit_option(options.unit)) : std::nullopt, options.mesh);
     input.mesh = load_checked_mesh(
-        options.mesh, mesh_read_options({{options.mesh}, {}, to_string(choice.unit), options.merge_tolerance, options.format}),
+        options.mesh,
+        mesh_read_options(
+            {{options.mesh}, {}, to_string(choice.unit), options.merge_tolerance, options.format}),
         global);
     if (!unit_given)
       print_notice(global,
@@ -46,13 +52,26 @@ void run_report(const ReportOptions& options, bool unit_given, const GlobalOptio
     input.mesh_unit_reason = choice.reason;
   }
   if (!options.density.empty())
-    input.mesh_density = option_quantity(options.density, QuantityKind::density, LengthUnit::meter, "--density",
-                                         Bound::positive)
+    input.mesh_density = option_quantity(options.density, QuantityKind::density, LengthUnit::meter,
+                                         "--density", Bound::positive)
                              .value;
   if (!options.compare.empty()) {
     input.other = read_coefficient_file(options.compare);
     input.other_source = options.compare;
     input.compare_options.tolerance = options.tolerance;
+  }
+  if (!options.spin.period.empty()) {
+    if (!input.mesh)
+      throw ConventionError("--spin-period needs --mesh: the surface maps are drawn on the mesh");
+    const GivenSpin given = spin_from_options(options.spin, LengthUnit::meter);
+    const DensityChoice density = density_for_set_mesh(input.set, *input.mesh, input.mesh_density);
+    const std::vector<DensityRegion> regions{{*input.mesh, density.density}};
+    print_notice(global, fmt::format("surface maps: spin period {}, density {} kg m^-3 ({})",
+                                     given.period_echo, density.density, density.source));
+    input.surface = surface_environment(regions, given.spin);
+    input.equilibria = equilibrium_points(regions, input.surface->spin);
+  } else if (!options.spin.axis.empty()) {
+    throw ConventionError("--spin-axis needs --spin-period");
   }
   input.map_radius_factor = options.map_radius;
   input.generated = std::string("polystokes ") + POLYSTOKES_VERSION + " at " + utc_timestamp();
@@ -71,7 +90,9 @@ void setup_report(CLI::App& app, const GlobalOptions& global) {
       "One self-contained HTML page (inline SVG, no scripts, no network) describing a coefficient set:\n"
       "conventions and provenance, mass properties, degree-variance spectrum with a fitted power law,\n"
       "low-degree coefficients, a radial-acceleration map, with --mesh silhouettes of the body and, with\n"
-      "--compare, the per-degree differences from a second set and the diagnosis of the mismatch.\n"
+      "--compare, the per-degree differences from a second set and the diagnosis of the mismatch; with\n"
+      "--mesh and --spin-period, maps of slope and dynamic height, the slope histogram and equilibrium "
+      "points.\n"
       "Example: polystokes report varnek.txt --mesh shapes-demo/varnek.obj --unit km -o varnek.html");
   cmd->add_option("set", options->set, "Coefficient file (our text or JSON format; - for stdin)")->required();
   cmd->add_option("--mesh", options->mesh,
@@ -101,6 +122,7 @@ void setup_report(CLI::App& app, const GlobalOptions& global) {
       ->check(strict_number())
       ->check(CLI::PositiveNumber)
       ->capture_default_str();
+  add_spin_options(cmd, options->spin, false);
   cmd->add_option("-o,--output", options->output, "HTML file to write (- for stdout)")->required();
   cmd->callback(
       [options, cmd, &global]() { run_report(*options, cmd->get_option("--unit")->count() > 0, global); });

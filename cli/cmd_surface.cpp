@@ -9,7 +9,6 @@
 #include "polystokes/core/constants.h"
 #include "polystokes/core/errors.h"
 #include "polystokes/field/equilibrium_points.h"
-#include "polystokes/field/polyhedron_gravity.h"
 #include "polystokes/field/surface_environment.h"
 #include "polystokes/io/surface_file.h"
 #include "polystokes/mesh/mass_properties.h"
@@ -19,29 +18,11 @@ namespace {
 
 struct SurfaceOptions {
   MeshInputOptions input;
-  std::string period;
-  std::string axis = "0,0,1";
+  SpinOptions spin;
   std::vector<std::string> outputs;
   bool no_equilibrium = false;
   int threads = 0;
 };
-
-Eigen::Vector3d parse_axis(const std::string& text) {
-  std::vector<double> values;
-  size_t start = 0;
-  while (start <= text.size()) {
-    const size_t comma = std::min(text.find(',', start), text.size());
-    const auto value = parse_strict_number(std::string_view(text).substr(start, comma - start));
-    if (!value) throw ConventionError(fmt::format("--spin-axis '{}': expected three numbers x,y,z", text));
-    values.push_back(*value);
-    start = comma + 1;
-  }
-  if (values.size() != 3)
-    throw ConventionError(fmt::format("--spin-axis '{}': expected three numbers x,y,z", text));
-  const Eigen::Vector3d axis(values[0], values[1], values[2]);
-  if (!(axis.norm() > 0)) throw ConventionError("--spin-axis must not be the zero vector");
-  return axis.normalized();
-}
 
 std::string statistics_row(const AreaStatistics& stats, const char* unit) {
   return fmt::format("mean {:.6g} {}, min {:.6g}, max {:.6g}", stats.mean, unit, stats.minimum,
@@ -56,31 +37,21 @@ void run_surface(const SurfaceOptions& options, const GlobalOptions& global) {
     check_output_path(path);
   }
   const LengthUnit unit = parse_unit_option(options.input.unit);
-  const Quantity period =
-      option_quantity(options.period, QuantityKind::time, unit, "--spin-period", Bound::positive);
+  const GivenSpin given = spin_from_options(options.spin, unit);
   const std::vector<DensityRegion> regions = load_regions(options.input, global);
-  const MassProperties props = mass_properties(regions, options.threads);
-  Spin spin;
-  spin.period = period.value;
-  spin.axis = parse_axis(options.axis);
-  spin.center = props.center_of_mass;
-
   const Mesh& surface = regions.front().mesh;
-  const PolyhedronGravity gravity(regions);
-  const std::vector<FieldValue> field = gravity.evaluate(facet_centroids(surface), options.threads);
-  const SurfaceEnvironment env = surface_environment(surface, field, spin);
-  const double gm = gravitational_constant * props.mass;
+  const SurfaceEnvironment env = surface_environment(regions, given.spin, options.threads);
   std::unique_ptr<EquilibriumResult> equilibria;
-  if (!options.no_equilibrium) {
-    const FieldFunction exact = [&](const Points& points) {
-      return gravity.evaluate(points, options.threads);
-    };
-    equilibria = std::make_unique<EquilibriumResult>(equilibrium_points(surface, exact, gm, spin));
-  }
+  if (!options.no_equilibrium)
+    equilibria =
+        std::make_unique<EquilibriumResult>(equilibrium_points(regions, env.spin, {}, options.threads));
+  long faces = 0;
+  for (const auto& region : regions) faces += long(region.mesh.faces.rows());
+  const double gm = gravitational_constant * mass_properties(regions, options.threads).mass;
   SurfaceProvenance provenance;
   provenance.body = surface.source;
   provenance.model = fmt::format("exact constant-density polyhedron gravity of {} region(s), {} faces",
-                                 regions.size(), gravity.face_count());
+                                 regions.size(), faces);
   provenance.created = std::string("polystokes ") + POLYSTOKES_VERSION + " at " + utc_timestamp();
   {
     const OutputSection writing;
@@ -93,9 +64,9 @@ void run_surface(const SurfaceOptions& options, const GlobalOptions& global) {
   std::vector<SummaryRow> rows{
       {"surface", fmt::format("{}: {} facets", surface.source, surface.faces.rows()), "the first mesh"},
       {"gravity", provenance.model, ""},
-      {"spin period", describe_quantity(period, QuantityKind::time), ""},
+      {"spin period", given.period_echo, ""},
       {"spin axis", fmt::format("({:.9g}, {:.9g}, {:.9g})", a.x(), a.y(), a.z()),
-       options.axis == "0,0,1" ? "default: mesh z axis, right-handed" : "mesh frame, right-handed"},
+       options.spin.axis.empty() ? "default: mesh z axis, right-handed" : "mesh frame, right-handed"},
       {"axis through", fmt::format("({:.9g}, {:.9g}, {:.9g}) m", c.x(), c.y(), c.z()), "centre of mass"},
       {"GM", fmt::format("{:.9g} m^3 s^-2", gm), ""},
       {"W_ref", fmt::format("{:.9g} J kg^-1", env.reference_potential),
@@ -147,12 +118,7 @@ void setup_surface(CLI::App& app, const GlobalOptions& global) {
       "-o varnek-surface.ply -o varnek-surface.csv");
   add_mesh_list_options(cmd, options->input);
   add_mesh_file_options(cmd, options->input.unit, options->input.merge_tolerance, options->input.format);
-  add_quantity_option(cmd, "--spin-period", options->period, QuantityKind::time,
-                      "Rotation period (uniform rotation about the axis through the centre of mass)")
-      ->required();
-  cmd->add_option("--spin-axis", options->axis,
-                  "Rotation axis x,y,z in the mesh frame, right-handed (default 0,0,1: the mesh z axis)")
-      ->capture_default_str();
+  add_spin_options(cmd, options->spin, true);
   cmd->add_option("-o,--output", options->outputs, "File to write: .ply, .csv or .json (repeat for several)")
       ->required()
       ->expected(1, -1);

@@ -66,7 +66,8 @@ std::optional<Inclusion> make_inclusion(const InclusionOptions& given, bool empt
   Inclusion inclusion;
   inclusion.empty = empty;
   inclusion.radius =
-      option_quantity(given.radius, QuantityKind::length, unit, "--" + name + "-radius", Bound::positive).value;
+      option_quantity(given.radius, QuantityKind::length, unit, "--" + name + "-radius", Bound::positive)
+          .value;
   if (!empty) {
     const double contrast =
         given.contrast.empty()
@@ -77,9 +78,9 @@ std::optional<Inclusion> make_inclusion(const InclusionOptions& given, bool empt
   }
   if (!given.center.empty()) inclusion.center = option_point(given.center, unit, "--" + name + "-center");
   if (!given.offset.empty())
-    inclusion.offset =
-        option_quantity(given.offset, QuantityKind::length, unit, "--" + name + "-offset", Bound::non_negative)
-            .value;
+    inclusion.offset = option_quantity(given.offset, QuantityKind::length, unit, "--" + name + "-offset",
+                                       Bound::non_negative)
+                           .value;
   return inclusion;
 }
 
@@ -152,7 +153,8 @@ void run_uncertainty_command(const UncertaintyCommandOptions& options, const Glo
   settings.samples = options.samples;
   settings.seed = options.seed;
   settings.shape.sigma =
-      option_quantity(options.shape_sigma, QuantityKind::length, unit, "--shape-sigma", Bound::non_negative).value;
+      option_quantity(options.shape_sigma, QuantityKind::length, unit, "--shape-sigma", Bound::non_negative)
+          .value;
   settings.shape.correlation_length = option_quantity(options.correlation_length, QuantityKind::length, unit,
                                                       "--correlation-length", Bound::non_negative)
                                           .value;

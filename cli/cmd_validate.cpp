@@ -7,13 +7,13 @@
 #include <memory>
 
 #include "cli_common.h"
-#include "polystokes/io/coefficient_file.h"
-#include "polystokes/core/errors.h"
 #include "polystokes/core/constants.h"
-#include "polystokes/mesh/mesh_check.h"
-#include "polystokes/io/output_file.h"
+#include "polystokes/core/errors.h"
 #include "polystokes/field/series.h"
 #include "polystokes/field/validation.h"
+#include "polystokes/io/coefficient_file.h"
+#include "polystokes/io/output_file.h"
+#include "polystokes/mesh/mesh_check.h"
 #include "polystokes/render/validation_report.h"
 
 namespace polystokes::cli {
@@ -50,12 +50,14 @@ std::vector<DensityRegion> load_regions(const ValidateOptions& options, LengthUn
   if (!options.density.empty()) {
     const Quantity density =
         option_quantity(options.density, QuantityKind::density, unit, "--density", Bound::positive);
-    regions.push_back({load_checked_mesh(options.mesh, read_options(unit, options.format), global), density.value});
+    regions.push_back(
+        {load_checked_mesh(options.mesh, read_options(unit, options.format), global), density.value});
     return regions;
   }
   if (set.regions.empty())
     throw ConventionError(options.set + " records no density regions: give --density for " + options.mesh);
-  regions.push_back({load_checked_mesh(options.mesh, read_options(unit, options.format), global), set.regions[0].density});
+  regions.push_back(
+      {load_checked_mesh(options.mesh, read_options(unit, options.format), global), set.regions[0].density});
   const std::filesystem::path set_dir = std::filesystem::path(options.set).parent_path();
   for (size_t i = 1; i < set.regions.size(); ++i) {
     const Region& region = set.regions[i];

@@ -9,8 +9,8 @@ namespace polystokes::cli {
 
 /// Options every command shares.
 struct GlobalOptions {
-  bool quiet = false;   ///< -q: only errors
-  int verbose = 0;      ///< -v: more detail (repeatable)
+  bool quiet = false;  ///< -q: only errors
+  int verbose = 0;     ///< -v: more detail (repeatable)
 };
 
 /// Exit codes, documented in README.md.

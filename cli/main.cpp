@@ -9,15 +9,19 @@
 
 int main(int argc, char** argv) {
   using namespace polystokes;
-  CLI::App app{"polystokes: gravity fields (Stokes coefficients) of small bodies from shape meshes.\n"
-               "Run `polystokes COMMAND --help` for a command's options and a worked example."};
+  CLI::App app{
+      "polystokes: gravity fields (Stokes coefficients) of small bodies from shape meshes.\n"
+      "Run `polystokes COMMAND --help` for a command's options and a worked example."};
   app.footer(
-      "Exit codes: 0 ok; 1 usage error (unknown option, missing or malformed argument); 2 bad input (a mesh,\n"
-      "file, convention or parameter that cannot be used, or a request that would exceed memory); 3 internal\n"
+      "Exit codes: 0 ok; 1 usage error (unknown option, missing or malformed argument); 2 bad input (a "
+      "mesh,\n"
+      "file, convention or parameter that cannot be used, or a request that would exceed memory); 3 "
+      "internal\n"
       "error. Output files are written whole or not at all: a failed or interrupted run leaves the previous\n"
       "file as it was. \"-\" as an output file means standard output; as an input, standard input where the\n"
       "command's help says so.\n\n"
-      "Caution: a constant-density, shape-derived gravity field is a model. Validate it against tracking data\n"
+      "Caution: a constant-density, shape-derived gravity field is a model. Validate it against tracking "
+      "data\n"
       "and review it under the mission's own procedures before any operational use.");
   app.require_subcommand(1);
   app.fallthrough();  // -q and -v may follow the subcommand name
@@ -49,7 +53,8 @@ int main(int argc, char** argv) {
     return cli::exit_bad_input;
   } catch (const std::bad_alloc&) {
     // Estimates refuse most oversized requests up front; this is the last line for the rest.
-    std::fprintf(stderr, "polystokes: error: out of memory (the input or the degree is too large for this machine)\n");
+    std::fprintf(
+        stderr, "polystokes: error: out of memory (the input or the degree is too large for this machine)\n");
     return cli::exit_bad_input;
   } catch (const std::exception& e) {
     std::fprintf(stderr, "polystokes: internal error: %s\n", e.what());

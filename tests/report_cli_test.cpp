@@ -177,3 +177,22 @@ TEST_CASE("report reads a km mesh in the unit its set records, and refuses a --u
   CHECK(count(contradiction.output, "\n") == 1);
   CHECK(read_bytes(kept) == "previous page");
 }
+
+TEST_CASE("report --spin-period adds the surface section; without --mesh it is refused with exit code 2",
+          "[report_cli]") {
+  const Files& f = files();
+  const std::string out = f.dir + "/spin.html";
+  const CommandResult refused = run_cli("report " + quoted(f.set) + " --spin-period 6h -o " + quoted(out));
+  CAPTURE(refused.output);
+  CHECK(refused.exit_code == 2);
+  CHECK(refused.output.find("--spin-period needs --mesh") != std::string::npos);
+  CHECK_FALSE(file_exists(out));
+  const CommandResult made = run_cli("report " + quoted(f.set) + " --mesh " + quoted(f.mesh) +
+                                     " --spin-period 6h -o " + quoted(out));
+  CAPTURE(made.output);
+  REQUIRE(made.exit_code == 0);
+  CHECK(made.output.find("21600 s (given as 6 h)") != std::string::npos);
+  const std::string html = read_bytes(out);
+  CHECK(xml_problem(html).empty());
+  CHECK(html.find("<section id=\"surface\">") != std::string::npos);
+}

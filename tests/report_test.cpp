@@ -17,6 +17,8 @@
 #include "polystokes/core/errors.h"
 #include "polystokes/core/constants.h"
 #include "polystokes/harmonics/compute.h"
+#include "polystokes/field/equilibrium_points.h"
+#include "polystokes/field/surface_environment.h"
 #include "polystokes/mesh/mass_properties.h"
 #include "polystokes/mesh/shapes.h"
 #include "render/svg_plot.h"
@@ -565,4 +567,36 @@ TEST_CASE("an imported table's unknown origin and axes are shown as unknown, not
   CHECK(html.find("place in the mesh frame unknown") != std::string::npos);
   CHECK(html.find("directions in the mesh frame unknown") != std::string::npos);
   CHECK(html.find("(0, 0, 0) m in the mesh frame") == std::string::npos);
+}
+
+TEST_CASE("the surface section: slope and height maps seen from +z and -z, the slope histogram and the "
+          "equilibrium points; the maps are rasterised, so their size does not grow with the facet count",
+          "[report]") {
+  auto surface_html = [](int subdivisions) {
+    const Mesh mesh = make_ellipsoid(subdivisions, 1000, 700, 500);
+    const std::vector<DensityRegion> regions{{mesh, 2000.0}};
+    ComputeOptions options;
+    options.degree = 4;
+    ReportInput input;
+    input.set = compute_coefficients(regions, options);
+    input.mesh = mesh;
+    Spin spin;
+    spin.period = 7 * 3600;
+    input.surface = surface_environment(regions, spin);
+    EquilibriumSearch coarse;
+    coarse.azimuths = 16;
+    coarse.radii = 8;
+    input.equilibria = equilibrium_points(regions, input.surface->spin, coarse);
+    return std::make_pair(section(make_report(input), "surface"), input.equilibria->points.size());
+  };
+  const auto [small, points] = surface_html(3);
+  CHECK(points == 4);
+  CHECK(count(small, "<svg") == 5);
+  CHECK(count(small, "<td>E") == points);
+  // One bar per 5-degree bin from 0 to 90 degrees.
+  CHECK(count(small, "fill=\"#3b6f9e\"") == 18);
+  const auto [large, more_points] = surface_html(4);  // four times the facets
+  CAPTURE(small.size(), large.size());
+  CHECK(large.size() < 2 * small.size());
+  CHECK(large.size() < 1000000);
 }

@@ -12,7 +12,9 @@
 #include <optional>
 
 #include "internal/parallel.h"
+#include "polystokes/core/constants.h"
 #include "polystokes/core/errors.h"
+#include "polystokes/field/polyhedron_gravity.h"
 #include "polystokes/mesh/geometry.h"
 
 namespace polystokes {
@@ -221,6 +223,15 @@ EquilibriumResult equilibrium_points(const Mesh& surface, const FieldFunction& f
             [](const auto& a, const auto& b) { return a.azimuth < b.azimuth; });
   result.evaluations = effective.evaluations;
   return result;
+}
+
+EquilibriumResult equilibrium_points(const std::vector<DensityRegion>& regions, const Spin& spin,
+                                     const EquilibriumSearch& search, int threads) {
+  if (regions.empty()) throw ConventionError("the equilibrium search needs at least one region");
+  const PolyhedronGravity gravity(regions);
+  const FieldFunction field = [&](const Points& points) { return gravity.evaluate(points, threads); };
+  const double gm = gravitational_constant * mass_properties(regions, threads).mass;
+  return equilibrium_points(regions.front().mesh, field, gm, spin, search);
 }
 
 }  // namespace polystokes

@@ -7,11 +7,11 @@
 #include <limits>
 #include <string>
 
-#include "polystokes/core/errors.h"
-#include "polystokes/core/constants.h"
-#include "polystokes/mesh/geometry.h"
 #include "harmonics/quadrature.h"
 #include "internal/parallel.h"
+#include "polystokes/core/constants.h"
+#include "polystokes/core/errors.h"
+#include "polystokes/mesh/geometry.h"
 
 namespace polystokes {
 

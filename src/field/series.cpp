@@ -6,9 +6,9 @@
 #include <algorithm>
 #include <cmath>
 
-#include "polystokes/sets/conventions.h"
-#include "polystokes/core/errors.h"
 #include "internal/parallel.h"
+#include "polystokes/core/errors.h"
+#include "polystokes/sets/conventions.h"
 
 namespace polystokes {
 

@@ -7,6 +7,7 @@
 #include <cmath>
 
 #include "polystokes/core/errors.h"
+#include "polystokes/field/polyhedron_gravity.h"
 
 namespace polystokes {
 
@@ -114,6 +115,14 @@ SurfaceEnvironment surface_environment(const Mesh& surface, const std::vector<Fi
   env.launch_speed = area_statistics(out.launch_speed, out.area, out.launch_speed.minCoeff(),
                                      out.launch_speed.maxCoeff(), 20);
   return env;
+}
+
+SurfaceEnvironment surface_environment(const std::vector<DensityRegion>& regions, Spin spin, int threads) {
+  if (regions.empty()) throw ConventionError("the surface environment needs at least one region");
+  spin.center = mass_properties(regions, threads).center_of_mass;
+  const Mesh& surface = regions.front().mesh;
+  const PolyhedronGravity gravity(regions);
+  return surface_environment(surface, gravity.evaluate(facet_centroids(surface), threads), spin);
 }
 
 }  // namespace polystokes

@@ -5,6 +5,7 @@
 #include <cmath>
 
 #include "internal/parallel.h"
+#include "polystokes/core/constants.h"
 #include "polystokes/core/errors.h"
 #include "polystokes/mesh/geometry.h"
 
@@ -122,6 +123,15 @@ double brillouin_radius(const std::vector<DensityRegion>& regions, const Eigen::
   for (const auto& region : regions)
     radius = std::max(radius, max_vertex_distance(region.mesh, origin, threads));
   return radius;
+}
+
+DensityChoice density_for_set_mesh(const CoefficientSet& set, const Mesh& mesh, double given) {
+  if (given > 0) return {given, "given"};
+  if (set.regions.size() == 1 && set.regions[0].density > 0)
+    return {set.regions[0].density, "the set's region density"};
+  const double mass = set.mass > 0 ? set.mass : set.gm / gravitational_constant;
+  return {mass / volume_moments(mesh).volume,
+          set.mass > 0 ? "the set's mass over the mesh volume" : "GM / G over the mesh volume"};
 }
 
 }  // namespace polystokes

@@ -7,8 +7,8 @@
 #include <cmath>
 #include <limits>
 
-#include "polystokes/core/errors.h"
 #include "polystokes/core/constants.h"
+#include "polystokes/core/errors.h"
 #include "polystokes/mesh/mass_properties.h"
 #include "polystokes/render/comparison.h"
 #include "polystokes/sets/conventions.h"
@@ -29,16 +29,6 @@ std::string vector_text(const Eigen::Vector3d& v) {
 }
 std::string vector_short(const Eigen::Vector3d& v) {
   return fmt::format("({:.9g}, {:.9g}, {:.9g})", v.x(), v.y(), v.z());
-}
-
-// Lengths in figures: kilometres for bodies from a kilometre up, else metres.
-struct LengthDisplay {
-  double metres = 1;
-  std::string name = "m";
-};
-LengthDisplay display_unit(double size) {
-  if (size >= 1000) return {1000, "km"};
-  return {1, "m"};
 }
 
 std::string row(const std::string& key, const std::string& value, const std::string& extra = {}) {
@@ -85,15 +75,15 @@ std::string provenance_section(const ReportInput& input) {
   out += row("normalization and phase", escape(describe(set.convention)));
   // An imported table that did not declare where its origin or axes are has none to show.
   out += row("expansion origin",
-             escape(set.origin) + (set.origin_known ? ", at " + num(vector_text(set.origin_in_mesh)) +
-                                                          " m in the mesh frame"
-                                                    : ", place in the mesh frame unknown"));
+             escape(set.origin) +
+                 (set.origin_known ? ", at " + num(vector_text(set.origin_in_mesh)) + " m in the mesh frame"
+                                   : ", place in the mesh frame unknown"));
   std::string axes;
   for (int i = 0; i < 3; ++i)
     axes += fmt::format("{}{} = {}", i ? "<br/>" : "", "xyz"[i],
                         num(vector_text(set.axes_in_mesh.row(i).transpose())));
   out += row("frame", escape(set.frame) + (set.axes_known ? " (set axes in the mesh frame)<br/>" + axes
-                                                         : ", directions in the mesh frame unknown"));
+                                                          : ", directions in the mesh frame unknown"));
   out += row("centre of mass", num(vector_text(set.center_of_mass)) + " m, mesh frame");
   out += row("mass", unknown_if_zero(set.mass, "kg"));
   out += row("volume", unknown_if_zero(set.volume, "m<sup>3</sup>"));
@@ -146,19 +136,9 @@ MeshFacts mesh_facts(const ReportInput& input) {
   const CoefficientSet& set = input.set;
   const Mesh& mesh = *input.mesh;
   MeshFacts facts;
-  const double volume = volume_moments(mesh).volume;
-  if (input.mesh_density != 0) {
-    facts.density = input.mesh_density;
-    facts.density_source = "given";
-  } else if (set.regions.size() == 1 && set.regions[0].density > 0) {
-    facts.density = set.regions[0].density;
-    facts.density_source = "the set's region density";
-  } else {
-    const double mass = set.mass > 0 ? set.mass : set.gm / gravitational_constant;
-    facts.density = mass / volume;
-    facts.density_source =
-        set.mass > 0 ? "the set's mass over the mesh volume" : "GM / G over the mesh volume";
-  }
+  const DensityChoice choice = density_for_set_mesh(set, mesh, input.mesh_density);
+  facts.density = choice.density;
+  facts.density_source = choice.source;
   facts.props = mass_properties({DensityRegion{mesh, facts.density}});
   facts.brillouin = max_vertex_distance(mesh, set.origin_in_mesh);
   return facts;
@@ -418,32 +398,14 @@ std::string silhouette_svg(const ReportInput& input, const MeshFacts& facts, con
   const Eigen::Vector3d light = (0.75 * view.toward + 0.5 * e_up - 0.45 * e_right).normalized();
   const int cell = 3;
   const int cells = (samples + cell - 1) / cell;
-  std::string shading;
-  for (int cj = 0; cj < cells; ++cj) {
-    int run_start = -1, run_level = -1;
-    const auto flush = [&](int end) {
-      if (run_start < 0) return;
-      const double level = run_level / 24.0;
-      const int r = int(std::lround(60 + 175 * level)), g = int(std::lround(52 + 160 * level)),
-                b = int(std::lround(44 + 130 * level));
-      shading += fmt::format(
-          "<rect x=\"{:.1f}\" y=\"{:.1f}\" width=\"{:.1f}\" height=\"{:.1f}\" fill=\"#{:02x}{:02x}{:02x}\"/>",
-          plot.left() + run_start * cell * spacing, plot.top() + cj * cell * spacing,
-          (end - run_start) * cell * spacing + 0.4, cell * spacing + 0.4, r, g, b);
-      run_start = -1;
-      run_level = -1;
-    };
-    for (int ci = 0; ci < cells; ++ci) {
-      const int level = shade_level(mesh, front, samples, cell, ci, cj, light);
-      if (run_start >= 0 && level == run_level) continue;
-      flush(ci);
-      if (level >= 0) {
-        run_start = ci;
-        run_level = level;
-      }
-    }
-    flush(cells);
-  }
+  const std::string shading = svg::cell_runs(
+      cells, cells, plot.left(), plot.top(), cell * spacing, [&](int ci, int cj) -> std::string {
+        const int level = shade_level(mesh, front, samples, cell, ci, cj, light);
+        if (level < 0) return {};
+        const double t = level / 24.0;
+        return fmt::format("#{:02x}{:02x}{:02x}", int(std::lround(60 + 175 * t)),
+                           int(std::lround(52 + 160 * t)), int(std::lround(44 + 130 * t)));
+      });
   plot.raw(
       fmt::format("<defs><clipPath id=\"{}-body\"><path d=\"{}\" clip-rule=\"evenodd\"/></clipPath></defs>\n",
                   view.id, outline));
@@ -616,7 +578,6 @@ footer { margin-top: 28px; font-size: 13px; color: #555; }
 
 }  // namespace
 
-
 std::string make_report(const ReportInput& input) {
   const CoefficientSet& set = input.set;
   check_set(set);
@@ -656,6 +617,7 @@ std::string make_report(const ReportInput& input) {
   out += spectrum_section(set);
   out += coefficient_section(set);
   if (facts) out += silhouette_section(input, *facts);
+  if (input.surface && input.mesh) out += surface_section(input);
   out += map_section(input, brillouin, brillouin_source);
   if (input.other) out += comparison_section(input);
   out += "<footer>\n" + caution_box();

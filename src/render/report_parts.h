@@ -18,6 +18,20 @@ inline std::string short_number(double v) { return fmt::format("{:.6g}", v); }
 /// A number set in the page's number style.
 inline std::string num(const std::string& text) { return "<span class=\"num\">" + text + "</span>"; }
 
+/// Lengths in figures: kilometres for bodies from a kilometre up, else metres.
+struct LengthDisplay {
+  double metres = 1;
+  std::string name = "m";
+};
+inline LengthDisplay display_unit(double size) {
+  if (size >= 1000) return {1000, "km"};
+  return {1, "m"};
+}
+
+/// The surface section (input.surface and input.mesh present): slope and dynamic-height maps, the slope
+/// histogram and the equilibrium points.
+std::string surface_section(const ReportInput& input);
+
 /// The comparison section (input.other present): per-degree differences plotted, verdict, diagnosis,
 /// largest differences and the comparison text.
 std::string comparison_section(const ReportInput& input);

@@ -470,4 +470,24 @@ std::string loops_path(const std::vector<std::vector<Eigen::Vector2d>>& loops, c
   return out;
 }
 
+std::string cell_runs(int cells_x, int cells_y, double x0, double y0, double cell_px,
+                      const std::function<std::string(int, int)>& colour) {
+  std::string out;
+  for (int cj = 0; cj < cells_y; ++cj) {
+    int start = 0;
+    std::string run = colour(0, cj);
+    for (int ci = 1; ci <= cells_x; ++ci) {
+      std::string next = ci < cells_x ? colour(ci, cj) : std::string();
+      if (ci < cells_x && next == run) continue;
+      if (!run.empty())
+        out += fmt::format("<rect x=\"{:.1f}\" y=\"{:.1f}\" width=\"{:.1f}\" height=\"{:.1f}\" fill=\"{}\"/>",
+                           x0 + start * cell_px, y0 + cj * cell_px, (ci - start) * cell_px + 0.4,
+                           cell_px + 0.4, run);
+      start = ci;
+      run = std::move(next);
+    }
+  }
+  return out;
+}
+
 }  // namespace polystokes::svg

@@ -11,6 +11,7 @@
 #include "polystokes/core/field_value.h"
 #include "polystokes/core/mesh.h"
 #include "polystokes/field/surface_environment.h"
+#include "polystokes/mesh/mass_properties.h"
 
 namespace polystokes {
 
@@ -74,5 +75,11 @@ struct EquilibriumResult {
 /// ConventionError for bad settings. O((azimuths x radii + Newton steps) x field cost).
 EquilibriumResult equilibrium_points(const Mesh& surface, const FieldFunction& field, double gm,
                                      const Spin& spin, const EquilibriumSearch& search = {});
+
+/// Equilibrium points of a body of several regions (the first region's mesh is the outer surface), with the
+/// exact polyhedron gravity of all regions and GM from their mass; `spin.center` should be the centre of
+/// mass. `threads` as PolyhedronGravity::evaluate.
+EquilibriumResult equilibrium_points(const std::vector<DensityRegion>& regions, const Spin& spin,
+                                     const EquilibriumSearch& search = {}, int threads = 0);
 
 }  // namespace polystokes

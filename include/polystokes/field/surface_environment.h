@@ -8,6 +8,7 @@
 
 #include "polystokes/core/field_value.h"
 #include "polystokes/core/mesh.h"
+#include "polystokes/mesh/mass_properties.h"
 
 namespace polystokes {
 
@@ -86,5 +87,11 @@ struct SurfaceEnvironment {
 /// O(F).
 SurfaceEnvironment surface_environment(const Mesh& surface, const std::vector<FieldValue>& gravity,
                                        const Spin& spin);
+
+/// The surface environment of a body of several regions: the first region's mesh is the outer surface, the
+/// field is the exact polyhedron gravity of all regions (PolyhedronGravity) at its facet centroids, and the
+/// spin axis passes through the body's centre of mass (spin.center is replaced by it). `threads` as
+/// PolyhedronGravity::evaluate. O(F_outer x F_all).
+SurfaceEnvironment surface_environment(const std::vector<DensityRegion>& regions, Spin spin, int threads = 0);
 
 }  // namespace polystokes

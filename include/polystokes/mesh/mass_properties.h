@@ -5,6 +5,7 @@
 #include <Eigen/Core>
 #include <vector>
 
+#include "polystokes/core/coefficient_set.h"
 #include "polystokes/core/density.h"
 #include "polystokes/core/mesh.h"
 
@@ -49,6 +50,16 @@ MassProperties mass_properties(const std::vector<DensityRegion>& regions, int th
 /// The mass of one region (kg): its density integrated over its mesh's volume, by signed tetrahedra from
 /// `origin` (mesh frame, m), which changes only the rounding (put it near the region). O(F), one thread.
 double region_mass(const DensityRegion& region, const Eigen::Vector3d& origin = Eigen::Vector3d::Zero());
+
+/// The density of a set's shape mesh, and where it comes from.
+struct DensityChoice {
+  double density = 0;  ///< kg m^-3
+  std::string source;  ///< "given", "the set's region density", ...
+};
+
+/// The density to fill `mesh` with beside `set` (report, surface maps): `given` when positive; else the set's
+/// region density when it records exactly one region; else the set's mass (or GM / G) over the mesh volume.
+DensityChoice density_for_set_mesh(const CoefficientSet& set, const Mesh& mesh, double given = 0);
 
 /// Largest vertex distance from `origin` over all regions (m): the radius of the Brillouin sphere. O(V) split
 /// over `threads` (0 = all hardware threads).

@@ -9,7 +9,9 @@
 
 #include "polystokes/core/coefficient_set.h"
 #include "polystokes/core/mesh.h"
+#include "polystokes/field/equilibrium_points.h"
 #include "polystokes/field/field_map.h"
+#include "polystokes/field/surface_environment.h"
 #include "polystokes/sets/compare.h"
 #include "polystokes/sets/spectrum.h"
 
@@ -34,6 +36,10 @@ struct ReportInput {
   CompareOptions compare_options;
   std::string generated;           ///< program version and time of writing, shown in the header
   double map_radius_factor = 1.2;  ///< field-map sphere radius over the Brillouin radius (> 1)
+  /// The surface environment of `mesh` (surface_environment, facets in the mesh's face order): adds maps of
+  /// slope and dynamic height seen from +z and -z, the slope histogram and, with `equilibria`, their table.
+  std::optional<SurfaceEnvironment> surface;
+  std::optional<EquilibriumResult> equilibria;
   int map_columns = 72;
   int map_rows = 36;
 };
