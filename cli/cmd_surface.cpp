@@ -33,7 +33,7 @@ void run_surface(const SurfaceOptions& options, const GlobalOptions& global) {
   const auto start = std::chrono::steady_clock::now();
   for (const auto& path : options.input.meshes) check_input_path(path);
   for (const auto& path : options.outputs) {
-    surface_form_for(path);
+    facet_form_for(path);
     check_output_path(path);
   }
   const LengthUnit unit = parse_unit_option(options.input.unit);

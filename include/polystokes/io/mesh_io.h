@@ -29,8 +29,8 @@ std::vector<std::string> mesh_format_names();
 std::string mesh_format_of(const std::string& path, const std::string& requested = {});
 
 /// Reads a mesh in the format mesh_format_of(path, options.format) names. Readers of our own, one per format
-/// (src/io/mesh_formats/*.cpp), streaming over the file's bytes and checking counts and sizes as they read (no
-/// allocation is sized by a header's count beyond what the rest of the file can hold):
+/// (src/io/mesh_formats/*.cpp), streaming over the file's bytes and checking counts and sizes as they read
+/// (no allocation is sized by a header's count beyond what the rest of the file can hold):
 ///  - OBJ: v and f records (index forms i, i/t, i//n, i/t/n, negative indices relative); a statement the
 ///    format does not know is refused when it reads like a vertex or face record (a keyword in the wrong
 ///    case, "V 1 2 3", or an unknown word followed by numbers), other statements are read past;

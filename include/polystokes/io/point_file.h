@@ -1,5 +1,6 @@
 // Evaluation points in and field values out: CSV point lists (x,y,z in a declared or the command's unit) and
-// CSV field tables whose header names every column with its SI unit, written atomically with round-trip numbers.
+// CSV field tables whose header names every column with its SI unit, written atomically with round-trip
+// numbers.
 #pragma once
 
 #include <string>
