@@ -5,6 +5,7 @@
 #include <cstdio>
 #include <filesystem>
 #include <memory>
+#include <optional>
 
 #include "cli_common.h"
 #include "polystokes/core/constants.h"
@@ -12,7 +13,9 @@
 #include "polystokes/field/series.h"
 #include "polystokes/field/validation.h"
 #include "polystokes/io/coefficient_file.h"
+#include "polystokes/io/facet_file.h"
 #include "polystokes/io/output_file.h"
+#include "polystokes/io/surface_file.h"
 #include "polystokes/mesh/mesh_check.h"
 #include "polystokes/render/validation_report.h"
 
@@ -32,6 +35,8 @@ struct ValidateOptions {
   int samples = ValidationOptions{}.samples;
   std::string json;
   int threads = 0;
+  std::vector<std::string> surface_maps;  ///< per-facet files of the series' error at the surface
+  int surface_degree = -1;                ///< -1: the set's degree
 };
 
 // The region meshes: MESH with --density, or MESH as the first of the set's recorded regions with their
@@ -80,6 +85,10 @@ std::vector<DensityRegion> load_regions(const ValidateOptions& options, LengthUn
 void run_validate(const ValidateOptions& options, bool unit_given, const GlobalOptions& global) {
   check_input_path(options.mesh);
   check_input_path(options.set);
+  for (const std::string& path : options.surface_maps) {
+    facet_form_for(path);
+    check_output_path(path);
+  }
   const CoefficientSet set = read_coefficient_file(options.set);
   // The unit of the mesh file and of bare lengths: the one the set records for this mesh, as report reads it.
   const MeshUnitChoice choice = mesh_unit_for_set(
@@ -116,10 +125,32 @@ void run_validate(const ValidateOptions& options, bool unit_given, const GlobalO
                                  : " (for a table, declare --table-origin com or x,y,z)"));
     }
   }();
-  if (!options.json.empty()) write_file_atomically(options.json, format_validation_json(report));
+  // Per-facet series errors at the surface, computed before any file is written so that all outputs appear
+  // together or not at all.
+  std::optional<SurfaceSeriesError> map;
+  if (!options.surface_maps.empty())
+    map = series_error_at_surface(regions, set, options.surface_degree, options.target, options.threads);
+  {
+    const OutputSection writing;
+    OutputGroup group;
+    if (!options.json.empty()) group.stage(options.json, format_validation_json(report));
+    if (map)
+      stage_facet_files(
+          group, options.surface_maps, regions.front().mesh,
+          series_error_table(*map, options.set,
+                             std::string("polystokes ") + POLYSTOKES_VERSION + " at " + utc_timestamp()));
+    group.commit();
+  }
   if (!global.quiet) {
     std::FILE* out = options.json == "-" ? stderr : stdout;
     fmt::print(out, "{}", format_validation_text(report));
+    if (map)
+      fmt::print(
+          out,
+          "surface map: series to degree {} at {} facet centroids: {:.3g} of the surface area above the "
+          "target {:g} (largest error {:.3g}); written to {}\n",
+          map->degree, map->centroid.rows(), map->area_above_target, map->target, map->max_error,
+          fmt::join(options.surface_maps, ", "));
     fmt::print(out, "{}\n", operational_caution());
   } else {
     for (const auto& warning : report.warnings) print_warning(warning);
@@ -167,6 +198,14 @@ void setup_validate(CLI::App& app, const GlobalOptions& global) {
       ->check(CLI::PositiveNumber)
       ->capture_default_str();
   cmd->add_option("--json", options->json, "Also write the report as JSON to this file ('-' for stdout)");
+  cmd->add_option("--surface-map", options->surface_maps,
+                  "Per-facet map of the series' relative error at the surface: .ply, .csv or .json (repeat "
+                  "for several)")
+      ->expected(1, -1);
+  cmd->add_option("--surface-degree", options->surface_degree,
+                  "Degree of the series in the surface map (default: the set's degree)")
+      ->check(strict_integer())
+      ->check(CLI::NonNegativeNumber);
   add_threads_option(cmd, options->threads);
   cmd->callback([options, unit, &global]() { run_validate(*options, unit->count() > 0, global); });
 }

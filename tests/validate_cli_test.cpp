@@ -7,10 +7,11 @@
 #include <nlohmann/json.hpp>
 #include <sstream>
 
-#include "polystokes/io/coefficient_file.h"
-#include "polystokes/harmonics/compute.h"
-#include "polystokes/io/mesh_io.h"
+#include "polystokes/core/constants.h"
 #include "polystokes/field/polyhedron_gravity.h"
+#include "polystokes/harmonics/compute.h"
+#include "polystokes/io/coefficient_file.h"
+#include "polystokes/io/mesh_io.h"
 #include "polystokes/mesh/shapes.h"
 #include "test_support.h"
 
@@ -218,4 +219,56 @@ TEST_CASE("validate: after convert --to-gm the same field gives the same errors 
     // The same field but for the rounding of C_nm GM_old/GM_new: errors agree to far below their size.
     CHECK_THAT(e2[L].get<double>(), Catch::Matchers::WithinAbs(e1[L].get<double>(), 1e-13));
   }
+}
+
+TEST_CASE(
+    "validate --surface-map writes the series' error at every facet; on a sphere the degree-0 series is "
+    "the point mass GM/r^2 (Newton) and each error is |a_series - a_exact| / |a_exact|",
+    "[validate_cli]") {
+  const std::string dir = temp_directory();
+  Mesh sphere = make_geodesic_sphere(6);
+  sphere.vertices *= 900.0;
+  const std::string mesh = dir + "/ball.obj", set = dir + "/ball.txt";
+  write_obj(sphere, mesh, LengthUnit::meter);
+  REQUIRE(
+      run_cli("compute " + shell_arg(mesh) + " --density 2000 --degree 6 -o " + shell_arg(set)).exit_code ==
+      0);
+  const CommandResult run =
+      run_cli("validate " + shell_arg(mesh) + " " + shell_arg(set) +
+              " --surface-degree 0 --target 0.01 --surface-map " + shell_arg(dir + "/e.csv") +
+              " --surface-map " + shell_arg(dir + "/e.ply"));
+  CAPTURE(run.output);
+  REQUIRE(run.exit_code == 0);
+  CHECK(run.output.find("surface map: series to degree 0") != std::string::npos);
+  CHECK(file_exists(dir + "/e.ply"));
+  std::istringstream csv(read_bytes(dir + "/e.csv"));
+  std::string line;
+  while (std::getline(csv, line) && line.rfind("#", 0) == 0) {
+  }
+  CHECK(line ==
+        "facet,centroid_x_m,centroid_y_m,centroid_z_m,radius_m,inside_brillouin,exact_x_m_s2,exact_y_m_s2,"
+        "exact_z_m_s2,series_x_m_s2,series_y_m_s2,series_z_m_s2,relative_error,above_target");
+  const double gm = gravitational_constant * 2000 * volume_of(sphere);
+  long rows = 0;
+  while (std::getline(csv, line)) {
+    std::vector<double> v;
+    std::istringstream fields(line);
+    std::string field;
+    while (std::getline(fields, field, ',')) v.push_back(std::stod(field));
+    REQUIRE(v.size() == 14);
+    // Set origin = centre of mass = the sphere's centre (to rounding), so r is the centroid's distance.
+    const Eigen::Vector3d x(v[1], v[2], v[3]), exact(v[6], v[7], v[8]), series(v[9], v[10], v[11]);
+    CHECK(v[4] == Approx(x.norm()).epsilon(1e-9));
+    CHECK((series + gm * x / std::pow(x.norm(), 3)).norm() < 1e-9 * series.norm());
+    CHECK(v[12] == Approx((series - exact).norm() / exact.norm()).epsilon(1e-12));
+    CHECK(v[13] == (v[12] > 0.01 ? 1.0 : 0.0));
+    CHECK(v[5] == 1.0);  // centroids of an inscribed mesh lie inside its Brillouin sphere
+    ++rows;
+  }
+  CHECK(rows == sphere.faces.rows());
+  // A bad map name is refused before any work, with no file written.
+  const CommandResult bad = run_cli("validate " + shell_arg(mesh) + " " + shell_arg(set) + " --surface-map " +
+                                    shell_arg(dir + "/e.txt") + " --json " + shell_arg(dir + "/v.json"));
+  CHECK(bad.exit_code == 2);
+  CHECK_FALSE(file_exists(dir + "/v.json"));
 }

@@ -13,6 +13,7 @@
 #include "polystokes/core/errors.h"
 #include "polystokes/field/polyhedron_gravity.h"
 #include "polystokes/field/series.h"
+#include "polystokes/field/surface_environment.h"
 #include "polystokes/mesh/geometry.h"
 #include "polystokes/sets/conventions.h"
 
@@ -239,6 +240,50 @@ ValidationReport validate_series(const std::vector<DensityRegion>& regions, cons
                       shell.best_degree));
   }
   return report;
+}
+
+SurfaceSeriesError series_error_at_surface(const std::vector<DensityRegion>& regions,
+                                           const CoefficientSet& given, int degree, double target,
+                                           int threads) {
+  if (regions.empty()) throw ConventionError("no mesh given");
+  if (!(target > 0)) throw ConventionError(fmt::format("the target error must be positive, got {}", target));
+  const CoefficientSet set = placed_in_mesh(regions, given);
+  const SeriesModel series(set, degree);
+  const Mesh& surface = regions.front().mesh;
+  SurfaceSeriesError out;
+  out.degree = series.degree();
+  out.target = target;
+  out.centroid = facet_centroids(surface);
+  const Eigen::Index faces = out.centroid.rows();
+  const std::vector<FieldValue> exact = PolyhedronGravity(regions).evaluate(out.centroid, threads);
+  Points local(faces, 3);
+  for (Eigen::Index f = 0; f < faces; ++f)
+    local.row(f) = to_set_frame(set, out.centroid.row(f).transpose()).transpose();
+  const std::vector<FieldValue> approximate = series.evaluate(local, threads);
+  const double brillouin = brillouin_radius(regions, set.origin_in_mesh);
+  out.radius.resize(faces);
+  out.inside.resize(faces);
+  out.exact.resize(faces, 3);
+  out.series.resize(faces, 3);
+  out.relative_error.resize(faces);
+  double area = 0, above = 0;
+  for (Eigen::Index f = 0; f < faces; ++f) {
+    const Eigen::Vector3d a_exact = exact[size_t(f)].acceleration;
+    const Eigen::Vector3d a_series = to_mesh_frame(set, approximate[size_t(f)]).acceleration;
+    out.radius[f] = local.row(f).norm();
+    out.inside[f] = out.radius[f] < brillouin ? 1.0 : 0.0;
+    out.exact.row(f) = a_exact.transpose();
+    out.series.row(f) = a_series.transpose();
+    out.relative_error[f] = (a_series - a_exact).norm() / a_exact.norm();
+    const auto corner = [&](int k) { return surface.vertices.row(surface.faces(f, k)).transpose(); };
+    const double facet_area = 0.5 * (corner(1) - corner(0)).cross(corner(2) - corner(0)).norm();
+    area += facet_area;
+    // A diverging series gives inf or NaN: that facet is certainly above the target.
+    if (!(out.relative_error[f] <= target)) above += facet_area;
+  }
+  out.area_above_target = area > 0 ? above / area : 0;
+  out.max_error = faces > 0 ? out.relative_error.maxCoeff<Eigen::PropagateNaN>() : 0;
+  return out;
 }
 
 }  // namespace polystokes

@@ -98,8 +98,8 @@ std::string facet_json(const FacetTable& table, const std::string& extra) {
   return doc.dump(1) + "\n";
 }
 
-void write_facet_files(const std::vector<std::string>& paths, const Mesh& mesh, const FacetTable& table,
-                       const std::string& json_extra) {
+void stage_facet_files(OutputGroup& group, const std::vector<std::string>& paths, const Mesh& mesh,
+                       const FacetTable& table, const std::string& json_extra) {
   check_table(table, mesh.faces.rows());
   for (size_t i = 0; i < paths.size(); ++i) {
     facet_form_for(paths[i]);
@@ -107,7 +107,6 @@ void write_facet_files(const std::vector<std::string>& paths, const Mesh& mesh, 
       if (same_output_file(paths[i], paths[j]))
         throw ConventionError(fmt::format("{} is given twice as an output", paths[i]));
   }
-  OutputGroup group;
   for (const std::string& path : paths) {
     switch (facet_form_for(path)) {
       case FacetFileForm::ply:
@@ -121,6 +120,12 @@ void write_facet_files(const std::vector<std::string>& paths, const Mesh& mesh, 
         break;
     }
   }
+}
+
+void write_facet_files(const std::vector<std::string>& paths, const Mesh& mesh, const FacetTable& table,
+                       const std::string& json_extra) {
+  OutputGroup group;
+  stage_facet_files(group, paths, mesh, table, json_extra);
   group.commit();
 }
 

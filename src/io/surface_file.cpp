@@ -116,4 +116,39 @@ void write_surface_files(const std::vector<std::string>& paths, const Mesh& mesh
                     surface_json_extra(env, equilibria, provenance));
 }
 
+FacetTable series_error_table(const SurfaceSeriesError& map, const std::string& set_name,
+                              const std::string& created) {
+  FacetTable table;
+  table.title = fmt::format("polystokes series error at the surface: {} to degree {} ({})", set_name,
+                            map.degree, created);
+  table.comments = {
+      "relative_error = |a_series - a_exact| / |a_exact| at each facet centroid; exact: constant-density "
+      "polyhedron gravity of the meshes",
+      fmt::format("above_target = 1 where relative_error > {} (or the series diverges); {} of the area",
+                  map.target, map.area_above_target),
+      "inside_brillouin = 1 where the centroid lies inside the Brillouin sphere, where the series may "
+      "diverge",
+      std::string("CAUTION: ") + operational_caution(),
+  };
+  auto vector = [&](const std::string& prefix, const std::string& unit, const Points& values) {
+    for (int k = 0; k < 3; ++k) {
+      table.names.push_back(prefix + "_" + "xyz"[k] + unit);
+      table.columns.push_back(values.col(k));
+    }
+  };
+  auto scalar = [&](const std::string& name, const Eigen::VectorXd& values) {
+    table.names.push_back(name);
+    table.columns.push_back(values);
+  };
+  vector("centroid", "_m", map.centroid);
+  scalar("radius_m", map.radius);
+  scalar("inside_brillouin", map.inside);
+  vector("exact", "_m_s2", map.exact);
+  vector("series", "_m_s2", map.series);
+  scalar("relative_error", map.relative_error);
+  scalar("above_target",
+         map.relative_error.unaryExpr([&](double e) { return e <= map.target ? 0.0 : 1.0; }).eval());
+  return table;
+}
+
 }  // namespace polystokes

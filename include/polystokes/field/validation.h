@@ -68,4 +68,24 @@ ValidationReport validate_series(const std::vector<DensityRegion>& regions, cons
 /// 49-64).
 std::vector<Eigen::Vector3d> fibonacci_directions(int n);
 
+/// The series' error at the surface, facet by facet: where a team needs the exact field instead.
+struct SurfaceSeriesError {
+  int degree = 0;                  ///< the series' truncation degree
+  double target = 0;               ///< relative error a facet must meet to count as good
+  Points centroid;                 ///< facet centroids, mesh frame, m
+  Eigen::VectorXd radius;          ///< distance from the set's expansion origin, m
+  Eigen::VectorXd inside;          ///< 1 where the centroid lies inside the Brillouin sphere, else 0
+  Points exact, series;            ///< accelerations, mesh frame, m s^-2
+  Eigen::VectorXd relative_error;  ///< |a_series - a_exact| / |a_exact|
+  double area_above_target = 0;    ///< fraction of the surface area whose error exceeds `target`
+  double max_error = 0;
+};
+
+/// The series of `set` truncated at `degree` (-1: the set's degree) against the exact field of the regions
+/// at every facet centroid of the first region's mesh (the outer surface). The set is placed as in
+/// validate_series. Cost: F_outer x (F_all + degree^2). Throws as validate_series.
+SurfaceSeriesError series_error_at_surface(const std::vector<DensityRegion>& regions,
+                                           const CoefficientSet& set, int degree, double target,
+                                           int threads = 0);
+
 }  // namespace polystokes

@@ -34,6 +34,13 @@ std::string facet_csv(const FacetTable& table);
 /// text, e.g. statistics; "{}" for none) and "facets" (each column as an array).
 std::string facet_json(const FacetTable& table, const std::string& extra = "{}");
 
+class OutputGroup;
+
+/// Stages every path in its form into `group` (output_file.h), which the caller commits together with its
+/// other outputs. Throws as write_facet_files.
+void stage_facet_files(OutputGroup& group, const std::vector<std::string>& paths, const Mesh& mesh,
+                       const FacetTable& table, const std::string& json_extra = "{}");
+
 /// Writes every path in its form, all or none (one OutputGroup). Throws ConventionError for an unknown
 /// extension, a path given twice, or columns whose length is not the mesh's face count; OutputError when a
 /// file cannot be written.

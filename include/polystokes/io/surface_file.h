@@ -8,6 +8,7 @@
 #include "polystokes/core/mesh.h"
 #include "polystokes/field/equilibrium_points.h"
 #include "polystokes/field/surface_environment.h"
+#include "polystokes/field/validation.h"
 #include "polystokes/io/facet_file.h"
 
 namespace polystokes {
@@ -29,6 +30,12 @@ FacetTable surface_table(const SurfaceEnvironment& env, const SurfaceProvenance&
 /// when given, the equilibrium points with the search's settings (JSON object text, for facet_json).
 std::string surface_json_extra(const SurfaceEnvironment& env, const EquilibriumResult* equilibria,
                                const SurfaceProvenance& provenance);
+
+/// The per-facet table of the series' error at the surface: centroid_{x,y,z}_m, radius_m (from the expansion
+/// origin), inside_brillouin (1 or 0), exact_{x,y,z}_m_s2, series_{x,y,z}_m_s2, relative_error and
+/// above_target (1 or 0); the comments name the set, its degree, the target and the caution.
+FacetTable series_error_table(const SurfaceSeriesError& map, const std::string& set_name,
+                              const std::string& created);
 
 /// Writes every path in its form (facet_form_for), all or none.
 void write_surface_files(const std::vector<std::string>& paths, const Mesh& mesh,
