@@ -37,6 +37,16 @@ void append_binary(std::string& out, T value) {
 
 }  // namespace
 
+void FacetTable::add(const std::string& name, const Eigen::VectorXd& values) {
+  names.push_back(name);
+  columns.push_back(values);
+}
+
+void FacetTable::add_vector(const std::string& prefix, const std::string& unit,
+                            const Eigen::Matrix<double, Eigen::Dynamic, 3, Eigen::RowMajor>& values) {
+  for (int k = 0; k < 3; ++k) add(prefix + "_" + "xyz"[k] + unit, values.col(k));
+}
+
 FacetFileForm facet_form_for(const std::string& path) {
   std::string ext = std::filesystem::path(path).extension().string();
   std::transform(ext.begin(), ext.end(), ext.begin(),

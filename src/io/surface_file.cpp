@@ -37,27 +37,17 @@ FacetTable surface_table(const SurfaceEnvironment& env, const SurfaceProvenance&
       std::string("CAUTION: ") + operational_caution(),
   };
   const SurfaceFacets& s = env.facets;
-  auto vector = [&](const std::string& prefix, const std::string& unit, const Points& values) {
-    for (int k = 0; k < 3; ++k) {
-      table.names.push_back(prefix + "_" + "xyz"[k] + unit);
-      table.columns.push_back(values.col(k));
-    }
-  };
-  auto scalar = [&](const std::string& name, const Eigen::VectorXd& values) {
-    table.names.push_back(name);
-    table.columns.push_back(values);
-  };
-  vector("centroid", "_m", s.centroid);
-  vector("normal", "", s.normal);
-  scalar("area_m2", s.area);
-  vector("g_gravity", "_m_s2", s.gravity);
-  vector("g_centrifugal", "_m_s2", s.centrifugal);
-  vector("g_total", "_m_s2", s.total);
-  scalar("potential_m2_s2", s.potential);
-  scalar("effective_potential_J_kg", s.effective);
-  scalar("slope_deg", s.slope);
-  scalar("dynamic_height_m", s.height);
-  scalar("launch_speed_m_s", s.launch_speed);
+  table.add_vector("centroid", "_m", s.centroid);
+  table.add_vector("normal", "", s.normal);
+  table.add("area_m2", s.area);
+  table.add_vector("g_gravity", "_m_s2", s.gravity);
+  table.add_vector("g_centrifugal", "_m_s2", s.centrifugal);
+  table.add_vector("g_total", "_m_s2", s.total);
+  table.add("potential_m2_s2", s.potential);
+  table.add("effective_potential_J_kg", s.effective);
+  table.add("slope_deg", s.slope);
+  table.add("dynamic_height_m", s.height);
+  table.add("launch_speed_m_s", s.launch_speed);
   return table;
 }
 
@@ -130,24 +120,14 @@ FacetTable series_error_table(const SurfaceSeriesError& map, const std::string& 
       "diverge",
       std::string("CAUTION: ") + operational_caution(),
   };
-  auto vector = [&](const std::string& prefix, const std::string& unit, const Points& values) {
-    for (int k = 0; k < 3; ++k) {
-      table.names.push_back(prefix + "_" + "xyz"[k] + unit);
-      table.columns.push_back(values.col(k));
-    }
-  };
-  auto scalar = [&](const std::string& name, const Eigen::VectorXd& values) {
-    table.names.push_back(name);
-    table.columns.push_back(values);
-  };
-  vector("centroid", "_m", map.centroid);
-  scalar("radius_m", map.radius);
-  scalar("inside_brillouin", map.inside);
-  vector("exact", "_m_s2", map.exact);
-  vector("series", "_m_s2", map.series);
-  scalar("relative_error", map.relative_error);
-  scalar("above_target",
-         map.relative_error.unaryExpr([&](double e) { return e <= map.target ? 0.0 : 1.0; }).eval());
+  table.add_vector("centroid", "_m", map.centroid);
+  table.add("radius_m", map.radius);
+  table.add("inside_brillouin", map.inside);
+  table.add_vector("exact", "_m_s2", map.exact);
+  table.add_vector("series", "_m_s2", map.series);
+  table.add("relative_error", map.relative_error);
+  table.add("above_target",
+            map.relative_error.unaryExpr([&](double e) { return e <= map.target ? 0.0 : 1.0; }).eval());
   return table;
 }
 

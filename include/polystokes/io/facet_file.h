@@ -23,6 +23,13 @@ struct FacetTable {
   std::vector<std::string> comments;  ///< conventions in words, one line each (the caution among them)
   std::vector<std::string> names;     ///< column names with their unit, e.g. "slope_deg"
   std::vector<Eigen::VectorXd> columns;
+
+  /// Adds the column `name`.
+  void add(const std::string& name, const Eigen::VectorXd& values);
+  /// Adds PREFIX_x UNIT, PREFIX_y UNIT, PREFIX_z UNIT from the three columns of `values` (e.g. "g_total",
+  /// "_m_s2" gives g_total_x_m_s2 ...).
+  void add_vector(const std::string& prefix, const std::string& unit,
+                  const Eigen::Matrix<double, Eigen::Dynamic, 3, Eigen::RowMajor>& values);
 };
 
 /// Binary little-endian PLY: the mesh's vertices (x, y, z as double, m) and faces (uchar count, int
