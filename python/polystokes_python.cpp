@@ -179,6 +179,17 @@ PYBIND11_MODULE(polystokes, m) {
       "wrong unit changes every result); vertices come back in metres.");
 
   m.def(
+      "write_mesh",
+      [](const Mesh& mesh, const std::string& path, const std::string& unit) {
+        if (mesh_format_of(path, "") != "obj")
+          throw ConventionError(path + ": write_mesh writes OBJ files; give a name ending in .obj");
+        write_obj(mesh, path, parse_length_unit(unit));
+      },
+      py::arg("mesh"), py::arg("path"), py::arg("unit"),
+      "Writes `mesh` (vertices in metres) as an OBJ file whose coordinates are in `unit` ('m' or 'km', stated in "
+      "its first comment line), written whole or not at all; read it back with read_mesh(path, unit).");
+
+  m.def(
       "compute",
       [](const std::vector<Mesh>& meshes, const std::vector<double>& densities, int degree, double reference_radius,
          const std::string& origin, const std::string& frame, const std::string& normalization,

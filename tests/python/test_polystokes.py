@@ -137,6 +137,23 @@ def test_a_mesh_file_in_km_arrives_in_metres():
     assert km.unit == "km"
 
 
+def test_a_mesh_written_in_km_reads_back_in_metres(tmp_path):
+    # The OBJ layout (common practice): "v x y z" lines in the stated unit, then "f i j k" with 1-based indices,
+    # read here by hand with numpy, independently of the library's reader.
+    mesh = box(A, B, C)
+    path = str(tmp_path / "box.obj")
+    polystokes.write_mesh(mesh, path, "km")
+    lines = open(path).read().splitlines()
+    vertices = np.array([[float(x) for x in line.split()[1:]] for line in lines if line.startswith("v ")])
+    faces = np.array([[int(i) - 1 for i in line.split()[1:]] for line in lines if line.startswith("f ")])
+    np.testing.assert_allclose(vertices * 1000.0, mesh.vertices, rtol=1e-15)
+    np.testing.assert_array_equal(faces, mesh.faces)
+    back = polystokes.read_mesh(path, "km")
+    np.testing.assert_allclose(back.vertices, mesh.vertices, rtol=1e-15)
+    with pytest.raises(polystokes.ConventionError):
+        polystokes.write_mesh(mesh, str(tmp_path / "box.stl"), "m")
+
+
 def python_blocks(relative_path):
     """The ```python blocks of a document of the project."""
     text = open(os.path.join(os.environ["POLYSTOKES_SOURCE_DIR"], relative_path), encoding="utf-8").read()
