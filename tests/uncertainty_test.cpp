@@ -8,6 +8,8 @@
 
 #include <Eigen/Geometry>
 #include <array>
+#include <fmt/format.h>
+
 #include <catch2/catch.hpp>
 #include <cmath>
 #include <functional>
@@ -414,6 +416,13 @@ TEST_CASE("shards written, read back and merged equal one run bit for bit", "[un
     REQUIRE_THROWS_WITH(parse_shard_text(text, "cut.shard"), Contains("cut.shard:") && Contains("truncated"));
     REQUIRE_THROWS_WITH(parse_shard_text("something else\n", "x.shard"),
                         Contains("x.shard:1: not a shard file"));
+    // Values follow the one strict number rule of every reader, and errors name the line.
+    std::string damaged = format_shard_text(run_shard(plan, Shard{2, 3}));
+    const size_t at = damaged.find("\nshape_sigma ") + 1;
+    const long line = long(std::count(damaged.begin(), damaged.begin() + long(at), '\n')) + 1;
+    damaged.replace(at, damaged.find('\n', at) - at, "shape_sigma 0x10");
+    REQUIRE_THROWS_WITH(parse_shard_text(damaged, "bad.shard"),
+                        Contains(fmt::format("bad.shard:{}: shape_sigma '0x10' is not a number", line)));
   }
 }
 

@@ -4,8 +4,9 @@
 
 #include <charconv>
 #include <cmath>
-#include <sstream>
+#include <limits>
 
+#include "io/text_scanner.h"
 #include "polystokes/core/errors.h"
 #include "polystokes/io/coefficient_file.h"
 #include "polystokes/sets/conventions.h"
@@ -20,78 +21,63 @@ constexpr int kShardVersion = 1;
 
 std::string bool_word(bool value) { return value ? "true" : "false"; }
 
+/// The "KEY VALUE..." lines of a shard, one after another, through the one text scanner: values are read
+/// with its strict number rule and errors name the shard's file and line.
 class ShardReader {
  public:
-  ShardReader(const std::string& text, const std::string& source) : source_(source) {
-    std::istringstream in(text);
-    std::string line;
-    while (std::getline(in, line)) lines_.push_back(line);
-  }
+  ShardReader(std::string_view text, const std::string& source) : in_(text, source) {}
 
-  /// Reports the line last looked at.
-  [[noreturn]] void fail(const std::string& problem) const { throw format_error(source_, current_, problem); }
-  long line_number() const { return current_; }
-  bool at_end() const { return next_ >= lines_.size(); }
-  const std::string& peek() {
-    current_ = long(next_) + 1;
-    if (at_end()) {
-      current_ = long(lines_.size());
-      fail("unexpected end of file (truncated shard?)");
+  TextScanner& in() { return in_; }
+  [[noreturn]] void fail(const std::string& problem) const { in_.fail(problem); }
+
+  /// The key of the next line, which is not taken yet; fails at the end of the text.
+  std::string_view peek_key() {
+    if (!loaded_) {
+      if (!in_.next_line()) fail("unexpected end of file (truncated shard?)");
+      loaded_ = true;
     }
-    return lines_[next_];
+    const std::string_view rest = in_.rest();
+    return rest.substr(0, rest.find(' '));
   }
-  std::string peek_key() {
-    const std::string& line = peek();
-    return line.substr(0, line.find(' '));
+  /// Takes the next line, which must start with `key`; its values follow in in().
+  TextScanner& line(const char* key) {
+    if (peek_key() != key) fail(fmt::format("expected '{} ...', got '{}'", key, in_.rest()));
+    in_.token();
+    loaded_ = false;
+    return in_;
   }
-  /// The value of the next line, which must start with "key ".
-  std::string value(const std::string& key) {
-    const std::string& line = peek();
-    if (line.compare(0, key.size() + 1, key + " ") != 0)
-      fail("expected '" + key + " ...', got '" + line + "'");
-    ++next_;
-    return line.substr(key.size() + 1);
-  }
-  std::string take_line() {
-    const std::string& line = peek();
-    ++next_;
-    return line;
-  }
-
-  double number(const std::string& text) const {
-    double out = 0;
-    const auto result = std::from_chars(text.data(), text.data() + text.size(), out);
-    if (result.ec != std::errc() || result.ptr != text.data() + text.size() || !std::isfinite(out))
-      fail("'" + text + "' is not a finite number");
+  /// The single word after `key` (a fingerprint, a checksum, a name).
+  std::string word(const char* key) {
+    const std::string out(line(key).token());
+    if (out.empty()) fail(fmt::format("{} needs a value", key));
+    in_.expect_line_end(key);
     return out;
   }
-  template <class Int>
-  Int integer(const std::string& text) const {
-    Int out = 0;
-    const auto result = std::from_chars(text.data(), text.data() + text.size(), out);
-    if (result.ec != std::errc() || result.ptr != text.data() + text.size() || text.empty())
-      fail("'" + text + "' is not an integer");
+  double number(const char* key) {
+    const double out = line(key).number(key);
+    if (!std::isfinite(out)) fail(fmt::format("{} is not finite", key));
+    in_.expect_line_end(key);
     return out;
   }
-  bool boolean(const std::string& text) const {
-    if (text == "true") return true;
-    if (text == "false") return false;
-    fail("'" + text + "' is not true or false");
-  }
-
-  static std::vector<std::string> words(const std::string& text) {
-    std::istringstream in(text);
-    std::vector<std::string> out;
-    std::string word;
-    while (in >> word) out.push_back(word);
+  std::int64_t integer(const char* key, std::int64_t low, std::int64_t high) {
+    const std::int64_t out = line(key).integer(key, low, high);
+    in_.expect_line_end(key);
     return out;
+  }
+  bool boolean(const char* key) {
+    const std::string text = word(key);
+    if (text != "true" && text != "false") fail(fmt::format("{} '{}' is not true or false", key, text));
+    return text == "true";
+  }
+  /// Takes the next line whole (the embedded nominal set).
+  void skip_line() {
+    peek_key();
+    loaded_ = false;
   }
 
  private:
-  std::string source_;
-  std::vector<std::string> lines_;
-  size_t next_ = 0;
-  long current_ = 1;
+  TextScanner in_;
+  bool loaded_ = false;  ///< the scanner holds a line whose key has not been taken
 };
 
 }  // namespace
@@ -147,54 +133,66 @@ std::string format_shard_text(const UncertaintyShard& shard) {
 
 UncertaintyShard parse_shard_text(const std::string& text, const std::string& source_name) {
   ShardReader in(text, source_name);
-  if (in.at_end() || in.take_line() != fmt::format("{} {}", kShardFormat, kShardVersion))
-    throw format_error(
-        source_name, 1,
-        fmt::format("not a shard file: the first line must be '{} {}'", kShardFormat, kShardVersion));
+  const std::string magic = fmt::format("{} {}", kShardFormat, kShardVersion);
+  if (!in.in().next_line() || in.in().rest() != magic)
+    throw format_error(source_name, 1, fmt::format("not a shard file: the first line must be '{}'", magic));
   UncertaintyShard shard;
   try {
-    shard.shard = parse_shard(in.value("shard"));
+    shard.shard = parse_shard(in.word("shard"));
   } catch (const ConventionError& e) {
     in.fail(e.what());
   }
   UncertaintySettings& s = shard.settings;
-  shard.fingerprint = in.value("fingerprint");
-  while (in.peek_key() == "mesh_checksum") shard.mesh_checksums.push_back(in.value("mesh_checksum"));
-  s.samples = in.integer<long>(in.value("samples"));
-  s.seed = in.integer<std::uint64_t>(in.value("seed"));
-  const int degree = in.integer<int>(in.value("degree"));
-  s.shape.sigma = in.number(in.value("shape_sigma"));
-  s.shape.correlation_length = in.number(in.value("correlation_length"));
-  s.density_sigma = in.number(in.value("density_sigma"));
-  s.lateral.sigma = in.number(in.value("lateral_sigma"));
-  s.lateral.sectors = in.integer<int>(in.value("lateral_sectors"));
-  s.preserve_mass = in.boolean(in.value("preserve_mass"));
+  constexpr std::int64_t kMost = std::numeric_limits<std::int64_t>::max();
+  shard.fingerprint = in.word("fingerprint");
+  while (in.peek_key() == "mesh_checksum") shard.mesh_checksums.push_back(in.word("mesh_checksum"));
+  s.samples = long(in.integer("samples", 1, kMost));
+  {
+    // The seed is any 64-bit unsigned value, beyond the scanner's signed integers.
+    const std::string seed = in.word("seed");
+    const auto result = std::from_chars(seed.data(), seed.data() + seed.size(), s.seed);
+    if (result.ec != std::errc() || result.ptr != seed.data() + seed.size())
+      in.fail(fmt::format("seed '{}' is not a whole number from 0 to 2^64 - 1", seed));
+  }
+  const int degree = int(in.integer("degree", 0, std::numeric_limits<int>::max()));
+  s.shape.sigma = in.number("shape_sigma");
+  s.shape.correlation_length = in.number("correlation_length");
+  s.density_sigma = in.number("density_sigma");
+  s.lateral.sigma = in.number("lateral_sigma");
+  s.lateral.sectors = int(in.integer("lateral_sectors", 0, std::numeric_limits<int>::max()));
+  s.preserve_mass = in.boolean("preserve_mass");
   while (in.peek_key() == "inclusion") {
-    const auto w = ShardReader::words(in.value("inclusion"));
-    if (w.size() != 8 || (w[0] != "core" && w[0] != "void"))
+    TextScanner& line = in.line("inclusion");
+    const std::string_view kind = line.token();
+    if (kind != "core" && kind != "void")
       in.fail("inclusion needs: core|void radius contrast x y z offset subdivisions");
     Inclusion inclusion;
-    inclusion.empty = w[0] == "void";
-    inclusion.radius = in.number(w[1]);
-    inclusion.contrast = in.number(w[2]);
-    inclusion.center = Eigen::Vector3d(in.number(w[3]), in.number(w[4]), in.number(w[5]));
-    inclusion.offset = in.number(w[6]);
-    inclusion.subdivisions = in.integer<int>(w[7]);
+    inclusion.empty = kind == "void";
+    inclusion.radius = line.number("inclusion radius");
+    inclusion.contrast = line.number("inclusion contrast");
+    const double x = line.number("inclusion x"), y = line.number("inclusion y"),
+                 z = line.number("inclusion z");
+    inclusion.center = Eigen::Vector3d(x, y, z);
+    inclusion.offset = line.number("inclusion offset");
+    inclusion.subdivisions = int(line.integer("inclusion subdivisions", 0, 12));
+    line.expect_line_end("the inclusion");
     s.inclusions.push_back(inclusion);
   }
   try {
-    shard.convention.normalization = parse_normalization(in.value("normalization"));
+    shard.convention.normalization = parse_normalization(in.word("normalization"));
   } catch (const ConventionError& e) {
     in.fail(e.what());
   }
-  shard.convention.condon_shortley = in.boolean(in.value("condon_shortley"));
-  shard.convention.zonal_as_j = in.boolean(in.value("zonal_as_j"));
-  shard.mean_edge = in.number(in.value("mean_edge"));
+  shard.convention.condon_shortley = in.boolean("condon_shortley");
+  shard.convention.zonal_as_j = in.boolean("zonal_as_j");
+  shard.mean_edge = in.number("mean_edge");
 
-  const long nominal_lines = in.integer<long>(in.value("nominal_lines"));
-  const long nominal_line = in.line_number();
-  std::string nominal;
-  for (long k = 0; k < nominal_lines; ++k) nominal += in.take_line() + "\n";
+  // The nominal set is our coefficient text, embedded whole: its bytes go to the coefficient reader.
+  const std::int64_t nominal_lines = in.integer("nominal_lines", 0, kMost);
+  const long nominal_line = in.in().line_number();
+  const size_t nominal_start = in.in().next_offset();
+  for (std::int64_t k = 0; k < nominal_lines; ++k) in.skip_line();
+  const std::string nominal = text.substr(nominal_start, in.in().next_offset() - nominal_start);
   try {
     shard.nominal = parse_coefficient_text(
         nominal, source_name + " (nominal set from line " + std::to_string(nominal_line + 1) + ")");
@@ -204,29 +202,27 @@ UncertaintyShard parse_shard_text(const std::string& text, const std::string& so
   if (shard.nominal.degree != degree)
     in.fail(fmt::format("nominal set has degree {}, header says {}", shard.nominal.degree, degree));
 
-  const long count = in.integer<long>(in.value("sample_count"));
+  const std::int64_t count = in.integer("sample_count", 0, s.samples);
   const size_t values = packed_size(degree);
-  for (long k = 0; k < count; ++k) {
-    const auto w = ShardReader::words(in.value("sample"));
-    if (w.size() != values + 3)
+  for (std::int64_t k = 0; k < count; ++k) {
+    TextScanner& line = in.line("sample");
+    if (line.tokens_left() != long(values) + 3)
       in.fail(fmt::format(
-          "a sample line needs index, Brillouin radius, GM delta and {} coefficient deltas; got {} "
-          "values",
-          values, w.size()));
+          "a sample line needs index, Brillouin radius, GM delta and {} coefficient deltas; got {} values",
+          values, line.tokens_left()));
     SampleResult sample;
-    sample.index = in.integer<long>(w[0]);
-    if (sample.index < 0 || sample.index >= s.samples)
-      in.fail(fmt::format("sample index {} outside 0..{}", sample.index, s.samples - 1));
+    sample.index = long(line.integer("sample index", 0, s.samples - 1));
     if (!shard.samples.empty() && sample.index <= shard.samples.back().index)
       in.fail(fmt::format("sample {} out of order", sample.index));
-    sample.brillouin_radius = in.number(w[1]);
-    sample.gm_delta = in.number(w[2]);
+    sample.brillouin_radius = line.number("Brillouin radius");
+    sample.gm_delta = line.number("GM delta");
     sample.delta.resize(Eigen::Index(values));
-    for (size_t i = 0; i < values; ++i) sample.delta(Eigen::Index(i)) = in.number(w[i + 3]);
+    for (size_t i = 0; i < values; ++i) sample.delta(Eigen::Index(i)) = line.number("coefficient delta");
     shard.samples.push_back(std::move(sample));
   }
-  if (in.take_line() != "end") in.fail("expected 'end' after the samples");
-  if (!in.at_end()) in.fail("text after 'end'");
+  if (in.peek_key() != "end") in.fail("expected 'end' after the samples");
+  in.line("end").expect_line_end("end");
+  if (in.in().next_line()) in.fail("text after 'end'");
   return shard;
 }
 
