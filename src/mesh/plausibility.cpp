@@ -24,7 +24,7 @@ std::optional<std::string> body_size_warning(double brillouin_radius) {
     return std::nullopt;
   return fmt::format(
       "the body reaches {} m from its origin, outside the 1 m to 1e7 m of small bodies: is the "
-      "mesh unit (--unit) right?",
+      "length unit of the mesh file right?",
       brillouin_radius);
 }
 
