@@ -170,6 +170,15 @@ void add_degree_option(CLI::App* cmd, int& degree) {
       ->capture_default_str();
 }
 
+namespace {
+
+// --origin words: the centre of mass or the mesh origin (anything else is a point).
+bool is_origin_word(const std::string& text) {
+  return text == to_string(OriginKind::center_of_mass) || text == to_string(OriginKind::mesh);
+}
+
+}  // namespace
+
 void add_expansion_options(CLI::App* cmd, ExpansionOptions& expansion) {
   add_quantity_option(cmd, "--ref-radius", expansion.reference_radius, QuantityKind::length,
                       "Reference radius (default: Brillouin radius about the origin)");
@@ -178,13 +187,13 @@ void add_expansion_options(CLI::App* cmd, ExpansionOptions& expansion) {
                   "frame (bare: --unit; or each with m, km)")
       ->check(CLI::Validator(
           [](std::string& text) {
-            return text == "com" || text == "mesh" ? std::string()
-                                                   : quantity_syntax_error(text, QuantityKind::length, true);
+            return is_origin_word(text) ? std::string()
+                                        : quantity_syntax_error(text, QuantityKind::length, true);
           },
           "com|mesh|X,Y,Z", "origin"))
       ->capture_default_str();
   cmd->add_option("--frame", expansion.frame, "Axes: mesh or principal (principal axes of inertia)")
-      ->check(CLI::IsMember({"mesh", "principal"}))
+      ->check(CLI::IsMember({to_string(FrameKind::mesh), to_string(FrameKind::principal)}))
       ->capture_default_str();
   cmd->add_option("--normalization", expansion.normalization, normalization_choices(true))
       ->check(CLI::IsMember(normalization_words()))
@@ -193,6 +202,7 @@ void add_expansion_options(CLI::App* cmd, ExpansionOptions& expansion) {
   cmd->add_flag("--zonal-j", expansion.zonal_as_j, "Write zonal terms as J_n = -C_n0");
   cmd->add_option("--body", expansion.body,
                   "Body label written into the set (default: first mesh file name)");
+  add_frame_metadata_options(cmd, expansion.frame_metadata);
 }
 
 ComputeOptions compute_options(const ExpansionOptions& expansion, LengthUnit unit,
@@ -205,22 +215,24 @@ ComputeOptions compute_options(const ExpansionOptions& expansion, LengthUnit uni
     compute.reference_radius = radius.value;
     echo.push_back({"reference radius", describe_quantity(radius, QuantityKind::length), ""});
   }
-  if (expansion.origin == "com") {
-    compute.origin = OriginChoice::center_of_mass;
-  } else if (expansion.origin == "mesh") {
-    compute.origin = OriginChoice::mesh;
+  if (is_origin_word(expansion.origin)) {
+    compute.origin = parse_origin_kind(expansion.origin);
   } else {
-    compute.origin = OriginChoice::point;
+    compute.origin = OriginKind::point;
     compute.origin_point = option_point(expansion.origin, unit, "--origin");
     const Eigen::Vector3d& p = compute.origin_point;
     echo.push_back({"origin point", fmt::format("({}, {}, {}) m", p.x(), p.y(), p.z()),
                     "given as " + expansion.origin + (unit == LengthUnit::meter ? "" : " (bare: km)")});
   }
-  compute.frame = expansion.frame == "principal" ? FrameChoice::principal : FrameChoice::mesh;
+  compute.frame = parse_frame_kind(expansion.frame);
   compute.convention.normalization = parse_normalization(expansion.normalization);
   compute.convention.condon_shortley = expansion.condon_shortley;
   compute.convention.zonal_as_j = expansion.zonal_as_j;
   compute.body = expansion.body.empty() ? first_mesh : expansion.body;
+  compute.frame_metadata = frame_metadata_of(expansion.frame_metadata);
+  check_frame_metadata(compute.frame_metadata);
+  if (!compute.frame_metadata.empty())
+    echo.push_back({"frame metadata", describe(compute.frame_metadata), ""});
   return compute;
 }
 

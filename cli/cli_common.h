@@ -7,6 +7,7 @@
 #include <vector>
 
 #include "commands.h"
+#include "frame_options.h"
 #include "polystokes/core/coefficient_set.h"
 #include "polystokes/core/mesh.h"
 #include "polystokes/field/surface_environment.h"
@@ -82,16 +83,18 @@ struct ExpansionOptions {
   bool condon_shortley = false;
   bool zonal_as_j = false;
   std::string body;  ///< empty = the first mesh's file name
+  FrameMetadataOptions frame_metadata;
 };
 
 /// Registers --degree (the maximum degree of a computed set).
 void add_degree_option(CLI::App* cmd, int& degree);
 
-/// Registers --ref-radius, --origin, --frame, --normalization, --condon-shortley, --zonal-j and --body.
+/// Registers --ref-radius, --origin, --frame, --normalization, --condon-shortley, --zonal-j, --body and the
+/// frame metadata options.
 void add_expansion_options(CLI::App* cmd, ExpansionOptions& expansion);
 
 /// The library's options for `expansion` (lengths given in `unit`; body defaults to `first_mesh`), with the
-/// default execution settings. The lengths given are appended to `echo` as interpreted.
+/// default execution settings. The lengths and frame metadata given are appended to `echo` as interpreted.
 ComputeOptions compute_options(const ExpansionOptions& expansion, LengthUnit unit,
                                const std::string& first_mesh, std::vector<SummaryRow>& echo);
 

@@ -24,9 +24,10 @@ struct CompareCommandOptions {
 };
 
 std::string describe_set(const std::string& path, const CoefficientSet& set) {
-  return fmt::format("{} ({}, degree {}, {}, R = {:.9g} m, GM = {:.9g} m^3 s^-2, origin {}, axes {})", path,
+  return fmt::format("{} ({}, degree {}, {}, R = {:.9g} m, GM = {:.9g} m^3 s^-2, origin {}, axes {}{})", path,
                      set.body, set.degree, short_name(set.convention), set.reference_radius, set.gm,
-                     set.origin, set.frame);
+                     to_string(set.origin), frame_label(set),
+                     set.frame_metadata.empty() ? "" : "; frame " + describe(set.frame_metadata));
 }
 
 void run_compare(const CompareCommandOptions& options, const GlobalOptions& global) {

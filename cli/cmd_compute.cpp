@@ -81,18 +81,19 @@ std::vector<SummaryRow> summary_rows(const ComputeCommandOptions& options, const
   for (size_t i = 0; i < set.regions.size(); ++i) {
     const Region& region = set.regions[i];
     rows.push_back({set.regions.size() == 1 ? "mesh" : fmt::format("region {}", i + 1),
-                    fmt::format("{}: {} faces, unit {}, {} kg/m^3", region.mesh, region.faces, region.unit,
-                                region.density),
+                    fmt::format("{}: {} faces, unit {}, {} kg/m^3", region.mesh, region.faces,
+                                to_string(region.unit), region.density),
                     ""});
   }
   for (auto& row : mass_property_rows(props, unit)) rows.push_back(std::move(row));
   const Eigen::Vector3d& o = set.origin_in_mesh;
-  rows.push_back({"expansion origin",
-                  expansion.origin == "com"
-                      ? std::string("centre of mass")
-                      : fmt::format("{} ({:.9g}, {:.9g}, {:.9g}) m", set.origin, o.x(), o.y(), o.z()),
-                  expansion.origin == "com" ? "default" : ""});
-  rows.push_back({"frame", set.frame + " axes", expansion.frame == "mesh" ? "default" : ""});
+  rows.push_back(
+      {"expansion origin",
+       set.origin == OriginKind::center_of_mass
+           ? std::string("centre of mass")
+           : fmt::format("{} ({:.9g}, {:.9g}, {:.9g}) m", to_string(set.origin), o.x(), o.y(), o.z()),
+       set.origin == OriginKind::center_of_mass ? "default" : ""});
+  rows.push_back({"frame", frame_label(set) + " axes", set.frame == FrameKind::mesh ? "default" : ""});
   rows.push_back({"Brillouin radius", fmt::format("{:.9g} m", set.brillouin_radius),
                   fmt::format("{:.9g} {}, about the origin", set.brillouin_radius / u, to_string(unit))});
   rows.push_back({"reference radius", fmt::format("{:.9g} m", set.reference_radius),

@@ -14,6 +14,7 @@
 #include "polystokes/mesh/plausibility.h"
 #include "polystokes/sets/conventions.h"
 #include "polystokes/sets/transforms.h"
+#include "table_options.h"
 
 namespace polystokes::cli {
 namespace {
@@ -32,14 +33,11 @@ struct ConvertOptions {
   int max_degree = -1;  // -1: keep the set's degree
   std::string body;
   // Plain-table input.
-  std::string columns, comment = "#";
+  TableConventionOptions table;
+  std::string comment = "#";
   int skip_lines = 0;
-  std::string normalization;
-  bool condon_shortley = false;
-  bool condon_shortley_given = false;
-  bool zonal_j = false;
-  std::string ref_radius, gm;
   std::string table_origin, table_axes;
+  FrameMetadataOptions frame;
 };
 
 Eigen::Matrix3d parse_matrix(const std::string& text) {
@@ -65,35 +63,19 @@ Eigen::Matrix3d parse_matrix(const std::string& text) {
 /// appended to `echo`.
 CoefficientSet read_input(const ConvertOptions& options, const GlobalOptions& global, const LengthUnit unit,
                           std::vector<std::string>& echo) {
-  const bool table = !options.columns.empty() || !options.normalization.empty() ||
-                     options.condon_shortley_given || !options.ref_radius.empty() || !options.gm.empty() ||
-                     options.zonal_j || options.skip_lines > 0 || !options.table_origin.empty() ||
+  const bool table = options.table.given() || options.skip_lines > 0 || !options.table_origin.empty() ||
                      !options.table_axes.empty();
   if (!table) return read_coefficient_file(options.input);
   TableImportOptions import;
-  if (!options.columns.empty()) import.columns = parse_table_columns(options.columns);
+  static_cast<TableConventions&>(import) =
+      table_conventions_of(options.table, unit, parse_table_columns, echo);
   import.comment = options.comment;
   import.skip_lines = options.skip_lines;
-  if (!options.normalization.empty()) import.normalization = parse_normalization(options.normalization);
-  if (options.condon_shortley_given) import.condon_shortley = options.condon_shortley;
-  import.zonal_as_j = options.zonal_j;
-  if (!options.ref_radius.empty()) {
-    const Quantity radius =
-        option_quantity(options.ref_radius, QuantityKind::length, unit, "--ref-radius", Bound::positive);
-    echo.push_back("--ref-radius " + describe_quantity(radius, QuantityKind::length));
-    import.reference_radius = radius.value;
-  }
-  if (!options.gm.empty()) {
-    const Quantity gm = option_quantity(options.gm, QuantityKind::gm, unit, "--gm", Bound::positive);
-    echo.push_back("--gm " + describe_quantity(gm, QuantityKind::gm));
-    import.gm = gm.value;
-  }
-  import.unit = unit;
   import.body = options.body;
-  if (options.table_origin == "com") {
-    import.origin = TableOrigin::center_of_mass;
+  if (options.table_origin == to_string(OriginKind::center_of_mass)) {
+    import.origin = OriginKind::center_of_mass;
   } else if (!options.table_origin.empty()) {
-    import.origin = TableOrigin::point;
+    import.origin = OriginKind::point;
     import.origin_point = option_point(options.table_origin, unit, "--table-origin");
     const Eigen::Vector3d& p = import.origin_point;
     echo.push_back(fmt::format("--table-origin ({}, {}, {}) m", p.x(), p.y(), p.z()));
@@ -172,6 +154,8 @@ void run_convert(const ConvertOptions& options, const GlobalOptions& global) {
   if (!options.to_condon_shortley.empty()) target.condon_shortley = options.to_condon_shortley == "on";
   if (!options.to_zonal.empty()) target.zonal_as_j = options.to_zonal == "j";
   if (target != set.convention) set = convert_convention(set, target);
+  // Last, so that metadata given here describes the axes the set ends in (a rotation drops the old pole).
+  declare_frame_metadata(set, frame_metadata_of(options.frame));
   for (size_t i = first_new_note; i < set.notes.size(); ++i) print_notice(global, set.notes[i]);
   std::vector<std::string> warnings;
   if (auto warning = gm_change_warning(gm_before, set.gm)) warnings.push_back(*warning);
@@ -192,13 +176,15 @@ void run_convert(const ConvertOptions& options, const GlobalOptions& global) {
   fmt::print(out, "  convention         {}\n", describe(set.convention));
   fmt::print(out, "  reference radius   {:.9g} m, GM {:.9g} m^3 s^-2\n", set.reference_radius, set.gm);
   const Eigen::Vector3d& o = set.origin_in_mesh;
-  const bool origin_unknown = set.origin == kUnknownLabel, axes_unknown = set.frame == kUnknownLabel;
-  fmt::print(out, "  origin             {}{}, axes {}{}\n", set.origin,
-             set.origin_known
-                 ? fmt::format(" ({:.9g}, {:.9g}, {:.9g}) m in the mesh frame", o.x(), o.y(), o.z())
-             : origin_unknown ? std::string()
-                              : std::string(" (place in the mesh frame unknown)"),
-             set.frame, set.axes_known || axes_unknown ? "" : " (directions in the mesh frame unknown)");
+  const bool origin_unknown = set.origin == OriginKind::unknown,
+             axes_unknown = set.frame == FrameKind::unknown;
+  fmt::print(
+      out, "  origin             {}{}, axes {}{}\n", to_string(set.origin),
+      set.origin_known ? fmt::format(" ({:.9g}, {:.9g}, {:.9g}) m in the mesh frame", o.x(), o.y(), o.z())
+      : origin_unknown ? std::string()
+                       : std::string(" (place in the mesh frame unknown)"),
+      frame_label(set), set.axes_known || axes_unknown ? "" : " (directions in the mesh frame unknown)");
+  if (!set.frame_metadata.empty()) fmt::print(out, "  frame metadata     {}\n", describe(set.frame_metadata));
   fmt::print(out, "  written            {}{}\n", files.output,
              files.json.empty() ? "" : " and " + files.json);
 }
@@ -260,32 +246,20 @@ void setup_convert(CLI::App& app, const GlobalOptions& global) {
                                     "Rotate to the principal axes implied by the degree-2 terms");
   matrix->excludes(euler)->excludes(principal);
   euler->excludes(principal);
+  add_frame_metadata_options(cmd, options->frame);
   auto* table = cmd->add_option_group(
       "table input", "Declarations for a plain table (all that change the numbers are required)");
-  table->add_option("--columns", options->columns,
-                    "Column order, e.g. n,m,C,S,sigma_C,sigma_S (skip for others)");
+  add_table_convention_options(table, options->table);
   table->add_option("--comment", options->comment, "Comment prefix")->capture_default_str();
   table->add_option("--skip-lines", options->skip_lines, "Header lines to skip")
       ->check(CLI::NonNegativeNumber);
-  table->add_option("--normalization", options->normalization, "The table's normalization")
-      ->check(CLI::IsMember(normalization_words()));
-  auto* phase =
-      table->add_flag("--condon-shortley,!--no-condon-shortley", options->condon_shortley,
-                      "Whether the table's functions carry the Condon-Shortley phase (one is required)");
-  table->add_flag("--zonal-j", options->zonal_j, "The table's m = 0 values are J_n = -C_n0");
-  add_quantity_option(table, "--ref-radius", options->ref_radius, QuantityKind::length,
-                      "The table's reference radius");
-  add_quantity_option(table, "--gm", options->gm, QuantityKind::gm, "The table's GM");
   table->add_option("--table-origin", options->table_origin,
                     "The table's expansion origin: com (the centre of mass) or x,y,z in the mesh frame "
                     "(--unit); not given: recorded as unknown");
   table->add_option("--table-axes", options->table_axes,
                     "The table's axes: mesh (the shape model's own axes) or any label, e.g. principal "
                     "(directions then unknown); not given: recorded as unknown");
-  cmd->callback([options, phase, &global]() {
-    options->condon_shortley_given = phase->count() > 0;
-    run_convert(*options, global);
-  });
+  cmd->callback([options, &global]() { run_convert(*options, global); });
 }
 
 }  // namespace polystokes::cli

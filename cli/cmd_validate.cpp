@@ -74,8 +74,7 @@ std::vector<DensityRegion> load_regions(const ValidateOptions& options, LengthUn
           fmt::format("{}: region {} mesh '{}' not found (looked as given and next to the set); "
                       "give --density to validate {} alone",
                       options.set, i + 1, region.mesh, options.mesh));
-    regions.push_back({load_checked_mesh(path.string(), read_options(parse_length_unit(region.unit)), global),
-                       region.density});
+    regions.push_back({load_checked_mesh(path.string(), read_options(region.unit), global), region.density});
   }
   check_regions(regions);
   print_notice(global, fmt::format("densities taken from {} ({} region(s))", options.set, regions.size()));

@@ -19,6 +19,7 @@ enum ExitCode { exit_ok = 0, exit_usage = 1, exit_bad_input = 2, exit_internal =
 void setup_inspect(CLI::App& app, const GlobalOptions& global);
 void setup_compute(CLI::App& app, const GlobalOptions& global);
 void setup_convert(CLI::App& app, const GlobalOptions& global);
+void setup_export(CLI::App& app, const GlobalOptions& global);
 void setup_compare(CLI::App& app, const GlobalOptions& global);
 void setup_report(CLI::App& app, const GlobalOptions& global);
 void setup_uncertainty(CLI::App& app, const GlobalOptions& global);

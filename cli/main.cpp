@@ -33,6 +33,7 @@ int main(int argc, char** argv) {
   cli::setup_inspect(app, global);
   cli::setup_compute(app, global);
   cli::setup_convert(app, global);
+  cli::setup_export(app, global);
   cli::setup_compare(app, global);
   cli::setup_report(app, global);
   cli::setup_uncertainty(app, global);

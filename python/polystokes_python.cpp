@@ -121,6 +121,18 @@ PYBIND11_MODULE(polystokes, m) {
                std::to_string(mesh.faces.rows()) + " faces from " + mesh.source + ">";
       });
 
+  py::class_<FrameMetadata>(m, "FrameMetadata",
+                            "What a set's body-fixed frame is, as the user states it; None = not given. Angles in "
+                            "degrees, epoch ISO 8601 UTC.")
+      .def(py::init<>())
+      .def_readwrite("name", &FrameMetadata::name)
+      .def_readwrite("definition", &FrameMetadata::definition)
+      .def_readwrite("pole_ra", &FrameMetadata::pole_ra, "right ascension of the +z pole, degrees")
+      .def_readwrite("pole_dec", &FrameMetadata::pole_dec, "declination of the +z pole, degrees")
+      .def_readwrite("meridian", &FrameMetadata::meridian, "prime meridian angle at the epoch, degrees")
+      .def_readwrite("epoch", &FrameMetadata::epoch, "YYYY-MM-DDTHH:MM:SS[.fraction]Z")
+      .def("__repr__", [](const FrameMetadata& f) { return "<polystokes.FrameMetadata " + describe(f) + ">"; });
+
   py::class_<CoefficientSet>(m, "CoefficientSet",
                              "A Stokes coefficient set. C, S, sigma_C, sigma_S are (degree+1, degree+1) arrays "
                              "indexed [n, m] (upper triangle zero), in the set's stored convention, as views of "
@@ -142,8 +154,10 @@ PYBIND11_MODULE(polystokes, m) {
       .def_readwrite("S", &CoefficientSet::S)
       .def_readwrite("sigma_C", &CoefficientSet::sigma_C)
       .def_readwrite("sigma_S", &CoefficientSet::sigma_S)
-      .def_readonly("origin", &CoefficientSet::origin, "What the expansion origin is ('com', 'mesh', ...)")
-      .def_readonly("frame", &CoefficientSet::frame, "What the axes are ('mesh', 'principal', ...)")
+      .def_property_readonly("origin", [](const CoefficientSet& s) { return to_string(s.origin); },
+                             "What the expansion origin is, as files write it ('com', 'mesh', ...)")
+      .def_property_readonly("frame", [](const CoefficientSet& s) { return frame_label(s); },
+                             "What the axes are, as files write it ('mesh', 'principal', a declared label, ...)")
       .def_readonly("origin_in_mesh", &CoefficientSet::origin_in_mesh, "expansion origin in the mesh frame, m")
       .def_readonly("axes_in_mesh", &CoefficientSet::axes_in_mesh, "rows: the set's axes in the mesh frame")
       .def_readonly("center_of_mass", &CoefficientSet::center_of_mass, "mesh frame, m")
@@ -153,6 +167,16 @@ PYBIND11_MODULE(polystokes, m) {
       .def_readonly("history", &CoefficientSet::history)
       .def_readonly("notes", &CoefficientSet::notes)
       .def_readonly("created", &CoefficientSet::created)
+      .def_property(
+          "frame_metadata", [](const CoefficientSet& s) { return s.frame_metadata; },
+          [](CoefficientSet& s, const FrameMetadata& frame) {
+            check_frame_metadata(frame);
+            if (s.frame == FrameKind::declared && !frame.name)
+              throw ConventionError("a declared frame keeps its name: it is the frame's label");
+            s.frame_metadata = frame;
+          },
+          "The frame metadata (a copy); assigning checks it (ConventionError). For a declared frame the name is "
+          "its label.")
       .def(
           "write",
           [](const CoefficientSet& set, const std::string& path) {
@@ -198,12 +222,11 @@ PYBIND11_MODULE(polystokes, m) {
         ComputeOptions options;
         options.degree = degree;
         options.reference_radius = reference_radius;
-        if (origin == "com") options.origin = OriginChoice::center_of_mass;
-        else if (origin == "mesh") options.origin = OriginChoice::mesh;
-        else throw ConventionError("origin must be 'com' or 'mesh', not '" + origin + "'");
-        if (frame == "mesh") options.frame = FrameChoice::mesh;
-        else if (frame == "principal") options.frame = FrameChoice::principal;
-        else throw ConventionError("frame must be 'mesh' or 'principal', not '" + frame + "'");
+        // compute_coefficients refuses the kinds a computation cannot have; a point needs its coordinates.
+        options.origin = parse_origin_kind(origin);
+        if (options.origin == OriginKind::point)
+          throw ConventionError("origin must be 'com' or 'mesh', not '" + origin + "'");
+        options.frame = parse_frame_kind(frame);
         options.convention = convention_of(normalization, condon_shortley, zonal_j);
         options.body = body;
         options.execution.threads = threads;

@@ -89,6 +89,8 @@ TEST_CASE("every command refuses a missing input file with exit code 2 and the s
       {"inspect", "@"},
       {"compute", "@ --density 1000 -o " + shell_arg(out + ".txt")},
       {"convert", "@ -o " + shell_arg(out + ".txt")},
+      {"export", "@ -o " + shell_arg(out + ".tab") +
+                     " --columns n,m,C,S --normalization fully --no-condon-shortley --ref-radius 1 --gm 1"},
       {"compare", "@ " + shell_arg(in.set)},
       {"compare", shell_arg(in.set) + " @"},
       {"report", "@ -o " + shell_arg(out + ".html")},

@@ -103,17 +103,17 @@ CoefficientSet awkward_set() {
   set.gm = 1.0 / 3.0;
   set.reference_radius = std::nextafter(1250.0, 2000.0);
   set.convention = {Normalization::schmidt, true, true};
-  set.origin = "shifted";
-  set.frame = "rotated";
+  set.origin = OriginKind::shifted;
+  set.frame = FrameKind::rotated;
   set.origin_in_mesh = {-0.0, Limits::denorm_min(), -123.456};
   set.axes_in_mesh << 0.0, -1.0, 0.0, 1.0 / std::sqrt(2.0), 0.0, 1.0 / std::sqrt(2.0), -0.0, 0.1, 0.7;
   set.center_of_mass = {value(), value(), value()};
   set.mass = 6.02214076e23;
   set.volume = 4.0 / 3.0 * std::acos(-1.0) * 1250.0 * 1250.0 * 1250.0;
   set.brillouin_radius = 1.7976931348623157e308;
-  set.length_unit = "km";
-  set.regions = {{"core = dense.obj", std::string(64, 'a'), "km", 3200.5, 1e9 / 3.0, 5120},
-                 {"vo#id.ply", "", "m", -1100.0, -0.0, 0}};
+  set.length_unit = LengthUnit::kilometer;
+  set.regions = {{"core = dense.obj", std::string(64, 'a'), LengthUnit::kilometer, 3200.5, 1e9 / 3.0, 5120},
+                 {"vo#id.ply", "", LengthUnit::meter, -1100.0, -0.0, 0}};
   set.created = "polystokes 0.1.0, 2024-06-11T08:00:00Z";
   set.history = {"compute --degree 9", awkward_text(3), awkward_text(6)};
   for (int i = 0; i < 10; ++i) set.notes.push_back(awkward_text(i));
@@ -160,6 +160,12 @@ void require_identical(const CoefficientSet& a, const CoefficientSet& b) {
   REQUIRE(a.frame == b.frame);
   REQUIRE(a.origin_known == b.origin_known);
   REQUIRE(a.axes_known == b.axes_known);
+  REQUIRE(a.frame_metadata.name == b.frame_metadata.name);
+  REQUIRE(a.frame_metadata.definition == b.frame_metadata.definition);
+  REQUIRE(a.frame_metadata.pole_ra == b.frame_metadata.pole_ra);
+  REQUIRE(a.frame_metadata.pole_dec == b.frame_metadata.pole_dec);
+  REQUIRE(a.frame_metadata.meridian == b.frame_metadata.meridian);
+  REQUIRE(a.frame_metadata.epoch == b.frame_metadata.epoch);
   require_same_vectors(a.origin_in_mesh, b.origin_in_mesh, "origin_in_mesh");
   for (int row = 0; row < 3; ++row)
     require_same_vectors(a.axes_in_mesh.row(row), b.axes_in_mesh.row(row), "axes row " + std::to_string(row));
@@ -272,7 +278,7 @@ CoefficientSet small_set() {
   set.mass = 7.5e9;
   set.volume = 3.75e6;
   set.brillouin_radius = 120;
-  set.regions = {{"pebble.obj", "00ff", "m", 2000, 3.75e6, 320}};
+  set.regions = {{"pebble.obj", "00ff", LengthUnit::meter, 2000, 3.75e6, 320}};
   set.history = {"compute"};
   set.notes = {"a note"};
   for (int n = 0; n <= 3; ++n) {
@@ -840,9 +846,10 @@ TEST_CASE("an unknown origin and unknown axes round-trip through text and JSON a
           "[coefficient_file]") {
   // Issue 10, defect 4: the formats had no way to say "not known" and wrote (0,0,0) and the identity.
   CoefficientSet set = small_set();
-  set.origin = "com";  // declared about the centre of mass, its place in the mesh frame not known
+  set.origin =
+      OriginKind::center_of_mass;  // declared about the centre of mass, its place in the mesh frame not known
   set.origin_known = false;
-  set.frame = kUnknownLabel;
+  set.frame = FrameKind::unknown;
   set.axes_known = false;
   const std::string text = format_coefficient_text(set);
   CHECK(text.find("\norigin_m = unknown\n") != std::string::npos);
@@ -916,6 +923,19 @@ bool same_field(const coefficient_io::HeaderField& field, const CoefficientSet& 
       return a.axes_known == b.axes_known && a.axes_in_mesh == b.axes_in_mesh;
     case Kind::text_list:
       return a.*field.list == b.*field.list;
+    case Kind::unit:
+      return a.*field.unit == b.*field.unit;
+    case Kind::origin_kind:
+      return a.origin == b.origin;
+    case Kind::frame_label:
+      return a.frame == b.frame && frame_label(a) == frame_label(b);
+    case Kind::optional_text:
+      return a.frame_metadata.*field.optional_text == b.frame_metadata.*field.optional_text;
+    case Kind::optional_real: {
+      const auto& x = a.frame_metadata.*field.optional_real;
+      const auto& y = b.frame_metadata.*field.optional_real;
+      return x.has_value() == y.has_value() && (!x || bits(*x) == bits(*y));
+    }
     case Kind::count:
       break;
   }
@@ -928,7 +948,17 @@ TEST_CASE(
     "every field of the field table appears in the text and the JSON form and round-trips through both "
     "(write -> read, common practice)",
     "[coefficient_file]") {
-  const CoefficientSet set = awkward_set();
+  // With frame metadata, whose fields are written only when present.
+  const CoefficientSet set = [] {
+    CoefficientSet s = awkward_set();
+    s.frame_metadata.name = "Awkward \"fixed\"";
+    s.frame_metadata.definition = "pole by fiat";
+    s.frame_metadata.pole_ra = 1.0 / 3.0;
+    s.frame_metadata.pole_dec = -Limits::denorm_min();
+    s.frame_metadata.meridian = 359.99999999999994;
+    s.frame_metadata.epoch = "2024-02-29T23:59:60.125Z";
+    return s;
+  }();
   const std::string text = format_coefficient_text(set);
   const std::string json_text = format_coefficient_json(set);
   const Json json = Json::parse(json_text);
@@ -958,12 +988,141 @@ TEST_CASE(
         if (field.text) CHECK(a.*field.text == b.*field.text);
         if (field.real) CHECK(bits(a.*field.real) == bits(b.*field.real));
         if (field.count) CHECK(a.*field.count == b.*field.count);
+        if (field.unit) CHECK(a.*field.unit == b.*field.unit);
       }
     }
   }
   // Writing what was read gives the same bytes in both forms.
   CHECK(format_coefficient_text(from_text) == text);
   CHECK(format_coefficient_json(from_json) == json_text);
+}
+
+}  // namespace polystokes
+
+namespace polystokes {
+namespace {
+
+// Frame metadata with every field, the angles chosen so that no short decimal holds them.
+FrameMetadata full_frame_metadata() {
+  FrameMetadata frame;
+  frame.name = "Pebble body-fixed \"PBF\"";
+  frame.definition = "z along the spin pole,\nx through the crater Alpha";
+  frame.pole_ra = 11.35 + 1.0 / 3.0;
+  frame.pole_dec = -17.22;
+  frame.meridian = 326.07;
+  frame.epoch = "2000-01-01T12:00:00.000Z";
+  return frame;
+}
+
+}  // namespace
+
+TEST_CASE("frame metadata round-trips through text and JSON; a set without it is written as before",
+          "[coefficient_file]") {
+  // Issue 12: written only when present, read back bit for bit (the write, read, write rule of this file).
+  CoefficientSet set = small_set();
+  const std::string plain = format_coefficient_text(set);
+  CHECK(plain.find("frame_name") == std::string::npos);
+  CHECK(plain.find("frame_pole") == std::string::npos);
+  CHECK(nlohmann::json::parse(format_coefficient_json(set))["frame"].size() == 2);  // label and axes only
+
+  set.frame_metadata = full_frame_metadata();
+  const std::string text = format_coefficient_text(set);
+  CHECK(text.find("\nframe_name = \"Pebble body-fixed \\\"PBF\\\"\"\n") != std::string::npos);
+  CHECK(text.find("\nframe_pole_dec_deg = -17.22\n") != std::string::npos);
+  CHECK(text.find("\nframe_epoch = \"2000-01-01T12:00:00.000Z\"\n") != std::string::npos);
+  require_identical(set, parse_coefficient_text(text, "frame.pcs"));
+  REQUIRE(format_coefficient_text(parse_coefficient_text(text, "frame.pcs")) == text);
+  const std::string json = format_coefficient_json(set);
+  const auto parsed = nlohmann::json::parse(json);
+  CHECK(parsed["frame"]["meridian_deg"] == 326.07);
+  require_identical(set, parse_coefficient_json(json, "frame.json"));
+  REQUIRE(format_coefficient_json(parse_coefficient_json(json, "frame.json")) == json);
+
+  // Only some fields: only those keys.
+  CoefficientSet named = small_set();
+  named.frame_metadata.name = "PBF";
+  const std::string named_text = format_coefficient_text(named);
+  CHECK(named_text.find("frame_definition") == std::string::npos);
+  require_identical(named, parse_coefficient_text(named_text, "named.pcs"));
+}
+
+TEST_CASE("a declared frame is named by its label: no frame_name key, and one given beside it is refused",
+          "[coefficient_file]") {
+  CoefficientSet set = small_set();
+  set_frame_label(set, "PBF-2000");
+  set.axes_known = false;
+  REQUIRE(set.frame == FrameKind::declared);
+  const std::string text = format_coefficient_text(set);
+  CHECK(text.find("\nframe = \"PBF-2000\"\n") != std::string::npos);
+  CHECK(text.find("frame_name") == std::string::npos);
+  const CoefficientSet read = parse_coefficient_text(text, "declared.pcs");
+  CHECK(read.frame == FrameKind::declared);
+  CHECK(frame_label(read) == "PBF-2000");
+  std::string both = text;
+  const size_t at = both.find("frame_z_axis = unknown\n") + std::string("frame_z_axis = unknown\n").size();
+  both.insert(at, "frame_name = \"Other\"\n");
+  require_text_error(both, line_starting(both, "frame_name"), "a declared frame is named by its label");
+}
+
+TEST_CASE("bad frame metadata in a file is a FormatError naming the file and the frame line",
+          "[coefficient_file]") {
+  // Ranges: right ascension [0, 360), declination [-90, 90] (the equatorial coordinate ranges, common
+  // practice); an epoch must be a real ISO 8601 UTC date-time (ISO 8601-1:2019, Gregorian calendar).
+  CoefficientSet set = small_set();
+  set.frame_metadata = full_frame_metadata();
+  const std::string good = format_coefficient_text(set);
+  const long frame_line = line_starting(good, "frame =");
+  const auto with = [&](const std::string& key, const std::string& value) {
+    std::string text = good;
+    const size_t begin = text.find("\n" + key + " = ") + 1;
+    text.replace(begin, text.find('\n', begin) - begin, key + " = " + value);
+    return text;
+  };
+  require_text_error(with("frame_pole_ra_deg", "360"), frame_line,
+                     "right ascension 360 deg is outside [0, 360)");
+  require_text_error(with("frame_pole_ra_deg", "-0.5"), frame_line, "outside [0, 360)");
+  require_text_error(with("frame_pole_dec_deg", "90.5"), frame_line,
+                     "declination 90.5 deg is outside [-90, 90]");
+  require_text_error(with("frame_epoch", "\"2023-02-29T00:00:00Z\""), frame_line, "not an ISO 8601 UTC time");
+  require_text_error(with("frame_epoch", "\"2024-01-01 00:00:00\""), frame_line, "not an ISO 8601 UTC time");
+  require_text_error(with("frame_meridian_deg", "x"), line_starting(good, "frame_meridian_deg"),
+                     "is not a finite decimal number");
+  std::string json = format_coefficient_json(set);
+  json.replace(json.find("\"pole_dec_deg\": -17.22"), 22, "\"pole_dec_deg\": -91.0");
+  require_json_error(json, line_containing(json, "\"frame\": {"), "outside [-90, 90]");
+}
+
+TEST_CASE(
+    "frame metadata checks: ISO 8601 UTC epochs with real dates, pole pairs, a meridian needs its epoch",
+    "[coefficient_file]") {
+  // Leap years by the Gregorian rule (divisible by 4, centuries only when divisible by 400; common practice).
+  const auto epoch_ok = [](const std::string& epoch) {
+    FrameMetadata frame;
+    frame.meridian = 10;
+    frame.epoch = epoch;
+    try {
+      check_frame_metadata(frame);
+      return true;
+    } catch (const ConventionError&) {
+      return false;
+    }
+  };
+  CHECK(epoch_ok("2024-02-29T23:59:59Z"));
+  CHECK(epoch_ok("2000-02-29T00:00:00.5Z"));
+  CHECK(epoch_ok("2016-12-31T23:59:60Z"));  // a leap second
+  CHECK_FALSE(epoch_ok("1900-02-29T00:00:00Z"));
+  CHECK_FALSE(epoch_ok("2024-04-31T00:00:00Z"));
+  CHECK_FALSE(epoch_ok("2024-01-01T24:00:00Z"));
+  CHECK_FALSE(epoch_ok("2024-01-01T00:00:00"));
+  CHECK_FALSE(epoch_ok("2024-01-01T00:00:00.Z"));
+  CHECK_FALSE(epoch_ok("2024-1-01T00:00:00Z"));
+  FrameMetadata half_pole;
+  half_pole.pole_ra = 10;
+  CHECK_THROWS_WITH(check_frame_metadata(half_pole),
+                    Catch::Contains("give both right ascension and declination"));
+  FrameMetadata undated;
+  undated.meridian = 10;
+  CHECK_THROWS_WITH(check_frame_metadata(undated), Catch::Contains("needs the epoch"));
 }
 
 }  // namespace polystokes

@@ -400,16 +400,16 @@ TEST_CASE("unknown origins and axes are not aligned and are reported; two centre
   CompareOptions options;
   options.align_frame = true;
   CoefficientSet unknown = a;
-  unknown.origin = kUnknownLabel;
-  unknown.frame = kUnknownLabel;
+  unknown.origin = OriginKind::unknown;
+  unknown.frame = FrameKind::unknown;
   unknown.origin_known = false;
   unknown.axes_known = false;
   unknown.origin_in_mesh = Eigen::Vector3d::Zero();
   const Comparison c = compare_sets(a, unknown, options);
   CAPTURE(comparison_text(c));
   CHECK(c.agree);
-  CHECK(c.origin_relation == "unknown");
-  CHECK(c.axes_relation == "unknown");
+  CHECK(to_string(c.origin_relation) == "unknown");
+  CHECK(to_string(c.axes_relation) == "unknown");
   const std::string text = comparison_text(c);
   CHECK(text.find("origin not aligned: B's origin is unknown") != std::string::npos);
   CHECK(text.find("axes not aligned: B's axes are unknown") != std::string::npos);
@@ -419,18 +419,18 @@ TEST_CASE("unknown origins and axes are not aligned and are reported; two centre
 
   // Declared to be about the centre of mass, in the mesh axes: the same origin as A's, nothing to do.
   CoefficientSet com = unknown;
-  com.origin = "com";
-  com.frame = "mesh";
+  com.origin = OriginKind::center_of_mass;
+  com.frame = FrameKind::mesh;
   com.axes_known = true;
   const Comparison same = compare_sets(a, com, options);
   CHECK(same.agree);
-  CHECK(same.origin_relation == "same");
-  CHECK(same.axes_relation == "same");
+  CHECK(to_string(same.origin_relation) == "same");
+  CHECK(to_string(same.axes_relation) == "same");
   CHECK(same.alignment.empty());
   // The same B about the mesh origin instead (a known point): aligned by the exact shift, still agreeing.
   CoefficientSet about_mesh_origin = shift_origin(a, -a.origin_in_mesh);
   const Comparison moved = compare_sets(a, about_mesh_origin, options);
-  CHECK(moved.origin_relation == "aligned");
+  CHECK(to_string(moved.origin_relation) == "aligned");
   CHECK(moved.agree);
 }
 

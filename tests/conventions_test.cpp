@@ -308,7 +308,7 @@ TEST_CASE("convert CLI: Euler rotation and its inverse, radius in km and back, r
               .exit_code == 0);
   const CoefficientSet mid = read_coefficient_file(there);
   CHECK(mid.reference_radius == 2500.0);
-  CHECK(mid.frame == "rotated");
+  CHECK(frame_label(mid) == "rotated");
   const std::string radius = fmt::format("{}", body_set().reference_radius);
   REQUIRE(run_cli("convert " + quoted(there) + " -q -o " + quoted(back) +
                   " --rotate-euler 75,-20,-30 --to-ref-radius " + radius)

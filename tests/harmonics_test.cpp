@@ -24,7 +24,7 @@ double full_norm(int n, int m) {
 }
 
 CoefficientSet compute(const Mesh& mesh, int degree, double reference_radius = 0,
-                       OriginChoice origin = OriginChoice::center_of_mass) {
+                       OriginKind origin = OriginKind::center_of_mass) {
   ComputeOptions options;
   options.degree = degree;
   options.reference_radius = reference_radius;
@@ -98,7 +98,7 @@ TEST_CASE("degree 1 equals centre of mass / R and degree 2 the full inertia tens
   const Mesh body = transformed(make_ellipsoid(3, 3.0, 2.0, 1.4), Q, Eigen::Vector3d(0.3, -0.2, 0.45));
   const double R = 5.0;
   const MassProperties p = mass_properties({DensityRegion{body, 2000.0}});
-  const CoefficientSet at_mesh = compute(body, 2, R, OriginChoice::mesh);
+  const CoefficientSet at_mesh = compute(body, 2, R, OriginKind::mesh);
   const Eigen::Vector3d c = p.center_of_mass;
   CHECK_THAT(at_mesh.C(1, 0) * full_norm(1, 0), WithinRel(c.z() / R, 1e-12));
   CHECK_THAT(at_mesh.C(1, 1) * full_norm(1, 1), WithinRel(c.x() / R, 1e-12));

@@ -222,7 +222,7 @@ TEST_CASE(
     "[report]") {
   ComputeOptions options;
   options.degree = 2;
-  options.origin = OriginChoice::mesh;
+  options.origin = OriginKind::mesh;
   ReportInput input;
   input.set = compute_coefficients({DensityRegion{test_body().mesh, 2100.0}}, options);
   const std::string mass = section(make_report(input), "mass");
@@ -520,14 +520,14 @@ TEST_CASE("mesh_unit_for_set reads a region's mesh in the unit the set records f
   // A set computed from two meshes: region 1 in km, region 2 in m (the checksum identifies the file; SHA-256
   // does not depend on how its numbers are read).
   CoefficientSet set = make_empty_set(2);
-  set.length_unit = "km";
+  set.length_unit = LengthUnit::kilometer;
   Region outer, core;
   outer.mesh = "outer.obj";
   outer.checksum = std::string(64, 'a');
-  outer.unit = "km";
+  outer.unit = LengthUnit::kilometer;
   core.mesh = "core.obj";
   core.checksum = std::string(64, 'b');
-  core.unit = "m";
+  core.unit = LengthUnit::meter;
   set.regions = {outer, core};
   const auto km = LengthUnit::kilometer, m = LengthUnit::meter;
 
@@ -557,9 +557,9 @@ TEST_CASE("an imported table's unknown origin and axes are shown as unknown, not
   set.reference_radius = 2000;
   set.C(0, 0) = 1;
   set.C(2, 0) = -0.05;
-  set.origin = "com";
+  set.origin = OriginKind::center_of_mass;
   set.origin_known = false;
-  set.frame = "unknown";
+  set.frame = FrameKind::unknown;
   set.axes_known = false;
   ReportInput input;
   input.set = set;

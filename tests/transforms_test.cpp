@@ -33,8 +33,8 @@ Mesh lumpy_body(int subdivisions) {
   });
 }
 
-CoefficientSet compute_about(const Mesh& mesh, int degree, double reference_radius, OriginChoice origin,
-                             FrameChoice frame = FrameChoice::mesh) {
+CoefficientSet compute_about(const Mesh& mesh, int degree, double reference_radius, OriginKind origin,
+                             FrameKind frame = FrameKind::mesh) {
   ComputeOptions options;
   options.degree = degree;
   options.reference_radius = reference_radius;
@@ -223,7 +223,7 @@ TEST_CASE(
           std::sqrt(c * c * std::pow(set.sigma_C(n, m), 2) + s * s * std::pow(set.sigma_S(n, m), 2));
       CHECK_THAT(out.sigma_C(n, m), WithinRel(sigma_c, 1e-12));
     }
-  CHECK(out.frame == "rotated");
+  CHECK(frame_label(out) == "rotated");
   CHECK(out.history.back().find("rotated") != std::string::npos);
   // The O(n^2) closed-form path agrees with the general rotation.
   require_sets_close(rotate_about_z(set, a), out, 30, 1e-14);
@@ -240,9 +240,9 @@ TEST_CASE("rotating a set equals the set computed exactly from the rotated mesh 
   const Eigen::Matrix3d Q = random_rotation(rng);
   const int degree = 20;
   const double R = 2500;
-  const CoefficientSet before = compute_about(mesh, degree, R, OriginChoice::mesh);
+  const CoefficientSet before = compute_about(mesh, degree, R, OriginKind::mesh);
   const CoefficientSet expected =
-      compute_about(transformed(mesh, Q, Eigen::Vector3d::Zero()), degree, R, OriginChoice::mesh);
+      compute_about(transformed(mesh, Q, Eigen::Vector3d::Zero()), degree, R, OriginKind::mesh);
   for (const Convention& convention : {Convention{}, Convention{Normalization::schmidt, true, true}}) {
     CAPTURE(describe(convention));
     const CoefficientSet rotated = rotate_set(convert_convention(before, convention), Q);
@@ -270,7 +270,7 @@ TEST_CASE(
 TEST_CASE("rotation keeps the potential: U_new(Q x) = U_old(x) at exterior points", "[transforms]") {
   // Series evaluation of series.h (checked there against GSL sums and the polyhedron field).
   std::mt19937 rng(8);
-  const CoefficientSet set = compute_about(lumpy_body(2), 16, 0, OriginChoice::center_of_mass);
+  const CoefficientSet set = compute_about(lumpy_body(2), 16, 0, OriginKind::center_of_mass);
   const Eigen::Matrix3d Q = random_rotation(rng);
   const CoefficientSet rotated = rotate_set(set, Q);
   for (const Eigen::Vector3d& x : {Eigen::Vector3d(4000, 1000, -500), Eigen::Vector3d(-300, 200, 3100)}) {
@@ -312,16 +312,16 @@ TEST_CASE(
   std::mt19937 rng(4);
   const Mesh mesh = transformed(lumpy_body(3), random_rotation(rng), Eigen::Vector3d(220, 130, -170));
   const double R = 2600;
-  for (OriginChoice origin : {OriginChoice::center_of_mass, OriginChoice::mesh}) {
-    CAPTURE(origin == OriginChoice::mesh);
+  for (OriginKind origin : {OriginKind::center_of_mass, OriginKind::mesh}) {
+    CAPTURE(origin == OriginKind::mesh);
     const CoefficientSet in_mesh_frame = compute_about(mesh, 12, R, origin);
-    const CoefficientSet expected = compute_about(mesh, 12, R, origin, FrameChoice::principal);
+    const CoefficientSet expected = compute_about(mesh, 12, R, origin, FrameKind::principal);
     const CoefficientSet principal = rotate_to_principal_axes(in_mesh_frame);
     require_sets_close(principal, expected, 12, 1e-12);
     CHECK((principal.axes_in_mesh - expected.axes_in_mesh).cwiseAbs().maxCoeff() < 1e-11);
-    CHECK(principal.frame == "principal");
+    CHECK(frame_label(principal) == "principal");
     // Principal frame: C21 = S21 = S22 = 0 (about the centre of mass), Heiskanen & Moritz 1967 sec. 2-13.
-    if (origin == OriginChoice::center_of_mass) {
+    if (origin == OriginKind::center_of_mass) {
       CHECK(std::abs(principal.C(2, 1)) < 1e-15);
       CHECK(std::abs(principal.S(2, 1)) < 1e-15);
       CHECK(std::abs(principal.S(2, 2)) < 1e-15);
@@ -346,13 +346,13 @@ TEST_CASE("shifting the origin to the centre of mass equals computing about the 
   const Mesh mesh = transformed(lumpy_body(3), Eigen::Matrix3d::Identity(), Eigen::Vector3d(310, -140, 95));
   const int degree = 16;
   const double R = 2400;
-  const CoefficientSet about_mesh = compute_about(mesh, degree, R, OriginChoice::mesh);
-  const CoefficientSet about_com = compute_about(mesh, degree, R, OriginChoice::center_of_mass);
+  const CoefficientSet about_mesh = compute_about(mesh, degree, R, OriginKind::mesh);
+  const CoefficientSet about_com = compute_about(mesh, degree, R, OriginKind::center_of_mass);
   const Eigen::Vector3d offset = center_of_mass_offset(about_mesh);
   CHECK((offset - about_com.center_of_mass).norm() < 1e-9);
   const CoefficientSet shifted = shift_origin(about_mesh, offset);
   require_sets_close(shifted, about_com, degree, 1e-13);
-  CHECK(shifted.origin == "com");
+  CHECK(to_string(shifted.origin) == "com");
   CHECK((shifted.origin_in_mesh - about_com.origin_in_mesh).norm() < 1e-9);
   CHECK(shifted.brillouin_radius == Approx(about_mesh.brillouin_radius + offset.norm()));
   CHECK(shifted.notes.back().find("converges only outside") != std::string::npos);
@@ -366,13 +366,13 @@ TEST_CASE("computing about a given point equals computing the translated mesh ab
   ComputeOptions options;
   options.degree = 12;
   options.reference_radius = 2600;
-  options.origin = OriginChoice::point;
+  options.origin = OriginKind::point;
   options.origin_point = p;
   const CoefficientSet about_point = compute_coefficients({DensityRegion{mesh, 2100.0}}, options);
   const Mesh moved = transformed(mesh, Eigen::Matrix3d::Identity(), -p);
-  const CoefficientSet reference = compute_about(moved, 12, 2600, OriginChoice::mesh);
+  const CoefficientSet reference = compute_about(moved, 12, 2600, OriginKind::mesh);
   require_sets_close(about_point, reference, 12, 1e-13);
-  CHECK(about_point.origin == "point");
+  CHECK(to_string(about_point.origin) == "point");
   CHECK(about_point.origin_in_mesh == p);
 }
 
@@ -383,13 +383,13 @@ TEST_CASE("a far shift at high degree states a rounding bound that covers the tr
   // the measured error must stay below it and the note must appear for a shift of 0.75 R_B at degree 70.
   const Mesh mesh = lumpy_body(4);
   const int degree = 70;
-  const CoefficientSet about_com = compute_about(mesh, degree, 2600, OriginChoice::center_of_mass);
+  const CoefficientSet about_com = compute_about(mesh, degree, 2600, OriginKind::center_of_mass);
   const Eigen::Vector3d d = 0.75 * about_com.brillouin_radius * Eigen::Vector3d(0, 0.2, 1).normalized();
   const CoefficientSet shifted = shift_origin(about_com, d);
   ComputeOptions direct_options;
   direct_options.degree = degree;
   direct_options.reference_radius = 2600;
-  direct_options.origin = OriginChoice::point;
+  direct_options.origin = OriginKind::point;
   direct_options.origin_point = about_com.origin_in_mesh + d;
   const CoefficientSet direct = compute_coefficients({DensityRegion{mesh, 2100.0}}, direct_options);
   double worst_error = 0;
@@ -409,8 +409,8 @@ TEST_CASE("a far shift at high degree states a rounding bound that covers the tr
   CHECK(worst_error > 1e-10);  // the loss is real at this shift and degree
   CHECK(worst_error <= stated);
   // A small shift at low degree loses nothing worth a note.
-  const CoefficientSet near = shift_origin(compute_about(mesh, 12, 2600, OriginChoice::center_of_mass),
-                                           Eigen::Vector3d(30, 0, 0));
+  const CoefficientSet near =
+      shift_origin(compute_about(mesh, 12, 2600, OriginKind::center_of_mass), Eigen::Vector3d(30, 0, 0));
   CHECK(near.notes.back().find("Accuracy after the origin shift") == std::string::npos);
 }
 
@@ -421,9 +421,9 @@ TEST_CASE("shifting by an arbitrary vector equals computing from the translated 
   const Eigen::Vector3d d(-260, 410, 180);
   const int degree = 18;
   const double R = 2500;
-  const CoefficientSet about_origin = compute_about(mesh, degree, R, OriginChoice::mesh);
+  const CoefficientSet about_origin = compute_about(mesh, degree, R, OriginKind::mesh);
   const CoefficientSet expected =
-      compute_about(transformed(mesh, Eigen::Matrix3d::Identity(), -d), degree, R, OriginChoice::mesh);
+      compute_about(transformed(mesh, Eigen::Matrix3d::Identity(), -d), degree, R, OriginKind::mesh);
   for (const Convention& convention : {Convention{}, Convention{Normalization::unnormalized, true, false},
                                        Convention{Normalization::orthonormal, false, true}}) {
     CAPTURE(describe(convention));
@@ -439,14 +439,13 @@ TEST_CASE("shifting in a rotated frame moves the origin along the set's axes", "
   std::mt19937 rng(9);
   const Eigen::Matrix3d Q = random_rotation(rng);
   const double R = 2400;
-  const CoefficientSet rotated = rotate_set(compute_about(mesh, 10, R, OriginChoice::mesh), Q);
+  const CoefficientSet rotated = rotate_set(compute_about(mesh, 10, R, OriginKind::mesh), Q);
   const Eigen::Vector3d d(100, -200, 50);
   const CoefficientSet shifted = shift_origin(rotated, d);
   const Eigen::Vector3d mesh_point = Q.transpose() * d;
   CHECK((shifted.origin_in_mesh - mesh_point).norm() < 1e-12);
   const CoefficientSet expected = rotate_set(
-      compute_about(transformed(mesh, Eigen::Matrix3d::Identity(), -mesh_point), 10, R, OriginChoice::mesh),
-      Q);
+      compute_about(transformed(mesh, Eigen::Matrix3d::Identity(), -mesh_point), 10, R, OriginKind::mesh), Q);
   require_sets_close(shifted, expected, 10, 1e-13);
 }
 
@@ -484,13 +483,13 @@ TEST_CASE("a shift beyond the Brillouin radius is refused unless allowed, then n
   CHECK_THROWS_WITH(shift_origin(set, far), Catch::Contains("outside the Brillouin sphere"));
   const CoefficientSet allowed = shift_origin(set, far, ShiftOptions{true});
   CHECK(allowed.notes.back().find("CAUTION") != std::string::npos);
-  CHECK(allowed.origin == "shifted");
+  CHECK(to_string(allowed.origin) == "shifted");
 }
 
 TEST_CASE("reference radius and GM rescaling keep the potential and round-trip", "[transforms]") {
   // C(R_new) = C(R_old) (R_old/R_new)^n and C(GM_new) = C(GM_old) GM_old/GM_new leave
   // U = GM/r sum (R/r)^n ... unchanged (IERS Conventions 2010, eq. 6.6 form); potential by series.h.
-  const CoefficientSet set = compute_about(lumpy_body(2), 20, 0, OriginChoice::center_of_mass);
+  const CoefficientSet set = compute_about(lumpy_body(2), 20, 0, OriginKind::center_of_mass);
   const CoefficientSet radius = rescale_reference_radius(set, 3100.0);
   const CoefficientSet gm = rescale_gm(set, set.gm * 1.37);
   for (int n = 0; n <= 20; ++n)
@@ -515,4 +514,44 @@ TEST_CASE("non-rotations are refused", "[transforms]") {
   reflection(1, 1) = -1;
   CHECK_THROWS_WITH(rotate_set(set, reflection), Catch::Contains("reflection"));
   CHECK_THROWS_WITH(rotate_set(set, 1.01 * Eigen::Matrix3d::Identity()), Catch::Contains("not orthogonal"));
+}
+
+TEST_CASE("a rotation drops the frame's pole, meridian and epoch with a history line and keeps its name",
+          "[transforms]") {
+  // The pole and prime meridian of a body-fixed frame fix its axes (the cartographic rotation model, common
+  // practice); rotated axes are not those axes any more, so those values cannot stay attached to the set.
+  CoefficientSet set = compute_about(lumpy_body(2), 6, 0, OriginKind::center_of_mass);
+  FrameMetadata frame;
+  frame.name = "Lumpy fixed";
+  frame.definition = "mesh axes";
+  frame.pole_ra = 12.5;
+  frame.pole_dec = -30;
+  frame.meridian = 100;
+  frame.epoch = "2000-01-01T12:00:00Z";
+  declare_frame_metadata(set, frame);
+  CHECK(set.history.back() == "frame metadata given: " + describe(frame));
+  const CoefficientSet shifted = shift_origin(set, Eigen::Vector3d(10, 0, 0));
+  CHECK(shifted.frame_metadata.pole_ra == 12.5);  // the axes stay: so does the orientation
+  for (const CoefficientSet& rotated : {rotate_set(set, euler_zyz_matrix(0.3, 0.2, 0.1)),
+                                        rotate_about_z(set, 0.4), rotate_to_principal_axes(set)}) {
+    CHECK(rotated.frame_metadata.name == frame.name);
+    CHECK(rotated.frame_metadata.definition == frame.definition);
+    CHECK_FALSE(rotated.frame_metadata.pole_ra);
+    CHECK_FALSE(rotated.frame_metadata.pole_dec);
+    CHECK_FALSE(rotated.frame_metadata.meridian);
+    CHECK_FALSE(rotated.frame_metadata.epoch);
+    CAPTURE(rotated.history);
+    // The line before the rotation's own (the last, which says how the axes turned).
+    const std::string& dropped = rotated.history[rotated.history.size() - 2];
+    CHECK(dropped.find(
+              "pole RA 12.5 deg Dec -30 deg, prime meridian 100 deg at 2000-01-01T12:00:00Z dropped") !=
+          std::string::npos);
+    CHECK(dropped.find("'Lumpy fixed' now names the frame the axes were rotated from") != std::string::npos);
+    CHECK(rotated.history.back().find("axes rotated") == 0);
+  }
+  // Without orientation, a rotation adds no such line.
+  CoefficientSet named = compute_about(lumpy_body(2), 6, 0, OriginKind::center_of_mass);
+  named.frame_metadata.name = "Lumpy fixed";
+  const CoefficientSet turned = rotate_about_z(named, 0.4);
+  CHECK(turned.history.size() == named.history.size() + 1);
 }

@@ -65,7 +65,7 @@ TEST_CASE("compute gives the same set for the same inputs in m and in km", "[uni
       "mixed");
   require_same_coefficients(km, m);
   require_same_coefficients(km, mixed);
-  CHECK(km.origin == "point");
+  CHECK(to_string(km.origin) == "point");
   CHECK(km.reference_radius == 1500.0);
 }
 

@@ -208,7 +208,7 @@ TEST_CASE(
         known.shells[0].max_error);  // the same point: the mesh's centre of mass
   REQUIRE(placed.notes.size() == 1);
   CHECK(placed.notes[0].find("taken as the mesh's centre of mass") != std::string::npos);
-  com.origin = kUnknownLabel;
+  com.origin = OriginKind::unknown;
   CHECK_THROWS_WITH(validate_series(c.regions, com, options), Catch::Contains("origin is unknown"));
   CoefficientSet axes = c.set;
   axes.axes_known = false;

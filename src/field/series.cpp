@@ -223,7 +223,7 @@ void require_placed(const CoefficientSet& set) {
             !set.origin_known && !set.axes_known ? "origin and axes"
             : !set.origin_known                  ? "origin"
                                                  : "axes",
-            set.origin, set.frame),
+            to_string(set.origin), frame_label(set)),
         !set.origin_known, !set.axes_known);
 }
 

@@ -61,7 +61,7 @@ void add_consistency_warnings(const std::vector<DensityRegion>& regions, const C
         fmt::format("the set's Brillouin radius ({:.9g} m) differs from the mesh's about the "
                     "set's origin ({:.9g} m): was the set computed from this mesh?",
                     set.brillouin_radius, rb));
-  if (set.origin == "com") {
+  if (set.origin == OriginKind::center_of_mass) {
     const Eigen::Vector3d com = mass_properties(regions).center_of_mass;
     if ((com - set.origin_in_mesh).norm() > 1e-9 * rb)
       report.warnings.push_back(fmt::format(
@@ -90,10 +90,10 @@ CoefficientSet placed_in_mesh(const std::vector<DensityRegion>& regions, const C
   if (!set.axes_known)
     throw UnplacedSetError(
         fmt::format("the set's axes ('{}') are not known in the mesh frame: validation needs them",
-                    set.frame),
+                    frame_label(set)),
         false, true);
   if (set.origin_known) return set;
-  if (set.origin != "com")
+  if (set.origin != OriginKind::center_of_mass)
     throw UnplacedSetError("the set's origin is unknown: validation needs it", true, false);
   CoefficientSet placed = set;
   placed.origin_in_mesh = mass_properties(regions).center_of_mass;
@@ -139,6 +139,9 @@ ValidationReport validate_series(const std::vector<DensityRegion>& regions, cons
         "the set's origin is the centre of mass, whose place in the mesh frame the set does not record: "
         "taken as the mesh's centre of mass ({:.9g}, {:.9g}, {:.9g}) m.",
         set.origin_in_mesh.x(), set.origin_in_mesh.y(), set.origin_in_mesh.z()));
+  // Validation works in the mesh frame; what the set says its frame is stays with the report.
+  if (!set.frame_metadata.empty())
+    report.notes.push_back("the set's frame metadata: " + describe(set.frame_metadata) + ".");
 
   const std::vector<Eigen::Vector3d> directions = fibonacci_directions(options.samples);
   std::vector<Eigen::Vector3d> points;

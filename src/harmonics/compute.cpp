@@ -21,7 +21,14 @@ void check_compute_request(const std::vector<DensityRegion>& regions, const Comp
   if (regions.empty()) throw ConventionError("no mesh given");
   if (options.reference_radius < 0 || !std::isfinite(options.reference_radius))
     throw ConventionError("reference radius must be positive");
-  if (options.origin == OriginChoice::point && !options.origin_point.allFinite())
+  if (options.origin != OriginKind::center_of_mass && options.origin != OriginKind::mesh &&
+      options.origin != OriginKind::point)
+    throw ConventionError("a computed set's origin is com, mesh or a point, not " +
+                          to_string(options.origin));
+  if (options.frame != FrameKind::mesh && options.frame != FrameKind::principal)
+    throw ConventionError("a computed set's axes are mesh or principal, not " + to_string(options.frame));
+  check_frame_metadata(options.frame_metadata);
+  if (options.origin == OriginKind::point && !options.origin_point.allFinite())
     throw ConventionError("expansion origin must be a finite point");
 }
 
@@ -29,10 +36,10 @@ void check_compute_request(const std::vector<DensityRegion>& regions, const Comp
 CoefficientSet coefficients_with(const std::vector<DensityRegion>& regions, const MassProperties& props,
                                  const ComputeOptions& options) {
   HarmonicFrame frame;
-  frame.origin = options.origin == OriginChoice::center_of_mass ? props.center_of_mass
-                 : options.origin == OriginChoice::point        ? options.origin_point
-                                                                : Eigen::Vector3d::Zero();
-  if (options.frame == FrameChoice::principal) frame.axes = props.principal_axes.transpose();
+  frame.origin = options.origin == OriginKind::center_of_mass ? props.center_of_mass
+                 : options.origin == OriginKind::point        ? options.origin_point
+                                                              : Eigen::Vector3d::Zero();
+  if (options.frame == FrameKind::principal) frame.axes = props.principal_axes.transpose();
   const double brillouin = brillouin_radius(regions, frame.origin, options.execution.threads);
   frame.scale_radius = brillouin;
   const double reference = options.reference_radius > 0 ? options.reference_radius : brillouin;
@@ -45,21 +52,22 @@ CoefficientSet coefficients_with(const std::vector<DensityRegion>& regions, cons
   set.body = options.body;
   set.gm = gravitational_constant * props.mass;
   set.reference_radius = reference;
-  set.origin = to_string(options.origin);
-  set.frame = options.frame == FrameChoice::principal ? "principal" : "mesh";
+  set.origin = options.origin;
+  set.frame = options.frame;
+  set.frame_metadata = options.frame_metadata;
   set.origin_in_mesh = frame.origin;
   set.axes_in_mesh = frame.axes;
   set.center_of_mass = props.center_of_mass;
   set.mass = props.mass;
   set.volume = props.volume;
   set.brillouin_radius = brillouin;
-  set.length_unit = to_string(regions.front().mesh.unit);
+  set.length_unit = regions.front().mesh.unit;
   for (size_t r = 0; r < regions.size(); ++r) {
     const DensityRegion& region = regions[r];
     Region info;
     info.mesh = region.mesh.source;
     info.checksum = region.mesh.checksum;
-    info.unit = to_string(region.mesh.unit);
+    info.unit = region.mesh.unit;
     info.density = region.density.constant();
     info.volume = props.region_volumes[r];
     info.faces = long(region.mesh.faces.rows());
@@ -86,18 +94,6 @@ CoefficientSet coefficients_with(const std::vector<DensityRegion>& regions, cons
 }
 
 }  // namespace
-
-std::string to_string(OriginChoice origin) {
-  switch (origin) {
-    case OriginChoice::center_of_mass:
-      return "com";
-    case OriginChoice::mesh:
-      return "mesh";
-    case OriginChoice::point:
-      return "point";
-  }
-  return "";
-}
 
 CoefficientSet compute_coefficients(const std::vector<DensityRegion>& regions,
                                     const ComputeOptions& options) {

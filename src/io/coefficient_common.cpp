@@ -51,6 +51,8 @@ void check_writable(const CoefficientSet& set) {
   require_finite(set.origin_in_mesh, "origin_in_mesh");
   for (int row = 0; row < 3; ++row)
     require_finite(Eigen::Vector3d(set.axes_in_mesh.row(row)), fmt::format("axes_in_mesh row {}", row));
+  // A set whose metadata the readers would refuse is not written (NaN angles included).
+  check_frame_metadata(set.frame_metadata);
   for (size_t i = 0; i < set.regions.size(); ++i) {
     require_finite(set.regions[i].density, fmt::format("regions[{}].density", i));
     require_finite(set.regions[i].volume, fmt::format("regions[{}].volume", i));

@@ -17,6 +17,9 @@ HeaderField field(Section section, const char* text_key, const char* comment, co
   } else if constexpr (std::is_same_v<Member, double>) {
     out.kind = Kind::real;
     out.real = member;
+  } else if constexpr (std::is_same_v<Member, LengthUnit>) {
+    out.kind = Kind::unit;
+    out.unit = member;
   } else if constexpr (std::is_same_v<Member, Eigen::Vector3d>) {
     out.kind = Kind::vector;
     out.vector = member;
@@ -24,6 +27,21 @@ HeaderField field(Section section, const char* text_key, const char* comment, co
     static_assert(std::is_same_v<Member, std::vector<std::string>>, "no field kind holds this member type");
     out.kind = Kind::text_list;
     out.list = member;
+  }
+  return out;
+}
+
+// An optional field of the frame metadata.
+template <typename Member>
+HeaderField field(Section section, const char* text_key, const char* json_key, int json_rank,
+                  std::optional<Member> FrameMetadata::*member) {
+  HeaderField out{section, text_key, "", json_key, json_rank, Kind::optional_text};
+  if constexpr (std::is_same_v<Member, std::string>) {
+    out.optional_text = member;
+  } else {
+    static_assert(std::is_same_v<Member, double>, "no optional field kind holds this member type");
+    out.kind = Kind::optional_real;
+    out.optional_real = member;
   }
   return out;
 }
@@ -65,17 +83,34 @@ const std::vector<HeaderField>& header_fields() {
             "zonal_as_j", 7, Kind::zonal),
       field(Section::expansion, "origin",
             "# expansion origin: label and position in the mesh frame (m), or unknown\n", "origin.label", 8,
-            &S::origin),
+            Kind::origin_kind),
       field(Section::expansion, "origin_m", "", "origin.position", 8, Kind::position),
       field(Section::expansion, "frame",
             "# expansion axes: label and each axis as a unit vector in mesh-frame components, or unknown\n",
-            "frame.label", 9, &S::frame),
+            "frame.label", 9, Kind::frame_label),
       field(Section::expansion, "frame_x_axis", "", "frame.axes", 9, Kind::axes),
+      field(Section::expansion, "frame_name", "frame.name", 9, &FrameMetadata::name),
+      field(Section::expansion, "frame_definition", "frame.definition", 9, &FrameMetadata::definition),
+      field(Section::expansion, "frame_pole_ra_deg", "frame.pole_ra_deg", 9, &FrameMetadata::pole_ra),
+      field(Section::expansion, "frame_pole_dec_deg", "frame.pole_dec_deg", 9, &FrameMetadata::pole_dec),
+      field(Section::expansion, "frame_meridian_deg", "frame.meridian_deg", 9, &FrameMetadata::meridian),
+      field(Section::expansion, "frame_epoch", "frame.epoch", 9, &FrameMetadata::epoch),
       field(Section::provenance, "created", "", "created", 14, &S::created),
       field(Section::provenance, "history", "", "history", 15, &S::history),
       field(Section::provenance, "note", "", "notes", 16, &S::notes),
   };
   return fields;
+}
+
+bool is_declared_frame_name(const HeaderField& field, const CoefficientSet& set) {
+  return field.optional_text == &FrameMetadata::name && set.frame == FrameKind::declared;
+}
+
+bool is_written(const HeaderField& field, const CoefficientSet& set) {
+  if (is_declared_frame_name(field, set)) return false;
+  if (field.kind == Kind::optional_text) return (set.frame_metadata.*field.optional_text).has_value();
+  if (field.kind == Kind::optional_real) return (set.frame_metadata.*field.optional_real).has_value();
+  return true;
 }
 
 std::vector<const HeaderField*> fields_of(Section section, bool json_order) {
@@ -122,7 +157,9 @@ const std::vector<RegionField>& region_fields() {
     };
     text("mesh_file", "mesh", &Region::mesh);
     text("sha256", "sha256", &Region::checksum);
-    text("length_unit", "unit", &Region::unit);
+    RegionField unit{"length_unit", "unit", Kind::unit};
+    unit.unit = &Region::unit;
+    out.push_back(unit);
     real("density_kg_m3", "density", &Region::density);
     real("volume_m3", "volume", &Region::volume);
     RegionField faces{"faces", "faces", Kind::count};

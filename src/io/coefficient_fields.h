@@ -4,6 +4,7 @@
 #pragma once
 
 #include <Eigen/Core>
+#include <optional>
 #include <string>
 #include <vector>
 
@@ -28,6 +29,11 @@ enum class Kind {
   axes,           ///< axes_in_mesh and axes_known; text three keys (x, y, z), each "x y z" or unknown; JSON
                   ///< three rows or null
   text_list,      ///< a std::vector<std::string> member; text: the key once per entry; JSON: an array
+  unit,           ///< a LengthUnit member by its word ("m", "km"), spelled as text
+  origin_kind,    ///< CoefficientSet::origin by its word (origin_names), spelled as text
+  frame_label,    ///< CoefficientSet::frame and a declared frame's name (frame_label), spelled as text
+  optional_text,  ///< a std::optional<std::string> of frame_metadata, spelled as text; absent: no key
+  optional_real,  ///< a std::optional<double> of frame_metadata, spelled as real; absent: no key
 };
 
 /// One field of the set's header (sections [body], [expansion], [provenance]).
@@ -43,7 +49,18 @@ struct HeaderField {
   double CoefficientSet::*real = nullptr;
   Eigen::Vector3d CoefficientSet::*vector = nullptr;
   std::vector<std::string> CoefficientSet::*list = nullptr;
+  LengthUnit CoefficientSet::*unit = nullptr;
+  std::optional<std::string> FrameMetadata::*optional_text = nullptr;
+  std::optional<double> FrameMetadata::*optional_real = nullptr;
 };
+
+/// True for the frame name field of a set whose frame is declared: its label in `frame` is the name, so the
+/// field is not written, and readers refuse it.
+bool is_declared_frame_name(const HeaderField& field, const CoefficientSet& set);
+
+/// Whether the writers write `field` for `set`: not for an absent optional field, nor for
+/// is_declared_frame_name.
+bool is_written(const HeaderField& field, const CoefficientSet& set);
 
 /// The header fields in text order (the order the text form writes and reads them).
 const std::vector<HeaderField>& header_fields();
@@ -61,8 +78,9 @@ std::vector<std::string> text_keys(const HeaderField& field);
 struct RegionField {
   const char* text_key;
   const char* json_key;
-  Kind kind;  ///< text, real or count
+  Kind kind;  ///< text, real, count or unit
   std::string Region::*text = nullptr;
+  LengthUnit Region::*unit = nullptr;
   double Region::*real = nullptr;
   long Region::*count = nullptr;
 };

@@ -113,6 +113,11 @@ class JsonReader {
       }
       read_field(root, *field, checked_objects, set);
     }
+    try {
+      check_frame_metadata(set.frame_metadata);
+    } catch (const ConventionError& error) {
+      fail(key_line("frame"), error.what());
+    }
     read_coefficients(member(root, "coefficients"), set.degree, set);
     return set;
   }
@@ -221,6 +226,17 @@ class JsonReader {
     return value.get<std::string>();
   }
 
+  // A word of a name table, spelled as a string; `parse` throws ConventionError on a word it does not know.
+  template <typename Parse>
+  auto word(const Json& value, const std::string& what, long line, Parse parse) const {
+    const std::string word = text(value, what, line);
+    try {
+      return parse(word);
+    } catch (const ConventionError& error) {
+      fail(line, error.what());
+    }
+  }
+
   bool boolean(const Json& value, const std::string& what, long line) const {
     if (!value.is_boolean()) fail(line, fmt::format("\"{}\" must be true or false", what));
     return value.get<bool>();
@@ -271,6 +287,8 @@ class JsonReader {
         check_keys(object, children, "\"" + top + "\"", line);
         checked_objects.push_back(top);
       }
+      const bool optional = field.kind == Kind::optional_text || field.kind == Kind::optional_real;
+      if (optional && !object.contains(path.substr(dot + 1))) return;
       value = &member(object, path.substr(dot + 1).c_str(), line);
     }
     switch (field.kind) {
@@ -320,6 +338,26 @@ class JsonReader {
       case Kind::text_list:
         set.*field.list = text_list(*value, path, line);
         break;
+      case Kind::unit:
+        set.*field.unit = word(*value, path, line, parse_length_unit);
+        break;
+      case Kind::origin_kind:
+        set.origin = word(*value, path, line, parse_origin_kind);
+        break;
+      case Kind::frame_label:
+        word(*value, path, line, [&](const std::string& label) {
+          set_frame_label(set, label);
+          return 0;
+        });
+        break;
+      case Kind::optional_text:
+        if (is_declared_frame_name(field, set))
+          fail(line, fmt::format("\"{}\": a declared frame is named by its label", path));
+        set.frame_metadata.*field.optional_text = text(*value, path, line);
+        break;
+      case Kind::optional_real:
+        set.frame_metadata.*field.optional_real = real(*value, path, line);
+        break;
       case Kind::count:
         break;  // region fields only
     }
@@ -353,6 +391,7 @@ class JsonReader {
         const Json& value = member(entry, field.json_key, line);
         const std::string what = where + "." + field.json_key;
         if (field.kind == Kind::text) region.*field.text = text(value, what, line);
+        if (field.kind == Kind::unit) region.*field.unit = word(value, what, line, parse_length_unit);
         if (field.kind == Kind::real) region.*field.real = real(value, what, line);
         if (field.kind == Kind::count) region.*field.count = static_cast<long>(integer(value, what, line));
       }
@@ -420,6 +459,16 @@ Json json_value(const HeaderField& field, const CoefficientSet& set, const std::
         list.push_back(utf8_field(entries[i], fmt::format("{}[{}]", name, i)));
       return list;
     }
+    case Kind::unit:
+      return to_string(set.*field.unit);
+    case Kind::origin_kind:
+      return to_string(set.origin);
+    case Kind::frame_label:
+      return utf8_field(frame_label(set), name);
+    case Kind::optional_text:
+      return utf8_field(*(set.frame_metadata.*field.optional_text), name);
+    case Kind::optional_real:
+      return *(set.frame_metadata.*field.optional_real);
     case Kind::count:
       break;  // region fields only
   }
@@ -435,6 +484,7 @@ Json json_regions(const CoefficientSet& set) {
       Json& slot = entry[field.json_key];
       if (field.kind == Kind::text)
         slot = utf8_field(region.*field.text, fmt::format("regions[{}].{}", i, field.json_key));
+      if (field.kind == Kind::unit) slot = to_string(region.*field.unit);
       if (field.kind == Kind::real) slot = region.*field.real;
       if (field.kind == Kind::count) slot = region.*field.count;
     }
@@ -459,6 +509,7 @@ std::string format_coefficient_json(const CoefficientSet& set) {
       root["regions"] = json_regions(set);
       regions_written = true;
     }
+    if (!is_written(*field, set)) continue;
     const std::string path = field->json_key;
     const size_t dot = path.find('.');
     const std::string top = path.substr(0, dot);

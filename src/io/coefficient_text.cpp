@@ -344,6 +344,17 @@ class TextReader {
             real(parts[2], entry.line, key)};
   }
 
+  // A word of a name table, spelled as text; `parse` throws ConventionError on a word it does not know.
+  template <typename Parse>
+  auto word_value(const Entry& entry, Parse parse) const {
+    const std::string word = text_value(entry);
+    try {
+      return parse(word);
+    } catch (const ConventionError& error) {
+      fail(entry.line, error.what());
+    }
+  }
+
   bool choice(const Section& section, const std::string& key, std::string_view yes,
               std::string_view no) const {
     const Entry& entry = single(section, key);
@@ -357,11 +368,18 @@ class TextReader {
       read_field(*field, sections_.at(0), set);
     for (const HeaderField* field : fields_of(coefficient_io::Section::expansion))
       read_field(*field, sections_.at(1), set);
+    try {
+      check_frame_metadata(set.frame_metadata);
+    } catch (const ConventionError& error) {
+      fail(single(sections_.at(1), "frame").line, error.what());
+    }
     for (const Section& section : sections_) {
       if (section.rank != kRegion) continue;
       Region region;
       for (const RegionField& field : region_fields()) {
         if (field.kind == Kind::text) region.*field.text = text_value(section, field.text_key);
+        if (field.kind == Kind::unit)
+          region.*field.unit = word_value(single(section, field.text_key), parse_length_unit);
         if (field.kind == Kind::real) region.*field.real = real_value(section, field.text_key);
         if (field.kind == Kind::count) {
           const Entry& entry = single(section, field.text_key);
@@ -429,6 +447,31 @@ class TextReader {
       case Kind::text_list:
         for (const Entry& entry : all(section, key)) (set.*field.list).push_back(text_value(entry));
         break;
+      case Kind::unit:
+        set.*field.unit = word_value(single(section, key), parse_length_unit);
+        break;
+      case Kind::origin_kind:
+        set.origin = word_value(single(section, key), parse_origin_kind);
+        break;
+      case Kind::frame_label:
+        word_value(single(section, key), [&](const std::string& label) {
+          set_frame_label(set, label);
+          return 0;
+        });
+        break;
+      case Kind::optional_text:
+      case Kind::optional_real: {
+        const std::vector<Entry>& entries = all(section, key);
+        if (entries.empty()) break;
+        const Entry& entry = entries.front();
+        if (is_declared_frame_name(field, set))
+          fail(entry.line, fmt::format("{}: a declared frame is named by its label in 'frame'", key));
+        if (field.kind == Kind::optional_text)
+          set.frame_metadata.*field.optional_text = text_value(entry);
+        else
+          set.frame_metadata.*field.optional_real = real(entry.value, entry.line, key);
+        break;
+      }
       case Kind::count:
         break;  // region fields only
     }
@@ -455,6 +498,7 @@ class TextReader {
 
 // One header field as its kind spells it (HeaderField), after its comment.
 void write_field(const HeaderField& field, const CoefficientSet& set, fmt::memory_buffer& out) {
+  if (!is_written(field, set)) return;
   const auto put = [&](auto&&... args) {
     fmt::format_to(std::back_inserter(out), std::forward<decltype(args)>(args)...);
   };
@@ -498,6 +542,21 @@ void write_field(const HeaderField& field, const CoefficientSet& set, fmt::memor
     case Kind::text_list:
       for (const std::string& entry : set.*field.list) line(key, quote_text(entry));
       break;
+    case Kind::unit:
+      line(key, quote_text(to_string(set.*field.unit)));
+      break;
+    case Kind::origin_kind:
+      line(key, quote_text(to_string(set.origin)));
+      break;
+    case Kind::frame_label:
+      line(key, quote_text(frame_label(set)));
+      break;
+    case Kind::optional_text:
+      line(key, quote_text(*(set.frame_metadata.*field.optional_text)));
+      break;
+    case Kind::optional_real:
+      line(key, number(*(set.frame_metadata.*field.optional_real)));
+      break;
     case Kind::count:
       break;  // region fields only
   }
@@ -529,6 +588,8 @@ std::string format_coefficient_text(const CoefficientSet& set) {
     put("\n[region]\n{}", kRegionComment);
     for (const RegionField& field : region_fields()) {
       if (field.kind == Kind::text) put("{} = {}\n", field.text_key, quote_text(region.*field.text));
+      if (field.kind == Kind::unit)
+        put("{} = {}\n", field.text_key, quote_text(to_string(region.*field.unit)));
       if (field.kind == Kind::real) put("{} = {}\n", field.text_key, number(region.*field.real));
       if (field.kind == Kind::count) put("{} = {}\n", field.text_key, region.*field.count);
     }

@@ -9,6 +9,7 @@
 #include <filesystem>
 #include <map>
 
+#include "io/table_common.h"
 #include "io/text_scanner.h"
 #include "polystokes/core/errors.h"
 #include "polystokes/core/quantity.h"
@@ -20,34 +21,9 @@ namespace polystokes {
 
 namespace {
 
+using table_io::trim;
+
 constexpr int max_table_degree = 20000;  // same bound as compute's memory guard
-
-const char* column_name(TableColumn column) {
-  switch (column) {
-    case TableColumn::n:
-      return "n";
-    case TableColumn::m:
-      return "m";
-    case TableColumn::C:
-      return "C";
-    case TableColumn::S:
-      return "S";
-    case TableColumn::sigma_C:
-      return "sigma_C";
-    case TableColumn::sigma_S:
-      return "sigma_S";
-    case TableColumn::skip:
-      return "skip";
-  }
-  return "skip";
-}
-
-std::string trim(const std::string& text) {
-  size_t begin = 0, end = text.size();
-  while (begin < end && std::isspace(static_cast<unsigned char>(text[begin]))) ++begin;
-  while (end > begin && std::isspace(static_cast<unsigned char>(text[end - 1]))) --end;
-  return text.substr(begin, end - begin);
-}
 
 // Fields separated by whitespace and/or single commas; an empty field between commas is an error.
 std::vector<std::string> split_fields(const std::string& line, const std::string& source, long number) {
@@ -101,25 +77,13 @@ long parse_index(std::string_view field, const char* what, const std::string& so
 }
 
 void check_declarations(const TableImportOptions& options) {
-  std::vector<std::string> missing;
-  if (options.columns.empty()) missing.push_back("--columns");
-  if (!options.normalization) missing.push_back("--normalization");
-  if (!options.condon_shortley) missing.push_back("--condon-shortley or --no-condon-shortley");
-  if (!options.reference_radius) missing.push_back("--ref-radius");
-  if (!options.gm) missing.push_back("--gm");
-  if (!missing.empty()) {
-    std::string list;
-    for (size_t i = 0; i < missing.size(); ++i) list += (i ? ", " : "") + missing[i];
-    throw ConventionError(fmt::format("{} {} required for a table (a plain table does not say {})", list,
-                                      missing.size() == 1 ? "is" : "are",
-                                      missing.size() == 1 ? "it" : "them"));
-  }
-  if (!(*options.reference_radius > 0) || !std::isfinite(*options.reference_radius))
-    throw ConventionError(fmt::format("--ref-radius must be positive, got {}", *options.reference_radius));
-  if (!(*options.gm > 0) || !std::isfinite(*options.gm))
-    throw ConventionError(fmt::format("--gm must be positive, got {}", *options.gm));
+  check_table_conventions(options);
   if (options.skip_lines < 0) throw ConventionError("--skip-lines must be >= 0");
-  if (options.origin == TableOrigin::point && !options.origin_point.allFinite())
+  if (options.origin != OriginKind::unknown && options.origin != OriginKind::center_of_mass &&
+      options.origin != OriginKind::point)
+    throw ConventionError("--table-origin: a table's origin is com or a point, not " +
+                          to_string(options.origin));
+  if (options.origin == OriginKind::point && !options.origin_point.allFinite())
     throw ConventionError("--table-origin: the point has a non-finite coordinate");
   // Validates the column list the same way as parse_table_columns does for text.
   parse_table_columns(to_string(options.columns));
@@ -132,31 +96,36 @@ void record_origin_and_axes(const TableImportOptions& options, const std::string
   // Same reading of the degree-1 terms as shift_origin: a centre of mass within 1e-9 R of the origin.
   const Eigen::Vector3d com_offset = center_of_mass_offset(set);
   const bool at_com = com_offset.norm() <= 1e-9 * set.reference_radius;
-  set.axes_known = options.axes == "mesh";
-  set.frame = options.axes.empty() ? kUnknownLabel : options.axes;
-  set.origin_known = options.origin == TableOrigin::point;
+  if (options.axes.empty())
+    set.frame = FrameKind::unknown;
+  else
+    set_frame_label(set, options.axes);
+  set.axes_known = set.frame == FrameKind::mesh;
+  set.origin_known = options.origin == OriginKind::point;
   set.origin_in_mesh = set.origin_known ? options.origin_point : Eigen::Vector3d::Zero();
   switch (options.origin) {
-    case TableOrigin::unknown:
-      set.origin = kUnknownLabel;
+    case OriginKind::unknown:
+      set.origin = OriginKind::unknown;
       break;
-    case TableOrigin::center_of_mass:
-      set.origin = "com";
+    case OriginKind::center_of_mass:
+      set.origin = OriginKind::center_of_mass;
       if (!at_com)
         set.notes.push_back(fmt::format(
             "CAUTION: {} was declared to be about the centre of mass, but its degree-1 terms put the centre "
             "of mass {:.6g} m from the origin.",
             source_name, com_offset.norm()));
       break;
-    case TableOrigin::point:
-      set.origin = at_com ? "com" : "point";
+    case OriginKind::point:
+      set.origin = at_com ? OriginKind::center_of_mass : OriginKind::point;
       if (at_com) set.center_of_mass = set.origin_in_mesh;
       break;
+    default:
+      break;  // refused by check_declarations
   }
   set.history.push_back(fmt::format(
       "{}: origin {}, axes {}", source_name,
-      options.origin == TableOrigin::unknown ? std::string("unknown (not declared)")
-      : options.origin == TableOrigin::center_of_mass
+      options.origin == OriginKind::unknown ? std::string("unknown (not declared)")
+      : options.origin == OriginKind::center_of_mass
           ? std::string("the centre of mass (declared)")
           : fmt::format("({}, {}, {}) m in the mesh frame (declared)", set.origin_in_mesh.x(),
                         set.origin_in_mesh.y(), set.origin_in_mesh.z()),
@@ -166,43 +135,6 @@ void record_origin_and_axes(const TableImportOptions& options, const std::string
 }
 
 }  // namespace
-
-std::vector<TableColumn> parse_table_columns(const std::string& text) {
-  std::vector<TableColumn> columns;
-  size_t start = 0;
-  while (true) {
-    const size_t comma = text.find(',', start);
-    const std::string name =
-        trim(text.substr(start, comma == std::string::npos ? std::string::npos : comma - start));
-    bool known = false;
-    for (TableColumn column : {TableColumn::n, TableColumn::m, TableColumn::C, TableColumn::S,
-                               TableColumn::sigma_C, TableColumn::sigma_S, TableColumn::skip}) {
-      if (name == column_name(column)) {
-        if (column != TableColumn::skip && std::count(columns.begin(), columns.end(), column))
-          throw ConventionError(fmt::format("--columns '{}': column {} given twice", text, name));
-        columns.push_back(column);
-        known = true;
-      }
-    }
-    if (!known)
-      throw ConventionError(
-          fmt::format("--columns '{}': unknown column '{}' (expected n, m, C, S, sigma_C, "
-                      "sigma_S or skip)",
-                      text, name));
-    if (comma == std::string::npos) break;
-    start = comma + 1;
-  }
-  for (TableColumn needed : {TableColumn::n, TableColumn::m, TableColumn::C})
-    if (!std::count(columns.begin(), columns.end(), needed))
-      throw ConventionError(fmt::format("--columns '{}': column {} is required", text, column_name(needed)));
-  return columns;
-}
-
-std::string to_string(const std::vector<TableColumn>& columns) {
-  std::string text;
-  for (size_t i = 0; i < columns.size(); ++i) text += (i ? "," : "") + std::string(column_name(columns[i]));
-  return text;
-}
 
 CoefficientSet parse_table(const std::string& text, const std::string& source_name,
                            const TableImportOptions& options) {
@@ -279,7 +211,7 @@ CoefficientSet parse_table(const std::string& text, const std::string& source_na
                                        n, m, lowest, degree));
 
   CoefficientSet set = make_empty_set(degree);
-  set.convention = Convention{*options.normalization, *options.condon_shortley, options.zonal_as_j};
+  set.convention = declared_convention(options);
   for (const auto& [key, row] : rows) {
     set.C(key.first, key.second) = row.c;
     set.S(key.first, key.second) = row.s;
@@ -289,7 +221,7 @@ CoefficientSet parse_table(const std::string& text, const std::string& source_na
   set.gm = *options.gm;
   set.reference_radius = *options.reference_radius;
   set.body = options.body.empty() ? std::filesystem::path(source_name).filename().string() : options.body;
-  set.length_unit = to_string(options.unit);
+  set.length_unit = options.unit;
   set.created = std::string("imported from a table by polystokes ") + POLYSTOKES_VERSION;
   set.history.push_back(fmt::format(
       "imported from table {} (columns {}, {}, reference radius {} m, GM {} m^3 s^-2)", source_name,

@@ -64,8 +64,11 @@ std::string comparison_json(const Comparison& c) {
   root["degree_b"] = c.degree_b;
   root["tolerance"] = c.tolerance;
   root["alignment"] = c.alignment;
-  root["origin"] = c.origin_relation;
-  root["axes"] = c.axes_relation;
+  root["origin"] = to_string(c.origin_relation);
+  root["axes"] = to_string(c.axes_relation);
+  // Only when a set carries frame metadata, so comparisons of sets without it read as before.
+  if (!c.frame_a.empty()) root["frame_a"] = c.frame_a;
+  if (!c.frame_b.empty()) root["frame_b"] = c.frame_b;
   root["agree"] = c.agree;
   root["agree_degree"] = c.agree_degree;
   root["misfit"] = number(c.misfit);

@@ -75,20 +75,21 @@ std::string provenance_section(const ReportInput& input) {
   out += row("normalization and phase", escape(describe(set.convention)));
   // An imported table that did not declare where its origin or axes are has none to show.
   out += row("expansion origin",
-             escape(set.origin) +
+             escape(to_string(set.origin)) +
                  (set.origin_known ? ", at " + num(vector_text(set.origin_in_mesh)) + " m in the mesh frame"
                                    : ", place in the mesh frame unknown"));
   std::string axes;
   for (int i = 0; i < 3; ++i)
     axes += fmt::format("{}{} = {}", i ? "<br/>" : "", "xyz"[i],
                         num(vector_text(set.axes_in_mesh.row(i).transpose())));
-  out += row("frame", escape(set.frame) + (set.axes_known ? " (set axes in the mesh frame)<br/>" + axes
-                                                          : ", directions in the mesh frame unknown"));
+  out += row("frame", escape(frame_label(set)) + (set.axes_known ? " (set axes in the mesh frame)<br/>" + axes
+                                                                 : ", directions in the mesh frame unknown"));
+  if (!set.frame_metadata.empty()) out += row("frame metadata", escape(describe(set.frame_metadata)));
   out += row("centre of mass", num(vector_text(set.center_of_mass)) + " m, mesh frame");
   out += row("mass", unknown_if_zero(set.mass, "kg"));
   out += row("volume", unknown_if_zero(set.volume, "m<sup>3</sup>"));
   out += row("Brillouin radius", unknown_if_zero(set.brillouin_radius, "m") + " about the expansion origin");
-  out += row("length unit of the source mesh", escape(set.length_unit));
+  out += row("length unit of the source mesh", escape(to_string(set.length_unit)));
   out += row("created", set.created.empty() ? std::string("not recorded") : escape(set.created));
   out += "</table>\n";
   if (!set.regions.empty()) {
@@ -101,7 +102,7 @@ std::string provenance_section(const ReportInput& input) {
       out += fmt::format(
           "<tr><td>{}</td><td>{}</td><td>{}</td><td class=\"num\">{}</td><td class=\"num\">{}</td>"
           "<td class=\"num\">{}</td><td class=\"num hash\">{}</td></tr>\n",
-          i + 1, escape(r.mesh), escape(r.unit), r.faces, exact(r.density), exact(r.volume),
+          i + 1, escape(r.mesh), escape(to_string(r.unit)), r.faces, exact(r.density), exact(r.volume),
           escape(r.checksum));
     }
     out += "</table>\n";
@@ -279,7 +280,7 @@ std::string spectrum_section(const CoefficientSet& set) {
       show_one ? 1 : 2, set.degree);
   if (!show_one)
     out += fmt::format(" (degree 1 is {} with the origin at the {}, not drawn)", sci(spectrum.variance[1]),
-                       set.origin == "com" ? "centre of mass" : "expansion origin");
+                       set.origin == OriginKind::center_of_mass ? "centre of mass" : "expansion origin");
   out += ".";
   if (spectrum.has_sigmas) out += " Red: the same sum of the squared sigmas.";
   if (law)

@@ -44,6 +44,20 @@ MistakeKind parse_mistake_kind(const std::string& word) {
   throw ConventionError("unknown mistake kind '" + word + "'");
 }
 
+std::string to_string(FrameAgreement agreement) {
+  switch (agreement) {
+    case FrameAgreement::same:
+      return "same";
+    case FrameAgreement::different:
+      return "different";
+    case FrameAgreement::aligned:
+      return "aligned";
+    case FrameAgreement::unknown:
+      return kUnknownLabel;
+  }
+  throw ConventionError(fmt::format("frame agreement {} has no name", static_cast<int>(agreement)));
+}
+
 std::string Hypothesis::kind() const {
   std::string text;
   for (MistakeKind mistake : mistakes) text += (text.empty() ? "" : "+") + to_string(mistake);
@@ -230,6 +244,7 @@ class Comparer {
     }
     if ((rotation_ - Eigen::Matrix3d::Identity()).cwiseAbs().maxCoeff() > 1e-15) {
       out = rotate_set(out, rotation_, a_.frame);
+      out.frame_metadata = a_.frame_metadata;  // B is now in A's axes
       if (steps) steps->push_back("axes rotated to A's axes");
     }
     if (steps && out.reference_radius != a_.reference_radius)
@@ -606,6 +621,11 @@ Comparison compare_sets(const CoefficientSet& a, const CoefficientSet& b, const 
         fmt::format("compared to degree {} (A has degree {}, B degree {})", out.degree, a.degree, b.degree));
   const FrameRelation relation = relate_frames(a, b);
   describe_frames(a, relation, options.align_frame, out);
+  out.frame_a = describe(a.frame_metadata);
+  out.frame_b = describe(b.frame_metadata);
+  if (a.frame_metadata.name && b.frame_metadata.name && *a.frame_metadata.name != *b.frame_metadata.name)
+    out.alignment.push_back(fmt::format("the sets name different frames: A '{}', B '{}'",
+                                        *a.frame_metadata.name, *b.frame_metadata.name));
   const Comparer comparer(a, options, out.degree, relation);
   Scaling scaling;
   const CoefficientSet b_brought = comparer.bring(b, &scaling, &out.alignment);

@@ -18,15 +18,17 @@ std::optional<Eigen::Vector3d> mesh_center_of_mass(const CoefficientSet& set) {
 }
 
 std::string unknown_origin_text(const char* which, const CoefficientSet& set) {
-  return set.origin == kUnknownLabel
+  return set.origin == OriginKind::unknown
              ? fmt::format("{}'s origin is unknown (a table imported without an origin declaration)", which)
-             : fmt::format("{}'s origin ('{}') has no known place in the mesh frame", which, set.origin);
+             : fmt::format("{}'s origin ('{}') has no known place in the mesh frame", which,
+                           to_string(set.origin));
 }
 
 std::string unknown_axes_text(const char* which, const CoefficientSet& set) {
-  return set.frame == kUnknownLabel
+  return set.frame == FrameKind::unknown
              ? fmt::format("{}'s axes are unknown (a table imported without an axes declaration)", which)
-             : fmt::format("{}'s axes ('{}') have no known directions in the mesh frame", which, set.frame);
+             : fmt::format("{}'s axes ('{}') have no known directions in the mesh frame", which,
+                           frame_label(set));
 }
 
 }  // namespace
@@ -35,7 +37,7 @@ FrameRelation relate_frames(const CoefficientSet& a, const CoefficientSet& b) {
   FrameRelation out;
   if (a.axes_known && b.axes_known)
     out.rotation = Eigen::Matrix3d(a.axes_in_mesh * b.axes_in_mesh.transpose());
-  else if (a.frame == b.frame && a.frame != kUnknownLabel)
+  else if (a.frame != FrameKind::unknown && frame_label(a) == frame_label(b))
     out.rotation = Eigen::Matrix3d::Identity();  // the same axes by declaration, e.g. both "principal"
   else
     out.axes_unknown_because = unknown_axes_text(a.axes_known ? "B" : "A", a.axes_known ? b : a);
@@ -43,9 +45,10 @@ FrameRelation relate_frames(const CoefficientSet& a, const CoefficientSet& b) {
   std::optional<Eigen::Vector3d> a_place, b_place;  // mesh frame
   if (a.origin_known) a_place = a.origin_in_mesh;
   if (b.origin_known) b_place = b.origin_in_mesh;
-  if (!b_place && b.origin == "com") b_place = mesh_center_of_mass(a);
-  if (!a_place && a.origin == "com") a_place = mesh_center_of_mass(b);
-  if (!a_place && !b_place && a.origin == "com" && b.origin == "com") {
+  const bool a_com = a.origin == OriginKind::center_of_mass, b_com = b.origin == OriginKind::center_of_mass;
+  if (!b_place && b_com) b_place = mesh_center_of_mass(a);
+  if (!a_place && a_com) a_place = mesh_center_of_mass(b);
+  if (!a_place && !b_place && a_com && b_com) {
     out.shift = Eigen::Vector3d::Zero();  // both about the centre of mass
   } else if (!a_place || !b_place) {
     out.origin_unknown_because = !a_place ? unknown_origin_text("A", a) : unknown_origin_text("B", b);
@@ -66,8 +69,14 @@ void describe_frames(const CoefficientSet& a, const FrameRelation& relation, boo
   const bool shifted = relation.shift && relation.shift->norm() > 1e-9 * a.reference_radius;
   const bool rotated =
       relation.rotation && (*relation.rotation - Eigen::Matrix3d::Identity()).cwiseAbs().maxCoeff() > 1e-12;
-  out.origin_relation = !relation.shift ? "unknown" : !shifted ? "same" : align ? "aligned" : "different";
-  out.axes_relation = !relation.rotation ? "unknown" : !rotated ? "same" : align ? "aligned" : "different";
+  const auto agreement = [&](bool known, bool moved) {
+    return !known   ? FrameAgreement::unknown
+           : !moved ? FrameAgreement::same
+           : align  ? FrameAgreement::aligned
+                    : FrameAgreement::different;
+  };
+  out.origin_relation = agreement(relation.shift.has_value(), shifted);
+  out.axes_relation = agreement(relation.rotation.has_value(), rotated);
   if (!align && (shifted || rotated))
     out.alignment.push_back(fmt::format(
         "{} recorded in the sets differ; not aligned (ask for frame alignment)", shifted && rotated

@@ -299,11 +299,11 @@ CoefficientSet shift_origin(const CoefficientSet& set, const Eigen::Vector3d& sh
                            : Eigen::Vector3d::Zero();
   const double tiny = 1e-9 * R;
   if (N >= 1 && out.C(0, 0) != 0 && center_of_mass_offset(out).norm() <= tiny)
-    out.origin = "com";
+    out.origin = OriginKind::center_of_mass;
   else if (out.origin_known && out.origin_in_mesh.norm() <= tiny)
-    out.origin = "mesh";
+    out.origin = OriginKind::mesh;
   else
-    out.origin = "shifted";
+    out.origin = OriginKind::shifted;
   if (known_brillouin) out.brillouin_radius = brillouin + length;
   out.history.push_back(fmt::format(
       "expansion origin shifted by {} m (set frame) to {}, translation of degrees 0..{} by the addition "
@@ -476,8 +476,7 @@ void RealWignerD::build_real() {
   }
 }
 
-CoefficientSet rotate_set(const CoefficientSet& set, const Eigen::Matrix3d& rotation,
-                          const std::string& frame_label) {
+CoefficientSet rotate_set(const CoefficientSet& set, const Eigen::Matrix3d& rotation, FrameKind frame) {
   check_matrices(set);
   RealWignerD sequence(rotation);
   CoefficientSet work = expressed_in(set, working_convention);
@@ -505,7 +504,8 @@ CoefficientSet rotate_set(const CoefficientSet& set, const Eigen::Matrix3d& rota
   }
   CoefficientSet out = expressed_in(work, set.convention);
   if (set.axes_known) out.axes_in_mesh = rotation * set.axes_in_mesh;
-  out.frame = frame_label;
+  out.frame = frame;
+  drop_frame_orientation(out);  // before the rotation's line, which callers may complete
   out.history.push_back(
       fmt::format("axes rotated (real Wigner-D, degrees 0..{}): x_new = Q x_old with Q = {}", set.degree,
                   matrix_text(rotation)));
@@ -528,7 +528,8 @@ CoefficientSet rotate_about_z(const CoefficientSet& set, double angle) {
   }
   const Eigen::Matrix3d rotation = euler_zyz_matrix(angle, 0, 0);
   if (set.axes_known) out.axes_in_mesh = rotation * set.axes_in_mesh;
-  out.frame = "rotated";
+  out.frame = FrameKind::rotated;
+  drop_frame_orientation(out);
   out.history.push_back(fmt::format("axes rotated about z by {} rad (longitudes + {} rad)", angle, angle));
   return out;
 }
@@ -586,7 +587,7 @@ Eigen::Matrix3d principal_axes_rotation(const CoefficientSet& set) {
 }
 
 CoefficientSet rotate_to_principal_axes(const CoefficientSet& set) {
-  CoefficientSet out = rotate_set(set, principal_axes_rotation(set), "principal");
+  CoefficientSet out = rotate_set(set, principal_axes_rotation(set), FrameKind::principal);
   out.history.back() += " (principal axes from the degree-2 terms about the centre of mass)";
   return out;
 }

@@ -111,6 +111,27 @@ def test_sets_round_trip_in_both_forms(box_set, tmp_path):
         assert np.array_equal(back.C, box_set.C) and np.array_equal(back.S, box_set.S)
 
 
+def test_frame_metadata_is_checked_kept_by_write_and_read_and_origin_and_frame_are_words(box_set, tmp_path):
+    # Issue 12; right ascension in [0, 360) (equatorial coordinates, common practice).
+    assert box_set.origin == "com" and box_set.frame == "mesh"
+    frame = polystokes.FrameMetadata()
+    frame.name = "Box fixed"
+    frame.pole_ra, frame.pole_dec = 12.5, -30.0
+    frame.meridian, frame.epoch = 100.0, "2000-01-01T12:00:00Z"
+    named = polystokes.rescale_radius(box_set, box_set.reference_radius)
+    named.frame_metadata = frame
+    for name in ("set.txt", "set.json"):
+        path = str(tmp_path / name)
+        named.write(path)
+        back = polystokes.read_set(path).frame_metadata
+        assert (back.name, back.pole_ra, back.pole_dec, back.meridian, back.epoch) == (
+            "Box fixed", 12.5, -30.0, 100.0, "2000-01-01T12:00:00Z")
+        assert back.definition is None
+    frame.pole_ra = 360.0
+    with pytest.raises(polystokes.ConventionError):
+        named.frame_metadata = frame
+
+
 def test_results_do_not_depend_on_the_thread_count():
     one = polystokes.compute([box(A, B, C)], [RHO], 10, threads=1)
     two = polystokes.compute([box(A, B, C)], [RHO], 10, threads=2)

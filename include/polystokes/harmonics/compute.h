@@ -12,20 +12,16 @@
 
 namespace polystokes {
 
-/// Expansion origin of a computed set: the centre of mass, the mesh origin, or a given point.
-enum class OriginChoice { center_of_mass, mesh, point };
-/// The set's origin label: "com", "mesh", "point".
-std::string to_string(OriginChoice origin);
-/// Expansion axes: the mesh's own, or the principal axes of inertia (mass_properties' sign rule).
-enum class FrameChoice { mesh, principal };
-
 /// What a computation produces.
 struct ComputeOptions {
   int degree = 8;
   double reference_radius = 0;  ///< m; 0 = Brillouin radius about the chosen origin
-  OriginChoice origin = OriginChoice::center_of_mass;
+  /// The centre of mass, the mesh origin or origin_point (the other kinds are refused).
+  OriginKind origin = OriginKind::center_of_mass;
   Eigen::Vector3d origin_point = Eigen::Vector3d::Zero();  ///< m, mesh frame; used when origin is point
-  FrameChoice frame = FrameChoice::mesh;
+  /// The mesh's own axes or the principal axes of inertia (mass_properties' sign rule; others are refused).
+  FrameKind frame = FrameKind::mesh;
+  FrameMetadata frame_metadata;  ///< what the user says the frame is; copied into the set (checked)
   Convention convention;      ///< output convention (computed fully normalized, then converted)
   std::string body = "body";  ///< the set's body name
   MomentOptions execution;

@@ -9,44 +9,27 @@
 
 #include "polystokes/core/coefficient_set.h"
 #include "polystokes/core/mesh.h"
+#include "polystokes/io/table_conventions.h"
 
 namespace polystokes {
 
-/// What a table's expansion origin is: not declared, the centre of mass (mesh-frame place unknown), or a
-/// declared point of the mesh frame.
-enum class TableOrigin { unknown, center_of_mass, point };
-
-/// One declared column of a table.
-enum class TableColumn { n, m, C, S, sigma_C, sigma_S, skip };
-
-/// What the user declares about a table. Everything that changes the numbers has no default: a missing
-/// declaration is an error naming the option of `polystokes convert` that supplies it.
-struct TableImportOptions {
-  std::vector<TableColumn> columns;  ///< --columns; must hold n, m and C, each once
-  std::string comment = "#";         ///< --comment: text from this prefix to the line end is ignored
-  int skip_lines = 0;                ///< --skip-lines: header lines ignored before any parsing
-  std::optional<Normalization> normalization;  ///< --normalization
-  std::optional<bool> condon_shortley;         ///< --condon-shortley / --no-condon-shortley
-  bool zonal_as_j = false;                     ///< --zonal-j: the m = 0 values are J_n = -C_n0 (n >= 1)
-  std::optional<double> reference_radius;      ///< --ref-radius, m
-  std::optional<double> gm;                    ///< --gm, m^3 s^-2
-  LengthUnit unit = LengthUnit::meter;         ///< --unit: the unit bare lengths were given in (echoed)
-  std::string body;                            ///< label; default: the file name
-  /// --table-origin: what the expansion origin is. Not declared: the set records its origin as unknown.
-  TableOrigin origin = TableOrigin::unknown;
-  Eigen::Vector3d origin_point = Eigen::Vector3d::Zero();  ///< for TableOrigin::point: mesh frame, m
+/// What the user declares about a table: its conventions (TableConventions; columns must hold n, m and C,
+/// each once; a missing declaration is an error naming the option of `polystokes convert` that supplies it)
+/// and how to read it.
+struct TableImportOptions : TableConventions {
+  std::string comment = "#";  ///< --comment: text from this prefix to the line end is ignored
+  int skip_lines = 0;         ///< --skip-lines: header lines ignored before any parsing
+  std::string body;           ///< label; default: the file name
+  /// --table-origin: what the expansion origin is: not declared (OriginKind::unknown; the set records its
+  /// origin as unknown), the centre of mass (mesh-frame place unknown) or a declared point of the mesh frame
+  /// (OriginKind::point). The other kinds are refused.
+  OriginKind origin = OriginKind::unknown;
+  Eigen::Vector3d origin_point = Eigen::Vector3d::Zero();  ///< for OriginKind::point: mesh frame, m
   /// --table-axes: "mesh" (the axes of the shape model's own coordinates, so known in the mesh frame) or any
   /// other label (e.g. "principal", a named body-fixed frame), recorded with its directions unknown. Empty:
   /// the axes are recorded as unknown.
   std::string axes;
 };
-
-/// Parses "n,m,C,S,sigma_C,sigma_S,skip"-style lists (names case-sensitive as shown, comma separated).
-/// Throws ConventionError on an unknown name or a missing or repeated n, m or C.
-std::vector<TableColumn> parse_table_columns(const std::string& text);
-
-/// Comma-separated list of the column names, the inverse of parse_table_columns.
-std::string to_string(const std::vector<TableColumn>& columns);
 
 /// Parses a table. A data line holds at least as many fields as declared columns (fields after the last
 /// declared column are ignored), separated by whitespace and/or single commas; numbers may use a Fortran

@@ -85,13 +85,21 @@ struct Hypothesis {
   bool explains = false;    ///< the corrected B agrees with A at every degree
 };
 
+/// How B's origin or axes stand to A's: the same, different (not aligned), aligned (B brought to A's), or
+/// unknown (a set does not know its origin or axes in the mesh frame: not aligned, B taken as if in A's).
+enum class FrameAgreement { same, different, aligned, unknown };
+
+/// Word of a FrameAgreement in reports: "same", "different", "aligned", "unknown".
+std::string to_string(FrameAgreement agreement);
+
 struct Comparison {
   int degree = 0;  ///< highest degree compared
   int degree_a = 0, degree_b = 0;
   std::vector<std::string> alignment;  ///< what was done to B to bring it to A, and what was not
-  /// How B's origin and axes stand to A's: "same", "different" (not aligned), "aligned", or "unknown" (a set
-  /// does not know its origin or axes in the mesh frame: not aligned, B taken as if it were in A's).
-  std::string origin_relation, axes_relation;
+  /// How B's origin and axes stand to A's.
+  FrameAgreement origin_relation = FrameAgreement::unknown, axes_relation = FrameAgreement::unknown;
+  /// A's and B's frame metadata in words (describe(FrameMetadata)); empty when the set has none.
+  std::string frame_a, frame_b;
   std::vector<DegreeComparison> degrees;       ///< 0..degree
   std::vector<CoefficientDifference> largest;  ///< largest |a - b| first
   int agree_degree = -1;                       ///< A and B agree at every degree 0..agree_degree

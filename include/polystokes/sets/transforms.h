@@ -82,10 +82,11 @@ class RealWignerD {
 
 /// Rotates the set's axes: a point with coordinates x in the old frame has coordinates Q x in the new one
 /// (equivalently, the result is the set of the body rotated by Q about the origin, axes kept).
-/// axes_in_mesh becomes Q * axes_in_mesh (unknown axes stay unknown), frame "rotated" (or `frame_label`).
-/// Sigmas propagated assuming uncorrelated errors. Any convention. O(degree^3) time, O(degree^2) memory.
+/// axes_in_mesh becomes Q * axes_in_mesh (unknown axes stay unknown), frame FrameKind::rotated (or `frame`);
+/// the frame metadata's pole and meridian are dropped (drop_frame_orientation). Sigmas propagated assuming
+/// uncorrelated errors. Any convention. O(degree^3) time, O(degree^2) memory.
 CoefficientSet rotate_set(const CoefficientSet& set, const Eigen::Matrix3d& rotation,
-                          const std::string& frame_label = "rotated");
+                          FrameKind frame = FrameKind::rotated);
 
 /// rotate_set for Q = Rz(angle) (radians) by the closed form C' = C cos(m a) - S sin(m a),
 /// S' = C sin(m a) + S cos(m a): longitudes grow by `angle`. Any convention. O(degree^2).
