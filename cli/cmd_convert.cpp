@@ -106,7 +106,7 @@ void run_convert(const ConvertOptions& options, const GlobalOptions& global) {
     return q.value;
   };
   std::optional<Eigen::Vector3d> shift;
-  if (!options.shift.empty() && options.shift != "com") {
+  if (!options.shift.empty() && options.shift != to_string(OriginKind::center_of_mass)) {
     shift = option_point(options.shift, unit, "--shift");
     echo.push_back(fmt::format("--shift ({}, {}, {}) m", shift->x(), shift->y(), shift->z()));
   }

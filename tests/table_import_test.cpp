@@ -38,12 +38,7 @@ const CoefficientSet& body_set() {
 
 TableImportOptions declared(const CoefficientSet& set, const std::string& columns) {
   TableImportOptions options;
-  options.columns = parse_table_columns(columns);
-  options.normalization = set.convention.normalization;
-  options.condon_shortley = set.convention.condon_shortley;
-  options.zonal_as_j = set.convention.zonal_as_j;
-  options.reference_radius = set.reference_radius;
-  options.gm = set.gm;
+  static_cast<TableConventions&>(options) = conventions_of(set, columns);
   return options;
 }
 

@@ -17,6 +17,17 @@
 
 namespace polystokes::test {
 
+TableConventions conventions_of(const CoefficientSet& set, const std::string& columns) {
+  TableConventions conventions;
+  conventions.columns = parse_column_words(columns);
+  conventions.normalization = set.convention.normalization;
+  conventions.condon_shortley = set.convention.condon_shortley;
+  conventions.zonal_as_j = set.convention.zonal_as_j;
+  conventions.reference_radius = set.reference_radius;
+  conventions.gm = set.gm;
+  return conventions;
+}
+
 double max_coefficient_difference(const CoefficientSet& a, const CoefficientSet& b, int max_degree) {
   double worst = 0;
   for (int n = 0; n <= max_degree; ++n)

@@ -8,6 +8,7 @@
 
 #include "polystokes/core/coefficient_set.h"
 #include "polystokes/core/mesh.h"
+#include "polystokes/io/table_conventions.h"
 
 namespace polystokes::test {
 
@@ -17,6 +18,10 @@ void require_sets_close(const CoefficientSet& a, const CoefficientSet& b, int ma
 /// Checks that a and b hold the same numbers bit for bit: degree, GM, reference radius, convention, C, S and
 /// both sigmas.
 void require_sets_identical(const CoefficientSet& a, const CoefficientSet& b);
+
+/// A plain table's declarations that describe `set` as it stands: `columns` (column words), its convention,
+/// reference radius and GM.
+TableConventions conventions_of(const CoefficientSet& set, const std::string& columns);
 
 /// Largest |a - b| over C and S up to max_degree.
 double max_coefficient_difference(const CoefficientSet& a, const CoefficientSet& b, int max_degree);

@@ -45,7 +45,9 @@ std::string shell_word(const std::string& text) {
   return out + "'";
 }
 
-std::string round_trip(double value) { return fmt::format("{:.17g}", value); }
+// The shortest decimal that reads back to the same double ([charconv.to.chars]): header values and the
+// read-back command, exact and readable.
+std::string round_trip(double value) { return fmt::format("{}", value); }
 
 // The origin and axes as the header states them, each with the --table-origin / --table-axes declaration
 // that records them on import ("" when import can only leave them unknown).
@@ -116,7 +118,7 @@ std::string import_command(const CoefficientSet& table_set, const TableExportOpt
 }
 
 std::string value_text(double value, int digits) {
-  return digits == 0 ? round_trip(value) : fmt::format("{:.{}e}", value, digits - 1);
+  return digits == 0 ? fmt::format("{:.17g}", value) : fmt::format("{:.{}e}", value, digits - 1);
 }
 
 }  // namespace
