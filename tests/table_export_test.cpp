@@ -128,7 +128,7 @@ TEST_CASE(
   }
 }
 
-TEST_CASE("--digits, --separator, --columns and --max-degree shape the table", "[table_export]") {
+TEST_CASE("digits, separator, column subset and maximum degree shape the table", "[table_export]") {
   const CoefficientSet& set = computed_set();
   TableExportOptions options = in_own_convention(set, "C,n,m");
   options.digits = 8;
