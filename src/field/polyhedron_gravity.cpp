@@ -7,7 +7,7 @@
 #include <limits>
 #include <string>
 
-#include "harmonics/quadrature.h"
+#include "field/triangle_rule.h"
 #include "internal/parallel.h"
 #include "polystokes/core/constants.h"
 #include "polystokes/core/errors.h"
@@ -111,15 +111,8 @@ PolyhedronGravity::PolyhedronGravity(const std::vector<DensityRegion>& regions) 
     regions_.push_back(std::move(region));
   }
   rules_.resize(kMaxRule + 1);
-  for (int q = 1; q <= kMaxRule; ++q) {
-    const GaussRule rule = gauss_legendre_unit(q);
-    const std::vector<double>&nodes = rule.nodes, &weights = rule.weights;
-    for (int i = 0; i < q; ++i)
-      for (int k = 0; k < q; ++k)
-        rules_[size_t(q)].push_back({nodes[size_t(i)] * (1.0 - nodes[size_t(k)]),
-                                     nodes[size_t(i)] * nodes[size_t(k)],
-                                     2.0 * weights[size_t(i)] * weights[size_t(k)] * nodes[size_t(i)]});
-  }
+  for (int q = 1; q <= kMaxRule; ++q)
+    for (const TriangleNode& node : collapsed_triangle_rule(q)) rules_[size_t(q)].push_back({node.a, node.b, node.weight});
 }
 
 size_t PolyhedronGravity::face_count() const {
@@ -128,13 +121,86 @@ size_t PolyhedronGravity::face_count() const {
   return count;
 }
 
+// The direct sum and the fast field's near part (fast_field.cpp) both take a face's terms from here.
+PolyhedronGravity::FaceTerms PolyhedronGravity::face_terms(const Face& face, const Eigen::Vector3d& x, int rule_order,
+                                                         double reduced_distance) const {
+  const bool reduced = reduced_distance > 0;
+  const double inv_d = reduced ? 1.0 / reduced_distance : 0.0, inv_d3 = inv_d * inv_d * inv_d;
+  double integral = 0;                               // I~_f
+  Eigen::Vector3d vector = Eigen::Vector3d::Zero();  // v~_f = -grad of I~_f
+  if (rule_order == 0) {
+    // Closed form (Werner & Scheeres 1997).
+    Eigen::Vector3d r[3];
+    double norm[3];
+    for (int k = 0; k < 3; ++k) {
+      r[k] = face.v[k] - x;
+      norm[k] = r[k].norm();
+    }
+    for (int k = 0; k < 3; ++k) {
+      const int j = (k + 1) % 3;
+      const double factor = edge_factor(r[k], norm[k], norm[j], face.edge_unit[k], face.edge_length[k]);
+      const double height = face.edge_normal[k].dot(r[k]);
+      if (height != 0) integral += height * factor;
+      vector += face.edge_normal[k] * factor;
+    }
+    const double triple = r[0].dot(face.double_area_normal);
+    const double omega = solid_angle(r, norm, triple);
+    integral -= triple / (2.0 * face.area) * omega;  // (n_f . r_f) omega_f
+    vector -= face.normal * omega;
+    if (reduced) {
+      integral -= face.area * inv_d;
+      vector -= face.area * inv_d3 * x;
+    }
+  } else {
+    const auto& rule = rules_[size_t(rule_order)];
+    const Eigen::Vector3d e1 = face.v[1] - face.v[0], e2 = face.v[2] - face.v[0];
+    if (!reduced) {
+      for (const auto& node : rule) {
+        const Eigen::Vector3d u = face.v[0] + node.a * e1 + node.b * e2 - x;
+        const double a2 = u.squaredNorm(), inv_a = 1.0 / std::sqrt(a2);
+        integral += node.weight * inv_a;
+        vector -= (node.weight * inv_a * inv_a * inv_a) * u;
+      }
+    } else {
+      // With a = |y - x|, b = |x|: 1/a - 1/b = (b^2 - a^2)/(a b (a + b)) with b^2 - a^2 = 2 x.y - y.y
+      // formed from the small y (no cancellation), and (y - x)/a^3 + x/b^3 = y/a^3 - x (b^2 - a^2)(a^2 + ab
+      // + b^2) /
+      // ((a + b) a^3 b^3).
+      const double b = reduced_distance;
+      double along_x = 0;
+      Eigen::Vector3d along_y = Eigen::Vector3d::Zero();
+      for (const auto& node : rule) {
+        const Eigen::Vector3d y = face.v[0] + node.a * e1 + node.b * e2;
+        const double a2 = (y - x).squaredNorm(), a = std::sqrt(a2);
+        const double difference = 2.0 * x.dot(y) - y.squaredNorm();
+        const double inv = 1.0 / (a * (a + b));  // 1/(a (a + b)); 1/a = (a + b) inv
+        const double inv_a = (a + b) * inv, inv_a3 = inv_a * inv_a * inv_a;
+        integral += node.weight * difference * inv / b;
+        along_y += (node.weight * inv_a3) * y;
+        along_x += node.weight * difference * (a2 + a * b + b * b) * a * inv * inv_a3;
+      }
+      vector = along_x * inv_d3 * x - along_y;
+    }
+    integral *= face.area;
+    vector *= face.area;
+  }
+  return {integral, vector};
+}
+
+PolyhedronGravity::FaceTerms PolyhedronGravity::near_face_terms(const Face& face,
+                                                              const Eigen::Vector3d& x) const {
+  static const RuleThresholds rules(kBudget);
+  const double ratio = (face.centroid - x).norm() / face.radius;
+  return face_terms(face, x, ratio < kClosedFormLimit ? 0 : rules.order(ratio), 0);
+}
+
 FieldValue PolyhedronGravity::evaluate_region(const Region& region, const Eigen::Vector3d& point) const {
   const Eigen::Vector3d x = point - region.center;
   const double distance = x.norm();
   // Far from the region, every face integral is taken relative to the value seen from the centre:
   // I_f - A_f / |x| and v_f - A_f x / |x|^3, whose subtracted parts sum to zero (sum_f A_f n_f = 0).
   const bool reduced = distance > 2.0 * region.radius;
-  const double inv_d = reduced ? 1.0 / distance : 0.0, inv_d3 = inv_d * inv_d * inv_d;
+  const double inv_d = reduced ? 1.0 / distance : 0.0;
   // Reduced integrals are smaller than the plain ones by ~radius/distance, so the budget shrinks with it.
   const RuleThresholds rules(kBudget * std::min(1.0, region.radius / distance));
 
@@ -142,68 +208,12 @@ FieldValue PolyhedronGravity::evaluate_region(const Region& region, const Eigen:
   Eigen::Vector3d sum_normal = Eigen::Vector3d::Zero();  // sum_f n_f I~_f
   Eigen::Matrix3d sum_dyad = Eigen::Matrix3d::Zero();    // sum_f n_f v~_f^T
   for (const Face& face : region.faces) {
-    double integral = 0;                               // I~_f
-    Eigen::Vector3d vector = Eigen::Vector3d::Zero();  // v~_f = -grad of I~_f
     const double ratio = (face.centroid - x).norm() / face.radius;
-    if (ratio * std::max(1.0, distance / region.radius) < kClosedFormLimit) {
-      // Closed form (Werner & Scheeres 1997).
-      Eigen::Vector3d r[3];
-      double norm[3];
-      for (int k = 0; k < 3; ++k) {
-        r[k] = face.v[k] - x;
-        norm[k] = r[k].norm();
-      }
-      for (int k = 0; k < 3; ++k) {
-        const int j = (k + 1) % 3;
-        const double factor = edge_factor(r[k], norm[k], norm[j], face.edge_unit[k], face.edge_length[k]);
-        const double height = face.edge_normal[k].dot(r[k]);
-        if (height != 0) integral += height * factor;
-        vector += face.edge_normal[k] * factor;
-      }
-      const double triple = r[0].dot(face.double_area_normal);
-      const double omega = solid_angle(r, norm, triple);
-      integral -= triple / (2.0 * face.area) * omega;  // (n_f . r_f) omega_f
-      vector -= face.normal * omega;
-      if (reduced) {
-        integral -= face.area * inv_d;
-        vector -= face.area * inv_d3 * x;
-      }
-    } else {
-      const auto& rule = rules_[size_t(rules.order(ratio))];
-      const Eigen::Vector3d e1 = face.v[1] - face.v[0], e2 = face.v[2] - face.v[0];
-      if (!reduced) {
-        for (const Node& node : rule) {
-          const Eigen::Vector3d u = face.v[0] + node.a * e1 + node.b * e2 - x;
-          const double a2 = u.squaredNorm(), inv_a = 1.0 / std::sqrt(a2);
-          integral += node.weight * inv_a;
-          vector -= (node.weight * inv_a * inv_a * inv_a) * u;
-        }
-      } else {
-        // With a = |y - x|, b = |x|: 1/a - 1/b = (b^2 - a^2)/(a b (a + b)) with b^2 - a^2 = 2 x.y - y.y
-        // formed from the small y (no cancellation), and (y - x)/a^3 + x/b^3 = y/a^3 - x (b^2 - a^2)(a^2 + ab
-        // + b^2) /
-        // ((a + b) a^3 b^3).
-        const double b = distance;
-        double along_x = 0;
-        Eigen::Vector3d along_y = Eigen::Vector3d::Zero();
-        for (const Node& node : rule) {
-          const Eigen::Vector3d y = face.v[0] + node.a * e1 + node.b * e2;
-          const double a2 = (y - x).squaredNorm(), a = std::sqrt(a2);
-          const double difference = 2.0 * x.dot(y) - y.squaredNorm();
-          const double inv = 1.0 / (a * (a + b));  // 1/(a (a + b)); 1/a = (a + b) inv
-          const double inv_a = (a + b) * inv, inv_a3 = inv_a * inv_a * inv_a;
-          integral += node.weight * difference * inv / b;
-          along_y += (node.weight * inv_a3) * y;
-          along_x += node.weight * difference * (a2 + a * b + b * b) * a * inv * inv_a3;
-        }
-        vector = along_x * inv_d3 * x - along_y;
-      }
-      integral *= face.area;
-      vector *= face.area;
-    }
-    sum_plane += face.plane * integral;
-    sum_normal += face.normal * integral;
-    sum_dyad += face.normal * vector.transpose();
+    const bool closed_form = ratio * std::max(1.0, distance / region.radius) < kClosedFormLimit;
+    const FaceTerms terms = face_terms(face, x, closed_form ? 0 : rules.order(ratio), reduced ? distance : 0);
+    sum_plane += face.plane * terms.integral;
+    sum_normal += face.normal * terms.integral;
+    sum_dyad += face.normal * terms.vector.transpose();
   }
   const double g_rho = gravitational_constant * region.density;
   FieldValue value;

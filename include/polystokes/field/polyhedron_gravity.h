@@ -80,11 +80,23 @@ class PolyhedronGravity {
   };
   FieldValue evaluate_region(const Region& region, const Eigen::Vector3d& point) const;
 
-  struct Node {
-    double a, b, weight;  // y = v0 + a e1 + b e2; weight times the face area
+  // One face's integral I_f and v_f = -grad I_f seen from x (region frame): closed form when rule_order is 0,
+  // else the collapsed Gauss rule of that order; with reduced_distance = |x| > 0 both are taken relative to
+  // the values seen from the region centre (A_f/|x| and A_f x/|x|^3 subtracted).
+  struct FaceTerms {
+    double integral = 0;
+    Eigen::Vector3d vector = Eigen::Vector3d::Zero();
+  };
+  FaceTerms face_terms(const Face& face, const Eigen::Vector3d& x, int rule_order, double reduced_distance) const;
+  // Plain (unreduced) terms of a face near x, closed form or quadrature to rounding: the fast field's near part.
+  FaceTerms near_face_terms(const Face& face, const Eigen::Vector3d& x) const;
+  friend class FastPolyhedronField;  // shares the prepared faces and their terms (fast_field.h)
+
+  struct TriangleRuleNode {
+    double a, b, weight;  // y = v0 + a e1 + b e2; weight times the face area (field/triangle_rule.h)
   };
   std::vector<Region> regions_;
-  std::vector<std::vector<Node>> rules_;  // rules_[q]: q x q collapsed Gauss product rule on the triangle
+  std::vector<std::vector<TriangleRuleNode>> rules_;  // rules_[q]: q x q collapsed Gauss rule on the triangle
 };
 
 }  // namespace polystokes
