@@ -31,6 +31,7 @@
 #include "harmonics/face_blocks.h"
 #include "harmonics/moment_kernel.h"
 #include "mesh/self_intersections.h"
+#include "polystokes/field/fast_field.h"
 #include "polystokes/field/polyhedron_gravity.h"
 #include "polystokes/field/series.h"
 #include "polystokes/harmonics/compute.h"
@@ -514,6 +515,9 @@ struct Settings {
   int end_to_end_frequency = 224;  // 0: no end-to-end section
   int samples = 4;                 // Monte Carlo samples timed
   std::string executable;          // the polystokes program; default: beside this one
+  std::vector<int> fast_frequencies = {22};  // fast field on 20 K^2 facets, at every facet centroid; none: skip
+  std::vector<double> fast_accuracies = {1e-8, 1e-10};
+  int fast_direct_points = 256;  // the direct sum is timed on this many of the points and scaled
 };
 
 std::vector<int> parse_list(const char* text) {
@@ -527,12 +531,23 @@ std::vector<int> parse_list(const char* text) {
   return values;
 }
 
+std::vector<double> parse_doubles(const char* text) {
+  std::vector<double> values;
+  for (const char* p = text; *p;) {
+    char* end = nullptr;
+    values.push_back(std::strtod(p, &end));
+    if (end == p) break;
+    p = *end == ',' ? end + 1 : end;
+  }
+  return values;
+}
+
 void usage() {
   std::printf(
       "usage: polystokes_bench [--quick] [--frequencies K,..] [--degrees N,..] [--threads T,..] [--repeat "
       "R]\n"
       "                        [--gravity-frequency K] [--gravity-points P] [--no-shuffled] [--accuracy N]\n"
-      "                        [--end-to-end K] [--polystokes PATH]\n"
+      "                        [--end-to-end K] [--polystokes PATH] [--fast-field K,..] [--fast-accuracy A,..]\n"
       "Meshes are lumpy geodesic spheres with 20 K^2 facets (default K = 71, 100, 224: 1.0e5, 2.0e5, 1.0e6\n"
       "facets); --quick uses K = 23, 32 and degrees 20, 50 for a run of a few seconds. --accuracy N adds "
       "the\n"
@@ -542,7 +557,10 @@ void usage() {
       "and series figures. --end-to-end K (default 224, --quick 50, 0 skips): the compute command on a lumpy "
       "OBJ file of 20 K^2\n"
       "facets against the parse floor, the self-intersection test alone, peak memory and the Monte Carlo\n"
-      "per-sample cost; PATH is the polystokes program (default: beside this benchmark).\n");
+      "per-sample cost; PATH is the polystokes program (default: beside this benchmark).\n"
+      "--fast-field K,.. (default 22; 0 skips): the fast polyhedron field at every facet centroid of lumpy\n"
+      "bodies of 20 K^2 facets (K = 22, 71, 224: 1e4, 1e5, 1e6) at each --fast-accuracy A,.. (default\n"
+      "1e-8,1e-10), against the direct sum timed on 256 of the points and scaled.\n");
 }
 
 // Exact polyhedron gravity (used by `field` and `validate`): cost per facet and point, near and far; then
@@ -597,6 +615,56 @@ void print_gravity(const Settings& settings, double& checksum) {
   }
 }
 
+// The fast polyhedron field (fast multipole method) with P = F: every facet centroid of a lumpy body, all
+// threads; the direct sum timed in the same run on a subset of the points and scaled to all of them; the
+// accuracy is the run's own check against the direct sum (64 points) and its a-priori bound.
+void print_fast_field(const Settings& settings, double& checksum) {
+  const int cores = int(std::max(1u, std::thread::hardware_concurrency()));
+  std::printf("\nfast polyhedron field, P = F (every facet centroid), %d threads; direct = the direct sum timed on "
+              "%d points, scaled to P\n",
+              cores, settings.fast_direct_points);
+  std::printf("%9s %10s %6s %9s %9s %9s %8s %10s %10s %9s %9s %10s\n", "facets", "accuracy", "order", "setup s",
+              "total s", "direct s", "ratio", "checked", "bound", "near/pt", "M2P/pt", "memory");
+  for (const int frequency : settings.fast_frequencies) {
+    const Mesh body = lumpy_body(frequency);
+    const std::vector<DensityRegion> regions{{body, 2000.0}};
+    const long faces = long(body.faces.rows());
+    Points points(faces, 3);
+    for (long f = 0; f < faces; ++f)
+      points.row(f) = (body.vertices.row(body.faces(f, 0)) + body.vertices.row(body.faces(f, 1)) +
+                       body.vertices.row(body.faces(f, 2))) /
+                      3.0;
+    const long subset = std::min<long>(faces, settings.fast_direct_points);
+    Points some(subset, 3);
+    for (long i = 0; i < subset; ++i) some.row(i) = points.row(i * faces / subset);
+    const PolyhedronGravity direct(regions);
+    auto start = std::chrono::steady_clock::now();
+    checksum += direct.evaluate(some, 0).front().potential;
+    const double direct_seconds = seconds_since(start) * double(faces) / double(subset);
+    for (const double accuracy : settings.fast_accuracies) {
+      malloc_trim(0);
+      const double before = status_bytes("VmRSS");
+      const bool peak_reset = reset_peak();
+      start = std::chrono::steady_clock::now();
+      FastFieldOptions options;
+      options.accuracy = accuracy;
+      const FastPolyhedronField fast(regions, options);
+      const double setup = seconds_since(start);
+      const FastFieldResult result = fast.evaluate(points);
+      const double total = seconds_since(start);
+      const double memory = peak_reset ? status_bytes("VmHWM") - before : 0;
+      checksum += result.values.front().potential;
+      const FastFieldReport& r = result.report;
+      std::printf("%9ld %10.0e %6d %9.2f %9.2f %9.1f %8.1f %10.2e %10.2e %9.0f %9.1f %7.0f MB\n", faces, accuracy,
+                  r.order, setup, total, direct_seconds, direct_seconds / total,
+                  std::max(r.checked_potential, r.checked_acceleration),
+                  std::max(r.bound_potential, r.bound_acceleration), double(r.near_pairs) / double(faces),
+                  double(r.multipole_to_point) / double(faces), memory / 1e6);
+      std::fflush(stdout);
+    }
+  }
+}
+
 }  // namespace
 
 int main(int argc, char** argv) {
@@ -638,6 +706,13 @@ int main(int argc, char** argv) {
       settings.accuracy_degree = std::atoi(value());
     } else if (arg == "--end-to-end") {
       settings.end_to_end_frequency = std::atoi(value());
+    } else if (arg == "--fast-field") {
+      settings.fast_frequencies = parse_list(value());
+      settings.fast_frequencies.erase(
+          std::remove(settings.fast_frequencies.begin(), settings.fast_frequencies.end(), 0),
+          settings.fast_frequencies.end());
+    } else if (arg == "--fast-accuracy") {
+      settings.fast_accuracies = parse_doubles(value());
     } else if (arg == "--polystokes") {
       settings.executable = value();
     } else if (arg == "--no-shuffled") {
@@ -714,6 +789,7 @@ int main(int argc, char** argv) {
   }
 
   if (settings.gravity_frequency > 0) print_gravity(settings, checksum);
+  if (!settings.fast_frequencies.empty()) print_fast_field(settings, checksum);
   if (settings.accuracy_degree > 0) print_accuracy(settings.accuracy_degree);
   if (settings.end_to_end_frequency > 0) {
     std::string executable = settings.executable;

@@ -10,6 +10,7 @@
 #include <vector>
 
 #include "field/solid_harmonics.h"
+#include "field/triangle_rule.h"
 #include "polystokes/core/constants.h"
 #include "polystokes/core/errors.h"
 #include "polystokes/field/series.h"
@@ -137,6 +138,37 @@ TEST_CASE("solid harmonic translations reproduce the sum of q/|x - y| (common pr
     CHECK(std::abs(value - sum) <= 1e-12 * std::abs(sum));
     CHECK((g - gradient).norm() <= 1e-11 * gradient.norm());
   }
+}
+
+TEST_CASE("triangle moments by the barycentric recursion equal a Gauss product rule exact to their degree",
+          "[fast_field]") {
+  // The collapsed Gauss-Legendre product rule integrates polynomials of degree 2q - 2 exactly (Stroud 1971,
+  // Approximate Calculation of Multiple Integrals, the conical product rule): an independent way to the same
+  // moments.
+  const int p = 24;
+  const ExpansionShape shape{p, 2};
+  const Eigen::Vector3d vertex[3] = {Eigen::Vector3d(0.3, -0.2, 0.5), Eigen::Vector3d(-0.4, 0.1, 0.2),
+                                     Eigen::Vector3d(0.1, 0.6, -0.3)};
+  const double area = 0.5 * (vertex[1] - vertex[0]).cross(vertex[2] - vertex[0]).norm();
+  const double densities[2] = {1.5, -0.7};
+  std::vector<Complex> exact(size_t(shape.size())), quadrature(exact.size());
+  std::vector<Complex> scratch(3 * exact.size(), Complex(1e300, -1e300));  // garbage must not matter
+  add_triangle_multipole(shape, vertex, area, densities, exact.data(), scratch.data());
+  for (const TriangleNode& node : collapsed_triangle_rule(p / 2 + 2)) {
+    const double charges[2] = {densities[0] * node.weight * area, densities[1] * node.weight * area};
+    add_point_multipole(shape, vertex[0] + node.a * (vertex[1] - vertex[0]) + node.b * (vertex[2] - vertex[0]),
+                        charges, quadrature.data(), scratch.data());
+  }
+  for (int c = 0; c < 2; ++c)
+    for (int n = 0; n <= p; ++n)
+      for (int m = 0; m <= n; ++m) {
+        const size_t i = size_t(c * shape.count() + harmonic_index(n, m));
+        CAPTURE(c, n, m);
+        // Moments of degree n are of size |vertex|^n / n!; compare at that scale.
+        double scale = std::abs(densities[c]) * area;
+        for (int k = 1; k <= n; ++k) scale *= 0.8 / k;
+        CHECK(std::abs(exact[i] - quadrature[i]) <= 1e-13 * scale);
+      }
 }
 
 TEST_CASE("fast field equals the direct sum within the accuracy: sphere, cube-like body, box, torus",

@@ -8,7 +8,6 @@
 #include <numeric>
 
 #include "field/solid_harmonics.h"
-#include "field/triangle_rule.h"
 #include "internal/parallel.h"
 #include "polystokes/core/constants.h"
 #include "polystokes/core/errors.h"
@@ -108,16 +107,6 @@ struct Tree {
   }
 };
 
-// A triangle carrying one polynomial surface density per channel, in the triangle's coordinates (a, b) of
-// y = v0 + a (v1 - v0) + b (v2 - v0): sigma_c = d0 + d1 a + d2 b + d3 a^2 + d4 a b + d5 b^2, of degree
-// `degree` (0 for constant density; a density linear in space gives degree 2, since n_f . y is constant on
-// the face only).
-struct TriangleSource {
-  Eigen::Vector3d vertex[3];
-  double density[kChannels][6] = {};
-  int degree = 0;
-};
-
 // The expansion order the accuracy calls for: the accepted pairs then have x of about 0.3 to 0.5.
 int order_for(double accuracy) { return std::clamp(int(std::ceil(2.0 - 2.2 * std::log10(accuracy))), 4, 36); }
 
@@ -189,37 +178,23 @@ FastPolyhedronField::FastPolyhedronField(const std::vector<DensityRegion>& regio
   s.multipoles.assign(tree.cells.size() * size, Complex(0));
   s.charge.assign(tree.cells.size(), 0.0);
 
-  // Moments of each leaf's faces, exact: the rule integrates degree order + density degree exactly.
-  const int density_degree = 0;
-  const std::vector<TriangleNode> rule = collapsed_triangle_rule((s.shape.order + density_degree + 3) / 2);
+  // Moments of each leaf's faces, exact (add_triangle_multipole).
   parallel_for(tree.leaves.size(), options.threads, [&](size_t l) {
     const int index = tree.leaves[l];
     const Cell& cell = tree.cells[size_t(index)];
     Complex* multipole = s.multipoles.data() + size_t(index) * size;
-    std::vector<Complex> scratch(size_t(s.shape.count()));
+    std::vector<Complex> scratch(3 * size_t(s.shape.count()));
     for (int i = cell.begin; i < cell.end; ++i) {
       const Sources::Item item = s.items[size_t(tree.order[size_t(i)])];
       const auto& region = direct_.regions_[size_t(item.region)];
       const auto& face = region.faces[size_t(item.face)];
       const double g_rho = gravitational_constant * region.density;
-      TriangleSource source;
-      for (int k = 0; k < 3; ++k) source.vertex[k] = region.center + face.v[k] - cell.center;
-      source.density[0][0] = g_rho * face.normal.dot(region.center + face.v[0] - s.center);
-      for (int k = 0; k < 3; ++k) source.density[k + 1][0] = g_rho * face.normal[k];
-      source.degree = density_degree;
-      const Eigen::Vector3d e1 = source.vertex[1] - source.vertex[0], e2 = source.vertex[2] - source.vertex[0];
-      for (const TriangleNode& node : rule) {
-        const double terms[6] = {1, node.a, node.b, node.a * node.a, node.a * node.b, node.b * node.b};
-        double charges[kChannels];
-        for (int c = 0; c < kChannels; ++c) {
-          double sigma = 0;
-          for (int t = 0; t < (source.degree + 1) * (source.degree + 2) / 2; ++t)
-            sigma += source.density[c][t] * terms[t];
-          charges[c] = node.weight * face.area * sigma;
-        }
-        add_point_multipole(s.shape, source.vertex[0] + node.a * e1 + node.b * e2, charges, multipole,
-                            scratch.data());
-      }
+      Eigen::Vector3d vertex[3];
+      for (int k = 0; k < 3; ++k) vertex[k] = region.center + face.v[k] - cell.center;
+      const double densities[kChannels] = {g_rho * face.normal.dot(region.center + face.v[0] - s.center),
+                                           g_rho * face.normal.x(), g_rho * face.normal.y(),
+                                           g_rho * face.normal.z()};
+      add_triangle_multipole(s.shape, vertex, face.area, densities, multipole, scratch.data());
       s.charge[size_t(index)] += std::abs(g_rho) * face.area;
     }
   });
@@ -268,22 +243,57 @@ FastFieldResult FastPolyhedronField::evaluate(const Points& points) const {
   // when the cell holds few points) and, for leaves, its near source leaves.
   struct Lists {
     std::vector<int> local, point, near;
-    double bound_potential = 0, bound_acceleration = 0;  // of this cell's own far pairs, absolute
+    double bound_potential = 0, bound_acceleration = 0;  // of these far pairs, absolute
   };
-  std::vector<Lists> lists(targets.cells.size());
   // Operation counts per channel: M2L ~ sum_n (n + 1)(p - n + 1)^2, M2P ~ 3 (p + 1)^2 per point.
   double local_cost = 0;
   for (int n = 0; n <= p; ++n) local_cost += (n + 1.0) * (p - n + 1.0) * (p - n + 1.0);
   const double point_cost = 3.0 * (p + 1.0) * (p + 1.0);
-  const auto interact = [&](const auto& self, int a, int b) -> void {
-    const Cell& A = targets.cells[size_t(a)];
-    const Cell& B = sources.cells[size_t(b)];
-    const double d = (A.center - B.center).norm(), rho = A.radius + B.radius;
-    if (rho < kMaxOpening * d) {
-      const double x = rho / d, remainder = std::pow(x, p + 1) / (d - rho);
-      const double lever = 0.5 * (s.radius + (A.center - s.center).norm() + A.radius);
-      if (remainder <= s.accept_acceleration && remainder * lever <= s.accept_potential) {
-        Lists& list = lists[size_t(a)];
+  std::vector<Lists> lists;        // per target cell
+  std::vector<Lists> point_lists;  // per point, for points of leaves too wide to meet sources as a whole
+  std::vector<double> bound_potential, bound_acceleration;  // per target cell, its ancestors' pairs included
+  // A pair may spend accuracy * scale * (Q_B / Q_total) * (R_B / (d - r_A - r_B)) / spread: near cells get
+  // less, and sum_B Q_B R_B / (Q_total (d - r_A - r_B)) over the far cells of a point stays of order one
+  // (a single-layer potential of the surface). The bounds of each point are summed exactly after the
+  // traversal; where they exceed the accuracy, the traversal is repeated with a larger spread.
+  for (double spread = 1;; spread *= 4) {
+    lists.assign(targets.cells.size(), Lists());
+    point_lists.assign(positions.size(), Lists());
+    report.multipole_to_local = report.multipole_to_point = report.near_pairs = 0;
+    report.opening = 0;
+    const double limit_acceleration = s.accept_acceleration * s.radius / spread,
+                 limit_potential = s.accept_potential * s.radius / spread;
+    // Accepts source cell B for targets within `radius` of `center`: adds its bounds to `list`.
+    const auto accept = [&](const Eigen::Vector3d& center, double radius, int b, Lists& list) {
+      const Cell& B = sources.cells[size_t(b)];
+      const double d = (center - B.center).norm(), rho = radius + B.radius;
+      if (!(rho < kMaxOpening * d)) return false;
+      const double x = rho / d, power = std::pow(x, p + 1), remainder = power / (d - rho);
+      const double lever = 0.5 * (s.radius + (center - s.center).norm() + radius);
+      if (power > limit_acceleration || power * lever > limit_potential) return false;
+      list.bound_acceleration += s.charge[size_t(b)] * remainder;
+      list.bound_potential += s.charge[size_t(b)] * remainder * lever;
+      report.opening = std::max(report.opening, x);
+      return true;
+    };
+    const auto point_interact = [&](const auto& self, int i, int b) -> void {
+      const Cell& B = sources.cells[size_t(b)];
+      Lists& list = point_lists[size_t(i)];
+      if (accept(positions[size_t(i)], 0.0, b, list)) {
+        list.point.push_back(b);
+        report.multipole_to_point += 1;
+      } else if (B.leaf()) {
+        list.near.push_back(b);
+        report.near_pairs += B.count();
+      } else {
+        for (int c = 0; c < B.child_count; ++c) self(self, i, B.children[c]);
+      }
+    };
+    const auto interact = [&](const auto& self, int a, int b) -> void {
+      const Cell& A = targets.cells[size_t(a)];
+      const Cell& B = sources.cells[size_t(b)];
+      Lists& list = lists[size_t(a)];
+      if (accept(A.center, A.radius, b, list)) {
         if (A.leaf() && A.count() * point_cost < local_cost) {
           list.point.push_back(b);
           report.multipole_to_point += A.count();
@@ -291,22 +301,37 @@ FastFieldResult FastPolyhedronField::evaluate(const Points& points) const {
           list.local.push_back(b);
           report.multipole_to_local += 1;
         }
-        list.bound_acceleration += s.charge[size_t(b)] * remainder;
-        list.bound_potential += s.charge[size_t(b)] * remainder * lever;
-        report.opening = std::max(report.opening, x);
-        return;
+      } else if (A.leaf() && B.leaf()) {
+        list.near.push_back(b);
+        report.near_pairs += long(A.count()) * B.count();
+      } else if (A.leaf() && A.radius > B.radius) {
+        for (int i = A.begin; i < A.end; ++i) point_interact(point_interact, targets.order[size_t(i)], b);
+      } else if (B.leaf() || (!A.leaf() && A.radius >= B.radius)) {
+        for (int c = 0; c < A.child_count; ++c) self(self, A.children[c], b);
+      } else {
+        for (int c = 0; c < B.child_count; ++c) self(self, a, B.children[c]);
       }
+    };
+    interact(interact, 0, 0);
+    bound_potential.assign(targets.cells.size(), 0.0);
+    bound_acceleration.assign(targets.cells.size(), 0.0);
+    double worst = 0;
+    for (size_t c = 0; c < targets.cells.size(); ++c) {  // parents precede their children
+      const int parent = targets.cells[c].parent;
+      bound_potential[c] = lists[c].bound_potential + (parent >= 0 ? bound_potential[size_t(parent)] : 0);
+      bound_acceleration[c] = lists[c].bound_acceleration + (parent >= 0 ? bound_acceleration[size_t(parent)] : 0);
     }
-    if (A.leaf() && B.leaf()) {
-      lists[size_t(a)].near.push_back(b);
-      report.near_pairs += long(A.count()) * B.count();
-    } else if (B.leaf() || (!A.leaf() && A.radius >= B.radius)) {
-      for (int c = 0; c < A.child_count; ++c) self(self, A.children[c], b);
-    } else {
-      for (int c = 0; c < B.child_count; ++c) self(self, a, B.children[c]);
-    }
-  };
-  interact(interact, 0, 0);
+    for (const int leaf : targets.leaves)
+      for (int i = targets.cells[size_t(leaf)].begin; i < targets.cells[size_t(leaf)].end; ++i) {
+        Lists& own = point_lists[size_t(targets.order[size_t(i)])];
+        own.bound_potential += bound_potential[size_t(leaf)];
+        own.bound_acceleration += bound_acceleration[size_t(leaf)];
+        worst = std::max({worst, own.bound_potential / report.potential_scale,
+                          own.bound_acceleration / report.acceleration_scale});
+      }
+    fprintf(stderr, "spread %g worst %g m2l %ld m2p %ld near %ld\n", spread, worst, report.multipole_to_local, report.multipole_to_point, report.near_pairs);
+    if (worst <= options_.accuracy) break;
+  }
 
   // Local expansions: each cell's own multipole-to-local sums, then its parent's expansion shifted to it.
   std::vector<Complex> locals(targets.cells.size() * size, Complex(0));
@@ -318,14 +343,10 @@ FastFieldResult FastPolyhedronField::evaluate(const Points& points) const {
       multipole_to_local(s.shape, targets.cells[c].center - sources.cells[size_t(b)].center, p, p,
                          s.multipoles.data() + size_t(b) * size, locals.data() + c * size, scratch.data());
   });
-  std::vector<double> bound_potential(targets.cells.size()), bound_acceleration(targets.cells.size());
   for (size_t depth = 0; depth < targets.levels.size(); ++depth) {
     const std::vector<int>& level = targets.levels[depth];
     for (const int c : level) {
       const int parent = targets.cells[size_t(c)].parent;
-      bound_potential[size_t(c)] = lists[size_t(c)].bound_potential + (parent >= 0 ? bound_potential[size_t(parent)] : 0);
-      bound_acceleration[size_t(c)] =
-          lists[size_t(c)].bound_acceleration + (parent >= 0 ? bound_acceleration[size_t(parent)] : 0);
       if (parent >= 0 && has_local[size_t(parent)]) has_local[size_t(c)] = 1;
     }
     parallel_for(level.size(), options_.threads, [&](size_t i) {
@@ -340,7 +361,6 @@ FastFieldResult FastPolyhedronField::evaluate(const Points& points) const {
 
   // Each point: its leaf's local expansion, its multipole-to-point cells and its near faces, in fixed order.
   result.values.resize(positions.size());
-  std::vector<double> point_bound_potential(positions.size()), point_bound_acceleration(positions.size());
   const int small = harmonic_count(1);
   parallel_for(targets.leaves.size(), options_.threads, [&](size_t l) {
     const size_t leaf = size_t(targets.leaves[l]);
@@ -353,9 +373,12 @@ FastFieldResult FastPolyhedronField::evaluate(const Points& points) const {
       std::fill(at_point.begin(), at_point.end(), Complex(0));
       if (has_local[leaf])
         translate_local(s.shape, x - A.center, 1, locals.data() + leaf * size, at_point.data(), scratch.data());
-      for (const int b : lists[leaf].point)
-        multipole_to_local(s.shape, x - sources.cells[size_t(b)].center, 1, p + 1,
-                           s.multipoles.data() + size_t(b) * size, at_point.data(), scratch.data());
+      const Lists& cell = lists[leaf];
+      const Lists& own = point_lists[index];
+      for (const std::vector<int>* far : {&cell.point, &own.point})
+        for (const int b : *far)
+          multipole_to_local(s.shape, x - sources.cells[size_t(b)].center, 1, p + 1,
+                             s.multipoles.data() + size_t(b) * size, at_point.data(), scratch.data());
       double phi[kChannels];
       Eigen::Vector3d grad[kChannels];
       for (int c = 0; c < kChannels; ++c) local_value_gradient(at_point.data() + c * small, phi[c], grad[c]);
@@ -365,7 +388,8 @@ FastFieldResult FastPolyhedronField::evaluate(const Points& points) const {
       value.acceleration = -field;
       Eigen::Matrix3d gradient;
       for (int k = 0; k < 3; ++k) gradient.row(k) = -grad[k + 1].transpose();
-      for (const int b : lists[leaf].near) {
+      for (const std::vector<int>* near : {&cell.near, &own.near})
+        for (const int b : *near) {
         const Cell& B = sources.cells[size_t(b)];
         for (int j = B.begin; j < B.end; ++j) {
           const Sources::Item item = s.items[size_t(sources.order[size_t(j)])];
@@ -381,15 +405,13 @@ FastFieldResult FastPolyhedronField::evaluate(const Points& points) const {
       }
       value.gradient = 0.5 * (gradient + gradient.transpose());
       result.values[index] = value;
-      point_bound_potential[index] = bound_potential[leaf];
-      point_bound_acceleration[index] = bound_acceleration[leaf];
     }
   });
   for (size_t i = 0; i < positions.size(); ++i) {
-    report.bound_potential = std::max(report.bound_potential, point_bound_potential[i] / report.potential_scale);
+    report.bound_potential = std::max(report.bound_potential, point_lists[i].bound_potential / report.potential_scale);
     report.bound_acceleration =
         std::max(report.bound_acceleration,
-                 point_bound_acceleration[i] /
+                 point_lists[i].bound_acceleration /
                      std::max(result.values[i].acceleration.norm(), report.acceleration_scale));
   }
 

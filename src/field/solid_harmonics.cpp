@@ -46,6 +46,59 @@ void add_point_multipole(const ExpansionShape& shape, const Eigen::Vector3d& off
   }
 }
 
+namespace {
+
+// out_n = R_1(b) * x_{n-1} (the convolution of the addition theorem), with R_1^0 = z, R_1^1 = (x + i y)/2,
+// R_1^{-1} = -conj(R_1^1), for every m >= 0 of order n.
+void multiply_first_order(const Eigen::Vector3d& b, int n, const Complex* x, Complex* out) {
+  const Complex plus(0.5 * b.x(), 0.5 * b.y()), minus = -std::conj(plus);
+  for (int m = 0; m <= n; ++m) {
+    Complex sum = 0;
+    if (m <= n - 1) sum += b.z() * x[harmonic_index(n - 1, m)];
+    if (std::abs(m - 1) <= n - 1) sum += plus * harmonic(x, n - 1, m - 1);
+    if (m + 1 <= n - 1) sum += minus * x[harmonic_index(n - 1, m + 1)];
+    out[harmonic_index(n, m)] = sum;
+  }
+}
+
+}  // namespace
+
+void add_triangle_multipole(const ExpansionShape& shape, const Eigen::Vector3d (&vertex)[3], double area,
+                            const double* densities, Complex* multipole, Complex* scratch) {
+  // The addition theorem and homogeneity make R_n(l1 a + l2 b + l3 c) = sum_{i+j+k=n} l1^i l2^j l3^k
+  // R_i(a) R_j(b) R_k(c) (products: the convolution over m), and R_n = R_1^n / n!, so with the barycentric
+  // integrals of l1^i l2^j l3^k over the triangle, 2A i! j! k! / (n + 2)! (common practice in finite
+  // elements), the moment is 2A h_n / (n + 2)!, h_n = sum_{i+j+k=n} R_1(a)^i R_1(b)^j R_1(c)^k the complete
+  // homogeneous sum, by two recursions h^(2)_n = R_1(b) h^(2)_{n-1} + R_1(a)^n, h_n = R_1(c) h_{n-1} +
+  // h^(2)_n. A density polynomial in (l1, l2, l3) only changes the factorial weights.
+  const int order = shape.order, count = shape.count();
+  Complex *first = scratch, *second = scratch + count, *third = scratch + 2 * count;
+  regular_harmonics(vertex[0], order, first);
+  double factorial = 1;
+  for (int n = 0; n <= order; ++n) {
+    if (n > 0) factorial *= n;
+    for (int m = 0; m <= n; ++m) first[harmonic_index(n, m)] *= factorial;  // R_1(a)^n = n! R_n(a)
+  }
+  second[0] = third[0] = 1.0;
+  for (int n = 1; n <= order; ++n) {
+    multiply_first_order(vertex[1], n, second, second);
+    multiply_first_order(vertex[2], n, third, third);
+    for (int m = 0; m <= n; ++m) {
+      second[harmonic_index(n, m)] += first[harmonic_index(n, m)];
+      third[harmonic_index(n, m)] += second[harmonic_index(n, m)];
+    }
+  }
+  double weight = 2.0 * area / 2.0;  // 2A / (n + 2)! at n = 0
+  for (int n = 0; n <= order; ++n) {
+    if (n > 0) weight /= (n + 2);
+    for (int m = 0; m <= n; ++m) third[harmonic_index(n, m)] = weight * std::conj(third[harmonic_index(n, m)]);
+  }
+  for (int c = 0; c < shape.channels; ++c) {
+    Complex* to = multipole + c * count;
+    for (int i = 0; i < count; ++i) to[i] += densities[c] * third[i];
+  }
+}
+
 void translate_multipole(const ExpansionShape& shape, const Eigen::Vector3d& shift, const Complex* child,
                          Complex* parent, Complex* scratch) {
   // conj R_n^m(y - c1) = sum_{k,l} conj R_k^l(c2 - c1) conj R_{n-k}^{m-l}(y - c2) (addition theorem).

@@ -50,6 +50,12 @@ struct ExpansionShape {
 void add_point_multipole(const ExpansionShape& shape, const Eigen::Vector3d& offset, const double* charges,
                          Complex* multipole, Complex* scratch);
 
+/// Multipole of a triangle (vertices relative to the expansion centre) carrying a constant surface density
+/// per channel: M_n^m += density conj(integral over the triangle of R_n^m dA), exact up to rounding.
+/// `scratch` holds 3 harmonic_count(order) values. O(order^2).
+void add_triangle_multipole(const ExpansionShape& shape, const Eigen::Vector3d (&vertex)[3], double area,
+                            const double* densities, Complex* multipole, Complex* scratch);
+
 /// Multipole about a parent centre from one about a child centre; shift = child centre - parent centre.
 /// Exact (the moments of degree n need the child's of degree <= n only).
 void translate_multipole(const ExpansionShape& shape, const Eigen::Vector3d& shift, const Complex* child,
