@@ -119,11 +119,13 @@ TEST_CASE("solid harmonic translations reproduce the sum of q/|x - y| (common pr
     add_point_multipole(shape, sources.back() - child, &charges.back(), m_child.data(), scratch.data());
   }
   translate_multipole(shape, child - parent, m_child.data(), m_parent.data(), scratch.data());
-  multipole_to_local(shape, local - parent, p, p, m_parent.data(), l_cell.data(), scratch.data());
+  std::vector<double> unfolded(size_t(2 * (p + 1) * (p + 1)));
+  unfold_multipole(shape, m_parent.data(), unfolded.data());
+  multipole_to_local(shape, local - parent, p, p, unfolded.data(), l_cell.data(), scratch.data());
   translate_local(shape, leaf - local, p, l_cell.data(), l_leaf.data(), scratch.data());
   const Eigen::Vector3d x = leaf + Eigen::Vector3d(0.05, -0.1, 0.08);
   translate_local(shape, x - leaf, 1, l_leaf.data(), at.data(), scratch.data());
-  multipole_to_local(shape, x - parent, 1, p + 1, m_parent.data(), direct_at.data(), scratch.data());
+  multipole_to_local(shape, x - parent, 1, p + 1, unfolded.data(), direct_at.data(), scratch.data());
   double sum = 0;
   Eigen::Vector3d gradient = Eigen::Vector3d::Zero();
   for (size_t i = 0; i < sources.size(); ++i) {

@@ -119,7 +119,8 @@ struct FastPolyhedronField::Sources {
   std::vector<Item> items;
   std::unique_ptr<Tree> tree;
   ExpansionShape shape;
-  std::vector<Complex> multipoles;  // cell after cell
+  std::vector<double> multipoles;   // cell after cell, unfolded (unfold_multipole)
+  size_t unfolded = 0;              // values per cell
   std::vector<double> charge;       // per cell: sum of |G rho| area over its faces
   Eigen::Vector3d center = Eigen::Vector3d::Zero();
   double radius = 0, gm = 0;
@@ -175,14 +176,14 @@ FastPolyhedronField::FastPolyhedronField(const std::vector<DensityRegion>& regio
   s.tree = std::make_unique<Tree>(positions, extents, kSourceLeaf);
   const Tree& tree = *s.tree;
   const size_t size = size_t(s.shape.size());
-  s.multipoles.assign(tree.cells.size() * size, Complex(0));
+  std::vector<Complex> multipoles(tree.cells.size() * size, Complex(0));
   s.charge.assign(tree.cells.size(), 0.0);
 
   // Moments of each leaf's faces, exact (add_triangle_multipole).
   parallel_for(tree.leaves.size(), options.threads, [&](size_t l) {
     const int index = tree.leaves[l];
     const Cell& cell = tree.cells[size_t(index)];
-    Complex* multipole = s.multipoles.data() + size_t(index) * size;
+    Complex* multipole = multipoles.data() + size_t(index) * size;
     std::vector<Complex> scratch(3 * size_t(s.shape.count()));
     for (int i = cell.begin; i < cell.end; ++i) {
       const Sources::Item item = s.items[size_t(tree.order[size_t(i)])];
@@ -208,12 +209,17 @@ FastPolyhedronField::FastPolyhedronField(const std::vector<DensityRegion>& regio
       for (int c = 0; c < cell.child_count; ++c) {
         const int child = cell.children[c];
         translate_multipole(s.shape, tree.cells[size_t(child)].center - cell.center,
-                            s.multipoles.data() + size_t(child) * size, s.multipoles.data() + size_t(index) * size,
+                            multipoles.data() + size_t(child) * size, multipoles.data() + size_t(index) * size,
                             scratch.data());
         s.charge[size_t(index)] += s.charge[size_t(child)];
       }
     });
   }
+  s.unfolded = 2 * size_t(kChannels) * size_t((s.shape.order + 1) * (s.shape.order + 1));
+  s.multipoles.resize(tree.cells.size() * s.unfolded);
+  parallel_for(tree.cells.size(), options.threads, [&](size_t c) {
+    unfold_multipole(s.shape, multipoles.data() + c * size, s.multipoles.data() + c * s.unfolded);
+  });
 }
 
 FastFieldResult FastPolyhedronField::evaluate(const Points& points) const {
@@ -341,7 +347,7 @@ FastFieldResult FastPolyhedronField::evaluate(const Points& points) const {
     std::vector<Complex> scratch(size_t(harmonic_count(p)));
     for (const int b : lists[c].local)
       multipole_to_local(s.shape, targets.cells[c].center - sources.cells[size_t(b)].center, p, p,
-                         s.multipoles.data() + size_t(b) * size, locals.data() + c * size, scratch.data());
+                         s.multipoles.data() + size_t(b) * s.unfolded, locals.data() + c * size, scratch.data());
   });
   for (size_t depth = 0; depth < targets.levels.size(); ++depth) {
     const std::vector<int>& level = targets.levels[depth];
@@ -378,7 +384,7 @@ FastFieldResult FastPolyhedronField::evaluate(const Points& points) const {
       for (const std::vector<int>* far : {&cell.point, &own.point})
         for (const int b : *far)
           multipole_to_local(s.shape, x - sources.cells[size_t(b)].center, 1, p + 1,
-                             s.multipoles.data() + size_t(b) * size, at_point.data(), scratch.data());
+                             s.multipoles.data() + size_t(b) * s.unfolded, at_point.data(), scratch.data());
       double phi[kChannels];
       Eigen::Vector3d grad[kChannels];
       for (int c = 0; c < kChannels; ++c) local_value_gradient(at_point.data() + c * small, phi[c], grad[c]);

@@ -1,8 +1,23 @@
 #include "field/solid_harmonics.h"
 
 #include <algorithm>
+#include <vector>
 
 namespace polystokes {
+
+namespace {
+
+// Both halves m = -n..n of stored harmonics, real and imaginary parts apart, at [n^2 + n + m].
+void unfold(const Complex* x, int order, double* re, double* im) {
+  for (int n = 0; n <= order; ++n)
+    for (int m = -n; m <= n; ++m) {
+      const Complex value = harmonic(x, n, m);
+      re[n * n + n + m] = value.real();
+      im[n * n + n + m] = value.imag();
+    }
+}
+
+}  // namespace
 
 // Both recurrences follow from the Legendre recurrences (n - m) P_n^m = (2n - 1) cos(theta) P_{n-1}^m -
 // (n + m - 1) P_{n-2}^m and P_m^m = (2m - 1) sin(theta) P_{m-1}^{m-1} (Abramowitz & Stegun 1964, 8.5.3 and
@@ -103,38 +118,74 @@ void translate_multipole(const ExpansionShape& shape, const Eigen::Vector3d& shi
                          Complex* parent, Complex* scratch) {
   // conj R_n^m(y - c1) = sum_{k,l} conj R_k^l(c2 - c1) conj R_{n-k}^{m-l}(y - c2) (addition theorem).
   regular_harmonics(shift, shape.order, scratch);
-  const int count = shape.count();
+  const int order = shape.order, count = shape.count(), full = (order + 1) * (order + 1);
+  thread_local std::vector<double> buffer;
+  buffer.resize(size_t(4 * full));
+  double *r_re = buffer.data(), *r_im = r_re + full, *c_re = r_im + full, *c_im = c_re + full;
+  unfold(scratch, order, r_re, r_im);
   for (int c = 0; c < shape.channels; ++c) {
-    const Complex* from = child + c * count;
+    unfold(child + c * count, order, c_re, c_im);
     Complex* to = parent + c * count;
-    for (int n = 0; n <= shape.order; ++n)
+    for (int n = 0; n <= order; ++n)
       for (int m = 0; m <= n; ++m) {
-        Complex sum = 0;
-        for (int k = 0; k <= n; ++k)
-          for (int l = std::max(-k, m - (n - k)); l <= std::min(k, m + (n - k)); ++l)
-            sum += std::conj(harmonic(scratch, k, l)) * harmonic(from, n - k, m - l);
-        to[harmonic_index(n, m)] += sum;
+        double re = 0, im = 0;
+        for (int k = 0; k <= n; ++k) {
+          const int lo = std::max(-k, m - (n - k)), hi = std::min(k, m + (n - k));
+          const double *ar = r_re + k * k + k, *ai = r_im + k * k + k;
+          const int base = (n - k) * (n - k) + (n - k) + m;
+          for (int l = lo; l <= hi; ++l) {  // conj(R_k^l) child_{n-k}^{m-l}
+            re += ar[l] * c_re[base - l] + ai[l] * c_im[base - l];
+            im += ar[l] * c_im[base - l] - ai[l] * c_re[base - l];
+          }
+        }
+        to[harmonic_index(n, m)] += Complex(re, im);
       }
   }
 }
 
+void unfold_multipole(const ExpansionShape& shape, const Complex* multipole, double* out) {
+  const int full = (shape.order + 1) * (shape.order + 1);
+  for (int c = 0; c < shape.channels; ++c)
+    unfold(multipole + c * shape.count(), shape.order, out + 2 * c * full, out + (2 * c + 1) * full);
+}
+
 void multipole_to_local(const ExpansionShape& shape, const Eigen::Vector3d& t, int local_order, int total,
-                        const Complex* multipole, Complex* local, Complex* scratch) {
+                        const double* multipole, Complex* local, Complex* scratch) {
   // With x - c_B = t + r: I_j^k(t + r) = sum_{n,l} (-1)^n conj(R_n^l(r)) I_{j+n}^{k+l}(t), and conj(R_n^l) =
-  // (-1)^l R_n^{-l}, so L_n^m = (-1)^(n+m) sum_{j,k} M_j^k I_{j+n}^{k-m}(t).
+  // (-1)^l R_n^{-l}, so L_n^m = (-1)^(n+m) sum_{j,k} M_j^k I_{j+n}^{k-m}(t). The dominant cost of the method:
+  // both halves unfolded into real arrays so that the inner loop has no branch.
+  constexpr int kMaxChannels = 8;
   irregular_harmonics(t, total, scratch);
-  const int count = shape.count(), out_count = harmonic_count(local_order);
-  for (int c = 0; c < shape.channels; ++c) {
-    const Complex* from = multipole + c * count;
-    Complex* to = local + c * out_count;
-    for (int n = 0; n <= local_order; ++n) {
-      const int top = std::min(shape.order, total - n);
-      for (int m = 0; m <= n; ++m) {
-        Complex sum = 0;
-        for (int j = 0; j <= top; ++j)
-          for (int k = -j; k <= j; ++k) sum += harmonic(from, j, k) * harmonic(scratch, j + n, k - m);
-        to[harmonic_index(n, m)] += ((n + m) & 1) ? -sum : sum;
+  const int order = shape.order, channels = shape.channels;
+  const int full = (order + 1) * (order + 1), full_total = (total + 1) * (total + 1);
+  thread_local std::vector<double> buffer;
+  buffer.resize(size_t(2 * full_total));
+  double *i_re = buffer.data(), *i_im = i_re + full_total;
+  unfold(scratch, total, i_re, i_im);
+  const int out_count = harmonic_count(local_order);
+  for (int n = 0; n <= local_order; ++n) {
+    const int top = std::min(order, total - n);
+    for (int m = 0; m <= n; ++m) {
+      double sum_re[kMaxChannels] = {}, sum_im[kMaxChannels] = {};
+      for (int j = 0; j <= top; ++j) {
+        const double* ir = i_re + (j + n) * (j + n) + (j + n) - m;
+        const double* ii = i_im + (j + n) * (j + n) + (j + n) - m;
+        const int base = j * j + j;
+        for (int c = 0; c < channels; ++c) {
+          const double* mr = multipole + 2 * c * full + base;
+          const double* mi = mr + full;
+          double re = 0, im = 0;
+          for (int k = -j; k <= j; ++k) {
+            re += mr[k] * ir[k] - mi[k] * ii[k];
+            im += mr[k] * ii[k] + mi[k] * ir[k];
+          }
+          sum_re[c] += re;
+          sum_im[c] += im;
+        }
       }
+      const double sign = ((n + m) & 1) ? -1.0 : 1.0;
+      for (int c = 0; c < channels; ++c)
+        local[c * out_count + harmonic_index(n, m)] += sign * Complex(sum_re[c], sum_im[c]);
     }
   }
 }
@@ -143,17 +194,28 @@ void translate_local(const ExpansionShape& shape, const Eigen::Vector3d& shift, 
                      const Complex* local, Complex* out, Complex* scratch) {
   // R_n^m((x - c2) + (c2 - c1)) = sum_{k,l} R_{n-k}^{m-l}(c2 - c1) R_k^l(x - c2).
   regular_harmonics(shift, shape.order, scratch);
-  const int count = shape.count(), out_count = harmonic_count(out_order);
+  const int order = shape.order, count = shape.count(), full = (order + 1) * (order + 1);
+  const int out_count = harmonic_count(out_order);
+  thread_local std::vector<double> buffer;
+  buffer.resize(size_t(4 * full));
+  double *r_re = buffer.data(), *r_im = r_re + full, *l_re = r_im + full, *l_im = l_re + full;
+  unfold(scratch, order, r_re, r_im);
   for (int c = 0; c < shape.channels; ++c) {
-    const Complex* from = local + c * count;
+    unfold(local + c * count, order, l_re, l_im);
     Complex* to = out + c * out_count;
     for (int j = 0; j <= out_order; ++j)
       for (int i = 0; i <= j; ++i) {
-        Complex sum = 0;
-        for (int n = j; n <= shape.order; ++n)
-          for (int m = std::max(-n, i - (n - j)); m <= std::min(n, i + (n - j)); ++m)
-            sum += harmonic(from, n, m) * harmonic(scratch, n - j, m - i);
-        to[harmonic_index(j, i)] += sum;
+        double re = 0, im = 0;
+        for (int n = j; n <= order; ++n) {
+          const int lo = std::max(-n, i - (n - j)), hi = std::min(n, i + (n - j));
+          const double *ar = l_re + n * n + n, *ai = l_im + n * n + n;
+          const int base = (n - j) * (n - j) + (n - j) - i;
+          for (int m = lo; m <= hi; ++m) {  // L_n^m R_{n-j}^{m-i}
+            re += ar[m] * r_re[base + m] - ai[m] * r_im[base + m];
+            im += ar[m] * r_im[base + m] + ai[m] * r_re[base + m];
+          }
+        }
+        to[harmonic_index(j, i)] += Complex(re, im);
       }
   }
 }

@@ -61,12 +61,16 @@ void add_triangle_multipole(const ExpansionShape& shape, const Eigen::Vector3d (
 void translate_multipole(const ExpansionShape& shape, const Eigen::Vector3d& shift, const Complex* child,
                          Complex* parent, Complex* scratch);
 
-/// Local expansion (orders 0..local_order) about centre c_A from a multipole about c_B, t = c_A - c_B, keeping
+/// A multipole in the form multipole_to_local reads: per channel both halves m = -n..n at [n^2 + n + m],
+/// real parts then imaginary parts; 2 channels (order + 1)^2 values.
+void unfold_multipole(const ExpansionShape& shape, const Complex* multipole, double* out);
+
+/// Local expansion (orders 0..local_order) about centre c_A from an unfolded multipole about c_B, t = c_A - c_B, keeping
 /// the terms of multipole degree j <= min(order, total - n) for local order n: with total = order it is the
 /// Taylor expansion of total degree `order` of the source field about the two centres. `scratch` holds
 /// harmonic_count(total) values.
 void multipole_to_local(const ExpansionShape& shape, const Eigen::Vector3d& t, int local_order, int total,
-                        const Complex* multipole, Complex* local, Complex* scratch);
+                        const double* multipole, Complex* local, Complex* scratch);
 
 /// Local expansion about a new centre (shift = new centre - old centre), orders 0..out_order (exact).
 void translate_local(const ExpansionShape& shape, const Eigen::Vector3d& shift, int out_order,
