@@ -6,9 +6,11 @@
 #include <cctype>
 #include <cstdio>
 #include <memory>
+#include <optional>
 
 #include "cli_common.h"
 #include "polystokes/core/errors.h"
+#include "polystokes/field/fast_field.h"
 #include "polystokes/field/polyhedron_gravity.h"
 #include "polystokes/field/series.h"
 #include "polystokes/io/coefficient_file.h"
@@ -24,6 +26,9 @@ struct FieldOptions {
   int degree = -1;
   bool set_frame = false;
   bool gradient = false;
+  bool direct = false;  ///< meshes: the direct sum instead of the fast multipole method
+  double accuracy = FastFieldOptions{}.accuracy;
+  bool accuracy_given = false;
   int threads = 0;
 };
 
@@ -40,16 +45,37 @@ std::vector<FieldValue> exact_field(const FieldOptions& options, const Points& p
   if (options.degree >= 0) throw ConventionError("--degree applies to coefficient sets, not to meshes");
   if (options.set_frame) throw ConventionError("--set-frame applies to coefficient sets, not to meshes");
   const std::vector<DensityRegion> regions = load_regions(options.input, global);
-  const PolyhedronGravity gravity(regions);
-  std::vector<FieldValue> values = gravity.evaluate(points, options.threads);
+  std::optional<FastPolyhedronField> fast;
+  std::optional<PolyhedronGravity> direct;
+  std::vector<FieldValue> values;
+  std::string method;
+  if (options.direct) {
+    direct.emplace(regions);
+    values = direct->evaluate(points, options.threads);
+  } else {
+    FastFieldOptions fast_options;
+    fast_options.accuracy = options.accuracy;
+    fast_options.threads = options.threads;
+    fast.emplace(regions, fast_options);
+    FastFieldResult result = fast->evaluate(points);
+    values = std::move(result.values);
+    const FastFieldReport& report = result.report;
+    method = fmt::format(
+        "; fast multipole method (order {}), accuracy {:.1e} of GM/R_B = {:.6g} m^2 s^-2 (potential) and of "
+        "max(|a|, GM/R_B^2 = {:.6g} m s^-2) (acceleration) by an a-priori bound; checked against the direct "
+        "sum on {} points: largest error {:.1e} (potential), {:.1e} (acceleration)",
+        report.order, report.accuracy, report.potential_scale, report.acceleration_scale, report.checked,
+        report.checked_potential, report.checked_acceleration);
+  }
+  const PolyhedronGravity& gravity = direct ? *direct : fast->direct();
   long inside = 0;
   for (Eigen::Index i = 0; i < points.rows(); ++i)
     if (gravity.density_at(points.row(i).transpose()) != 0) ++inside;
   if (inside > 0)
     print_notice(global, fmt::format("{} of {} points lie inside the body (the exact model holds there too)",
                                      inside, points.rows()));
-  model = fmt::format("exact constant-density polyhedron gravity of {} region(s), {} faces, mesh frame",
-                      regions.size(), gravity.face_count());
+  model = fmt::format("exact constant-density polyhedron gravity of {} region(s), {} faces, mesh frame{}",
+                      regions.size(), gravity.face_count(), method);
   return values;
 }
 
@@ -57,6 +83,9 @@ std::vector<FieldValue> series_field(const FieldOptions& options, const Points& 
                                      const GlobalOptions& global, std::string& model) {
   const std::vector<std::string>& inputs = options.input.meshes;
   if (inputs.size() != 1) throw ConventionError("give one coefficient set (or meshes with --density)");
+  if (options.direct || options.accuracy_given)
+    throw ConventionError(std::string(options.direct ? "--direct" : "--accuracy") +
+                          " applies to meshes, not to coefficient sets");
   if (!options.input.densities.empty())
     throw ConventionError(inputs[0] + " is a coefficient set: --density applies to meshes only");
   const CoefficientSet set = read_coefficient_file(inputs[0]);
@@ -155,8 +184,21 @@ void setup_field(CLI::App& app, const GlobalOptions& global) {
       "Points and output vectors in the set's own frame about its expansion origin (default: mesh frame)");
   cmd->add_flag("--gradient", options->gradient,
                 "Add the gravity-gradient columns Txx,Txy,Txz,Tyy,Tyz,Tzz (s^-2)");
+  auto* direct = cmd->add_flag("--direct", options->direct,
+                "Meshes: sum every face at every point (cost faces x points) instead of the fast multipole "
+                "method");
+  auto* accuracy = cmd->add_option("--accuracy", options->accuracy,
+                  "Meshes: error allowed to the fast multipole method, relative to GM/R_B (potential) and "
+                  "max(|a|, GM/R_B^2) (acceleration), R_B the largest vertex distance from the body's centre")
+      ->check(strict_number())
+      ->check(CLI::Range(1e-14, 1e-2))
+      ->capture_default_str()
+      ->excludes(direct);
   add_threads_option(cmd, options->threads);
-  cmd->callback([options, &global]() { run_field(*options, global); });
+  cmd->callback([options, accuracy, &global]() {
+    options->accuracy_given = accuracy->count() > 0;
+    run_field(*options, global);
+  });
 }
 
 }  // namespace polystokes::cli

@@ -34,6 +34,8 @@ struct ValidateOptions {
   double target = ValidationOptions{}.target;
   int samples = ValidationOptions{}.samples;
   std::string json;
+  bool direct = false;
+  double accuracy = ValidationOptions{}.accuracy;
   int threads = 0;
   std::vector<std::string> surface_maps;  ///< per-facet files of the series' error at the surface
   int surface_degree = -1;                ///< -1: the set's degree
@@ -114,6 +116,8 @@ void run_validate(const ValidateOptions& options, bool unit_given, const GlobalO
   validation.target = options.target;
   validation.samples = options.samples;
   validation.threads = options.threads;
+  validation.direct = options.direct;
+  validation.accuracy = options.accuracy;
   const ValidationReport report = [&] {
     try {
       return validate_series(regions, set, validation);
@@ -124,6 +128,7 @@ void run_validate(const ValidateOptions& options, bool unit_given, const GlobalO
                                  : " (for a table, declare --table-origin com or x,y,z)"));
     }
   }();
+  if (!report.exact_method.empty()) print_notice(global, report.exact_method);
   // Per-facet series errors at the surface, computed before any file is written so that all outputs appear
   // together or not at all.
   std::optional<SurfaceSeriesError> map;
@@ -205,6 +210,16 @@ void setup_validate(CLI::App& app, const GlobalOptions& global) {
                   "Degree of the series in the surface map (default: the set's degree)")
       ->check(strict_integer())
       ->check(CLI::NonNegativeNumber);
+  auto* direct = cmd->add_flag("--direct", options->direct,
+                               "Exact field by summing every face at every point instead of the fast multipole "
+                               "method");
+  cmd->add_option("--accuracy", options->accuracy,
+                  "Error allowed to the fast multipole method, relative to max(|a|, GM/R_B^2), R_B the largest "
+                  "vertex distance from the body's centre")
+      ->check(strict_number())
+      ->check(CLI::Range(1e-14, 1e-2))
+      ->capture_default_str()
+      ->excludes(direct);
   add_threads_option(cmd, options->threads);
   cmd->callback([options, unit, &global]() { run_validate(*options, unit->count() > 0, global); });
 }

@@ -73,7 +73,7 @@ TEST_CASE(
   CHECK(series.output.find("1 of 4 points lie inside the Brillouin sphere") != std::string::npos);
   const CommandResult exact =
       run_cli("field " + shell_arg(f.mesh) + " --unit km --density 2100 --points " + shell_arg(f.points) +
-              " -o " + shell_arg(f.dir + "/exact.csv") + " --gradient");
+              " -o " + shell_arg(f.dir + "/exact.csv") + " --gradient --direct");
   CAPTURE(exact.output);
   REQUIRE(exact.exit_code == 0);
   std::string header_s, header_e;

@@ -335,7 +335,6 @@ FastFieldResult FastPolyhedronField::evaluate(const Points& points) const {
         worst = std::max({worst, own.bound_potential / report.potential_scale,
                           own.bound_acceleration / report.acceleration_scale});
       }
-    fprintf(stderr, "spread %g worst %g m2l %ld m2p %ld near %ld\n", spread, worst, report.multipole_to_local, report.multipole_to_point, report.near_pairs);
     if (worst <= options_.accuracy) break;
   }
 

@@ -22,6 +22,9 @@ struct ValidationOptions {
   int samples = 200;     ///< points per sphere or shell (Fibonacci lattice directions, deterministic)
   double target = 1e-6;  ///< relative acceleration error the recommended degree must meet
   int threads = 0;       ///< 0 = all hardware threads; results do not depend on it
+  /// The exact field by the direct sum (else the fast multipole method of fast_field.h at `accuracy`).
+  bool direct = false;
+  double accuracy = 1e-10;  ///< of the fast field, relative to max(|a|, GM/R_B^2)
 };
 
 /// Results on one sphere or altitude shell. Errors are relative acceleration errors
@@ -53,6 +56,9 @@ struct ValidationReport {
   std::vector<ShellResult> shells;    ///< spheres in the given order, then altitude shells
   std::vector<std::string> warnings;  ///< plain sentences: Brillouin sphere, GM / origin / mesh mismatches
   std::vector<std::string> notes;     ///< true and harmless: e.g. a GM label that C00 compensates
+  /// How the exact field was evaluated: empty for the direct sum, else the fast field's accuracy and the
+  /// result of its run-time check against the direct sum (one sentence).
+  std::string exact_method;
 };
 
 /// Compares the series of `set` (any convention, its own origin and axes) with the exact field of the
