@@ -271,4 +271,68 @@ TEST_CASE(
                                     shell_arg(dir + "/e.txt") + " --json " + shell_arg(dir + "/v.json"));
   CHECK(bad.exit_code == 2);
   CHECK_FALSE(file_exists(dir + "/v.json"));
+
+TEST_CASE("field and validate: the fast field by default within --accuracy of --direct; options refused where "
+          "they do not apply",
+          "[validate_cli]") {
+  // Reference: the direct sum (Werner & Scheeres 1997) through --direct; the fast field must stay within its
+  // stated accuracy of it, relative to max(|a|, GM/R_B^2) (R_B here about 1450 m, body centre to vertex).
+  const Fixture f;
+  const std::string base = "field " + shell_arg(f.mesh) + " --unit km --density 2100 --points " +
+                           shell_arg(f.points) + " --gradient -o ";
+  const CommandResult direct = run_cli(base + shell_arg(f.dir + "/direct.csv") + " --direct");
+  const CommandResult fast = run_cli(base + shell_arg(f.dir + "/fast.csv") + " --accuracy 1e-8");
+  CAPTURE(direct.output, fast.output);
+  REQUIRE(direct.exit_code == 0);
+  REQUIRE(fast.exit_code == 0);
+  CHECK(direct.output.find("fast multipole") == std::string::npos);
+  CHECK(fast.output.find("fast multipole method") != std::string::npos);
+  CHECK(fast.output.find("accuracy 1.0e-08") != std::string::npos);
+  std::string header_d, header_f;
+  const auto d = read_table(f.dir + "/direct.csv", header_d);
+  const auto e = read_table(f.dir + "/fast.csv", header_f);
+  CHECK(header_d == header_f);
+  REQUIRE(d.size() == e.size());
+  const double gm = gravitational_constant * 2100.0 * (4.0 / 3.0) * M_PI * 1200.0 * 900.0 * 700.0;
+  const double scale = gm / (1300.0 * 1300.0);  // smaller than GM/R_B^2: a stricter check
+  for (size_t i = 0; i < d.size(); ++i) {
+    const Eigen::Vector3d ad(d[i][4], d[i][5], d[i][6]), af(e[i][4], e[i][5], e[i][6]);
+    CAPTURE(i);
+    CHECK((ad - af).norm() <= 1e-8 * std::max(ad.norm(), scale));
+  }
+  // --accuracy with --direct is a usage error; --direct or --accuracy with a coefficient set is refused.
+  CHECK(run_cli(base + shell_arg(f.dir + "/x.csv") + " --direct --accuracy 1e-6").exit_code == 1);
+  const CommandResult on_set = run_cli("field " + shell_arg(f.set) + " --points " + shell_arg(f.points) +
+                                       " -o " + shell_arg(f.dir + "/y.csv") + " --direct");
+  CHECK(on_set.exit_code == 2);
+  CHECK(on_set.output.find("--direct applies to meshes") != std::string::npos);
+  CHECK(!file_exists(f.dir + "/x.csv"));
+  CHECK(!file_exists(f.dir + "/y.csv"));
+  // validate: the same errors table with the fast field as with --direct, up to the fast field's error (at 3
+  // R_B |a| is GM/R_B^2 / 9, so 1e-10 of the scale is up to 1e-9 of |a|) and the printed 3 digits.
+  const std::string validate = "validate " + shell_arg(f.mesh) + " " + shell_arg(f.set) + " --samples 40";
+  const CommandResult v_direct = run_cli(validate + " --direct");
+  const CommandResult v_fast = run_cli(validate);
+  REQUIRE(v_direct.exit_code == 0);
+  REQUIRE(v_fast.exit_code == 0);
+  CHECK(v_fast.output.find("the exact field by the fast multipole method") != std::string::npos);
+  const auto numbers = [](const std::string& text) {
+    std::istringstream in(text.substr(text.find("degree       1 R_B")));
+    std::string line;
+    std::vector<double> out;
+    std::getline(in, line);
+    while (std::getline(in, line) && line.find('(') == std::string::npos) {
+      std::istringstream row(line);
+      std::string cell;
+      while (row >> cell) out.push_back(std::stod(cell));
+    }
+    return out;
+  };
+  const std::vector<double> a = numbers(v_fast.output), b = numbers(v_direct.output);
+  REQUIRE(a.size() == b.size());
+  REQUIRE(a.size() > 100);
+  for (size_t i = 0; i < a.size(); ++i) {
+    CAPTURE(i, a[i], b[i]);
+    CHECK(std::abs(a[i] - b[i]) <= 1e-9 + 0.01 * std::max(a[i], b[i]));
+  }
 }
