@@ -99,6 +99,27 @@ void write_text(const std::string& path, const std::string& text) {
 
 bool file_exists(const std::string& path) { return std::filesystem::exists(path); }
 
+Mesh torus_mesh(double major, double minor, int n_u, int n_v) {
+  Mesh mesh;
+  mesh.vertices.resize(n_u * n_v, 3);
+  for (int i = 0; i < n_u; ++i)
+    for (int j = 0; j < n_v; ++j) {
+      const double u = 2 * M_PI * i / n_u, v = 2 * M_PI * j / n_v;
+      mesh.vertices.row(i * n_v + j) << (major + minor * std::cos(v)) * std::cos(u),
+          (major + minor * std::cos(v)) * std::sin(u), minor * std::sin(v);
+    }
+  mesh.faces.resize(2 * n_u * n_v, 3);
+  for (int i = 0; i < n_u; ++i)
+    for (int j = 0; j < n_v; ++j) {
+      const int a = i * n_v + j, b = ((i + 1) % n_u) * n_v + j, c = ((i + 1) % n_u) * n_v + (j + 1) % n_v,
+                d = i * n_v + (j + 1) % n_v;
+      mesh.faces.row(2 * (i * n_v + j)) << a, b, c;
+      mesh.faces.row(2 * (i * n_v + j) + 1) << a, c, d;
+    }
+  mesh.source = "torus";
+  return mesh;
+}
+
 Mesh lumpy_test_mesh() {
   return make_deformed_sphere(3, [](const Eigen::Vector3d& u) {
     const double r = 1.0 + 0.2 * u.x() * u.y() + 0.1 * u.z() * u.z() * u.x() + 0.08 * std::sin(3 * u.y() + 1);

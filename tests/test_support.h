@@ -47,6 +47,10 @@ CommandResult run_cli(const std::string& arguments);
 /// 1280 faces, about the mesh origin.
 Mesh lumpy_test_mesh();
 
+/// A torus of radii (major, minor) metres about the z axis, n_u x n_v quads split into outward triangles: a
+/// body that is not star-shaped about any point.
+Mesh torus_mesh(double major, double minor, int n_u, int n_v);
+
 /// Fully normalized set of the given degree whose degree variances are exactly K n^-beta (n >= 2): the
 /// variance of degree n is spread evenly over its 2n + 1 coefficients (n + 1 cosine terms, n sine terms);
 /// C00 = 1, degree 1 zero, GM 4.2e5 m^3 s^-2, reference and Brillouin radius 1500 m.

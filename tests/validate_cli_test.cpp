@@ -336,3 +336,36 @@ TEST_CASE("field and validate: the fast field by default within --accuracy of --
     CHECK(std::abs(a[i] - b[i]) <= 1e-9 + 0.01 * std::max(a[i], b[i]));
   }
 }
+
+TEST_CASE("field at the vertices of a torus is finite (the direct sum gave NaN there)", "[validate_cli]") {
+  // Defect: at a vertex the height of an incident edge rounds to ~1e-16 instead of 0 and met the infinite
+  // edge factor, so the potential and acceleration came out NaN. Expected: U and a are finite and continuous
+  // at a vertex (Werner & Scheeres 1997, sec. 2.5): equal to the values 1e-7 m away to 1e-9.
+  const std::string dir = temp_directory();
+  const Mesh ring = torus_mesh(1000.0, 300.0, 64, 24);
+  write_obj(ring, dir + "/torus.obj", LengthUnit::meter);
+  std::string csv = "x_m,y_m,z_m\n";
+  for (const int v : {0, 1, 37, 500}) {
+    const Eigen::Vector3d p = ring.vertices.row(v).transpose();
+    csv += fmt::format("{:.17g},{:.17g},{:.17g}\n", p.x(), p.y(), p.z());
+    csv += fmt::format("{:.17g},{:.17g},{:.17g}\n", p.x() * (1 + 1e-10), p.y(), p.z());
+  }
+  write_text(dir + "/points.csv", csv);
+  for (const std::string method : {" --direct", ""}) {
+    const CommandResult r = run_cli("field " + shell_arg(dir + "/torus.obj") + " --density 2000 --points " +
+                                    shell_arg(dir + "/points.csv") + " -o " + shell_arg(dir + "/f.csv") + method);
+    CAPTURE(method, r.output);
+    REQUIRE(r.exit_code == 0);
+    std::string header;
+    const auto rows = read_table(dir + "/f.csv", header);
+    REQUIRE(rows.size() == 8);
+    for (size_t i = 0; i < rows.size(); i += 2) {
+      CAPTURE(i);
+      for (int c = 3; c <= 6; ++c) {
+        REQUIRE(std::isfinite(rows[i][size_t(c)]));
+        CHECK(std::abs(rows[i][size_t(c)] - rows[i + 1][size_t(c)]) <= 1e-9 * std::abs(rows[i][3]) / 1000.0 +
+                                                                          1e-9 * std::abs(rows[i][size_t(c)]));
+      }
+    }
+  }
+}

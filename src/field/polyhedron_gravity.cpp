@@ -140,7 +140,9 @@ PolyhedronGravity::FaceTerms PolyhedronGravity::face_terms(const Face& face, con
       const int j = (k + 1) % 3;
       const double factor = edge_factor(r[k], norm[k], norm[j], face.edge_unit[k], face.edge_length[k]);
       const double height = face.edge_normal[k].dot(r[k]);
-      if (height != 0) integral += height * factor;
+      // On the edge's line height -> 0 faster than the factor grows (height ln(1/height) -> 0): at a vertex
+      // the rounded height of an incident edge is a few 1e-16, not 0, and must not meet the infinite factor.
+      if (height != 0 && std::isfinite(factor)) integral += height * factor;
       vector += face.edge_normal[k] * factor;
     }
     const double triple = r[0].dot(face.double_area_normal);
