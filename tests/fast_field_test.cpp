@@ -69,10 +69,11 @@ Errors compare(const FastPolyhedronField& fast, const Points& points, FastFieldR
   for (size_t i = 0; i < direct.size(); ++i) {
     const FieldValue &x = result.values[i], &y = direct[i];
     e.potential = std::max(e.potential, std::abs(x.potential - y.potential) / u_scale);
-    e.acceleration = std::max(e.acceleration,
-                              (x.acceleration - y.acceleration).norm() / std::max(y.acceleration.norm(), a_scale));
+    e.acceleration = std::max(
+        e.acceleration, (x.acceleration - y.acceleration).norm() / std::max(y.acceleration.norm(), a_scale));
     if (y.gradient.allFinite())
-      e.gradient = std::max(e.gradient, (x.gradient - y.gradient).norm() / std::max(y.gradient.norm(), t_scale));
+      e.gradient =
+          std::max(e.gradient, (x.gradient - y.gradient).norm() / std::max(y.gradient.norm(), t_scale));
   }
   return e;
 }
@@ -85,13 +86,15 @@ TEST_CASE("solid harmonic translations reproduce the sum of q/|x - y| (common pr
   const int p = 18;
   const ExpansionShape shape{p, 1};
   std::vector<Complex> scratch(size_t(harmonic_count(p + 2)));
-  const Eigen::Vector3d child(0.3, 0.1, 0.0), parent(0.1, 0.2, -0.1), local(3.0, 1.0, 2.0), leaf(3.2, 0.9, 2.1);
+  const Eigen::Vector3d child(0.3, 0.1, 0.0), parent(0.1, 0.2, -0.1), local(3.0, 1.0, 2.0),
+      leaf(3.2, 0.9, 2.1);
   std::vector<Complex> m_child(size_t(shape.size())), m_parent(m_child.size()), l_cell(m_child.size()),
       l_leaf(m_child.size()), at(size_t(harmonic_count(1))), direct_at(at.size());
   std::vector<Eigen::Vector3d> sources;
   std::vector<double> charges;
   for (int i = 0; i < 20; ++i) {
-    sources.push_back(child + 0.3 * Eigen::Vector3d(std::sin(1.3 * i), std::cos(2.1 * i), std::sin(0.7 * i + 1)));
+    sources.push_back(child +
+                      0.3 * Eigen::Vector3d(std::sin(1.3 * i), std::cos(2.1 * i), std::sin(0.7 * i + 1)));
     charges.push_back(std::cos(0.9 * i));
     add_point_multipole(shape, sources.back() - child, &charges.back(), m_child.data(), scratch.data());
   }
@@ -135,7 +138,8 @@ TEST_CASE("triangle moments by the barycentric recursion equal a Gauss product r
   add_triangle_multipole(shape, vertex, area, densities, exact.data(), scratch.data());
   for (const TriangleNode& node : collapsed_triangle_rule(p / 2 + 2)) {
     const double charges[2] = {densities[0] * node.weight * area, densities[1] * node.weight * area};
-    add_point_multipole(shape, vertex[0] + node.a * (vertex[1] - vertex[0]) + node.b * (vertex[2] - vertex[0]),
+    add_point_multipole(shape,
+                        vertex[0] + node.a * (vertex[1] - vertex[0]) + node.b * (vertex[2] - vertex[0]),
                         charges, quadrature.data(), scratch.data());
   }
   for (int c = 0; c < 2; ++c)
@@ -153,10 +157,10 @@ TEST_CASE("triangle moments by the barycentric recursion equal a Gauss product r
 TEST_CASE("fast field equals the direct sum within the accuracy: sphere, cube-like body, box, torus",
           "[fast_field]") {
   const double rho = 2100.0;
-  const Mesh sphere = transformed(make_icosphere(4), 700.0 * Eigen::Matrix3d::Identity(), Eigen::Vector3d(50, -20, 10));
-  const Mesh cube_like = make_deformed_sphere(4, [](const Eigen::Vector3d& u) -> Eigen::Vector3d {
-    return 500.0 * u / u.cwiseAbs().maxCoeff();
-  });
+  const Mesh sphere =
+      transformed(make_icosphere(4), 700.0 * Eigen::Matrix3d::Identity(), Eigen::Vector3d(50, -20, 10));
+  const Mesh cube_like = make_deformed_sphere(
+      4, [](const Eigen::Vector3d& u) -> Eigen::Vector3d { return 500.0 * u / u.cwiseAbs().maxCoeff(); });
   const Mesh box = make_box(800.0, 500.0, 300.0);
   const Mesh ring = test::torus_mesh(1000.0, 300.0, 96, 32);
   for (const Mesh* mesh : {&sphere, &cube_like, &box, &ring}) {
@@ -167,9 +171,9 @@ TEST_CASE("fast field equals the direct sum within the accuracy: sphere, cube-li
       const FastPolyhedronField fast({DensityRegion{*mesh, rho}}, options);
       FastFieldReport report;
       const Errors e = compare(fast, points, &report);
-      CAPTURE(mesh->source, mesh->faces.rows(), points.rows(), accuracy, report.order, report.multipole_to_local,
-              report.multipole_to_point, report.near_pairs, report.bound_potential, report.bound_acceleration,
-              e.gradient);
+      CAPTURE(mesh->source, mesh->faces.rows(), points.rows(), accuracy, report.order,
+              report.multipole_to_local, report.multipole_to_point, report.near_pairs, report.bound_potential,
+              report.bound_acceleration, e.gradient);
       CHECK(e.potential <= accuracy);
       CHECK(e.acceleration <= accuracy);
       CHECK(report.bound_potential <= accuracy);
@@ -181,11 +185,12 @@ TEST_CASE("fast field equals the direct sum within the accuracy: sphere, cube-li
   }
 }
 
-TEST_CASE("fast field: Poisson inside (trace -4 pi G rho), Laplace outside, on the torus (Werner & Scheeres 1997)",
-          "[fast_field]") {
-  // The Laplacian of the potential of a homogeneous body is -4 pi G rho inside and 0 outside (Werner & Scheeres
-  // 1997, sec. 2.5; Kellogg 1929, Foundations of Potential Theory, ch. VI). The gradient is not part of the
-  // a-priori bound, so the check is at 1e-8 of G rho.
+TEST_CASE(
+    "fast field: Poisson inside (trace -4 pi G rho), Laplace outside, on the torus (Werner & Scheeres 1997)",
+    "[fast_field]") {
+  // The Laplacian of the potential of a homogeneous body is -4 pi G rho inside and 0 outside (Werner &
+  // Scheeres 1997, sec. 2.5; Kellogg 1929, Foundations of Potential Theory, ch. VI). The gradient is not part
+  // of the a-priori bound, so the check is at 1e-8 of G rho.
   const double rho = 1800.0;
   const Mesh ring = test::torus_mesh(1000.0, 300.0, 96, 32);
   FastFieldOptions options;
@@ -203,17 +208,20 @@ TEST_CASE("fast field: Poisson inside (trace -4 pi G rho), Laplace outside, on t
   }
 }
 
-TEST_CASE("fast field of a fine sphere mesh obeys the shell theorem outside (Newton 1687, Principia I, prop. 71)",
-          "[fast_field]") {
+TEST_CASE(
+    "fast field of a fine sphere mesh obeys the shell theorem outside (Newton 1687, Principia I, prop. 71)",
+    "[fast_field]") {
   // Outside a homogeneous sphere the field is that of its mass at the centre. The icosahedral mesh has no
   // harmonic of degree 1 to 5 (common practice), so with the mesh's own volume the point mass holds to about
   // (R/r)^6 times the mesh's degree-6 term: below 1e-6 at twice the radius.
   const double rho = 2500.0, radius = 800.0;
-  const Mesh sphere = transformed(make_icosphere(5), radius * Eigen::Matrix3d::Identity(), Eigen::Vector3d::Zero());
+  const Mesh sphere =
+      transformed(make_icosphere(5), radius * Eigen::Matrix3d::Identity(), Eigen::Vector3d::Zero());
   const double gm = kG * rho * test::volume_of(sphere);
   const FastPolyhedronField fast({DensityRegion{sphere, rho}});
   Points points(4, 3);
-  points << 2 * radius, 0, 0, 0, -3 * radius, 0, 1000 * radius, 200 * radius, 0, -2 * radius, 2 * radius, radius;
+  points << 2 * radius, 0, 0, 0, -3 * radius, 0, 1000 * radius, 200 * radius, 0, -2 * radius, 2 * radius,
+      radius;
   const FastFieldResult result = fast.evaluate(points);
   for (int i = 0; i < 4; ++i) {
     const Eigen::Vector3d x = points.row(i).transpose();

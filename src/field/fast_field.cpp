@@ -26,8 +26,8 @@ constexpr int kMaxDepth = 40;    // coincident points stop the halving here
 
 struct Cell {
   Eigen::Vector3d center = Eigen::Vector3d::Zero();  // of the cube
-  double radius = 0;                                  // covers every item with its extent
-  int begin = 0, end = 0;                             // items order[begin, end)
+  double radius = 0;                                 // covers every item with its extent
+  int begin = 0, end = 0;                            // items order[begin, end)
   int parent = -1, depth = 0;
   int children[8] = {};
   int child_count = 0;
@@ -85,7 +85,8 @@ struct Tree {
       starts[o] = next[o] = at;
       at += counts[o];
     }
-    for (int i = cell.begin; i < cell.end; ++i) sorted[size_t(next[octant(order[size_t(i)])]++)] = order[size_t(i)];
+    for (int i = cell.begin; i < cell.end; ++i)
+      sorted[size_t(next[octant(order[size_t(i)])]++)] = order[size_t(i)];
     std::copy(sorted.begin(), sorted.end(), order.begin() + cell.begin);
     const int begin = cell.begin, depth = cell.depth;
     std::vector<std::pair<int, int>> made;  // (cell, octant)
@@ -119,9 +120,9 @@ struct FastPolyhedronField::Sources {
   std::vector<Item> items;
   std::unique_ptr<Tree> tree;
   ExpansionShape shape;
-  std::vector<double> multipoles;   // cell after cell, unfolded (unfold_multipole)
-  size_t unfolded = 0;              // values per cell
-  std::vector<double> charge;       // per cell: sum of |G rho| area over its faces
+  std::vector<double> multipoles;  // cell after cell, unfolded (unfold_multipole)
+  size_t unfolded = 0;             // values per cell
+  std::vector<double> charge;      // per cell: sum of |G rho| area over its faces
   Eigen::Vector3d center = Eigen::Vector3d::Zero();
   double radius = 0, gm = 0;
   double accept_acceleration = 0, accept_potential = 0;  // remainder limits per unit charge
@@ -129,7 +130,8 @@ struct FastPolyhedronField::Sources {
 
 FastPolyhedronField::~FastPolyhedronField() = default;
 
-FastPolyhedronField::FastPolyhedronField(const std::vector<DensityRegion>& regions, const FastFieldOptions& options)
+FastPolyhedronField::FastPolyhedronField(const std::vector<DensityRegion>& regions,
+                                         const FastFieldOptions& options)
     : direct_(regions), options_(options), sources_(std::make_unique<Sources>()) {
   if (!(options.accuracy > 1e-15 && options.accuracy < 1))
     throw ConventionError(fmt::format("accuracy must lie between 1e-15 and 1, got {}", options.accuracy));
@@ -169,9 +171,10 @@ FastPolyhedronField::FastPolyhedronField(const std::vector<DensityRegion>& regio
   // Bounds of accepted pairs sum to at most accuracy * scale (see the header); a body of zero density
   // accepts every pair.
   const double per_charge = total_charge > 0 ? options.accuracy / total_charge : 0;
-  s.accept_acceleration = total_charge > 0 ? per_charge * s.gm / (s.radius * s.radius)
-                                           : std::numeric_limits<double>::infinity();
-  s.accept_potential = total_charge > 0 ? per_charge * s.gm / s.radius : std::numeric_limits<double>::infinity();
+  s.accept_acceleration =
+      total_charge > 0 ? per_charge * s.gm / (s.radius * s.radius) : std::numeric_limits<double>::infinity();
+  s.accept_potential =
+      total_charge > 0 ? per_charge * s.gm / s.radius : std::numeric_limits<double>::infinity();
 
   s.tree = std::make_unique<Tree>(positions, extents, kSourceLeaf);
   const Tree& tree = *s.tree;
@@ -209,8 +212,8 @@ FastPolyhedronField::FastPolyhedronField(const std::vector<DensityRegion>& regio
       for (int c = 0; c < cell.child_count; ++c) {
         const int child = cell.children[c];
         translate_multipole(s.shape, tree.cells[size_t(child)].center - cell.center,
-                            multipoles.data() + size_t(child) * size, multipoles.data() + size_t(index) * size,
-                            scratch.data());
+                            multipoles.data() + size_t(child) * size,
+                            multipoles.data() + size_t(index) * size, scratch.data());
         s.charge[size_t(index)] += s.charge[size_t(child)];
       }
     });
@@ -240,13 +243,14 @@ FastFieldResult FastPolyhedronField::evaluate(const Points& points) const {
   std::vector<Eigen::Vector3d> positions(size_t(points.rows()));
   for (Eigen::Index i = 0; i < points.rows(); ++i) {
     positions[size_t(i)] = points.row(i).transpose();
-    if (!positions[size_t(i)].allFinite()) throw ConventionError(fmt::format("point {} is not finite", i + 1));
+    if (!positions[size_t(i)].allFinite())
+      throw ConventionError(fmt::format("point {} is not finite", i + 1));
   }
   const Tree targets(positions, std::vector<double>(positions.size(), 0.0), kTargetLeaf);
   report.target_cells = long(targets.cells.size());
 
-  // Dual tree traversal: each target cell gets its far source cells (multipole-to-local, or multipole-to-point
-  // when the cell holds few points) and, for leaves, its near source leaves.
+  // Dual tree traversal: each target cell gets its far source cells (multipole-to-local, or
+  // multipole-to-point when the cell holds few points) and, for leaves, its near source leaves.
   struct Lists {
     std::vector<int> local, point, near;
     double bound_potential = 0, bound_acceleration = 0;  // of these far pairs, absolute
@@ -325,7 +329,8 @@ FastFieldResult FastPolyhedronField::evaluate(const Points& points) const {
     for (size_t c = 0; c < targets.cells.size(); ++c) {  // parents precede their children
       const int parent = targets.cells[c].parent;
       bound_potential[c] = lists[c].bound_potential + (parent >= 0 ? bound_potential[size_t(parent)] : 0);
-      bound_acceleration[c] = lists[c].bound_acceleration + (parent >= 0 ? bound_acceleration[size_t(parent)] : 0);
+      bound_acceleration[c] =
+          lists[c].bound_acceleration + (parent >= 0 ? bound_acceleration[size_t(parent)] : 0);
     }
     for (const int leaf : targets.leaves)
       for (int i = targets.cells[size_t(leaf)].begin; i < targets.cells[size_t(leaf)].end; ++i) {
@@ -346,7 +351,8 @@ FastFieldResult FastPolyhedronField::evaluate(const Points& points) const {
     std::vector<Complex> scratch(size_t(harmonic_count(p)));
     for (const int b : lists[c].local)
       multipole_to_local(s.shape, targets.cells[c].center - sources.cells[size_t(b)].center, p, p,
-                         s.multipoles.data() + size_t(b) * s.unfolded, locals.data() + c * size, scratch.data());
+                         s.multipoles.data() + size_t(b) * s.unfolded, locals.data() + c * size,
+                         scratch.data());
   });
   for (size_t depth = 0; depth < targets.levels.size(); ++depth) {
     const std::vector<int>& level = targets.levels[depth];
@@ -377,7 +383,8 @@ FastFieldResult FastPolyhedronField::evaluate(const Points& points) const {
       const Eigen::Vector3d& x = positions[index];
       std::fill(at_point.begin(), at_point.end(), Complex(0));
       if (has_local[leaf])
-        translate_local(s.shape, x - A.center, 1, locals.data() + leaf * size, at_point.data(), scratch.data());
+        translate_local(s.shape, x - A.center, 1, locals.data() + leaf * size, at_point.data(),
+                        scratch.data());
       const Lists& cell = lists[leaf];
       const Lists& own = point_lists[index];
       for (const std::vector<int>* far : {&cell.point, &own.point})
@@ -395,25 +402,26 @@ FastFieldResult FastPolyhedronField::evaluate(const Points& points) const {
       for (int k = 0; k < 3; ++k) gradient.row(k) = -grad[k + 1].transpose();
       for (const std::vector<int>* near : {&cell.near, &own.near})
         for (const int b : *near) {
-        const Cell& B = sources.cells[size_t(b)];
-        for (int j = B.begin; j < B.end; ++j) {
-          const Sources::Item item = s.items[size_t(sources.order[size_t(j)])];
-          const auto& region = direct_.regions_[size_t(item.region)];
-          const auto& face = region.faces[size_t(item.face)];
-          const Eigen::Vector3d local = x - region.center;
-          const PolyhedronGravity::FaceTerms terms = direct_.near_face_terms(face, local);
-          const double g_rho = gravitational_constant * region.density;
-          value.potential += 0.5 * g_rho * (face.plane - face.normal.dot(local)) * terms.integral;
-          value.acceleration -= g_rho * terms.integral * face.normal;
-          gradient += g_rho * face.normal * terms.vector.transpose();
+          const Cell& B = sources.cells[size_t(b)];
+          for (int j = B.begin; j < B.end; ++j) {
+            const Sources::Item item = s.items[size_t(sources.order[size_t(j)])];
+            const auto& region = direct_.regions_[size_t(item.region)];
+            const auto& face = region.faces[size_t(item.face)];
+            const Eigen::Vector3d local = x - region.center;
+            const PolyhedronGravity::FaceTerms terms = direct_.near_face_terms(face, local);
+            const double g_rho = gravitational_constant * region.density;
+            value.potential += 0.5 * g_rho * (face.plane - face.normal.dot(local)) * terms.integral;
+            value.acceleration -= g_rho * terms.integral * face.normal;
+            gradient += g_rho * face.normal * terms.vector.transpose();
+          }
         }
-      }
       value.gradient = 0.5 * (gradient + gradient.transpose());
       result.values[index] = value;
     }
   });
   for (size_t i = 0; i < positions.size(); ++i) {
-    report.bound_potential = std::max(report.bound_potential, point_lists[i].bound_potential / report.potential_scale);
+    report.bound_potential =
+        std::max(report.bound_potential, point_lists[i].bound_potential / report.potential_scale);
     report.bound_acceleration =
         std::max(report.bound_acceleration,
                  point_lists[i].bound_acceleration /

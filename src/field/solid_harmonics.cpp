@@ -42,7 +42,8 @@ void irregular_harmonics(const Eigen::Vector3d& r, int order, Complex* out) {
   out[0] = std::sqrt(inv_r2);
   for (int m = 0; m <= order; ++m) {
     if (m > 0) out[harmonic_index(m, m)] = out[harmonic_index(m - 1, m - 1)] * w * ((2.0 * m - 1.0) * inv_r2);
-    if (m + 1 <= order) out[harmonic_index(m + 1, m)] = ((2.0 * m + 1.0) * z * inv_r2) * out[harmonic_index(m, m)];
+    if (m + 1 <= order)
+      out[harmonic_index(m + 1, m)] = ((2.0 * m + 1.0) * z * inv_r2) * out[harmonic_index(m, m)];
     for (int n = m + 2; n <= order; ++n)
       out[harmonic_index(n, m)] = ((2.0 * n - 1.0) * z * out[harmonic_index(n - 1, m)] -
                                    (double(n - 1 + m) * double(n - 1 - m)) * out[harmonic_index(n - 2, m)]) *
@@ -106,7 +107,8 @@ void add_triangle_multipole(const ExpansionShape& shape, const Eigen::Vector3d (
   double weight = 2.0 * area / 2.0;  // 2A / (n + 2)! at n = 0
   for (int n = 0; n <= order; ++n) {
     if (n > 0) weight /= (n + 2);
-    for (int m = 0; m <= n; ++m) third[harmonic_index(n, m)] = weight * std::conj(third[harmonic_index(n, m)]);
+    for (int m = 0; m <= n; ++m)
+      third[harmonic_index(n, m)] = weight * std::conj(third[harmonic_index(n, m)]);
   }
   for (int c = 0; c < shape.channels; ++c) {
     Complex* to = multipole + c * count;

@@ -12,11 +12,11 @@ using Complex = std::complex<double>;
 // Normalization (that of Greengard & Rokhlin 1987, J. Comput. Phys. 73, 325-348, written with the factorials
 // moved into the harmonics so that every translation is a plain convolution, as in Dehnen 2014, Comput.
 // Astrophys. Cosmol. 1, 1): with P_n^m the associated Legendre functions without the Condon-Shortley phase,
-//   R_n^m(r) = r^n P_n^m(cos theta) e^{i m phi} / (n + m)!,   I_n^m(r) = (n - m)! P_n^m(cos theta) e^{i m phi}
-//   / r^{n+1}, and X_n^{-m} = (-1)^m conj(X_n^m) for both. Then
-//   1/|x - y| = sum_{n,m} conj(R_n^m(y)) I_n^m(x)                                  (|y| < |x|),
-//   R_n^m(a + b) = sum_{k,l} R_k^l(a) R_{n-k}^{m-l}(b),
-//   I_n^m(t - r) = sum_{k,l} conj(R_k^l(r)) I_{n+k}^{m+l}(t)                          (|r| < |t|).
+//   R_n^m(r) = r^n P_n^m(cos theta) e^{i m phi} / (n + m)!,   I_n^m(r) = (n - m)! P_n^m(cos theta) e^{i m
+//   phi} / r^{n+1}, and X_n^{-m} = (-1)^m conj(X_n^m) for both. Then 1/|x - y| = sum_{n,m} conj(R_n^m(y))
+//   I_n^m(x)                                  (|y| < |x|), R_n^m(a + b) = sum_{k,l} R_k^l(a)
+//   R_{n-k}^{m-l}(b), I_n^m(t - r) = sum_{k,l} conj(R_k^l(r)) I_{n+k}^{m+l}(t)                          (|r|
+//   < |t|).
 // Only m >= 0 is stored (real sources make X_n^{-m} = (-1)^m conj(X_n^m) hold for every expansion too).
 
 /// Stored harmonics of orders 0..order: (order + 1)(order + 2)/2.
@@ -65,10 +65,10 @@ void translate_multipole(const ExpansionShape& shape, const Eigen::Vector3d& shi
 /// real parts then imaginary parts; 2 channels (order + 1)^2 values.
 void unfold_multipole(const ExpansionShape& shape, const Complex* multipole, double* out);
 
-/// Local expansion (orders 0..local_order) about centre c_A from an unfolded multipole about c_B, t = c_A - c_B, keeping
-/// the terms of multipole degree j <= min(order, total - n) for local order n: with total = order it is the
-/// Taylor expansion of total degree `order` of the source field about the two centres. `scratch` holds
-/// harmonic_count(total) values.
+/// Local expansion (orders 0..local_order) about centre c_A from an unfolded multipole about c_B, t = c_A -
+/// c_B, keeping the terms of multipole degree j <= min(order, total - n) for local order n: with total =
+/// order it is the Taylor expansion of total degree `order` of the source field about the two centres.
+/// `scratch` holds harmonic_count(total) values.
 void multipole_to_local(const ExpansionShape& shape, const Eigen::Vector3d& t, int local_order, int total,
                         const double* multipole, Complex* local, Complex* scratch);
 
@@ -79,7 +79,8 @@ void translate_local(const ExpansionShape& shape, const Eigen::Vector3d& shift, 
 /// Value and gradient of one channel from its local expansion of order >= 1 about the point itself.
 inline void local_value_gradient(const Complex* local, double& value, Eigen::Vector3d& gradient) {
   value = local[0].real();
-  // R_1^0 = z, R_1^1 = (x + i y)/2, R_1^{-1} = -conj(R_1^1): the degree-1 part is L_1^0 z + Re(L_1^1 (x + i y)).
+  // R_1^0 = z, R_1^1 = (x + i y)/2, R_1^{-1} = -conj(R_1^1): the degree-1 part is L_1^0 z + Re(L_1^1 (x + i
+  // y)).
   gradient = Eigen::Vector3d(local[2].real(), -local[2].imag(), local[1].real());
 }
 

@@ -11,8 +11,8 @@ struct TriangleNode {
   double a, b, weight;
 };
 
-/// The q x q Gauss-Legendre product rule on the triangle collapsed at v0 (Duffy): y = v0 + s(1-t) e1 + s t e2,
-/// dA = 2A s ds dt. Exact for polynomials of degree 2q - 2 in y. q >= 1.
+/// The q x q Gauss-Legendre product rule on the triangle collapsed at v0 (Duffy): y = v0 + s(1-t) e1 + s t
+/// e2, dA = 2A s ds dt. Exact for polynomials of degree 2q - 2 in y. q >= 1.
 std::vector<TriangleNode> collapsed_triangle_rule(int q);
 
 }  // namespace polystokes
