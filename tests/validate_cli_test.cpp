@@ -271,6 +271,7 @@ TEST_CASE(
                                     shell_arg(dir + "/e.txt") + " --json " + shell_arg(dir + "/v.json"));
   CHECK(bad.exit_code == 2);
   CHECK_FALSE(file_exists(dir + "/v.json"));
+}
 
 TEST_CASE("field and validate: the fast field by default within --accuracy of --direct; options refused where "
           "they do not apply",
