@@ -63,7 +63,7 @@ void run_surface(const SurfaceOptions& options, const GlobalOptions& global) {
   const Eigen::Vector3d& c = env.spin.center;
   std::vector<SummaryRow> rows{
       {"surface", fmt::format("{}: {} facets", surface.source, surface.faces.rows()), "the first mesh"},
-      {"gravity", provenance.model, ""},
+      {"gravity", provenance.model, env.gravity_method},
       {"spin period", given.period_echo, ""},
       {"spin axis", fmt::format("({:.9g}, {:.9g}, {:.9g})", a.x(), a.y(), a.z()),
        options.spin.axis.empty() ? "default: mesh z axis, right-handed" : "mesh frame, right-handed"},

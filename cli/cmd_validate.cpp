@@ -152,9 +152,9 @@ void run_validate(const ValidateOptions& options, bool unit_given, const GlobalO
       fmt::print(
           out,
           "surface map: series to degree {} at {} facet centroids: {:.3g} of the surface area above the "
-          "target {:g} (largest error {:.3g}); written to {}\n",
+          "target {:g} (largest error {:.3g}); exact field: {}; written to {}\n",
           map->degree, map->centroid.rows(), map->area_above_target, map->target, map->max_error,
-          fmt::join(options.surface_maps, ", "));
+          map->exact_method, fmt::join(options.surface_maps, ", "));
     fmt::print(out, "{}\n", operational_caution());
   } else {
     for (const auto& warning : report.warnings) print_warning(warning);
@@ -210,12 +210,14 @@ void setup_validate(CLI::App& app, const GlobalOptions& global) {
                   "Degree of the series in the surface map (default: the set's degree)")
       ->check(strict_integer())
       ->check(CLI::NonNegativeNumber);
-  auto* direct = cmd->add_flag("--direct", options->direct,
-                               "Exact field by summing every face at every point instead of the fast multipole "
-                               "method");
-  cmd->add_option("--accuracy", options->accuracy,
-                  "Error allowed to the fast multipole method, relative to max(|a|, GM/R_B^2), R_B the largest "
-                  "vertex distance from the body's centre")
+  auto* direct =
+      cmd->add_flag("--direct", options->direct,
+                    "Exact field by summing every face at every point instead of the fast multipole "
+                    "method");
+  cmd->add_option(
+         "--accuracy", options->accuracy,
+         "Error allowed to the fast multipole method, relative to max(|a|, GM/R_B^2), R_B the largest "
+         "vertex distance from the body's centre")
       ->check(strict_number())
       ->check(CLI::Range(1e-14, 1e-2))
       ->capture_default_str()

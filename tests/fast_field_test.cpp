@@ -290,3 +290,31 @@ TEST_CASE("fast field refuses bad options and non-finite points", "[fast_field]"
   points << 0, std::nan(""), 0;
   CHECK_THROWS_AS(FastPolyhedronField(regions).evaluate(points), ConventionError);
 }
+
+TEST_CASE(
+    "exact_field: the direct sum below the pair threshold, the fast method above it, the same field within "
+    "the accuracy",
+    "[fast_field]") {
+  Mesh ball = make_geodesic_sphere(8);
+  ball.vertices *= 1000.0;
+  const std::vector<DensityRegion> regions{{ball, 2000.0}};
+  Points points(40, 3);
+  for (Eigen::Index i = 0; i < points.rows(); ++i)
+    points.row(i) = (1500.0 + 10.0 * double(i)) * Eigen::RowVector3d(0.6, 0.0, 0.8);
+  FastFieldOptions options;
+  options.accuracy = 1e-10;
+  std::string direct_method, fast_method;
+  const std::vector<FieldValue> direct = exact_field(regions, points, options, &direct_method);
+  options.direct_pairs = 0;
+  const std::vector<FieldValue> fast = exact_field(regions, points, options, &fast_method);
+  CHECK(direct_method.rfind("direct sum", 0) == 0);
+  CHECK(fast_method.rfind("fast multipole method", 0) == 0);
+  const std::vector<FieldValue> reference = PolyhedronGravity(regions).evaluate(points, 1);
+  const double scale =
+      gravitational_constant * 2000.0 * polystokes::test::volume_of(ball) / (1000.0 * 1000.0);
+  for (size_t i = 0; i < reference.size(); ++i) {
+    CHECK(direct[i].acceleration == reference[i].acceleration);
+    CHECK((fast[i].acceleration - reference[i].acceleration).norm() <
+          1e-10 * std::max(scale, reference[i].acceleration.norm()));
+  }
+}

@@ -452,4 +452,26 @@ FastFieldResult FastPolyhedronField::evaluate(const Points& points) const {
   return result;
 }
 
+std::vector<FieldValue> exact_field(const std::vector<DensityRegion>& regions, const Points& points,
+                                    const FastFieldOptions& options, std::string* method) {
+  const PolyhedronGravity direct(regions);
+  const double pairs = double(direct.face_count()) * double(points.rows());
+  if (pairs < options.direct_pairs) {
+    if (method != nullptr)
+      *method = fmt::format(
+          "direct sum over {} faces at {} points (below {:g} face-point pairs the direct sum "
+          "is the faster exact method)",
+          direct.face_count(), points.rows(), options.direct_pairs);
+    return direct.evaluate(points, options.threads);
+  }
+  FastFieldResult result = FastPolyhedronField(regions, options).evaluate(points);
+  if (method != nullptr)
+    *method = fmt::format(
+        "fast multipole method (order {}) over {} faces at {} points, accuracy {:.1e} by an a-priori bound; "
+        "checked against the direct sum on {} points: largest error {:.1e} (acceleration)",
+        result.report.order, result.report.faces, result.report.points, options.accuracy,
+        result.report.checked, result.report.checked_acceleration);
+  return std::move(result.values);
+}
+
 }  // namespace polystokes

@@ -7,7 +7,7 @@
 #include <cmath>
 
 #include "polystokes/core/errors.h"
-#include "polystokes/field/polyhedron_gravity.h"
+#include "polystokes/field/fast_field.h"
 
 namespace polystokes {
 
@@ -121,8 +121,13 @@ SurfaceEnvironment surface_environment(const std::vector<DensityRegion>& regions
   if (regions.empty()) throw ConventionError("the surface environment needs at least one region");
   spin.center = mass_properties(regions, threads).center_of_mass;
   const Mesh& surface = regions.front().mesh;
-  const PolyhedronGravity gravity(regions);
-  return surface_environment(surface, gravity.evaluate(facet_centroids(surface), threads), spin);
+  FastFieldOptions options;
+  options.threads = threads;
+  std::string method;
+  const std::vector<FieldValue> gravity = exact_field(regions, facet_centroids(surface), options, &method);
+  SurfaceEnvironment env = surface_environment(surface, gravity, spin);
+  env.gravity_method = method;
+  return env;
 }
 
 }  // namespace polystokes

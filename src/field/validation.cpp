@@ -199,7 +199,8 @@ ValidationReport validate_series(const std::vector<DensityRegion>& regions, cons
     for (size_t i = 0; i < points.size(); ++i) exact_acceleration[i] = fast.values[i].acceleration;
     report.exact_method = fmt::format(
         "the exact field by the fast multipole method to {:.1e} of max(|a|, G M / R_B^2) (a-priori bound); "
-        "checked against the direct sum on {} points: largest error {:.1e} (--direct sums every face instead).",
+        "checked against the direct sum on {} points: largest error {:.1e} (--direct sums every face "
+        "instead).",
         options.accuracy, fast.report.checked, fast.report.checked_acceleration);
   }
 
@@ -278,7 +279,9 @@ SurfaceSeriesError series_error_at_surface(const std::vector<DensityRegion>& reg
   out.target = target;
   out.centroid = facet_centroids(surface);
   const Eigen::Index faces = out.centroid.rows();
-  const std::vector<FieldValue> exact = PolyhedronGravity(regions).evaluate(out.centroid, threads);
+  FastFieldOptions options;
+  options.threads = threads;
+  const std::vector<FieldValue> exact = exact_field(regions, out.centroid, options, &out.exact_method);
   Points local(faces, 3);
   for (Eigen::Index f = 0; f < faces; ++f)
     local.row(f) = to_set_frame(set, out.centroid.row(f).transpose()).transpose();

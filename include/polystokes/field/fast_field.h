@@ -3,6 +3,7 @@
 #pragma once
 
 #include <memory>
+#include <string>
 #include <vector>
 
 #include "polystokes/core/field_value.h"
@@ -18,6 +19,10 @@ struct FastFieldOptions {
   int threads = 0;  ///< 0 = all hardware threads; results do not depend on the count
   int order = 0;    ///< expansion order (2..40); 0 = chosen from the accuracy
   int checks = 64;  ///< points evaluated again by the direct sum after a run (spread over the set), 0 = none
+  /// exact_field only: below this many face-point pairs the direct sum runs instead, as it is faster there on
+  /// two cores (measured at 1e-8 to 1e-10: slower at 10^4 x 10^4, 3 to 10 times faster at 10^5 x 10^5;
+  /// docs/performance.md).
+  double direct_pairs = 2e9;
 };
 
 /// What a run did and how accurate it was. Scales: GM = G sum(rho V) over the regions (absolute values if
@@ -102,5 +107,11 @@ class FastPolyhedronField {
   FastFieldOptions options_;
   std::unique_ptr<Sources> sources_;
 };
+
+/// The exact field of the regions at `points` by whichever method is faster for the size: the direct sum
+/// below options.direct_pairs face-point pairs, else FastPolyhedronField at `options`. `method` (if given)
+/// receives one line saying which ran, with the fast method's accuracy and run-time check.
+std::vector<FieldValue> exact_field(const std::vector<DensityRegion>& regions, const Points& points,
+                                    const FastFieldOptions& options = {}, std::string* method = nullptr);
 
 }  // namespace polystokes

@@ -69,6 +69,7 @@ struct SurfaceEnvironment {
   AreaStatistics height;        ///< m, 20 bins between the extremes
   AreaStatistics launch_speed;  ///< m s^-1, 20 bins between the extremes
   long overhanging = 0;         ///< facets whose total acceleration points away from the body (slope > 90)
+  std::string gravity_method;   ///< how the gravity was evaluated (exact_field), when this module did it
 };
 
 /// The surface environment of the outer surface `surface` (closed, outward-oriented) rotating with `spin`,
@@ -89,9 +90,9 @@ SurfaceEnvironment surface_environment(const Mesh& surface, const std::vector<Fi
                                        const Spin& spin);
 
 /// The surface environment of a body of several regions: the first region's mesh is the outer surface, the
-/// field is the exact polyhedron gravity of all regions (PolyhedronGravity) at its facet centroids, and the
-/// spin axis passes through the body's centre of mass (spin.center is replaced by it). `threads` as
-/// PolyhedronGravity::evaluate. O(F_outer x F_all).
+/// field is the exact polyhedron gravity of all regions at its facet centroids (exact_field: the direct sum,
+/// or the fast multipole method to 1e-10 for large meshes), and the spin axis passes through the body's
+/// centre of mass (spin.center is replaced by it). `threads`: 0 = all cores.
 SurfaceEnvironment surface_environment(const std::vector<DensityRegion>& regions, Spin spin, int threads = 0);
 
 }  // namespace polystokes

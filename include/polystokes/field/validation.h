@@ -85,11 +85,13 @@ struct SurfaceSeriesError {
   Eigen::VectorXd relative_error;  ///< |a_series - a_exact| / |a_exact|
   double area_above_target = 0;    ///< fraction of the surface area whose error exceeds `target`
   double max_error = 0;
+  std::string exact_method;  ///< how the exact field was evaluated (exact_field)
 };
 
 /// The series of `set` truncated at `degree` (-1: the set's degree) against the exact field of the regions
 /// at every facet centroid of the first region's mesh (the outer surface). The set is placed as in
-/// validate_series. Cost: F_outer x (F_all + degree^2). Throws as validate_series.
+/// validate_series; the exact field comes from exact_field (the direct sum, or the fast multipole method to
+/// 1e-10 of the scale for large meshes, far below any target). Throws as validate_series.
 SurfaceSeriesError series_error_at_surface(const std::vector<DensityRegion>& regions,
                                            const CoefficientSet& set, int degree, double target,
                                            int threads = 0);
