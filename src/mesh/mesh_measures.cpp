@@ -7,6 +7,7 @@
 #include <limits>
 
 #include "internal/disjoint_sets.h"
+#include "internal/parallel.h"
 #include "polystokes/mesh/mass_properties.h"
 
 namespace polystokes {
@@ -71,11 +72,24 @@ MeshMeasures measure_mesh(const Mesh& mesh) {
 }
 
 double mean_edge_length(const Mesh& mesh) {
+  // Blocks of faces on the library's threads, their sums added in block order: the same value for any thread
+  // count.
+  constexpr Eigen::Index kBlock = 65536;
+  const Eigen::Index faces = mesh.faces.rows();
   double sum = 0;
-  for (Eigen::Index f = 0; f < mesh.faces.rows(); ++f)
-    for (int k = 0; k < 3; ++k)
-      sum += (mesh.vertices.row(mesh.faces(f, k)) - mesh.vertices.row(mesh.faces(f, (k + 1) % 3))).norm();
-  return mesh.faces.rows() > 0 ? sum / double(3 * mesh.faces.rows()) : 0;
+  ordered_blocks<char>(
+      size_t((faces + kBlock - 1) / kBlock), 0, 8,
+      [&](size_t b, char&) {
+        double part = 0;
+        for (Eigen::Index f = Eigen::Index(b) * kBlock; f < std::min(faces, Eigen::Index(b + 1) * kBlock);
+             ++f)
+          for (int k = 0; k < 3; ++k)
+            part +=
+                (mesh.vertices.row(mesh.faces(f, k)) - mesh.vertices.row(mesh.faces(f, (k + 1) % 3))).norm();
+        return part;
+      },
+      [&](size_t, double part) { sum += part; });
+  return faces > 0 ? sum / double(3 * faces) : 0;
 }
 
 double equivalent_radius(double volume) {

@@ -37,7 +37,8 @@ struct MeshMeasures {
 };
 
 /// Mean edge length, m, over the three edges of every face: on a closed manifold mesh (every edge in two
-/// faces) the mean over distinct edges. O(F), no sorting: cheap enough for every compute.
+/// faces) the mean over distinct edges. O(F) on all cores, no sorting: cheap enough for every compute; the
+/// same value for any thread count.
 double mean_edge_length(const Mesh& mesh);
 
 /// Radius of the sphere of the same volume, (3 V / (4 pi))^(1/3), m; 0 when volume (m^3) is not positive.
