@@ -8,8 +8,10 @@
 #include <sstream>
 
 #include "cli_common.h"
+#include "covariance_options.h"
 #include "polystokes/core/errors.h"
 #include "polystokes/io/coefficient_file.h"
+#include "polystokes/io/covariance_file.h"
 #include "polystokes/io/table_import.h"
 #include "polystokes/mesh/plausibility.h"
 #include "polystokes/sets/conventions.h"
@@ -22,6 +24,8 @@ namespace {
 struct ConvertOptions {
   std::string input;
   SetOutputOptions files;
+  CovarianceFileOptions covariance_files;
+  bool no_covariance = false;
   std::string unit = "m";  // of every bare length given on the command line
   // Target conventions; empty = keep. Quantities as given.
   std::string to_normalization, to_condon_shortley, to_zonal;
@@ -95,7 +99,22 @@ void run_convert(const ConvertOptions& options, const GlobalOptions& global) {
   // Every quantity is interpreted before any step runs; the history records each as read.
   std::vector<std::string> echo{"unit " + to_string(unit) + " (bare lengths)"};
   CoefficientSet set = read_input(options, global, unit, echo);
+  // The companion covariance follows every step: C' = T C T^T with T the composition of the steps' maps.
+  std::optional<CoefficientCovariance> covariance;
+  if (options.no_covariance)
+    drop_covariance_link(set);
+  else
+    covariance = read_companion_covariance(set, options.input);
+  const std::string covariance_path =
+      covariance ? covariance_output_path(options.covariance_files, options.files) : std::string();
   if (!options.body.empty()) set.body = options.body;
+  const CoefficientSet input = set;
+  std::vector<CoefficientMap> maps;
+  // Each step's parameters are fixed from the set before it, so the map is linear in the coefficients.
+  const auto apply = [&](CoefficientMap map) {
+    set = map(set);
+    maps.push_back(std::move(map));
+  };
   const size_t first_new_history = set.history.size();
   const size_t first_new_note = set.notes.size();
   set.history.push_back(fmt::format("polystokes convert of {}", options.input));
@@ -128,32 +147,55 @@ void run_convert(const ConvertOptions& options, const GlobalOptions& global) {
   set.history.push_back("inputs as interpreted: " + fmt::format("{}", fmt::join(echo, "; ")));
   const double gm_before = set.gm;
   // First, so later steps work on the degrees kept (a shift or rotation of degree n uses degrees <= n only).
-  if (options.max_degree >= 0) set = truncate_degree(set, options.max_degree);
+  if (options.max_degree >= 0) {
+    set = truncate_degree(set, options.max_degree);  // refuses a degree the set does not have
+    // A covariance below the cut keeps its degrees.
+    maps.push_back([cut = options.max_degree](const CoefficientSet& s) {
+      return truncate_degree(s, std::min(cut, s.degree));
+    });
+  }
 
   if (!options.shift.empty()) {
     try {
-      set =
-          shift_origin(set, shift ? *shift : center_of_mass_offset(set), ShiftOptions{options.allow_outside});
+      const Eigen::Vector3d d = shift ? *shift : center_of_mass_offset(set);
+      apply([d, outside = ShiftOptions{options.allow_outside}](const CoefficientSet& s) {
+        return shift_origin(s, d, outside);
+      });
     } catch (const ShiftOutsideError& refusal) {
       throw ConventionError(std::string(refusal.what()) + " (use --allow-outside to proceed anyway)");
     }
   }
-  if (!options.rotate_matrix.empty()) set = rotate_set(set, parse_matrix(options.rotate_matrix));
+  const auto rotate = [&](const Eigen::Matrix3d& q) {
+    apply([q](const CoefficientSet& s) { return rotate_set(s, q); });
+  };
+  if (!options.rotate_matrix.empty()) rotate(parse_matrix(options.rotate_matrix));
   if (euler_degrees) {
     const Eigen::Vector3d angles = *euler_degrees * (M_PI / 180.0);
-    set = rotate_set(set, euler_zyz_matrix(angles.x(), angles.y(), angles.z()));
+    rotate(euler_zyz_matrix(angles.x(), angles.y(), angles.z()));
     set.history.back() += fmt::format(" (z-y-z Euler angles {}, {}, {} deg)", euler_degrees->x(),
                                       euler_degrees->y(), euler_degrees->z());
   }
-  if (options.to_principal) set = rotate_to_principal_axes(set);
-  if (to_radius) set = rescale_reference_radius(set, *to_radius);
-  if (to_gm) set = rescale_gm(set, *to_gm);
+  if (options.to_principal) {
+    // The axes of the nominal set, held fixed for the covariance (their own uncertainty is not propagated).
+    const Eigen::Matrix3d q = principal_axes_rotation(set);
+    set = rotate_to_principal_axes(set);
+    maps.push_back([q](const CoefficientSet& s) { return rotate_set(s, q, FrameKind::principal); });
+  }
+  if (to_radius) apply([r = *to_radius](const CoefficientSet& s) { return rescale_reference_radius(s, r); });
+  if (to_gm) apply([gm = *to_gm](const CoefficientSet& s) { return rescale_gm(s, gm); });
 
   Convention target = set.convention;
   if (!options.to_normalization.empty()) target.normalization = parse_normalization(options.to_normalization);
   if (!options.to_condon_shortley.empty()) target.condon_shortley = options.to_condon_shortley == "on";
   if (!options.to_zonal.empty()) target.zonal_as_j = options.to_zonal == "j";
-  if (target != set.convention) set = convert_convention(set, target);
+  if (target != set.convention)
+    apply([target](const CoefficientSet& s) { return convert_convention(s, target); });
+  if (covariance)
+    covariance = transform_covariance(*covariance, input, [&maps](const CoefficientSet& s) {
+      CoefficientSet out = s;
+      for (const CoefficientMap& map : maps) out = map(out);
+      return out;
+    });
   // Last, so that metadata given here describes the axes the set ends in (a rotation drops the old pole).
   declare_frame_metadata(set, frame_metadata_of(options.frame));
   for (size_t i = first_new_note; i < set.notes.size(); ++i) print_notice(global, set.notes[i]);
@@ -164,7 +206,7 @@ void run_convert(const ConvertOptions& options, const GlobalOptions& global) {
       warnings.push_back(*warning);
   record_warnings(set, warnings);
 
-  write_set_files(set, options.files);
+  write_set_and_covariance(set, options.files, covariance, covariance_path, options.covariance_files, global);
   if (global.quiet) return;
   const SetOutputOptions& files = options.files;
   std::FILE* out = files.output == "-" || files.json == "-" ? stderr : stdout;
@@ -187,6 +229,9 @@ void run_convert(const ConvertOptions& options, const GlobalOptions& global) {
   if (!set.frame_metadata.empty()) fmt::print(out, "  frame metadata     {}\n", describe(set.frame_metadata));
   fmt::print(out, "  written            {}{}\n", files.output,
              files.json.empty() ? "" : " and " + files.json);
+  if (covariance && !covariance_path.empty())
+    fmt::print(out, "  covariance         {}: {}, transformed with the set (C' = T C T^T); sigmas from its "
+               "diagonal\n", covariance_path, describe_covariance_size(covariance->degree, covariance->samples));
 }
 
 }  // namespace
@@ -211,6 +256,9 @@ void setup_convert(CLI::App& app, const GlobalOptions& global) {
       "team.txt");
   cmd->add_option("input", options->input, "Coefficient set or plain table (- for stdin)")->required();
   add_set_output_options(cmd, options->files);
+  add_covariance_file_options(cmd, options->covariance_files);
+  cmd->add_flag("--no-covariance", options->no_covariance,
+                "Drop the input's covariance companion (sigmas then propagated as if uncorrelated)");
   cmd->add_option("--unit", options->unit,
                   "Unit of bare lengths given here: m or km (GM is m^3 s^-2 unless it carries a unit)")
       ->check(CLI::IsMember({"m", "km"}))

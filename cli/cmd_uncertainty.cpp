@@ -7,6 +7,7 @@
 #include <memory>
 
 #include "cli_common.h"
+#include "covariance_options.h"
 #include "polystokes/core/constants.h"
 #include "polystokes/core/errors.h"
 #include "polystokes/io/coefficient_file.h"
@@ -26,6 +27,12 @@ struct InclusionOptions {
   std::string offset;    // length
 };
 
+// The covariance a run writes: up to --covariance-degree (0: none), beside -o.
+struct CovarianceRequest {
+  int degree = 30;
+  CovarianceFileOptions files;
+};
+
 struct UncertaintyCommandOptions {
   MeshInputOptions input;
   ExpansionOptions expansion;
@@ -40,13 +47,47 @@ struct UncertaintyCommandOptions {
   bool preserve_mass = false;
   std::string shard;
   SetOutputOptions files;
+  CovarianceRequest covariance;
   int threads = 0;
 };
 
 struct MergeCommandOptions {
   std::vector<std::string> shards;
   SetOutputOptions files;
+  CovarianceRequest covariance;
 };
+
+void add_covariance_request(CLI::App* cmd, CovarianceRequest& request) {
+  cmd->add_option("--covariance-degree", request.degree,
+                  "Write the full covariance of the parameters of degrees 0..N (capped at --degree; 0 = none; "
+                  "memory (N+1)^4 doubles, at most 1 GiB)")
+      ->check(strict_integer())
+      ->check(CLI::NonNegativeNumber)
+      ->capture_default_str();
+  add_covariance_file_options(cmd, request.files);
+}
+
+// The covariance degree of a set of degree `set_degree` (-1: none), refused before any work above the memory
+// limit, with its size announced.
+int planned_covariance_degree(const CovarianceRequest& request, int set_degree, long samples,
+                              const GlobalOptions& global) {
+  if (request.degree == 0) return -1;
+  const int degree = std::min(request.degree, set_degree);
+  try {
+    check_covariance_degree(degree);
+  } catch (const ResourceError& e) {
+    throw ResourceError(std::string(e.what()) + ": give a lower --covariance-degree (0 = none)");
+  }
+  print_notice(global, "covariance: " + describe_covariance_size(degree, samples));
+  return degree;
+}
+
+void print_covariance_row(std::FILE* out, const std::optional<CoefficientCovariance>& covariance,
+                          const std::string& path) {
+  if (covariance && !path.empty())
+    fmt::print(out, "  covariance         {}: {}\n", path,
+               describe_covariance_size(covariance->degree, covariance->samples));
+}
 
 std::function<void(long, long)> progress_printer(const GlobalOptions& global) {
   if (!progress_wanted(global)) return {};
@@ -172,6 +213,11 @@ void run_uncertainty_command(const UncertaintyCommandOptions& options, const Glo
       throw ConventionError("--json needs the merged set: give it to uncertainty-merge");
   }
 
+  const std::string covariance_path =
+      shard || options.covariance.degree == 0 ? std::string()
+                                              : covariance_output_path(options.covariance.files, files);
+  const int covariance_degree =
+      shard ? -1 : planned_covariance_degree(options.covariance, compute.degree, settings.samples, global);
   const UncertaintyPlan plan = plan_uncertainty(regions, compute, settings);
   SampleOptions execution;
   execution.threads = options.threads;
@@ -189,12 +235,14 @@ void run_uncertainty_command(const UncertaintyCommandOptions& options, const Glo
     fmt::print(out, "  written            {} (combine all {} shards with polystokes uncertainty-merge)\n",
                files.output, shard->count);
   } else {
-    const UncertaintyResult result = run_uncertainty(plan, execution);
-    write_set_files(result.set, files);
+    const UncertaintyResult result = run_uncertainty(plan, execution, covariance_degree);
+    write_set_and_covariance(result.set, files, result.covariance, covariance_path, options.covariance.files,
+                             global);
     if (global.quiet) return;
     print_settings(out, plan.settings, plan.nominal.body, plan.nominal.degree);
     for (const SummaryRow& row : echo) fmt::print(out, "  {:<18} {}\n", row.label, row.value);
     print_summary(out, result);
+    print_covariance_row(out, result.covariance, covariance_path);
     fmt::print(out, "  written            {}{}\n", files.output,
                files.json.empty() ? "" : " and " + files.json);
   }
@@ -206,16 +254,23 @@ void run_uncertainty_command(const UncertaintyCommandOptions& options, const Glo
 void run_merge_command(const MergeCommandOptions& options, const GlobalOptions& global) {
   for (const auto& path : options.shards) check_input_path(path);
   check_set_output_paths(options.files);
+  const SetOutputOptions& files = options.files;
+  const std::string covariance_path =
+      options.covariance.degree == 0 ? std::string() : covariance_output_path(options.covariance.files, files);
   std::vector<UncertaintyShard> shards;
   for (const auto& path : options.shards) shards.push_back(parse_shard_text(read_file(path), path));
-  const UncertaintyResult result = merge_shards(shards, options.shards);
-  const SetOutputOptions& files = options.files;
-  write_set_files(result.set, files);
+  const UncertaintyShard& first = shards.front();
+  const int covariance_degree =
+      planned_covariance_degree(options.covariance, first.nominal.degree, first.settings.samples, global);
+  const UncertaintyResult result = merge_shards(shards, options.shards, covariance_degree);
+  write_set_and_covariance(result.set, files, result.covariance, covariance_path, options.covariance.files,
+                           global);
   if (global.quiet) return;
   std::FILE* out = files.output == "-" ? stderr : stdout;
   print_settings(out, shards.front().settings, result.set.body, result.set.degree);
   fmt::print(out, "  merged             {} shard file(s)\n", shards.size());
   print_summary(out, result);
+  print_covariance_row(out, result.covariance, covariance_path);
   fmt::print(out, "  written            {}{}\n", files.output,
              files.json.empty() ? "" : " and " + files.json);
   fmt::print(out, "{}\n", operational_caution());
@@ -286,6 +341,7 @@ void setup_uncertainty(CLI::App& app, const GlobalOptions& global) {
                 "Keep each sample's mass: the density outside cores and voids is rescaled (GM known)");
   cmd->add_option("--shard", options->shard, "Run only shard i of k (i = 1..k) and write a shard file to -o");
   add_set_output_options(cmd, options->files, "Coefficient file (or shard file with --shard) to write");
+  add_covariance_request(cmd, options->covariance);
   add_threads_option(cmd, options->threads, "; results do not depend on it");
   cmd->callback([options, &global]() { run_uncertainty_command(*options, global); });
 
@@ -298,6 +354,7 @@ void setup_uncertainty(CLI::App& app, const GlobalOptions& global) {
       "Example: polystokes uncertainty-merge part1.shard part2.shard part3.shard -o body_sigma.txt");
   merge->add_option("shards", merge_options->shards, "Shard files, in any order")->required();
   add_set_output_options(merge, merge_options->files);
+  add_covariance_request(merge, merge_options->covariance);
   merge->callback([merge_options, &global]() { run_merge_command(*merge_options, global); });
 }
 

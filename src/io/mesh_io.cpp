@@ -28,6 +28,8 @@ namespace {
 using Point = Eigen::Vector3d;
 using Triangle = std::array<int, 3>;
 
+}  // namespace
+
 std::string sha256_hex(std::string_view bytes) {
   unsigned char digest[EVP_MAX_MD_SIZE];
   unsigned int length = 0;
@@ -38,6 +40,8 @@ std::string sha256_hex(std::string_view bytes) {
   for (unsigned int i = 0; i < length; ++i) hex += fmt::format("{:02x}", digest[i]);
   return hex;
 }
+
+namespace {
 
 std::string lower_extension(const std::string& path) {
   std::string ext = std::filesystem::path(path).extension().string();

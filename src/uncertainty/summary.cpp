@@ -68,11 +68,50 @@ std::string describe_variations(const UncertaintySettings& s, double mean_edge) 
   return text;
 }
 
+// Samples summed in blocks of this many: outer products as one rank-k update each (fast), and a fixed
+// grouping in index order, so the sums do not depend on how the samples were split.
+constexpr long kCovarianceBlock = 64;
+
+// sum_i delta_i delta_i^T / K over the parameters of degrees 0..degree (sets/covariance.h order), samples in
+// index order; the diagonal is sum_squares / K, the sums the sigmas are the square roots of.
+CoefficientCovariance sample_covariance(const CoefficientSet& set, const std::vector<const SampleResult*>& ordered,
+                                        const Eigen::VectorXd& sum_squares, int degree) {
+  check_covariance_degree(degree);
+  const long K = long(ordered.size());
+  const Eigen::Index s_offset = Eigen::Index(packed_size(set.degree) / 2);
+  const auto parameters = covariance_parameters(degree);
+  std::vector<Eigen::Index> packed(parameters.size());
+  for (size_t p = 0; p < parameters.size(); ++p)
+    packed[p] = (parameters[p].sine ? s_offset : 0) + parameters[p].n * (parameters[p].n + 1) / 2 + parameters[p].m;
+  const Eigen::Index P = Eigen::Index(parameters.size());
+  Eigen::MatrixXd sum = Eigen::MatrixXd::Zero(P, P);
+  Eigen::MatrixXd block(P, kCovarianceBlock);
+  for (long first = 0; first < K; first += kCovarianceBlock) {
+    const long count = std::min(kCovarianceBlock, K - first);
+    for (long k = 0; k < count; ++k)
+      for (Eigen::Index p = 0; p < P; ++p) block(p, k) = ordered[size_t(first + k)]->delta(packed[size_t(p)]);
+    sum.selfadjointView<Eigen::Lower>().rankUpdate(block.leftCols(count));
+  }
+  CoefficientCovariance out;
+  out.degree = degree;
+  out.body = set.body;
+  out.convention = set.convention;
+  out.reference_radius = set.reference_radius;
+  out.gm = set.gm;
+  out.samples = K;
+  out.values = sum.triangularView<Eigen::Lower>();
+  out.values /= double(K);
+  out.values.triangularView<Eigen::StrictlyUpper>() = out.values.transpose();
+  for (Eigen::Index p = 0; p < P; ++p) out.values(p, p) = sum_squares(packed[size_t(p)]) / double(K);
+  return out;
+}
+
 }  // namespace
 
 UncertaintyResult summarize_uncertainty(const CoefficientSet& nominal, const UncertaintySettings& settings,
                                         const Convention& convention,
-                                        const std::vector<SampleResult>& samples, double mean_edge) {
+                                        const std::vector<SampleResult>& samples, double mean_edge,
+                                        int covariance_degree) {
   if (nominal.convention.normalization != Normalization::fully || nominal.convention.condon_shortley ||
       nominal.convention.zonal_as_j)
     throw ConventionError("uncertainty statistics need the nominal set fully normalized without phase");
@@ -208,15 +247,26 @@ UncertaintyResult summarize_uncertainty(const CoefficientSet& nominal, const Unc
       "budget and do not replace validation against tracking data.");
   set.history.push_back(fmt::format(
       "uncertainty: {} Monte Carlo samples, seed {}, sigma = RMS about the nominal", K, settings.seed));
-  if (convention.normalization != Normalization::fully || convention.condon_shortley || convention.zonal_as_j)
+  if (covariance_degree >= 0)
+    result.covariance = sample_covariance(set, ordered, sum_squares, std::min(covariance_degree, N));
+  if (convention != set.convention) {
+    const CoefficientSet fully = set;
     set = convert_convention(set, convention);
+    if (result.covariance) {
+      result.covariance = transform_covariance(*result.covariance, fully, [&](const CoefficientSet& s) {
+        return expressed_in(s, convention);
+      });
+      apply_covariance_sigmas(set, *result.covariance);
+    }
+  }
   return result;
 }
 
-UncertaintyResult run_uncertainty(const UncertaintyPlan& plan, const SampleOptions& options) {
+UncertaintyResult run_uncertainty(const UncertaintyPlan& plan, const SampleOptions& options,
+                                  int covariance_degree) {
   return summarize_uncertainty(plan.nominal, plan.settings, plan.convention,
                                run_samples(plan, shard_samples(Shard{}, plan.settings.samples), options),
-                               plan.mean_edge);
+                               plan.mean_edge, covariance_degree);
 }
 
 UncertaintyShard run_shard(const UncertaintyPlan& plan, const Shard& shard, const SampleOptions& options) {
@@ -234,7 +284,7 @@ UncertaintyShard run_shard(const UncertaintyPlan& plan, const Shard& shard, cons
 }
 
 UncertaintyResult merge_shards(const std::vector<UncertaintyShard>& shards,
-                               const std::vector<std::string>& names) {
+                               const std::vector<std::string>& names, int covariance_degree) {
   if (shards.empty()) throw ConventionError("no shard files given");
   if (names.size() != shards.size()) throw ConventionError("one name per shard is needed");
   const UncertaintyShard& first = shards.front();
@@ -287,7 +337,8 @@ UncertaintyResult merge_shards(const std::vector<UncertaintyShard>& shards,
     throw ConventionError(fmt::format("{} of the {} samples are missing (first: sample {}); shards given: {}",
                                       missing, K, first_missing, given));
   }
-  return summarize_uncertainty(first.nominal, first.settings, first.convention, all, first.mean_edge);
+  return summarize_uncertainty(first.nominal, first.settings, first.convention, all, first.mean_edge,
+                               covariance_degree);
 }
 
 }  // namespace polystokes

@@ -4,6 +4,7 @@
 #pragma once
 
 #include <string>
+#include <string_view>
 #include <vector>
 
 #include "polystokes/core/mesh.h"
@@ -60,5 +61,7 @@ void write_obj(const Mesh& mesh, const std::string& path, LengthUnit unit);
 
 /// SHA-256 of the file's bytes as 64 lower-case hex digits (OpenSSL EVP). Throws FormatError if unreadable.
 std::string sha256_file_hex(const std::string& path);
+/// SHA-256 of the bytes as 64 lower-case hex digits (OpenSSL EVP).
+std::string sha256_hex(std::string_view bytes);
 
 }  // namespace polystokes

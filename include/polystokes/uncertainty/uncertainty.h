@@ -14,6 +14,7 @@
 #include "polystokes/core/coefficient_set.h"
 #include "polystokes/harmonics/compute.h"
 #include "polystokes/mesh/mass_properties.h"
+#include "polystokes/sets/covariance.h"
 
 namespace polystokes {
 
@@ -135,18 +136,29 @@ struct UncertaintySummary {
 struct UncertaintyResult {
   CoefficientSet set;  ///< nominal set with sigma_C, sigma_S, notes and history, in the requested convention
   UncertaintySummary summary;
+  /// The second moment of the samples about the nominal set for the parameters of degrees 0..covariance degree
+  /// (sets/covariance.h order), in the set's convention; its diagonal's square roots are the set's sigmas of
+  /// those degrees bit for bit. Absent when not asked for.
+  std::optional<CoefficientCovariance> covariance;
 };
 
 /// Statistics of a complete run: `samples` must hold every index 0..settings.samples-1 exactly once (any
 /// order). sigma = sqrt(sum_i delta_i^2 / K), the RMS difference between the sampled bodies and the nominal
 /// set (not the scatter about the sample mean, so a fixed scenario counts fully), summed in index order so
 /// the result is bit-identical however the samples were split. O(K (N+1)^2).
+/// With covariance_degree >= 0 (capped at the set's degree) the result also holds the covariance of the
+/// parameters of degrees 0..covariance_degree: sum_i delta_i delta_i^T / K, accumulated in index order in
+/// blocks of samples (so also bit-identical however split), with its diagonal taken from the very sums the
+/// sigmas come from. O(K P^2) more, P = (covariance_degree + 1)^2, and P^2 doubles of memory; throws
+/// ResourceError above kCovarianceByteLimit (check_covariance_degree).
 UncertaintyResult summarize_uncertainty(const CoefficientSet& nominal, const UncertaintySettings& settings,
                                         const Convention& convention,
-                                        const std::vector<SampleResult>& samples, double mean_edge);
+                                        const std::vector<SampleResult>& samples, double mean_edge,
+                                        int covariance_degree = -1);
 
 /// All samples of the plan (run_samples then summarize_uncertainty).
-UncertaintyResult run_uncertainty(const UncertaintyPlan& plan, const SampleOptions& options = {});
+UncertaintyResult run_uncertainty(const UncertaintyPlan& plan, const SampleOptions& options = {},
+                                  int covariance_degree = -1);
 
 /// The part of a run one machine computes, and what merging needs to check it belongs with the others.
 struct UncertaintyShard {
@@ -166,8 +178,10 @@ UncertaintyShard run_shard(const UncertaintyPlan& plan, const Shard& shard,
 
 /// Checks the shards belong to one run (same fingerprint, mesh checksums, settings, nominal set) and hold
 /// every sample exactly once, then summarizes. names[i] is used in messages for shards[i]. Throws
-/// ConventionError naming the shards and the first disagreement, duplicate or missing sample.
+/// ConventionError naming the shards and the first disagreement, duplicate or missing sample. The shards
+/// carry every sample's deltas, so the covariance (covariance_degree as in summarize_uncertainty) is the same
+/// as a single run's, bit for bit.
 UncertaintyResult merge_shards(const std::vector<UncertaintyShard>& shards,
-                               const std::vector<std::string>& names);
+                               const std::vector<std::string>& names, int covariance_degree = -1);
 
 }  // namespace polystokes
