@@ -6,6 +6,7 @@
 
 #include "cli_common.h"
 #include "polystokes/io/coefficient_file.h"
+#include "polystokes/io/covariance_file.h"
 #include "polystokes/io/output_file.h"
 #include "polystokes/render/comparison.h"
 #include "polystokes/sets/compare.h"
@@ -35,13 +36,16 @@ void run_compare(const CompareCommandOptions& options, const GlobalOptions& glob
   check_input_path(options.b);
   const CoefficientSet a = read_coefficient_file(options.a);
   const CoefficientSet b = read_coefficient_file(options.b);
+  const auto covariance_a = read_companion_covariance(a, options.a);
+  const auto covariance_b = read_companion_covariance(b, options.b);
   CompareOptions compare;
   compare.tolerance = options.tolerance;
   compare.align_frame = options.align_frames;
   compare.max_degree = options.max_degree;
   compare.largest_count = options.largest;
   compare.diagnose = !options.no_diagnosis;
-  const Comparison result = compare_sets(a, b, compare);
+  const Comparison result = compare_sets(a, b, compare, covariance_a ? &*covariance_a : nullptr,
+                                         covariance_b ? &*covariance_b : nullptr);
   if (!options.json.empty()) write_file_atomically(options.json, comparison_json(result));
   if (global.quiet) return;
   std::FILE* out = options.json == "-" ? stderr : stdout;

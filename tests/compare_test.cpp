@@ -3,6 +3,7 @@
 #include "polystokes/sets/compare.h"
 
 #include <Eigen/Geometry>
+#include <boost/math/distributions/chi_squared.hpp>
 #include <algorithm>
 #include <catch2/catch.hpp>
 #include <cmath>
@@ -449,4 +450,71 @@ TEST_CASE("the mistake-kind name table round-trips every kind, and a pair's kind
   Hypothesis pair;
   pair.mistakes = {MistakeKind::normalization, MistakeKind::radius};
   CHECK(pair.kind() == "normalization+radius");
+}
+
+TEST_CASE("chi-square 99% quantile (Wilson-Hilferty) against Boost.Math's chi_squared quantile", "[compare]") {
+  // Wilson & Hilferty 1931 is an approximation: within 0.75% at k = 1, 0.22% from k = 2 on and 0.07% from
+  // k = 20 on (Boost.Math, chi_squared_distribution, quantile by inversion of the incomplete gamma function).
+  for (int k = 1; k <= 400; ++k) {
+    CAPTURE(k);
+    const double exact = boost::math::quantile(boost::math::chi_squared_distribution<double>(k), 0.99);
+    CHECK_THAT(chi_square_quantile_99(k), WithinRel(exact, k == 1 ? 0.0075 : k < 20 ? 0.0022 : 0.0007));
+  }
+  REQUIRE_THROWS_AS(chi_square_quantile_99(0), ConventionError);
+}
+
+TEST_CASE("differences in units of the combined sigma: chi-square per degree from sigmas and covariances",
+          "[compare]") {
+  CoefficientSet a = body_set();
+  const double s = 1e-6;
+  for (int n = 1; n <= a.degree; ++n)
+    for (int m = 0; m <= n; ++m) {
+      a.sigma_C(n, m) = s;
+      a.sigma_S(n, m) = m == 0 ? 0.0 : s;
+    }
+  CoefficientSet b = a;
+  b.C(3, 1) += 2 * s;  // (2s)^2 / (s^2 + s^2) = 2 at degree 3: within the 99% quantile of 7 dof
+  CompareOptions options;
+  options.diagnose = false;
+  const Comparison near = compare_sets(a, b, options);
+  REQUIRE(near.uncertainty);
+  const DegreeUncertainty& three = near.uncertainty->degrees[3];
+  CHECK(three.parameters == 7);
+  CHECK_THAT(three.chi_square, WithinRel(2.0, 1e-9));  // common practice: sum of d^2 / variance
+  CHECK_THAT(three.rms_sigmas, WithinRel(std::sqrt(2.0 / 7.0), 1e-9));
+  CHECK(near.uncertainty->degrees[0].parameters == 0);  // C00 carries no sigma: nothing to test
+  CHECK(near.uncertainty->consistent);
+  CHECK_THAT(near.verdict, Catch::Matchers::Contains("within their uncertainty: CONSISTENT"));
+
+  b.C(3, 1) += 8 * s;  // chi-square 50, above the 99% quantile of 7 dof (18.48, Boost.Math above)
+  const Comparison far = compare_sets(a, b, options);
+  CHECK_THAT(far.uncertainty->degrees[3].chi_square, WithinRel(50.0, 1e-9));
+  CHECK(!far.uncertainty->degrees[3].consistent);
+  CHECK_THAT(far.verdict, Catch::Matchers::Contains("INCONSISTENT at degree(s) 3"));
+
+  // A rank-one covariance u u^T at degree 2 (as from one sample): the pseudo-inverse tests the difference
+  // along u only, (u.d)^2 / |u|^4, with one degree of freedom (common practice, Moore-Penrose inverse).
+  CoefficientCovariance covariance;
+  covariance.degree = 2;
+  covariance.convention = a.convention;
+  covariance.reference_radius = a.reference_radius;
+  covariance.gm = a.gm;
+  covariance.samples = 1;
+  Eigen::VectorXd u = Eigen::VectorXd::Zero(9);
+  u.segment(4, 5) << 1e-6, -2e-6, 0.5e-6, 3e-6, 1e-6;
+  covariance.values = u * u.transpose();
+  CoefficientSet c = a;
+  c.sigma_C.setZero();
+  c.sigma_S.setZero();
+  CoefficientSet d = c;
+  Eigen::VectorXd shift(5);
+  shift << 3e-6, 1e-6, -2e-6, 0.5e-6, 4e-6;
+  d.C(2, 0) += shift(0), d.C(2, 1) += shift(1), d.S(2, 1) += shift(2), d.C(2, 2) += shift(3), d.S(2, 2) += shift(4);
+  const Comparison rank_one = compare_sets(c, d, options, &covariance, nullptr);
+  const DegreeUncertainty& two = rank_one.uncertainty->degrees[2];
+  const Eigen::VectorXd v = u.segment(4, 5);
+  CHECK(two.parameters == 1);
+  CHECK(two.from_covariance);
+  CHECK_THAT(two.chi_square, WithinRel(std::pow(v.dot(-shift), 2) / std::pow(v.squaredNorm(), 2), 1e-9));
+  CHECK(rank_one.uncertainty->degrees[3].parameters == 0);  // no sigma above the covariance
 }

@@ -51,6 +51,27 @@ std::string comparison_text(const Comparison& c) {
       out += fmt::format("  ({} less likely explanations tested; all are in the JSON report)\n",
                          c.hypotheses.size() - shown);
   }
+  if (c.uncertainty) {
+    const UncertaintyComparison& u = *c.uncertainty;
+    auto covered = [](int degree) {
+      return degree >= 0 ? fmt::format("covariance to degree {}", degree) : std::string("sigmas only");
+    };
+    out += fmt::format(
+        "per degree in units of the combined uncertainty (A: {}, B: {}; chi-square of A-B with the summed "
+        "covariance, pseudo-inverse; 99% quantile by Wilson-Hilferty):\n",
+        covered(u.covariance_degree_a), covered(u.covariance_degree_b));
+    out += fmt::format("  {:>5} {:>6} {:>14} {:>12} {:>12}  {}\n", "n", "dof", "RMS (A-B)/sig", "chi-square",
+                       "99% quantile", "consistent");
+    for (const auto& d : u.degrees) {
+      if (d.parameters == 0) {
+        out += fmt::format("  {:>5} {:>6} {:>14} {:>12} {:>12}  {}\n", d.degree, 0, "-", "-", "-",
+                           "no uncertainty");
+        continue;
+      }
+      out += fmt::format("  {:>5} {:>6} {:>14.4g} {:>12.4g} {:>12.4g}  {}\n", d.degree, d.parameters,
+                         d.rms_sigmas, d.chi_square, d.quantile, d.consistent ? "yes" : "NO");
+    }
+  }
   out += "verdict: " + c.verdict + "\n";
   return out;
 }
@@ -97,6 +118,21 @@ std::string comparison_json(const Comparison& c) {
     hypotheses.push_back(entry);
   }
   root["diagnosis"] = hypotheses;
+  if (c.uncertainty) {
+    json degrees_u = json::array();
+    for (const auto& d : c.uncertainty->degrees)
+      degrees_u.push_back({{"n", d.degree},
+                           {"dof", d.parameters},
+                           {"rms_sigmas", d.rms_sigmas},
+                           {"chi_square", d.chi_square},
+                           {"quantile_99", d.quantile},
+                           {"consistent", d.consistent},
+                           {"from_covariance", d.from_covariance}});
+    root["uncertainty"] = {{"consistent", c.uncertainty->consistent},
+                           {"covariance_degree_a", c.uncertainty->covariance_degree_a},
+                           {"covariance_degree_b", c.uncertainty->covariance_degree_b},
+                           {"degrees", degrees_u}};
+  }
   return root.dump(2) + "\n";
 }
 
