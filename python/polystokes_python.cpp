@@ -17,6 +17,7 @@
 #include "polystokes/core/constants.h"
 #include "polystokes/harmonics/compute.h"
 #include "polystokes/io/coefficient_file.h"
+#include "polystokes/io/covariance_file.h"
 #include "polystokes/io/mesh_io.h"
 #include "polystokes/mesh/mass_properties.h"
 #include "polystokes/mesh/mesh_check.h"
@@ -133,10 +134,39 @@ PYBIND11_MODULE(polystokes, m) {
       .def_readwrite("epoch", &FrameMetadata::epoch, "YYYY-MM-DDTHH:MM:SS[.fraction]Z")
       .def("__repr__", [](const FrameMetadata& f) { return "<polystokes.FrameMetadata " + describe(f) + ">"; });
 
-  py::class_<CoefficientSet>(m, "CoefficientSet",
+  py::class_<CoefficientCovariance>(
+      m, "Covariance",
+      "The covariance of a set's parameters of degrees 0..degree (docs/uncertainty.md): `values` is a (P, P) "
+      "float64 array, P = (degree+1)^2, and `parameters` lists (n, m, 'C' or 'S') in its order, in the set's "
+      "convention, reference radius and GM.")
+      .def_readonly("degree", &CoefficientCovariance::degree)
+      .def_readonly("body", &CoefficientCovariance::body)
+      .def_readonly("samples", &CoefficientCovariance::samples,
+                    "Monte Carlo samples it comes from (its rank is at most this; 0: not from samples)")
+      .def_readonly("reference_radius", &CoefficientCovariance::reference_radius, "m")
+      .def_readonly("gm", &CoefficientCovariance::gm, "m^3 s^-2")
+      .def_property_readonly(
+          "normalization", [](const CoefficientCovariance& c) { return to_string(c.convention.normalization); })
+      .def_readonly("values", &CoefficientCovariance::values, "(P, P) float64, symmetric")
+      .def_property_readonly(
+          "parameters",
+          [](const CoefficientCovariance& c) {
+            std::vector<py::tuple> out;
+            for (const CoefficientParameter& p : covariance_parameters(c.degree))
+              out.push_back(py::make_tuple(p.n, p.m, p.sine ? "S" : "C"));
+            return out;
+          },
+          "(n, m, 'C' or 'S') of each row and column, in order")
+      .def("__repr__", [](const CoefficientCovariance& c) {
+        return "<polystokes.Covariance " + c.body + ", degrees 0.." + std::to_string(c.degree) + ", " +
+               std::to_string(c.values.rows()) + " parameters>";
+      });
+
+  py::class_<CoefficientSet>(m, "CoefficientSet", py::dynamic_attr(),
                              "A Stokes coefficient set. C, S, sigma_C, sigma_S are (degree+1, degree+1) arrays "
                              "indexed [n, m] (upper triangle zero), in the set's stored convention, as views of "
-                             "the set's own storage.")
+                             "the set's own storage. A set from read_set has `covariance`: its companion "
+                             "Covariance, or None.")
       .def_readonly("degree", &CoefficientSet::degree)
       .def_readwrite("body", &CoefficientSet::body)
       .def_readwrite("gm", &CoefficientSet::gm, "GM, m^3 s^-2")
@@ -188,8 +218,20 @@ PYBIND11_MODULE(polystokes, m) {
                short_name(s.convention) + ">";
       });
 
-  m.def("read_set", &read_coefficient_file, py::arg("path"),
-        "Reads a coefficient set, text or JSON (told apart by content).");
+  m.def(
+      "read_set",
+      [](const std::string& path) {
+        py::object set = py::cast(read_coefficient_file(path));
+        const auto covariance = read_companion_covariance(set.cast<const CoefficientSet&>(), path);
+        set.attr("covariance") = covariance ? py::cast(*covariance) : py::none();
+        return set;
+      },
+      py::arg("path"),
+      "Reads a coefficient set, text or JSON (told apart by content), with its covariance companion if the set "
+      "records one (as .covariance; None otherwise). A companion whose SHA-256 is not the recorded one is "
+      "refused (FormatError).");
+  m.def("read_covariance", &read_covariance_file, py::arg("path"),
+        "Reads a covariance file (text or binary): a Covariance with .values (numpy) and .parameters.");
   m.def(
       "read_mesh",
       [](const std::string& path, const std::string& unit, double merge_tolerance) {

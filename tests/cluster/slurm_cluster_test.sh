@@ -131,15 +131,22 @@ seq 1 4 | parallel --will-cite -S : --jobs 2 --workdir . \
   "'$polystokes' -q ${run[*]} --shard {}/4 -o shards/part{}.shard"
 "$polystokes" -q uncertainty-merge shards/part*.shard -o merged.txt
 
-"$polystokes" -q "${run[@]}" -o "$work/single.txt"
+# The single run under the merged sets' file name, so the covariance companions have one name too (the set
+# records its companion's name and SHA-256).
+mkdir -p "$work/single"
+"$polystokes" -q "${run[@]}" -o "$work/single/merged.txt"
 same_set() {
-  if ! cmp -s <(grep -v '^created' "$work/single.txt") <(grep -v '^created' "$1"); then
+  if ! cmp -s <(grep -v '^created' "$work/single/merged.txt") <(grep -v '^created' "$1/merged.txt"); then
     echo "slurm cluster test: the set merged from $2 differs from the single-process set"
-    diff <(grep -v '^created' "$work/single.txt") <(grep -v '^created' "$1") | head -n 10
+    diff <(grep -v '^created' "$work/single/merged.txt") <(grep -v '^created' "$1/merged.txt") | head -n 10
+    exit 1
+  fi
+  if ! cmp -s "$work/single/merged.cov.txt" "$1/merged.cov.txt"; then
+    echo "slurm cluster test: the covariance merged from $2 differs from the single-process covariance"
     exit 1
   fi
 }
-same_set "$work/jobs/merged.txt" "the Slurm job array"
-same_set "$work/parallel/merged.txt" "GNU parallel"
+same_set "$work/jobs" "the Slurm job array"
+same_set "$work/parallel" "GNU parallel"
 echo "slurm cluster test: 4 shards as a Slurm job array with a dependent merge, and 4 shards through GNU parallel,"
-echo "  each give the single-process set exactly"
+echo "  each give the single-process set and covariance exactly"

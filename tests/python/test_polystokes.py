@@ -2,6 +2,7 @@
 definitions (closed forms, direct quadrature), not against the command-line tool's files."""
 import math
 import os
+import subprocess
 
 import numpy as np
 import pytest
@@ -192,3 +193,53 @@ def test_the_documented_examples_run(document, tmp_path, monkeypatch):
     monkeypatch.chdir(tmp_path)
     for block in blocks:
         exec(compile(block, document, "exec"), {})
+
+
+def polystokes_executable():
+    """The command-line tool built beside the module (build/polystokes for build/python)."""
+    return os.path.join(os.path.dirname(os.path.abspath(polystokes.__file__)), os.pardir, "polystokes")
+
+
+@pytest.mark.parametrize("form", ["text", "binary"])
+def test_covariance_from_uncertainty_checked_with_numpy(form, tmp_path):
+    source = os.environ.get("POLYSTOKES_SOURCE_DIR", os.path.join(os.path.dirname(__file__), "..", ".."))
+    executable = polystokes_executable()
+    if not os.path.exists(executable):
+        pytest.skip("the polystokes executable is not built beside the module")
+    samples = 8
+    out = tmp_path / "set.txt"
+    subprocess.run([executable, "-q", "uncertainty", os.path.join(source, "shapes-demo", "sphere.obj"), "--unit",
+                    "km", "--density", "2100", "--degree", "4", "--samples", str(samples), "--seed", "3",
+                    "--shape-sigma", "0.002", "--correlation-length", "0.3", "--normalization", "schmidt",
+                    "--covariance-format", form, "-o", str(out)], check=True)
+    s = polystokes.read_set(str(out))
+    cov = s.covariance
+    assert cov is not None and cov.degree == 4 and cov.samples == samples
+    values = np.array(cov.values)
+    assert values.shape == (25, 25)
+    # sqrt of the diagonal is the set's sigmas exactly (==, not a tolerance).
+    for k, (n, m, part) in enumerate(cov.parameters):
+        sigma = s.sigma_S[n, m] if part == "S" else s.sigma_C[n, m]
+        assert math.sqrt(values[k, k]) == sigma
+    assert [p for p in cov.parameters[:4]] == [(0, 0, "C"), (1, 0, "C"), (1, 1, "C"), (1, 1, "S")]
+    # Symmetric, positive semidefinite to rounding, rank at most the sample count (numpy's own eigenvalues).
+    assert np.array_equal(values, values.T)
+    eigenvalues = np.linalg.eigvalsh(values)
+    assert eigenvalues.min() >= -1e-12 * eigenvalues.max()
+    assert np.linalg.matrix_rank(values, tol=1e-10 * eigenvalues.max()) <= samples
+    # The file read directly as documented (docs/uncertainty.md), independently of the module's reader.
+    companion = tmp_path / ("set.cov.bin" if form == "binary" else "set.cov.txt")
+    data = companion.read_bytes()
+    if form == "binary":
+        header_end = data.index(b"bytes 5000\n") + len(b"bytes 5000\n")
+        direct = np.frombuffer(data[header_end:], dtype="<f8").reshape(25, 25)
+    else:
+        direct = np.zeros((25, 25))
+        for line in data.decode().splitlines():
+            if line.startswith("row "):
+                words = line.split()
+                i = int(words[1])
+                direct[i, :i + 1] = [float(w) for w in words[2:]]
+                direct[:i + 1, i] = direct[i, :i + 1]
+    assert np.array_equal(direct, values)
+    assert np.array_equal(np.array(polystokes.read_covariance(str(companion)).values), values)
