@@ -230,8 +230,10 @@ void run_convert(const ConvertOptions& options, const GlobalOptions& global) {
   fmt::print(out, "  written            {}{}\n", files.output,
              files.json.empty() ? "" : " and " + files.json);
   if (covariance && !covariance_path.empty())
-    fmt::print(out, "  covariance         {}: {}, transformed with the set (C' = T C T^T); sigmas from its "
-               "diagonal\n", covariance_path, describe_covariance_size(covariance->degree, covariance->samples));
+    fmt::print(out,
+               "  covariance         {}: {}, transformed with the set (C' = T C T^T); sigmas from its "
+               "diagonal\n",
+               covariance_path, describe_covariance_size(covariance->degree, covariance->samples));
 }
 
 }  // namespace

@@ -58,9 +58,10 @@ struct MergeCommandOptions {
 };
 
 void add_covariance_request(CLI::App* cmd, CovarianceRequest& request) {
-  cmd->add_option("--covariance-degree", request.degree,
-                  "Write the full covariance of the parameters of degrees 0..N (capped at --degree; 0 = none; "
-                  "memory (N+1)^4 doubles, at most 1 GiB)")
+  cmd->add_option(
+         "--covariance-degree", request.degree,
+         "Write the full covariance of the parameters of degrees 0..N (capped at --degree; 0 = none; "
+         "memory (N+1)^4 doubles, at most 1 GiB)")
       ->check(strict_integer())
       ->check(CLI::NonNegativeNumber)
       ->capture_default_str();
@@ -213,9 +214,9 @@ void run_uncertainty_command(const UncertaintyCommandOptions& options, const Glo
       throw ConventionError("--json needs the merged set: give it to uncertainty-merge");
   }
 
-  const std::string covariance_path =
-      shard || options.covariance.degree == 0 ? std::string()
-                                              : covariance_output_path(options.covariance.files, files);
+  const std::string covariance_path = shard || options.covariance.degree == 0
+                                          ? std::string()
+                                          : covariance_output_path(options.covariance.files, files);
   const int covariance_degree =
       shard ? -1 : planned_covariance_degree(options.covariance, compute.degree, settings.samples, global);
   const UncertaintyPlan plan = plan_uncertainty(regions, compute, settings);
@@ -255,8 +256,9 @@ void run_merge_command(const MergeCommandOptions& options, const GlobalOptions& 
   for (const auto& path : options.shards) check_input_path(path);
   check_set_output_paths(options.files);
   const SetOutputOptions& files = options.files;
-  const std::string covariance_path =
-      options.covariance.degree == 0 ? std::string() : covariance_output_path(options.covariance.files, files);
+  const std::string covariance_path = options.covariance.degree == 0
+                                          ? std::string()
+                                          : covariance_output_path(options.covariance.files, files);
   std::vector<UncertaintyShard> shards;
   for (const auto& path : options.shards) shards.push_back(parse_shard_text(read_file(path), path));
   const UncertaintyShard& first = shards.front();

@@ -18,7 +18,8 @@ void add_covariance_file_options(CLI::App* cmd, CovarianceFileOptions& options) 
 }
 
 std::string covariance_output_path(const CovarianceFileOptions& options, const SetOutputOptions& files) {
-  const CovarianceFormat format = options.format == "binary" ? CovarianceFormat::binary : CovarianceFormat::text;
+  const CovarianceFormat format =
+      options.format == "binary" ? CovarianceFormat::binary : CovarianceFormat::text;
   const std::string path = !options.output.empty() ? options.output
                            : files.output == "-"   ? std::string()
                                                    : companion_covariance_path(files.output, format);
@@ -43,8 +44,9 @@ void write_set_and_covariance(CoefficientSet set, const SetOutputOptions& files,
                               const GlobalOptions& global) {
   drop_covariance_link(set);
   if (covariance && covariance_path.empty())
-    print_notice(global, "the set goes to standard output, so its covariance is not written (give "
-                         "--covariance-output FILE to keep it)");
+    print_notice(global,
+                 "the set goes to standard output, so its covariance is not written (give "
+                 "--covariance-output FILE to keep it)");
   if (!covariance || covariance_path.empty()) {
     if (covariance) apply_covariance_sigmas(set, *covariance);
     write_set_files(set, files);

@@ -26,8 +26,8 @@ std::string covariance_output_path(const CovarianceFileOptions& options, const S
 /// "degrees 0..N, P parameters, X MB" and, with samples, "; from K samples its rank is at most K".
 std::string describe_covariance_size(int degree, long samples);
 
-/// Writes the set files, and with a covariance and a companion path also the covariance, as one group (both or
-/// neither; the set records the companion's name and SHA-256 and takes its sigmas from the diagonal). A
+/// Writes the set files, and with a covariance and a companion path also the covariance, as one group (both
+/// or neither; the set records the companion's name and SHA-256 and takes its sigmas from the diagonal). A
 /// covariance without a path is not written and a notice says so; the set then records no companion.
 void write_set_and_covariance(CoefficientSet set, const SetOutputOptions& files,
                               const std::optional<CoefficientCovariance>& covariance,

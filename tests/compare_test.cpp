@@ -3,8 +3,8 @@
 #include "polystokes/sets/compare.h"
 
 #include <Eigen/Geometry>
-#include <boost/math/distributions/chi_squared.hpp>
 #include <algorithm>
+#include <boost/math/distributions/chi_squared.hpp>
 #include <catch2/catch.hpp>
 #include <cmath>
 #include <nlohmann/json.hpp>
@@ -452,7 +452,8 @@ TEST_CASE("the mistake-kind name table round-trips every kind, and a pair's kind
   CHECK(pair.kind() == "normalization+radius");
 }
 
-TEST_CASE("chi-square 99% quantile (Wilson-Hilferty) against Boost.Math's chi_squared quantile", "[compare]") {
+TEST_CASE("chi-square 99% quantile (Wilson-Hilferty) against Boost.Math's chi_squared quantile",
+          "[compare]") {
   // Wilson & Hilferty 1931 is an approximation: within 0.75% at k = 1, 0.22% from k = 2 on and 0.07% from
   // k = 20 on (Boost.Math, chi_squared_distribution, quantile by inversion of the incomplete gamma function).
   for (int k = 1; k <= 400; ++k) {
@@ -509,7 +510,8 @@ TEST_CASE("differences in units of the combined sigma: chi-square per degree fro
   CoefficientSet d = c;
   Eigen::VectorXd shift(5);
   shift << 3e-6, 1e-6, -2e-6, 0.5e-6, 4e-6;
-  d.C(2, 0) += shift(0), d.C(2, 1) += shift(1), d.S(2, 1) += shift(2), d.C(2, 2) += shift(3), d.S(2, 2) += shift(4);
+  d.C(2, 0) += shift(0), d.C(2, 1) += shift(1), d.S(2, 1) += shift(2), d.C(2, 2) += shift(3),
+      d.S(2, 2) += shift(4);
   const Comparison rank_one = compare_sets(c, d, options, &covariance, nullptr);
   const DegreeUncertainty& two = rank_one.uncertainty->degrees[2];
   const Eigen::VectorXd v = u.segment(4, 5);

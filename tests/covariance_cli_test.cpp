@@ -20,9 +20,9 @@ std::string quoted(const std::string& path) { return "'" + path + "'"; }
 
 // The demo sphere (radius 1 km) with correlated shape noise and a density sigma, 9 samples at degree 4.
 std::string run_arguments(int seed = 77, int degree = 4) {
-  return "uncertainty " + quoted(source_path("shapes-demo/sphere.obj")) + " --unit km --density 2100 --degree " +
-         std::to_string(degree) + " --samples 9 --seed " + std::to_string(seed) +
-         " --shape-sigma 0.002 --correlation-length 0.3 --density-sigma 0.01";
+  return "uncertainty " + quoted(source_path("shapes-demo/sphere.obj")) +
+         " --unit km --density 2100 --degree " + std::to_string(degree) + " --samples 9 --seed " +
+         std::to_string(seed) + " --shape-sigma 0.002 --correlation-length 0.3 --density-sigma 0.01";
 }
 
 // Every sigma of the covered degrees is the square root of the covariance's diagonal, bit for bit.
@@ -36,7 +36,8 @@ void check_sigmas_from_diagonal(const CoefficientSet& set, const CoefficientCova
 
 }  // namespace
 
-TEST_CASE("uncertainty writes the covariance companion; shards merged give the same bytes", "[covariance_cli]") {
+TEST_CASE("uncertainty writes the covariance companion; shards merged give the same bytes",
+          "[covariance_cli]") {
   const std::string dir = temp_directory();
   const CommandResult single = run_cli(run_arguments() + " -o " + quoted(dir + "/single.txt"));
   CAPTURE(single.output);
@@ -70,7 +71,9 @@ TEST_CASE("uncertainty writes the covariance companion; shards merged give the s
   CHECK(covariance_link(read_coefficient_file(dir + "/merged.txt"))->sha256 == covariance_link(set)->sha256);
 
   SECTION("--covariance-degree 0 writes none; binary holds the same values") {
-    REQUIRE(run_cli(run_arguments() + " -q --covariance-degree 0 -o " + quoted(dir + "/none.txt")).exit_code == 0);
+    REQUIRE(
+        run_cli(run_arguments() + " -q --covariance-degree 0 -o " + quoted(dir + "/none.txt")).exit_code ==
+        0);
     CHECK(!file_exists(dir + "/none.cov.txt"));
     CHECK(!covariance_link(read_coefficient_file(dir + "/none.txt")));
     REQUIRE(run_cli(run_arguments() + " -q --covariance-format binary --covariance-degree 2 -o " +
@@ -85,8 +88,8 @@ TEST_CASE("uncertainty refuses a covariance above the memory limit, naming --cov
           "[covariance_cli]") {
   // Regression: before the covariance existed there was nothing to refuse; the limit is 1 GiB (degree 106).
   const std::string dir = temp_directory();
-  const CommandResult result = run_cli(run_arguments(77, 120) + " --covariance-degree 120 -o " +
-                                       quoted(dir + "/big.txt"));
+  const CommandResult result =
+      run_cli(run_arguments(77, 120) + " --covariance-degree 120 -o " + quoted(dir + "/big.txt"));
   CAPTURE(result.output);
   CHECK(result.exit_code == 2);
   CHECK_THAT(result.output, Contains("--covariance-degree") && Contains("MB"));
@@ -126,7 +129,8 @@ TEST_CASE("convert transforms the covariance with the set; sigmas are the new di
 
   SECTION("a companion that is not the recorded one is refused; --no-covariance drops it") {
     write_text(dir + "/in.cov.txt", read_bytes(dir + "/in.cov.txt") + "\n");
-    const CommandResult bad = run_cli("convert " + quoted(dir + "/in.txt") + " -o " + quoted(dir + "/bad.txt"));
+    const CommandResult bad =
+        run_cli("convert " + quoted(dir + "/in.txt") + " -o " + quoted(dir + "/bad.txt"));
     CAPTURE(bad.output);
     CHECK(bad.exit_code == 2);
     CHECK_THAT(bad.output, Contains("in.cov.txt: SHA-256") && Contains("not the covariance of this set"));

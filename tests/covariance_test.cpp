@@ -51,10 +51,13 @@ CoefficientSet sample_set(const CoefficientSet& nominal, const SampleResult& sam
   return out;
 }
 
-double value_of(const CoefficientSet& set, const CoefficientParameter& p) { return (p.sine ? set.S : set.C)(p.n, p.m); }
+double value_of(const CoefficientSet& set, const CoefficientParameter& p) {
+  return (p.sine ? set.S : set.C)(p.n, p.m);
+}
 
 // Second moment about `center` of the sets, over the parameters of degrees 0..degree, by the definition.
-Eigen::MatrixXd second_moment(const std::vector<CoefficientSet>& sets, const CoefficientSet& center, int degree) {
+Eigen::MatrixXd second_moment(const std::vector<CoefficientSet>& sets, const CoefficientSet& center,
+                              int degree) {
   const auto parameters = covariance_parameters(degree);
   const Eigen::Index P = Eigen::Index(parameters.size());
   Eigen::MatrixXd out = Eigen::MatrixXd::Zero(P, P);
@@ -127,7 +130,8 @@ TEST_CASE("Monte Carlo covariance: the definition, sigmas its diagonal's roots b
   }
 }
 
-TEST_CASE("shards written, read back and merged give the single run's covariance bit for bit", "[covariance]") {
+TEST_CASE("shards written, read back and merged give the single run's covariance bit for bit",
+          "[covariance]") {
   const UncertaintyPlan plan = small_plan(Normalization::schmidt);
   const UncertaintyResult single = run_uncertainty(plan, {}, 4);
   std::vector<UncertaintyShard> shards;
@@ -170,10 +174,12 @@ TEST_CASE("covariance files round-trip exactly as text and binary; damage is ref
   REQUIRE_THROWS_AS(parse_covariance(binary, "c"), FormatError);
   binary = format_covariance(c, CovarianceFormat::binary);
   binary.replace(binary.find("bytes 2048"), 10, "bytes 2056");
-  REQUIRE_THROWS_WITH(parse_covariance(binary, "c"), Contains("16 parameters take 2048 bytes, the header says 2056"));
+  REQUIRE_THROWS_WITH(parse_covariance(binary, "c"),
+                      Contains("16 parameters take 2048 bytes, the header says 2056"));
 }
 
-TEST_CASE("a set written with its covariance finds it again; a changed companion is refused", "[covariance]") {
+TEST_CASE("a set written with its covariance finds it again; a changed companion is refused",
+          "[covariance]") {
   const std::string dir = test::temp_directory();
   const UncertaintyResult result = run_uncertainty(small_plan(), {}, 3);
   write_set_with_covariance(result.set, {{dir + "/s.txt", CoefficientForm::text}}, *result.covariance,
@@ -215,8 +221,9 @@ TEST_CASE("normalization change: C' = F C F with the closed-form factors", "[cov
     }
 }
 
-TEST_CASE("rotation, shift, radius and GM: T C T^T equals the covariance of the samples transformed one by one",
-          "[covariance]") {
+TEST_CASE(
+    "rotation, shift, radius and GM: T C T^T equals the covariance of the samples transformed one by one",
+    "[covariance]") {
   const UncertaintyPlan plan = small_plan();
   const std::vector<SampleResult> samples = run_samples(plan, shard_samples(Shard{}, kSamples));
   const UncertaintyResult result =

@@ -50,7 +50,8 @@ class CovarianceReader {
   /// The value of the next line, which must start with "key ".
   std::string value(const std::string& key) {
     const std::string text = line();
-    if (text.compare(0, key.size() + 1, key + " ") != 0) fail("expected '" + key + " ...', got '" + text + "'");
+    if (text.compare(0, key.size() + 1, key + " ") != 0)
+      fail("expected '" + key + " ...', got '" + text + "'");
     return text.substr(key.size() + 1);
   }
   double number(std::string_view text) const {
@@ -114,7 +115,9 @@ std::string directory_of(const std::string& set_path) {
 
 }  // namespace
 
-std::string to_string(CovarianceFormat format) { return format == CovarianceFormat::text ? "text" : "binary"; }
+std::string to_string(CovarianceFormat format) {
+  return format == CovarianceFormat::text ? "text" : "binary";
+}
 
 std::string format_covariance(const CoefficientCovariance& c, CovarianceFormat format) {
   const Eigen::Index size = covariance_parameter_count(c.degree);
@@ -127,10 +130,11 @@ std::string format_covariance(const CoefficientCovariance& c, CovarianceFormat f
   std::string out = fmt::format("{} {}\n", kFormatName, kFormatVersion);
   out += "body " + c.body + "\n";
   out += fmt::format("degree {}\nparameters {}\norder {}\n", c.degree, size, kOrder);
-  out += fmt::format("normalization {}\ncondon_shortley {}\nzonal_as_j {}\n", to_string(c.convention.normalization),
-                     bool_word(c.convention.condon_shortley), bool_word(c.convention.zonal_as_j));
-  out += fmt::format("reference_radius_m {}\ngm_m3_s2 {}\nsamples {}\ndefinition {}\n", c.reference_radius, c.gm,
-                     c.samples, kDefinition);
+  out += fmt::format("normalization {}\ncondon_shortley {}\nzonal_as_j {}\n",
+                     to_string(c.convention.normalization), bool_word(c.convention.condon_shortley),
+                     bool_word(c.convention.zonal_as_j));
+  out += fmt::format("reference_radius_m {}\ngm_m3_s2 {}\nsamples {}\ndefinition {}\n", c.reference_radius,
+                     c.gm, c.samples, kDefinition);
   const auto parameters = covariance_parameters(c.degree);
   for (size_t i = 0; i < parameters.size(); ++i)
     out += fmt::format("parameter {} {} {} {}\n", i, parameters[i].sine ? 'S' : 'C', parameters[i].n,
@@ -141,7 +145,8 @@ std::string format_covariance(const CoefficientCovariance& c, CovarianceFormat f
     const size_t start = out.size();
     out.resize(start + bytes);
     for (Eigen::Index i = 0; i < size; ++i)
-      for (Eigen::Index j = 0; j < size; ++j) put_double(c.values(i, j), &out[start + 8 * size_t(i * size + j)]);
+      for (Eigen::Index j = 0; j < size; ++j)
+        put_double(c.values(i, j), &out[start + 8 * size_t(i * size + j)]);
     return out;
   }
   out += std::string(kTextValues) + "\n";
@@ -157,7 +162,8 @@ std::string format_covariance(const CoefficientCovariance& c, CovarianceFormat f
 CoefficientCovariance parse_covariance(const std::string& bytes, const std::string& source_name) {
   CovarianceReader in(bytes, source_name);
   if (in.line() != fmt::format("{} {}", kFormatName, kFormatVersion))
-    in.fail(fmt::format("not a covariance file: the first line must be '{} {}'", kFormatName, kFormatVersion));
+    in.fail(
+        fmt::format("not a covariance file: the first line must be '{} {}'", kFormatName, kFormatVersion));
   CoefficientCovariance c;
   c.body = in.value("body");
   const long degree = in.integer(in.value("degree"));
@@ -186,8 +192,8 @@ CoefficientCovariance parse_covariance(const std::string& bytes, const std::stri
   in.value("definition");
   const auto parameters = covariance_parameters(c.degree);
   for (size_t i = 0; i < parameters.size(); ++i) {
-    const auto expected = fmt::format("{} {} {} {}", i, parameters[i].sine ? 'S' : 'C', parameters[i].n,
-                                      parameters[i].m);
+    const auto expected =
+        fmt::format("{} {} {} {}", i, parameters[i].sine ? 'S' : 'C', parameters[i].n, parameters[i].m);
     const std::string given = in.value("parameter");
     if (given != expected)
       in.fail(fmt::format("parameter '{}' out of order: expected 'parameter {}'", given, expected));
@@ -207,7 +213,8 @@ CoefficientCovariance parse_covariance(const std::string& bytes, const std::stri
     for (Eigen::Index i = 0; i < size; ++i)
       for (Eigen::Index j = 0; j < size; ++j) {
         const double value = get_double(data + 8 * size_t(i * size + j));
-        if (!std::isfinite(value)) in.fail(fmt::format("value ({}, {}) of the binary part is not finite", i, j));
+        if (!std::isfinite(value))
+          in.fail(fmt::format("value ({}, {}) of the binary part is not finite", i, j));
         c.values(i, j) = value;
       }
     if (c.values != c.values.transpose()) in.fail("the binary matrix is not symmetric");
@@ -245,9 +252,10 @@ std::optional<CovarianceLink> covariance_link(const CoefficientSet& set) {
     const size_t file = note.find(kLinkFile);
     const size_t file_end = file == std::string::npos ? file : note.find('"', file + std::strlen(kLinkFile));
     const size_t sha = note.find(kLinkSha);
-    if (file_end == std::string::npos || sha == std::string::npos || note.size() < sha + std::strlen(kLinkSha) + 64)
-      throw FormatError(fmt::format("{}: the covariance note does not name a companion file and its SHA-256: '{}'",
-                                    set.body, note));
+    if (file_end == std::string::npos || sha == std::string::npos ||
+        note.size() < sha + std::strlen(kLinkSha) + 64)
+      throw FormatError(fmt::format(
+          "{}: the covariance note does not name a companion file and its SHA-256: '{}'", set.body, note));
     CovarianceLink link;
     link.file = note.substr(file + std::strlen(kLinkFile), file_end - file - std::strlen(kLinkFile));
     link.sha256 = note.substr(sha + std::strlen(kLinkSha), 64);
@@ -266,7 +274,7 @@ void drop_covariance_link(CoefficientSet& set) {
 }
 
 std::optional<CoefficientCovariance> read_companion_covariance(const CoefficientSet& set,
-                                                              const std::string& set_path) {
+                                                               const std::string& set_path) {
   const auto link = covariance_link(set);
   if (!link) return std::nullopt;
   const std::string path = (std::filesystem::path(directory_of(set_path)) / link->file).string();
@@ -280,15 +288,17 @@ std::optional<CoefficientCovariance> read_companion_covariance(const Coefficient
   }
   const std::string sha = sha256_hex(bytes);
   if (sha != link->sha256)
-    throw FormatError(fmt::format("{}: SHA-256 {} is not the {} that {} records: not the covariance of this set",
-                                  path, sha, link->sha256, set_name));
+    throw FormatError(
+        fmt::format("{}: SHA-256 {} is not the {} that {} records: not the covariance of this set", path, sha,
+                    link->sha256, set_name));
   CoefficientCovariance covariance = parse_covariance(bytes, path);
   check_covariance_matches(set, covariance, path);
   return covariance;
 }
 
 void write_set_with_covariance(CoefficientSet set, const std::vector<CoefficientOutput>& outputs,
-                               const CoefficientCovariance& covariance, const CovarianceOutput& covariance_output) {
+                               const CoefficientCovariance& covariance,
+                               const CovarianceOutput& covariance_output) {
   const std::string& path = covariance_output.path;
   if (path == "-") throw ConventionError("the covariance needs a file of its own, not standard output");
   const std::string name = std::filesystem::path(path).filename().string();
@@ -297,9 +307,9 @@ void write_set_with_covariance(CoefficientSet set, const std::vector<Coefficient
   for (const CoefficientOutput& output : outputs)
     if (output.path != "-" && std::filesystem::weakly_canonical(directory_of(output.path)) !=
                                   std::filesystem::weakly_canonical(directory_of(path)))
-      throw ConventionError(fmt::format(
-          "the covariance {} must be in the directory of the set {}, which records its name only", path,
-          output.path));
+      throw ConventionError(
+          fmt::format("the covariance {} must be in the directory of the set {}, which records its name only",
+                      path, output.path));
   apply_covariance_sigmas(set, covariance);
   CompanionOutput companion{path, format_covariance(covariance, covariance_output.format)};
   drop_covariance_link(set);
@@ -307,9 +317,9 @@ void write_set_with_covariance(CoefficientSet set, const std::vector<Coefficient
       "{}the covariance of the parameters of degrees 0..{} ({} parameters{}) is in the {}{}\" {}{}), read "
       "from the directory of this set file; its diagonal gives the sigmas of those degrees.",
       kLinkPrefix, covariance.degree, covariance_parameter_count(covariance.degree),
-      covariance.samples > 0 ? fmt::format(", from {} samples, so of rank at most {}", covariance.samples,
-                                           covariance.samples)
-                             : std::string(),
+      covariance.samples > 0
+          ? fmt::format(", from {} samples, so of rank at most {}", covariance.samples, covariance.samples)
+          : std::string(),
       kLinkFile, name, kLinkSha, sha256_hex(companion.content)));
   write_coefficient_files(set, outputs, {companion});
 }

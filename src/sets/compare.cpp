@@ -682,12 +682,14 @@ std::string uncertainty_verdict(const UncertaintyComparison& u) {
   }
   if (tested == 0) return "; no parameter carries an uncertainty to test against";
   return u.consistent
-             ? fmt::format("; within their uncertainty: CONSISTENT (chi-square within its 99% quantile at all {} "
-                           "degrees with an uncertainty)",
-                           tested)
-             : fmt::format("; within their uncertainty: INCONSISTENT at degree(s) {} (chi-square above its 99% "
-                           "quantile)",
-                           failing);
+             ? fmt::format(
+                   "; within their uncertainty: CONSISTENT (chi-square within its 99% quantile at all {} "
+                   "degrees with an uncertainty)",
+                   tested)
+             : fmt::format(
+                   "; within their uncertainty: INCONSISTENT at degree(s) {} (chi-square above its 99% "
+                   "quantile)",
+                   failing);
 }
 
 }  // namespace
@@ -701,7 +703,8 @@ double chi_square_quantile_99(int k) {
 }
 
 Comparison compare_sets(const CoefficientSet& a, const CoefficientSet& b, const CompareOptions& options,
-                        const CoefficientCovariance* covariance_a, const CoefficientCovariance* covariance_b) {
+                        const CoefficientCovariance* covariance_a,
+                        const CoefficientCovariance* covariance_b) {
   check_set(a, "A");
   check_set(b, "B");
   if (!(options.tolerance >= 0) || !(options.absolute_floor >= 0) || !(options.relative_floor >= 0))
@@ -752,7 +755,8 @@ Comparison compare_sets(const CoefficientSet& a, const CoefficientSet& b, const 
     const Convention fully{};
     std::optional<CoefficientCovariance> ca, cb;
     if (covariance_a)
-      ca = transform_covariance(*covariance_a, a, [&](const CoefficientSet& s) { return expressed_in(s, fully); });
+      ca = transform_covariance(*covariance_a, a,
+                                [&](const CoefficientSet& s) { return expressed_in(s, fully); });
     if (covariance_b)
       cb = transform_covariance(*covariance_b, b, [&](const CoefficientSet& s) {
         Scaling unit_scaling;

@@ -48,7 +48,8 @@ void check_covariance_degree(int degree) {
   if (covariance_bytes(degree) > kCovarianceByteLimit)
     throw ResourceError(fmt::format(
         "a covariance of degrees 0..{} has {} parameters and needs {:.4g} MB, above the limit of {:.4g} MB",
-        degree, covariance_parameter_count(degree), covariance_bytes(degree) / 1e6, kCovarianceByteLimit / 1e6));
+        degree, covariance_parameter_count(degree), covariance_bytes(degree) / 1e6,
+        kCovarianceByteLimit / 1e6));
 }
 
 void check_covariance_matches(const CoefficientSet& set, const CoefficientCovariance& covariance,
@@ -59,15 +60,15 @@ void check_covariance_matches(const CoefficientSet& set, const CoefficientCovari
                                       covariance.degree, size, size, covariance.values.rows(),
                                       covariance.values.cols()));
   if (covariance.degree > set.degree)
-    throw ConventionError(fmt::format("{} has degree {}, above the set's degree {}", what, covariance.degree,
-                                      set.degree));
+    throw ConventionError(
+        fmt::format("{} has degree {}, above the set's degree {}", what, covariance.degree, set.degree));
   if (covariance.convention != set.convention)
     throw ConventionError(fmt::format("{} is in the convention {}, the set in {}", what,
                                       describe(covariance.convention), describe(set.convention)));
   if (covariance.reference_radius != set.reference_radius || covariance.gm != set.gm)
-    throw ConventionError(fmt::format(
-        "{} refers to reference radius {} m and GM {} m^3 s^-2, the set to {} m and {} m^3 s^-2", what,
-        covariance.reference_radius, covariance.gm, set.reference_radius, set.gm));
+    throw ConventionError(
+        fmt::format("{} refers to reference radius {} m and GM {} m^3 s^-2, the set to {} m and {} m^3 s^-2",
+                    what, covariance.reference_radius, covariance.gm, set.reference_radius, set.gm));
 }
 
 void apply_covariance_sigmas(CoefficientSet& set, const CoefficientCovariance& covariance) {
@@ -75,7 +76,8 @@ void apply_covariance_sigmas(CoefficientSet& set, const CoefficientCovariance& c
   const auto parameters = covariance_parameters(covariance.degree);
   for (size_t i = 0; i < parameters.size(); ++i) {
     const CoefficientParameter& p = parameters[i];
-    (p.sine ? set.sigma_S : set.sigma_C)(p.n, p.m) = std::sqrt(covariance.values(Eigen::Index(i), Eigen::Index(i)));
+    (p.sine ? set.sigma_S : set.sigma_C)(p.n, p.m) =
+        std::sqrt(covariance.values(Eigen::Index(i), Eigen::Index(i)));
   }
 }
 
@@ -86,8 +88,8 @@ CoefficientCovariance transform_covariance(const CoefficientCovariance& covarian
   const CoefficientSet zero = zero_set_like(set, degree);
   const CoefficientSet zero_image = map(zero);
   if (zero_image.degree > degree)
-    throw ConventionError(fmt::format("a covariance of degree {} cannot follow a map to degree {}", degree,
-                                      zero_image.degree));
+    throw ConventionError(
+        fmt::format("a covariance of degree {} cannot follow a map to degree {}", degree, zero_image.degree));
   if (!zero_image.C.isZero(0) || !zero_image.S.isZero(0))
     throw ConventionError("the covariance can follow linear maps of the coefficients only");
   const auto outputs = covariance_parameters(zero_image.degree);
@@ -97,7 +99,8 @@ CoefficientCovariance transform_covariance(const CoefficientCovariance& covarian
     CoefficientSet unit = zero;
     (inputs[j].sine ? unit.S : unit.C)(inputs[j].n, inputs[j].m) = 1.0;
     const CoefficientSet image = map(unit);
-    for (size_t i = 0; i < outputs.size(); ++i) T(Eigen::Index(i), Eigen::Index(j)) = parameter_value(image, outputs[i]);
+    for (size_t i = 0; i < outputs.size(); ++i)
+      T(Eigen::Index(i), Eigen::Index(j)) = parameter_value(image, outputs[i]);
   }
   CoefficientCovariance out = covariance;
   out.degree = zero_image.degree;

@@ -74,7 +74,8 @@ constexpr long kCovarianceBlock = 64;
 
 // sum_i delta_i delta_i^T / K over the parameters of degrees 0..degree (sets/covariance.h order), samples in
 // index order; the diagonal is sum_squares / K, the sums the sigmas are the square roots of.
-CoefficientCovariance sample_covariance(const CoefficientSet& set, const std::vector<const SampleResult*>& ordered,
+CoefficientCovariance sample_covariance(const CoefficientSet& set,
+                                        const std::vector<const SampleResult*>& ordered,
                                         const Eigen::VectorXd& sum_squares, int degree) {
   check_covariance_degree(degree);
   const long K = long(ordered.size());
@@ -82,7 +83,8 @@ CoefficientCovariance sample_covariance(const CoefficientSet& set, const std::ve
   const auto parameters = covariance_parameters(degree);
   std::vector<Eigen::Index> packed(parameters.size());
   for (size_t p = 0; p < parameters.size(); ++p)
-    packed[p] = (parameters[p].sine ? s_offset : 0) + parameters[p].n * (parameters[p].n + 1) / 2 + parameters[p].m;
+    packed[p] =
+        (parameters[p].sine ? s_offset : 0) + parameters[p].n * (parameters[p].n + 1) / 2 + parameters[p].m;
   const Eigen::Index P = Eigen::Index(parameters.size());
   Eigen::MatrixXd sum = Eigen::MatrixXd::Zero(P, P);
   Eigen::MatrixXd block(P, kCovarianceBlock);
@@ -253,9 +255,8 @@ UncertaintyResult summarize_uncertainty(const CoefficientSet& nominal, const Unc
     const CoefficientSet fully = set;
     set = convert_convention(set, convention);
     if (result.covariance) {
-      result.covariance = transform_covariance(*result.covariance, fully, [&](const CoefficientSet& s) {
-        return expressed_in(s, convention);
-      });
+      result.covariance = transform_covariance(
+          *result.covariance, fully, [&](const CoefficientSet& s) { return expressed_in(s, convention); });
       apply_covariance_sigmas(set, *result.covariance);
     }
   }

@@ -19,16 +19,16 @@ enum class CovarianceFormat { text, binary };
 std::string to_string(CovarianceFormat format);
 
 /// The file: a text header (format line, body, degree, parameter count, order, convention, reference radius,
-/// GM, sample count, definition, one line per parameter "parameter INDEX C|S n m"), then the values: text rows
-/// "row I v_I0 ... v_II" and a final "end", or, after a line "values binary ... bytes B", B bytes of doubles.
-/// Throws OutputError for a body label holding a line break or non-finite values.
+/// GM, sample count, definition, one line per parameter "parameter INDEX C|S n m"), then the values: text
+/// rows "row I v_I0 ... v_II" and a final "end", or, after a line "values binary ... bytes B", B bytes of
+/// doubles. Throws OutputError for a body label holding a line break or non-finite values.
 std::string format_covariance(const CoefficientCovariance& covariance, CovarianceFormat format);
 
 /// Parses either form (told apart by the header's values line). `source_name` is used in messages. Throws
 /// FormatError "source:line: problem" for a wrong format line, a missing or malformed header line, parameters
-/// out of order, a degree whose matrix exceeds kCovarianceByteLimit, a binary part whose size differs from the
-/// header's (checked before anything is allocated for it), malformed or non-finite values, an asymmetric text
-/// row set or a missing end.
+/// out of order, a degree whose matrix exceeds kCovarianceByteLimit, a binary part whose size differs from
+/// the header's (checked before anything is allocated for it), malformed or non-finite values, an asymmetric
+/// text row set or a missing end.
 CoefficientCovariance parse_covariance(const std::string& bytes, const std::string& source_name);
 
 /// Reads a covariance file. Throws FormatError if unreadable, as parse_covariance otherwise.
@@ -56,7 +56,7 @@ void drop_covariance_link(CoefficientSet& set);
 /// recorded one ("refuse a mismatched one"), or it does not parse; ConventionError when it does not belong
 /// with the set (check_covariance_matches).
 std::optional<CoefficientCovariance> read_companion_covariance(const CoefficientSet& set,
-                                                              const std::string& set_path);
+                                                               const std::string& set_path);
 
 /// A covariance to write beside a set: its file and form.
 struct CovarianceOutput {
@@ -66,9 +66,9 @@ struct CovarianceOutput {
 
 /// Writes the set to every output and the covariance to `covariance_output.path` as one OutputGroup (both or
 /// neither). The set's sigmas of the covered degrees are taken from the covariance's diagonal first
-/// (apply_covariance_sigmas) and its notes get the link (file name and SHA-256 of the bytes written), replacing
-/// any earlier link. Throws as the writers and check_covariance_matches; ConventionError if the covariance
-/// path is "-" or contains a double quote or a line break.
+/// (apply_covariance_sigmas) and its notes get the link (file name and SHA-256 of the bytes written),
+/// replacing any earlier link. Throws as the writers and check_covariance_matches; ConventionError if the
+/// covariance path is "-" or contains a double quote or a line break.
 void write_set_with_covariance(CoefficientSet set, const std::vector<CoefficientOutput>& outputs,
                                const CoefficientCovariance& covariance,
                                const CovarianceOutput& covariance_output);

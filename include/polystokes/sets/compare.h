@@ -107,22 +107,22 @@ struct DegreeUncertainty {
   /// covariance there adds its sigmas squared on the diagonal); M^+ the pseudo-inverse (eigenvalues below
   /// 1e-12 of the largest are dropped).
   double chi_square = 0;
-  double quantile = 0;      ///< 99% quantile of chi-square with `parameters` degrees of freedom
-  bool consistent = true;   ///< chi_square <= quantile
+  double quantile = 0;           ///< 99% quantile of chi-square with `parameters` degrees of freedom
+  bool consistent = true;        ///< chi_square <= quantile
   bool from_covariance = false;  ///< at least one set's covariance block entered M
 };
 
 /// The comparison in units of the sets' uncertainty, when either set has sigmas or a covariance.
 struct UncertaintyComparison {
-  std::vector<DegreeUncertainty> degrees;  ///< 0..Comparison::degree
-  bool consistent = true;                  ///< at every degree with parameters > 0
+  std::vector<DegreeUncertainty> degrees;                  ///< 0..Comparison::degree
+  bool consistent = true;                                  ///< at every degree with parameters > 0
   int covariance_degree_a = -1, covariance_degree_b = -1;  ///< degrees covered by a covariance (-1: none)
 };
 
 /// Approximate 99% quantile of the chi-square distribution with k >= 1 degrees of freedom by the
 /// Wilson-Hilferty cube-root normal approximation (Wilson & Hilferty 1931, Proc. Natl. Acad. Sci. 17, 684):
-/// k (1 - 2/(9k) + z sqrt(2/(9k)))^3 with z = 2.3263478740408408 the 99% normal quantile. Relative error below
-/// 0.75% at k = 1, 0.22% from k = 2 on, 0.07% from k = 20 on (against Boost.Math's exact quantile, in
+/// k (1 - 2/(9k) + z sqrt(2/(9k)))^3 with z = 2.3263478740408408 the 99% normal quantile. Relative error
+/// below 0.75% at k = 1, 0.22% from k = 2 on, 0.07% from k = 20 on (against Boost.Math's exact quantile, in
 /// compare_test). Throws ConventionError for k < 1.
 double chi_square_quantile_99(int k);
 
@@ -157,13 +157,13 @@ struct Comparison {
 /// only partial. Radius and GM factors are applied in logarithms, so no degree overflows.
 /// Origins: two sets about the centre of mass share their origin; a set whose origin or axes are unknown
 /// (origin_known, axes_known) is neither aligned nor reported as differing, and `alignment` says so.
-/// Uncertainty: when either set has sigmas or a covariance (covariance_a, covariance_b: the sets' own, in their
-/// conventions, or null), A - B is also measured in units of the combined uncertainty per degree and tested
-/// with chi-square (see DegreeUncertainty); B's covariance is brought to A as B is (transform_covariance) and
-/// the verdict says whether the sets agree within their uncertainty at the 99% level at every degree.
-/// Throws ConventionError if a set lacks GM or radius.
-/// O(degree^2) per tested hypothesis (O(degree^3) with align_frame); a covariance of P parameters adds the
-/// cost of transform_covariance.
+/// Uncertainty: when either set has sigmas or a covariance (covariance_a, covariance_b: the sets' own, in
+/// their conventions, or null), A - B is also measured in units of the combined uncertainty per degree and
+/// tested with chi-square (see DegreeUncertainty); B's covariance is brought to A as B is
+/// (transform_covariance) and the verdict says whether the sets agree within their uncertainty at the 99%
+/// level at every degree. Throws ConventionError if a set lacks GM or radius. O(degree^2) per tested
+/// hypothesis (O(degree^3) with align_frame); a covariance of P parameters adds the cost of
+/// transform_covariance.
 Comparison compare_sets(const CoefficientSet& a, const CoefficientSet& b, const CompareOptions& options = {},
                         const CoefficientCovariance* covariance_a = nullptr,
                         const CoefficientCovariance* covariance_b = nullptr);

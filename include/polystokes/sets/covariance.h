@@ -51,11 +51,11 @@ void check_covariance_degree(int degree);
 /// reference radius and GM (a covariance refers to the numbers of one set; a transform of the set transforms
 /// it, see transform_covariance). Units: those of the coefficients, squared (dimensionless).
 struct CoefficientCovariance {
-  int degree = 0;                 ///< parameters of degrees 0..degree, in the covariance_parameters order
-  std::string body;               ///< body label of the set
-  Convention convention;          ///< of the set's numbers
-  double reference_radius = 0;    ///< m, of the set
-  double gm = 0;                  ///< m^3 s^-2, of the set
+  int degree = 0;               ///< parameters of degrees 0..degree, in the covariance_parameters order
+  std::string body;             ///< body label of the set
+  Convention convention;        ///< of the set's numbers
+  double reference_radius = 0;  ///< m, of the set
+  double gm = 0;                ///< m^3 s^-2, of the set
   /// Monte Carlo samples it was estimated from (0: not from samples). With K samples the matrix is a sum of K
   /// outer products, so its rank is at most K.
   long samples = 0;
@@ -63,8 +63,9 @@ struct CoefficientCovariance {
   Eigen::MatrixXd values;
 };
 
-/// Throws ConventionError (naming `what`, e.g. the companion file) unless the covariance belongs with the set:
-/// same convention, reference radius and GM, a degree no higher than the set's, and values of the stated size.
+/// Throws ConventionError (naming `what`, e.g. the companion file) unless the covariance belongs with the
+/// set: same convention, reference radius and GM, a degree no higher than the set's, and values of the stated
+/// size.
 void check_covariance_matches(const CoefficientSet& set, const CoefficientCovariance& covariance,
                               const std::string& what);
 

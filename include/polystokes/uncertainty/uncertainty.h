@@ -136,9 +136,9 @@ struct UncertaintySummary {
 struct UncertaintyResult {
   CoefficientSet set;  ///< nominal set with sigma_C, sigma_S, notes and history, in the requested convention
   UncertaintySummary summary;
-  /// The second moment of the samples about the nominal set for the parameters of degrees 0..covariance degree
-  /// (sets/covariance.h order), in the set's convention; its diagonal's square roots are the set's sigmas of
-  /// those degrees bit for bit. Absent when not asked for.
+  /// The second moment of the samples about the nominal set for the parameters of degrees 0..covariance
+  /// degree (sets/covariance.h order), in the set's convention; its diagonal's square roots are the set's
+  /// sigmas of those degrees bit for bit. Absent when not asked for.
   std::optional<CoefficientCovariance> covariance;
 };
 
