@@ -61,7 +61,7 @@ void add_covariance_request(CLI::App* cmd, CovarianceRequest& request) {
   cmd->add_option(
          "--covariance-degree", request.degree,
          "Write the full covariance of the parameters of degrees 0..N (capped at --degree; 0 = none; "
-         "memory (N+1)^4 doubles, at most 1 GiB)")
+         "memory (N+1)^4 doubles, at most 1 GiB; a shard keeps every sample, so give it to the merge)")
       ->check(strict_integer())
       ->check(CLI::NonNegativeNumber)
       ->capture_default_str();

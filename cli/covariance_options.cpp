@@ -9,8 +9,7 @@ namespace polystokes::cli {
 
 void add_covariance_file_options(CLI::App* cmd, CovarianceFileOptions& options) {
   cmd->add_option("--covariance-output", options.output,
-                  "Covariance companion file (default: the -o name with .cov.txt or .cov.bin; same directory "
-                  "as -o)");
+                  "Covariance companion file (default: the -o name with .cov.txt or .cov.bin)");
   cmd->add_option("--covariance-format", options.format,
                   "Covariance values as text (round-trip decimals) or binary (little-endian doubles)")
       ->check(CLI::IsMember({"text", "binary"}))

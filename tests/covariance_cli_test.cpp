@@ -1,6 +1,8 @@
 // End-to-end checks of the covariance companion (issue 12): uncertainty and uncertainty-merge write it beside
 // the set (identical bytes from shards), convert transforms it and takes the sigmas from its new diagonal,
 // compare tests the difference against it, and a companion that is not the one the set records is refused.
+#include <sys/stat.h>
+
 #include <Eigen/Eigenvalues>
 #include <catch2/catch.hpp>
 #include <cmath>
@@ -70,6 +72,16 @@ TEST_CASE("uncertainty writes the covariance companion; shards merged give the s
   CHECK(read_bytes(dir + "/merged.cov.txt") == read_bytes(dir + "/single.cov.txt"));
   CHECK(covariance_link(read_coefficient_file(dir + "/merged.txt"))->sha256 == covariance_link(set)->sha256);
 
+  SECTION("a JSON copy in another directory names the companion relative to itself") {
+    REQUIRE(mkdir((dir + "/sets").c_str(), 0777) == 0);
+    REQUIRE(run_cli(run_arguments() + " -q -o " + quoted(dir + "/sets/x.txt") + " --json " +
+                    quoted(dir + "/x.json"))
+                .exit_code == 0);
+    const auto from_json = read_companion_covariance(read_coefficient_file(dir + "/x.json"), dir + "/x.json");
+    REQUIRE(from_json);
+    CHECK(covariance_link(read_coefficient_file(dir + "/x.json"))->file == "sets/x.cov.txt");
+    CHECK(from_json->values == covariance->values);
+  }
   SECTION("--covariance-degree 0 writes none; binary holds the same values") {
     REQUIRE(
         run_cli(run_arguments() + " -q --covariance-degree 0 -o " + quoted(dir + "/none.txt")).exit_code ==

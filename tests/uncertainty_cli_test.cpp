@@ -1,5 +1,7 @@
 // End-to-end checks of `polystokes uncertainty` and `uncertainty-merge`: shards run as separate processes
 // and merged give the single-run set bit for bit; bad merges fail with one line, exit code 2 and no output.
+#include <sys/stat.h>
+
 #include <catch2/catch.hpp>
 
 #include "polystokes/io/coefficient_file.h"
@@ -27,8 +29,12 @@ std::string run_arguments(int seed = 4242) {
 
 TEST_CASE("uncertainty in three shard processes, merged, equals one run bit for bit", "[uncertainty_cli]") {
   const std::string dir = temp_directory();
-  const CommandResult single = run_cli(run_arguments() + " -o " + quoted(dir + "/single.txt") + " --json " +
-                                       quoted(dir + "/single.json"));
+  // The single and the merged set under one file name in two directories: a set records its covariance
+  // companion by name (set.cov.txt), so the notes are comparable.
+  REQUIRE(mkdir((dir + "/single").c_str(), 0777) == 0);
+  REQUIRE(mkdir((dir + "/merged").c_str(), 0777) == 0);
+  const CommandResult single = run_cli(run_arguments() + " -o " + quoted(dir + "/single/set.txt") +
+                                       " --json " + quoted(dir + "/single.json"));
   CAPTURE(single.output);
   REQUIRE(single.exit_code == 0);
   CHECK_THAT(single.output, Contains("7, seed 4242") && Contains("CAUTION"));
@@ -42,11 +48,11 @@ TEST_CASE("uncertainty in three shard processes, merged, equals one run bit for 
   }
   // Any order of the shard files.
   const CommandResult merged = run_cli("uncertainty-merge " + quoted(shards[2]) + " " + quoted(shards[0]) +
-                                       " " + quoted(shards[1]) + " -o " + quoted(dir + "/merged.txt"));
+                                       " " + quoted(shards[1]) + " -o " + quoted(dir + "/merged/set.txt"));
   CAPTURE(merged.output);
   REQUIRE(merged.exit_code == 0);
-  const CoefficientSet a = read_coefficient_file(dir + "/single.txt");
-  const CoefficientSet b = read_coefficient_file(dir + "/merged.txt");
+  const CoefficientSet a = read_coefficient_file(dir + "/single/set.txt");
+  const CoefficientSet b = read_coefficient_file(dir + "/merged/set.txt");
   CHECK(a.C == b.C);
   CHECK(a.sigma_C == b.sigma_C);
   CHECK(a.sigma_S == b.sigma_S);

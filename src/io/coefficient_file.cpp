@@ -52,10 +52,8 @@ CoefficientForm coefficient_form_for(const std::string& path) {
   return json ? CoefficientForm::json : CoefficientForm::text;
 }
 
-void write_coefficient_files(const CoefficientSet& set, const std::vector<CoefficientOutput>& outputs,
-                             const std::vector<CompanionOutput>& companions) {
+void write_coefficient_files(const CoefficientSet& set, const std::vector<CoefficientOutput>& outputs) {
   OutputGroup group;
-  for (const CompanionOutput& companion : companions) group.stage(companion.path, companion.content);
   for (const CoefficientOutput& output : outputs) {
     group.stage(output.path, formatted_for(output.path, [&] {
                   return output.form == CoefficientForm::json ? format_coefficient_json(set)

@@ -3,12 +3,13 @@
 #include <fmt/format.h>
 
 #include <algorithm>
-#include <charconv>
 #include <cmath>
 #include <cstdint>
 #include <cstring>
 #include <filesystem>
+#include <limits>
 
+#include "io/text_scanner.h"
 #include "polystokes/core/errors.h"
 #include "polystokes/io/mesh_io.h"
 #include "polystokes/io/output_file.h"
@@ -30,67 +31,48 @@ constexpr const char* kLinkSha = "(SHA-256 ";
 
 std::string bool_word(bool value) { return value ? "true" : "false"; }
 
-// Line-by-line reading of the header (and the text values), remembering where the bytes after a line start.
-class CovarianceReader {
+// The file's "key value" lines in order, on the one text scanner of the readers.
+class KeyLines {
  public:
-  CovarianceReader(const std::string& bytes, const std::string& source) : bytes_(bytes), source_(source) {}
+  KeyLines(const std::string& bytes, const std::string& source) : in_(bytes, source) {}
+  TextScanner& scanner() { return in_; }
+  [[noreturn]] void fail(const std::string& problem) const { in_.fail(problem); }
 
-  [[noreturn]] void fail(const std::string& problem) const { throw format_error(source_, line_, problem); }
-  size_t offset() const { return next_; }
-
-  std::string line() {
-    ++line_;
-    if (next_ >= bytes_.size()) fail("unexpected end of file (truncated covariance file?)");
-    const size_t end = bytes_.find('\n', next_);
-    const size_t stop = end == std::string::npos ? bytes_.size() : end;
-    std::string text = bytes_.substr(next_, stop - next_);
-    next_ = end == std::string::npos ? bytes_.size() : end + 1;
-    return text;
+  /// Moves to the next line, which must start with `key`, and past the key.
+  void key(const char* key) {
+    if (!in_.next_line()) in_.fail("unexpected end of file (truncated covariance file?)");
+    const std::string_view word = in_.token();
+    if (word != key) in_.fail(fmt::format("expected '{} ...', got '{}'", key, word));
   }
-  /// The value of the next line, which must start with "key ".
-  std::string value(const std::string& key) {
-    const std::string text = line();
-    if (text.compare(0, key.size() + 1, key + " ") != 0)
-      fail("expected '" + key + " ...', got '" + text + "'");
-    return text.substr(key.size() + 1);
+  /// The rest of a `key` line, without the blanks after the key.
+  std::string text(const char* key) {
+    this->key(key);
+    const std::string_view rest = in_.rest();
+    const size_t start = std::min(rest.find_first_not_of(" \t"), rest.size());
+    return std::string(rest.substr(start));
   }
-  double number(std::string_view text) const {
-    double out = 0;
-    const auto result = std::from_chars(text.data(), text.data() + text.size(), out);
-    if (result.ec != std::errc() || result.ptr != text.data() + text.size() || !std::isfinite(out))
-      fail("'" + std::string(text) + "' is not a finite number");
-    return out;
+  double number(const char* key) {
+    this->key(key);
+    const double value = in_.number(key);
+    in_.expect_line_end(key);
+    return value;
   }
-  long integer(std::string_view text) const {
-    long out = 0;
-    const auto result = std::from_chars(text.data(), text.data() + text.size(), out);
-    if (text.empty() || result.ec != std::errc() || result.ptr != text.data() + text.size())
-      fail("'" + std::string(text) + "' is not an integer");
-    return out;
+  std::int64_t integer(const char* key, std::int64_t low, std::int64_t high) {
+    this->key(key);
+    const std::int64_t value = in_.integer(key, low, high);
+    in_.expect_line_end(key);
+    return value;
   }
-  bool boolean(const std::string& text) const {
-    if (text == "true") return true;
-    if (text == "false") return false;
-    fail("'" + text + "' is not true or false");
+  bool boolean(const char* key) {
+    const std::string value = text(key);
+    if (value != "true" && value != "false")
+      in_.fail(fmt::format("{} '{}' is not true or false", key, value));
+    return value == "true";
   }
 
  private:
-  const std::string& bytes_;
-  std::string source_;
-  size_t next_ = 0;
-  long line_ = 0;
+  TextScanner in_;
 };
-
-std::vector<std::string_view> words(std::string_view text) {
-  std::vector<std::string_view> out;
-  size_t start = 0;
-  while (start < text.size()) {
-    const size_t end = std::min(text.find(' ', start), text.size());
-    if (end > start) out.push_back(text.substr(start, end - start));
-    start = end + 1;
-  }
-  return out;
-}
 
 // Doubles to and from little-endian bytes, whatever the machine's order.
 void put_double(double value, char* out) {
@@ -160,56 +142,56 @@ std::string format_covariance(const CoefficientCovariance& c, CovarianceFormat f
 }
 
 CoefficientCovariance parse_covariance(const std::string& bytes, const std::string& source_name) {
-  CovarianceReader in(bytes, source_name);
-  if (in.line() != fmt::format("{} {}", kFormatName, kFormatVersion))
-    in.fail(
-        fmt::format("not a covariance file: the first line must be '{} {}'", kFormatName, kFormatVersion));
+  KeyLines in(bytes, source_name);
+  TextScanner& scanner = in.scanner();
+  const std::string first = fmt::format("{} {}", kFormatName, kFormatVersion);
+  if (!scanner.next_line() || scanner.rest() != first)
+    in.fail(fmt::format("not a covariance file: the first line must be '{}'", first));
   CoefficientCovariance c;
-  c.body = in.value("body");
-  const long degree = in.integer(in.value("degree"));
-  if (degree < 0 || degree > 100000) in.fail(fmt::format("degree {} out of range", degree));
-  c.degree = int(degree);
+  c.body = in.text("body");
+  c.degree = int(in.integer("degree", 0, 100000));
   try {
     check_covariance_degree(c.degree);
   } catch (const ResourceError& e) {
     in.fail(e.what());
   }
   const Eigen::Index size = covariance_parameter_count(c.degree);
-  if (in.integer(in.value("parameters")) != size)
+  if (in.integer("parameters", 0, std::numeric_limits<std::int64_t>::max()) != size)
     in.fail(fmt::format("degree {} has {} parameters", c.degree, size));
-  if (in.value("order") != kOrder) in.fail(fmt::format("the parameter order must read '{}'", kOrder));
+  if (in.text("order") != kOrder) in.fail(fmt::format("the parameter order must read '{}'", kOrder));
   try {
-    c.convention.normalization = parse_normalization(in.value("normalization"));
+    c.convention.normalization = parse_normalization(in.text("normalization"));
   } catch (const ConventionError& e) {
     in.fail(e.what());
   }
-  c.convention.condon_shortley = in.boolean(in.value("condon_shortley"));
-  c.convention.zonal_as_j = in.boolean(in.value("zonal_as_j"));
-  c.reference_radius = in.number(in.value("reference_radius_m"));
-  c.gm = in.number(in.value("gm_m3_s2"));
-  c.samples = in.integer(in.value("samples"));
-  if (c.samples < 0) in.fail("the sample count must be >= 0");
-  in.value("definition");
+  c.convention.condon_shortley = in.boolean("condon_shortley");
+  c.convention.zonal_as_j = in.boolean("zonal_as_j");
+  c.reference_radius = in.number("reference_radius_m");
+  c.gm = in.number("gm_m3_s2");
+  c.samples = long(in.integer("samples", 0, std::numeric_limits<long>::max()));
+  in.text("definition");
   const auto parameters = covariance_parameters(c.degree);
   for (size_t i = 0; i < parameters.size(); ++i) {
     const auto expected =
         fmt::format("{} {} {} {}", i, parameters[i].sine ? 'S' : 'C', parameters[i].n, parameters[i].m);
-    const std::string given = in.value("parameter");
+    const std::string given = in.text("parameter");
     if (given != expected)
       in.fail(fmt::format("parameter '{}' out of order: expected 'parameter {}'", given, expected));
   }
-  const std::string values_line = in.line();
-  if (values_line.compare(0, std::strlen(kBinaryValues), kBinaryValues) == 0) {
+  // "values text lower_triangle" or "values binary ... bytes B".
+  const std::string values = "values " + in.text("values");
+  if (values.compare(0, std::strlen(kBinaryValues), kBinaryValues) == 0) {
     const size_t expected = size_t(size) * size_t(size) * 8;
-    const long stated = in.integer(std::string_view(values_line).substr(std::strlen(kBinaryValues) + 1));
-    if (stated < 0 || size_t(stated) != expected)
+    const std::string stated = values.substr(std::min(values.size(), std::strlen(kBinaryValues) + 1));
+    std::int64_t bytes_stated = -1;
+    if (!parse_integer_token(stated, bytes_stated) || bytes_stated < 0 || size_t(bytes_stated) != expected)
       in.fail(fmt::format("{} parameters take {} bytes, the header says {}", size, expected, stated));
-    const size_t remaining = bytes.size() - in.offset();
-    if (remaining != expected)
+    // Checked against the file before anything is allocated for the values.
+    if (scanner.remaining_bytes() != expected)
       in.fail(fmt::format("the binary values hold {} bytes, the header says {} (truncated or extended file?)",
-                          remaining, expected));
+                          scanner.remaining_bytes(), expected));
     c.values.resize(size, size);
-    const char* data = bytes.data() + in.offset();
+    const char* data = bytes.data() + scanner.next_offset();
     for (Eigen::Index i = 0; i < size; ++i)
       for (Eigen::Index j = 0; j < size; ++j) {
         const double value = get_double(data + 8 * size_t(i * size + j));
@@ -220,18 +202,18 @@ CoefficientCovariance parse_covariance(const std::string& bytes, const std::stri
     if (c.values != c.values.transpose()) in.fail("the binary matrix is not symmetric");
     return c;
   }
-  if (values_line != kTextValues)
-    in.fail(fmt::format("expected '{}' or '{} COUNT', got '{}'", kTextValues, kBinaryValues, values_line));
+  if (values != kTextValues)
+    in.fail(fmt::format("expected '{}' or '{} COUNT', got '{}'", kTextValues, kBinaryValues, values));
   c.values.resize(size, size);
   for (Eigen::Index i = 0; i < size; ++i) {
-    const std::string row = in.value("row");
-    const auto w = words(row);
-    if (Eigen::Index(w.size()) != i + 2 || in.integer(w[0]) != i)
-      in.fail(fmt::format("row {} needs its index and {} values", i, i + 1));
-    for (Eigen::Index j = 0; j <= i; ++j) c.values(i, j) = c.values(j, i) = in.number(w[size_t(j + 1)]);
+    in.key("row");
+    scanner.integer("row index", i, i);
+    for (Eigen::Index j = 0; j <= i; ++j) c.values(i, j) = c.values(j, i) = scanner.number("value");
+    scanner.expect_line_end("the row's values");
   }
-  if (in.line() != "end") in.fail("expected 'end' after the rows");
-  if (in.offset() != bytes.size()) in.fail("text after 'end'");
+  in.key("end");
+  scanner.expect_line_end("end");
+  if (scanner.next_line()) in.fail("text after 'end'");
   return c;
 }
 
@@ -301,27 +283,33 @@ void write_set_with_covariance(CoefficientSet set, const std::vector<Coefficient
                                const CovarianceOutput& covariance_output) {
   const std::string& path = covariance_output.path;
   if (path == "-") throw ConventionError("the covariance needs a file of its own, not standard output");
-  const std::string name = std::filesystem::path(path).filename().string();
-  if (name.find_first_of("\"\r\n") != std::string::npos)
-    throw ConventionError("covariance file name '" + name + "' holds a double quote or a line break");
-  for (const CoefficientOutput& output : outputs)
-    if (output.path != "-" && std::filesystem::weakly_canonical(directory_of(output.path)) !=
-                                  std::filesystem::weakly_canonical(directory_of(path)))
-      throw ConventionError(
-          fmt::format("the covariance {} must be in the directory of the set {}, which records its name only",
-                      path, output.path));
   apply_covariance_sigmas(set, covariance);
-  CompanionOutput companion{path, format_covariance(covariance, covariance_output.format)};
   drop_covariance_link(set);
-  set.notes.push_back(fmt::format(
-      "{}the covariance of the parameters of degrees 0..{} ({} parameters{}) is in the {}{}\" {}{}), read "
-      "from the directory of this set file; its diagonal gives the sigmas of those degrees.",
-      kLinkPrefix, covariance.degree, covariance_parameter_count(covariance.degree),
-      covariance.samples > 0
-          ? fmt::format(", from {} samples, so of rank at most {}", covariance.samples, covariance.samples)
-          : std::string(),
-      kLinkFile, name, kLinkSha, sha256_hex(companion.content)));
-  write_coefficient_files(set, outputs, {companion});
+  const std::string content = format_covariance(covariance, covariance_output.format);
+  const std::string sha = sha256_hex(content);
+  const std::string samples = covariance.samples > 0 ? fmt::format(", from {} samples, so of rank at most {}",
+                                                                   covariance.samples, covariance.samples)
+                                                     : std::string();
+  OutputGroup group;
+  group.stage(path, content);
+  // Each set file names the companion relative to its own directory.
+  for (const CoefficientOutput& output : outputs) {
+    const std::string name =
+        std::filesystem::relative(std::filesystem::weakly_canonical(path),
+                                  std::filesystem::weakly_canonical(directory_of(output.path)))
+            .generic_string();
+    if (name.find_first_of("\"\r\n") != std::string::npos)
+      throw ConventionError("covariance file name '" + name + "' holds a double quote or a line break");
+    CoefficientSet linked = set;
+    linked.notes.push_back(fmt::format(
+        "{}the covariance of the parameters of degrees 0..{} ({} parameters{}) is in the {}{}\" {}{}), read "
+        "from the directory of this set file; its diagonal gives the sigmas of those degrees.",
+        kLinkPrefix, covariance.degree, covariance_parameter_count(covariance.degree), samples, kLinkFile,
+        name, kLinkSha, sha));
+    group.stage(output.path, output.form == CoefficientForm::json ? format_coefficient_json(linked)
+                                                                  : format_coefficient_text(linked));
+  }
+  group.commit();
 }
 
 }  // namespace polystokes

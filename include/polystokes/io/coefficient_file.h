@@ -63,16 +63,9 @@ struct CoefficientOutput {
   CoefficientForm form = CoefficientForm::text;
 };
 
-/// A file written together with a set (its covariance companion): path and bytes.
-struct CompanionOutput {
-  std::string path;
-  std::string content;
-};
-
-/// Writes the set to every output as one OutputGroup (output_file.h), with the companions staged first: all
-/// files are replaced or, on any failure, none is. Each form is formatted and staged in turn, so one
-/// formatted copy is held at a time. Same errors as the single-file writers.
-void write_coefficient_files(const CoefficientSet& set, const std::vector<CoefficientOutput>& outputs,
-                             const std::vector<CompanionOutput>& companions = {});
+/// Writes the set to every output as one OutputGroup (output_file.h): all files are replaced or, on any
+/// failure, none is. Each form is formatted and staged in turn, so one formatted copy is held at a time.
+/// Same errors as the single-file writers.
+void write_coefficient_files(const CoefficientSet& set, const std::vector<CoefficientOutput>& outputs);
 
 }  // namespace polystokes

@@ -36,7 +36,7 @@ CoefficientCovariance read_covariance_file(const std::string& path);
 
 /// A set's link to its companion covariance file.
 struct CovarianceLink {
-  std::string file;    ///< file name, in the directory of the set file
+  std::string file;    ///< path relative to the directory of the set file (usually a bare file name)
   std::string sha256;  ///< of the companion's bytes, 64 hex digits
 };
 
@@ -66,9 +66,10 @@ struct CovarianceOutput {
 
 /// Writes the set to every output and the covariance to `covariance_output.path` as one OutputGroup (both or
 /// neither). The set's sigmas of the covered degrees are taken from the covariance's diagonal first
-/// (apply_covariance_sigmas) and its notes get the link (file name and SHA-256 of the bytes written),
-/// replacing any earlier link. Throws as the writers and check_covariance_matches; ConventionError if the
-/// covariance path is "-" or contains a double quote or a line break.
+/// (apply_covariance_sigmas) and the notes of each set file get the link (the companion's path relative to
+/// that file's directory and the SHA-256 of the bytes written), replacing any earlier link. Throws as the
+/// writers and check_covariance_matches; ConventionError if the covariance path is "-" or its relative path
+/// contains a double quote or a line break.
 void write_set_with_covariance(CoefficientSet set, const std::vector<CoefficientOutput>& outputs,
                                const CoefficientCovariance& covariance,
                                const CovarianceOutput& covariance_output);
