@@ -209,10 +209,13 @@ PYBIND11_MODULE(polystokes, m) {
           "its label.")
       .def(
           "write",
-          [](const CoefficientSet& set, const std::string& path) {
+          [](CoefficientSet set, const std::string& path) {
+            drop_covariance_link(set);  // the companion stays with the file it was read from
             write_coefficient_files(set, {{path, coefficient_form_for(path)}});
           },
-          py::arg("path"), "Writes the set: JSON for a name ending in .json, else the polystokes text format.")
+          py::arg("path"),
+          "Writes the set: JSON for a name ending in .json, else the polystokes text format (without a link to "
+          "a covariance companion).")
       .def("__repr__", [](const CoefficientSet& s) {
         return "<polystokes.CoefficientSet " + s.body + ", degree " + std::to_string(s.degree) + ", " +
                short_name(s.convention) + ">";
@@ -356,13 +359,20 @@ PYBIND11_MODULE(polystokes, m) {
       "Rotates the set's axes: a point x in the old frame has coordinates rotation @ x in the new one.");
   m.def(
       "compare",
-      [](const CoefficientSet& a, const CoefficientSet& b, double tolerance) {
+      [](const py::object& a, const py::object& b, double tolerance) {
         CompareOptions options;
         options.tolerance = tolerance;
-        const Comparison comparison = compare_sets(a, b, options);
+        // The covariance read_set attached, if any.
+        const auto covariance_of = [](const py::object& set) -> const CoefficientCovariance* {
+          const py::object covariance = py::getattr(set, "covariance", py::none());
+          return covariance.is_none() ? nullptr : &covariance.cast<const CoefficientCovariance&>();
+        };
+        const Comparison comparison = compare_sets(a.cast<const CoefficientSet&>(), b.cast<const CoefficientSet&>(),
+                                                   options, covariance_of(a), covariance_of(b));
         return py::module_::import("json").attr("loads")(comparison_json(comparison));
       },
       py::arg("a"), py::arg("b"), py::kw_only(), py::arg("tolerance") = CompareOptions{}.tolerance,
       "Compares two sets degree by degree (after bringing B to A's conventions) and diagnoses the usual "
-      "exchange mistakes; returns the comparison as a dict (the same content as compare --json).");
+      "exchange mistakes, and against their sigmas and covariances (.covariance from read_set) when they have "
+      "any; returns the comparison as a dict (the same content as compare --json).");
 }

@@ -2,6 +2,7 @@
 // the set (identical bytes from shards), convert transforms it and takes the sigmas from its new diagonal,
 // compare tests the difference against it, and a companion that is not the one the set records is refused.
 #include <sys/stat.h>
+#include <unistd.h>
 
 #include <Eigen/Eigenvalues>
 #include <catch2/catch.hpp>
@@ -94,6 +95,24 @@ TEST_CASE("uncertainty writes the covariance companion; shards merged give the s
     const auto binary = read_covariance_file(dir + "/bin.cov.bin");
     CHECK(binary.values == covariance->values.topLeftCorner(9, 9));
   }
+}
+
+TEST_CASE("relative file names: the set records its companion's name and finds it again",
+          "[covariance_cli]") {
+  // Regression: a relative -o once recorded an empty companion name.
+  const std::string dir = temp_directory();
+  char previous[4096];
+  REQUIRE(::getcwd(previous, sizeof previous));
+  REQUIRE(::chdir(dir.c_str()) == 0);
+  const CommandResult made = run_cli(run_arguments() + " -q -o a.txt");
+  const CommandResult converted = run_cli("convert a.txt -o b.txt -q --to-normalization schmidt");
+  REQUIRE(::chdir(previous) == 0);
+  CAPTURE(made.output, converted.output);
+  REQUIRE(made.exit_code == 0);
+  REQUIRE(converted.exit_code == 0);
+  CHECK(covariance_link(read_coefficient_file(dir + "/a.txt"))->file == "a.cov.txt");
+  CHECK(covariance_link(read_coefficient_file(dir + "/b.txt"))->file == "b.cov.txt");
+  CHECK(read_companion_covariance(read_coefficient_file(dir + "/b.txt"), dir + "/b.txt"));
 }
 
 TEST_CASE("uncertainty refuses a covariance above the memory limit, naming --covariance-degree",

@@ -294,10 +294,9 @@ void write_set_with_covariance(CoefficientSet set, const std::vector<Coefficient
   group.stage(path, content);
   // Each set file names the companion relative to its own directory.
   for (const CoefficientOutput& output : outputs) {
-    const std::string name =
-        std::filesystem::relative(std::filesystem::weakly_canonical(path),
-                                  std::filesystem::weakly_canonical(directory_of(output.path)))
-            .generic_string();
+    const std::string name = std::filesystem::relative(std::filesystem::absolute(path),
+                                                       std::filesystem::absolute(directory_of(output.path)))
+                                 .generic_string();
     if (name.find_first_of("\"\r\n") != std::string::npos)
       throw ConventionError("covariance file name '" + name + "' holds a double quote or a line break");
     CoefficientSet linked = set;

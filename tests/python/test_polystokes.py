@@ -243,3 +243,6 @@ def test_covariance_from_uncertainty_checked_with_numpy(form, tmp_path):
                 direct[:i + 1, i] = direct[i, :i + 1]
     assert np.array_equal(direct, values)
     assert np.array_equal(np.array(polystokes.read_covariance(str(companion)).values), values)
+    # A set against itself: no difference, so consistent within the uncertainty at every degree.
+    report = polystokes.compare(s, s)
+    assert report["uncertainty"]["covariance_degree_a"] == 4 and report["uncertainty"]["consistent"]
