@@ -2,7 +2,7 @@
 # Cluster test of the recipes in docs/cluster.md: a single-node Slurm cluster on this machine runs a Monte Carlo
 # job array of four shards and the dependent merge, and GNU parallel runs the same shards on "several hosts"
 # (here the local one); each merged set must equal, byte for byte apart from its creation time, the set of one
-# process with the same seed.
+# process with the same seed, and its covariance companion that process's companion.
 # Installs Slurm, munge and GNU parallel from Debian and starts daemons, so it runs only when CI=true or
 # POLYSTOKES_CLUSTER_TEST=1; otherwise it says so and counts as skipped (exit 77).
 # Usage: slurm_cluster_test.sh POLYSTOKES_EXECUTABLE SOURCE_DIR
