@@ -14,6 +14,7 @@
 #include "polystokes/io/mesh_io.h"
 #include "polystokes/io/shard_file.h"
 #include "polystokes/mesh/shapes.h"
+#include "polystokes/sets/compare.h"
 #include "polystokes/sets/transforms.h"
 #include "polystokes/uncertainty/uncertainty.h"
 #include "test_support.h"
@@ -243,4 +244,41 @@ TEST_CASE(
   CHECK(max_abs(out.values - expected) <= 1e-10 * max_abs(expected));
   CHECK(out.reference_radius == 1500);
   CHECK(out.values == out.values.transpose());
+}
+
+TEST_CASE("compare brings B's covariance to A: chi-square of a difference in the covariance's range",
+          "[covariance]") {
+  const UncertaintyResult result = run_uncertainty(small_plan(), {}, kDegree);
+  const CoefficientSet& a = result.set;
+  const CoefficientCovariance& covariance = *result.covariance;
+  // d = C_2 w at degree 2 (a difference the covariance spans): with both sets carrying C, the combined block
+  // is 2 C_2 and d^T (2 C_2)^+ d = w^T C_2 w / 2 (Moore-Penrose inverse; common practice).
+  const Eigen::Index first = 4, k = 5;
+  const Eigen::MatrixXd block = covariance.values.block(first, first, k, k);
+  Eigen::VectorXd w(k);
+  w << 1.0, -0.5, 0.25, 2.0, 0.75;
+  w /= std::sqrt(block.diagonal().maxCoeff());
+  const Eigen::VectorXd d = block * w;
+  CoefficientSet moved = a;
+  const auto parameters = covariance_parameters(2);
+  for (Eigen::Index i = 0; i < k; ++i) {
+    const CoefficientParameter& p = parameters[size_t(first + i)];
+    (p.sine ? moved.S : moved.C)(p.n, p.m) -= d(i);
+  }
+  // B is that set in another convention, radius and GM, with its covariance transformed to match.
+  const CoefficientMap to_b = [](const CoefficientSet& s) {
+    CoefficientSet out = rescale_reference_radius(s, 1700);
+    out = rescale_gm(out, 0.9 * s.gm);
+    return convert_convention(out, Convention{Normalization::schmidt, true, true});
+  };
+  const CoefficientSet b = to_b(moved);
+  const CoefficientCovariance covariance_b = transform_covariance(covariance, a, to_b);
+  CompareOptions options;
+  options.diagnose = false;
+  const Comparison c = compare_sets(a, b, options, &covariance, &covariance_b);
+  REQUIRE(c.uncertainty);
+  const DegreeUncertainty& two = c.uncertainty->degrees[2];
+  CHECK(two.from_covariance);
+  CHECK(two.parameters == 5);
+  CHECK_THAT(two.chi_square, Catch::Matchers::WithinRel(0.5 * w.dot(block * w), 1e-6));
 }
