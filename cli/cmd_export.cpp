@@ -6,7 +6,10 @@
 
 #include "cli_common.h"
 #include "polystokes/core/constants.h"
+#include "polystokes/core/errors.h"
 #include "polystokes/io/coefficient_file.h"
+#include "polystokes/io/covariance_file.h"
+#include "polystokes/io/output_file.h"
 #include "polystokes/io/table_export.h"
 #include "polystokes/sets/conventions.h"
 #include "table_options.h"
@@ -21,7 +24,24 @@ struct ExportCommandOptions {
   int max_degree = -1;
   std::string separator = "blank";
   int digits = 0;
+  std::string covariance;  // empty: none
+  std::string covariance_format = "text";
 };
+
+// The set's companion covariance in the table's conventions: the same steps as the table (set_for_table),
+// applied to the covariance as C' = T C T^T.
+CoefficientCovariance table_covariance(const CoefficientSet& set, const std::string& set_path,
+                                       const TableExportOptions& table_options) {
+  const auto covariance = read_companion_covariance(set, set_path);
+  if (!covariance)
+    throw ConventionError(set_path +
+                          " records no covariance companion, so --covariance has nothing to write");
+  return transform_covariance(*covariance, set, [&](const CoefficientSet& s) {
+    TableExportOptions cut = table_options;
+    if (cut.max_degree > s.degree) cut.max_degree = s.degree;  // a covariance below the table's degree
+    return set_for_table(s, cut);
+  });
+}
 
 void run_export(const ExportCommandOptions& options, const GlobalOptions& global) {
   check_input_path(options.input);
@@ -34,8 +54,25 @@ void run_export(const ExportCommandOptions& options, const GlobalOptions& global
   table_options.max_degree = options.max_degree;
   table_options.separator = options.separator == "comma" ? ',' : ' ';
   table_options.digits = options.digits;
+  if (!options.covariance.empty()) {
+    check_output_path(options.covariance);
+    if (same_output_file(options.covariance, options.output))
+      throw ConventionError("--covariance " + options.covariance + " and -o name the same file");
+  }
   const CoefficientSet set = read_coefficient_file(options.input);
-  write_table(options.output, set, table_options);
+  if (options.covariance.empty()) {
+    write_table(options.output, set, table_options);
+  } else {
+    // Table and covariance both or neither.
+    const CoefficientCovariance covariance = table_covariance(set, options.input, table_options);
+    const OutputSection writing;
+    OutputGroup group;
+    group.stage(options.output, format_table(set, table_options));
+    group.stage(options.covariance, format_covariance(covariance, options.covariance_format == "binary"
+                                                                      ? CovarianceFormat::binary
+                                                                      : CovarianceFormat::text));
+    group.commit();
+  }
   if (global.quiet) return;
   std::FILE* out = options.output == "-" ? stderr : stdout;
   fmt::print(out, "polystokes export: {} ({}, degree {}, {})\n", options.input, set.body, set.degree,
@@ -46,7 +83,10 @@ void run_export(const ExportCommandOptions& options, const GlobalOptions& global
              options.max_degree >= 0 ? options.max_degree : set.degree, to_string(table_options.columns),
              options.digits == 0 ? std::string("round-trip digits")
                                  : fmt::format("{} significant digits", options.digits));
-  fmt::print(out, "  written            {}\n", options.output);
+  fmt::print(out, "  written            {}{}\n", options.output,
+             options.covariance.empty()
+                 ? std::string()
+                 : " and the covariance in the table's conventions to " + options.covariance);
   fmt::print(out, "{}\n", operational_caution());
 }
 
@@ -81,6 +121,13 @@ void setup_export(CLI::App& app, const GlobalOptions& global) {
                   "Significant digits of C, S and sigmas, 1 to 17 (exponent form); 0: round trip (%.17g)")
       ->check(strict_integer())
       ->check(CLI::Range(0, 17))
+      ->capture_default_str();
+  cmd->add_option(
+      "--covariance", options->covariance,
+      "Also write the set's covariance companion in the table's conventions (C' = T C T^T) to this "
+      "file (docs/uncertainty.md; the table's sigma columns are converted as before)");
+  cmd->add_option("--covariance-format", options->covariance_format, "That file's values: text or binary")
+      ->check(CLI::IsMember({"text", "binary"}))
       ->capture_default_str();
   cmd->callback([options, &global]() { run_export(*options, global); });
 }

@@ -1,6 +1,7 @@
 // End-to-end checks of the covariance companion (issue 12): uncertainty and uncertainty-merge write it beside
 // the set (identical bytes from shards), convert transforms it and takes the sigmas from its new diagonal,
 // compare tests the difference against it, and a companion that is not the one the set records is refused.
+#include <fmt/format.h>
 #include <sys/stat.h>
 #include <unistd.h>
 
@@ -198,4 +199,45 @@ TEST_CASE("compare reports differences in combined sigmas and says whether they 
   CAPTURE(differ.output);
   REQUIRE(differ.exit_code == 0);
   CHECK_THAT(differ.output, Contains("B: sigmas only") && Contains("INCONSISTENT at degree(s) 2"));
+}
+
+TEST_CASE("export writes the covariance in the table's conventions", "[covariance_cli]") {
+  const std::string dir = temp_directory();
+  REQUIRE(run_cli(run_arguments() + " -q -o " + quoted(dir + "/in.txt")).exit_code == 0);
+  const CoefficientSet set = read_coefficient_file(dir + "/in.txt");
+  const auto before = read_companion_covariance(set, dir + "/in.txt");
+  REQUIRE(before);
+  const CommandResult result = run_cli(
+      "export " + quoted(dir + "/in.txt") + " -o " + quoted(dir + "/t.tab") + " --covariance " +
+      quoted(dir + "/t.cov") + " --covariance-format binary --columns n,m,C,S --normalization unnormalized " +
+      "--no-condon-shortley --zonal-j --ref-radius 1500 --gm " + fmt::format("{}", set.gm));
+  CAPTURE(result.output);
+  REQUIRE(result.exit_code == 0);
+  const CoefficientCovariance table = read_covariance_file(dir + "/t.cov");
+  CHECK(table.convention.normalization == Normalization::unnormalized);
+  CHECK(table.reference_radius == 1500);
+  // Variances times N_nm^2 (R/R')^(2n): N_nm = sqrt((2 - d_m0)(2n+1)(n-m)!/(n+m)!) turns fully normalized
+  // into unnormalized coefficients (Heiskanen & Moritz 1967, Physical Geodesy, eq. 1-73), factorials by
+  // tgamma.
+  for (const CoefficientParameter& p : covariance_parameters(table.degree)) {
+    CAPTURE(p.n, p.m, p.sine);
+    const Eigen::Index i = covariance_index(p.n, p.m, p.sine);
+    const double N2 =
+        (p.m == 0 ? 1.0 : 2.0) * (2 * p.n + 1) * std::tgamma(p.n - p.m + 1) / std::tgamma(p.n + p.m + 1);
+    const double expected = before->values(i, i) * N2 * std::pow(set.reference_radius / 1500.0, 2 * p.n);
+    CHECK(std::abs(table.values(i, i) - expected) <= 1e-12 * expected);
+  }
+  // A set without a companion: nothing to write, one error line, no table either.
+  REQUIRE(run_cli("compute " + quoted(source_path("shapes-demo/sphere.obj")) +
+                  " --unit km --density 2100 --degree 2 -q -o " + quoted(dir + "/plain.txt"))
+              .exit_code == 0);
+  const CommandResult none =
+      run_cli("export " + quoted(dir + "/plain.txt") + " -o " + quoted(dir + "/p.tab") + " --covariance " +
+              quoted(dir + "/p.cov") +
+              " --columns n,m,C,S --normalization fully --no-condon-shortley --ref-radius "
+              "1000 --gm 1");
+  CAPTURE(none.output);
+  CHECK(none.exit_code == 2);
+  CHECK_THAT(none.output, Contains("records no covariance companion"));
+  CHECK(!file_exists(dir + "/p.tab"));
 }
